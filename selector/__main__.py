@@ -1,0 +1,3 @@
+from selector.cli.app import main
+
+main()

@@ -1,0 +1,56 @@
+"""Domain exceptions. Each carries the one-line message a user sees; the CLI prints it as
+``Error: <message>`` and exits 1. Keep messages to one line naming the row, column or value and
+what was expected."""
+
+from __future__ import annotations
+
+
+class SelectorError(Exception):
+    """Base class: a problem the user can act on (never a programming error)."""
+
+    exit_code = 1
+
+
+class UnparseableValue(SelectorError):
+    """A value, tolerance or rating text could not be read in any accepted notation."""
+
+
+class InvalidStockFile(SelectorError):
+    """A stock CSV has one or more bad rows; ``problems`` lists every one of them."""
+
+    def __init__(self, problems: list[str]):
+        self.problems = list(problems)
+        n = len(self.problems)
+        super().__init__(f"{n} problem{'s' if n != 1 else ''} in the stock file; nothing was imported")
+
+
+class UnknownStockLine(SelectorError):
+    """A stock line id given by the user does not exist."""
+
+
+class InsufficientStock(SelectorError):
+    """A pull or adjustment would take more parts than a stock line holds."""
+
+
+class NothingFeasible(SelectorError):
+    """A search found no option inside the limits; the message says which limit excluded what."""
+
+
+class DatabaseProblem(SelectorError):
+    """The database file is missing, unreadable, damaged, foreign or too busy."""
+
+
+class UnknownSearch(SelectorError):
+    """A saved search or option number does not exist."""
+
+
+class AlreadyUndone(SelectorError):
+    """A pull was already undone and cannot be undone twice."""
+
+
+class SimulatorMissing(SelectorError):
+    """ngspice is not installed or not on PATH."""
+
+
+class SimulationFailed(SelectorError):
+    """ngspice ran but a measurement could not be made."""

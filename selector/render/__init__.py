@@ -1,0 +1,1 @@
+"""render layer of selector (see DEVELOPERS.md)."""

@@ -1,0 +1,1 @@
+"""services layer of selector (see DEVELOPERS.md)."""

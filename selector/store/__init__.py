@@ -1,0 +1,1 @@
+"""store layer of selector (see DEVELOPERS.md)."""

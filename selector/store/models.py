@@ -1,0 +1,134 @@
+"""SQLAlchemy 2.x typed ORM models. The schema itself is created and upgraded only by the Alembic
+revisions in ``migrations/``; these classes must match the head revision (a test runs
+``alembic check`` style comparison against them)."""
+
+from __future__ import annotations
+
+from datetime import datetime, timezone
+from typing import Optional
+
+from sqlalchemy import (
+    Boolean,
+    CheckConstraint,
+    DateTime,
+    Float,
+    ForeignKey,
+    Integer,
+    MetaData,
+    String,
+    Text,
+)
+from sqlalchemy.orm import DeclarativeBase, Mapped, mapped_column, relationship
+
+# Named constraints so Alembic batch operations can drop/recreate them by name.
+NAMING = {
+    "ix": "ix_%(column_0_label)s",
+    "uq": "uq_%(table_name)s_%(column_0_name)s",
+    "ck": "ck_%(table_name)s_%(constraint_name)s",
+    "fk": "fk_%(table_name)s_%(column_0_name)s_%(referred_table_name)s",
+    "pk": "pk_%(table_name)s",
+}
+
+
+def utcnow() -> datetime:
+    return datetime.now(timezone.utc).replace(tzinfo=None)
+
+
+class Base(DeclarativeBase):
+    metadata = MetaData(naming_convention=NAMING)
+
+
+class StockLineRow(Base):
+    """One stock line: a part value with its attributes, in one location, with a quantity."""
+
+    __tablename__ = "stock_lines"
+    __table_args__ = (
+        CheckConstraint("quantity >= 0", name="quantity_nonneg"),
+        CheckConstraint("kind IN ('resistor', 'capacitor')", name="kind_known"),
+        CheckConstraint("value > 0", name="value_positive"),
+        CheckConstraint("tol_minus >= 0 AND tol_minus < 1 AND tol_plus >= 0", name="tolerance_sane"),
+    )
+
+    id: Mapped[int] = mapped_column(Integer, primary_key=True)
+    kind: Mapped[str] = mapped_column(String(16), nullable=False)
+    value: Mapped[float] = mapped_column(Float, nullable=False)  # ohms or farads
+    tol_minus: Mapped[float] = mapped_column(Float, nullable=False)  # fraction below nominal
+    tol_plus: Mapped[float] = mapped_column(Float, nullable=False)  # fraction above nominal
+    quantity: Mapped[int] = mapped_column(Integer, nullable=False, default=0)
+    location: Mapped[str] = mapped_column(String(64), nullable=False, default="")
+    package: Mapped[str] = mapped_column(String(64), nullable=False, default="")
+    rating: Mapped[Optional[float]] = mapped_column(Float, nullable=True)  # W (resistor) or V (capacitor)
+    dielectric: Mapped[str] = mapped_column(String(32), nullable=False, default="")
+    polarized: Mapped[bool] = mapped_column(Boolean, nullable=False, default=False)
+    note: Mapped[str] = mapped_column(Text, nullable=False, default="")
+    created_at: Mapped[datetime] = mapped_column(DateTime, nullable=False, default=utcnow)
+    updated_at: Mapped[datetime] = mapped_column(DateTime, nullable=False, default=utcnow, onupdate=utcnow)
+
+    movements: Mapped[list["MovementRow"]] = relationship(back_populates="line")
+
+
+class MovementRow(Base):
+    """One ledger row: a signed quantity change of one stock line, with its reason."""
+
+    __tablename__ = "movements"
+
+    id: Mapped[int] = mapped_column(Integer, primary_key=True)
+    line_id: Mapped[int] = mapped_column(
+        ForeignKey("stock_lines.id", ondelete="RESTRICT"), nullable=False, index=True
+    )
+    delta: Mapped[int] = mapped_column(Integer, nullable=False)
+    reason: Mapped[str] = mapped_column(String(16), nullable=False)  # import, adjust, set, kit, pull, undo
+    reference: Mapped[str] = mapped_column(String(255), nullable=False, default="")
+    pull_id: Mapped[Optional[int]] = mapped_column(
+        ForeignKey("pulls.id", ondelete="RESTRICT"), nullable=True, index=True
+    )
+    created_at: Mapped[datetime] = mapped_column(DateTime, nullable=False, default=utcnow)
+
+    line: Mapped[StockLineRow] = relationship(back_populates="movements")
+
+
+class SearchRow(Base):
+    """One run of ``find``: what was asked and with which settings."""
+
+    __tablename__ = "searches"
+
+    id: Mapped[int] = mapped_column(Integer, primary_key=True)
+    mode: Mapped[str] = mapped_column(String(16), nullable=False)  # value, astable, monostable, rc
+    target_json: Mapped[str] = mapped_column(Text, nullable=False)  # the JSON "target" object
+    params_json: Mapped[str] = mapped_column(Text, nullable=False)  # chip, vcc, diode_vf, boards, ...
+    created_at: Mapped[datetime] = mapped_column(DateTime, nullable=False, default=utcnow)
+
+    options: Mapped[list["SearchOptionRow"]] = relationship(
+        back_populates="search", cascade="all, delete-orphan", order_by="SearchOptionRow.rank"
+    )
+
+
+class SearchOptionRow(Base):
+    """One numbered option of a saved search; ``data_json`` is the option exactly as ``--json``
+    prints it (networks with their parts and line ids)."""
+
+    __tablename__ = "search_options"
+
+    id: Mapped[int] = mapped_column(Integer, primary_key=True)
+    search_id: Mapped[int] = mapped_column(
+        ForeignKey("searches.id", ondelete="CASCADE"), nullable=False, index=True
+    )
+    rank: Mapped[int] = mapped_column(Integer, nullable=False)
+    connection: Mapped[str] = mapped_column(String(32), nullable=False, default="")
+    error: Mapped[float] = mapped_column(Float, nullable=False)
+    data_json: Mapped[str] = mapped_column(Text, nullable=False)
+
+    search: Mapped[SearchRow] = relationship(back_populates="options")
+
+
+class PullRow(Base):
+    """Taking an option's parts out of stock; its ledger rows point back here."""
+
+    __tablename__ = "pulls"
+
+    id: Mapped[int] = mapped_column(Integer, primary_key=True)
+    search_id: Mapped[int] = mapped_column(ForeignKey("searches.id", ondelete="RESTRICT"), nullable=False)
+    option_rank: Mapped[int] = mapped_column(Integer, nullable=False)
+    boards: Mapped[int] = mapped_column(Integer, nullable=False, default=1)
+    created_at: Mapped[datetime] = mapped_column(DateTime, nullable=False, default=utcnow)
+    undone_at: Mapped[Optional[datetime]] = mapped_column(DateTime, nullable=True)
