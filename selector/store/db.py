@@ -1,0 +1,382 @@
+"""The stock database: where it lives, opening it (creating or upgrading the schema through the
+Alembic revisions in ``migrations/``), one-transaction units of work, and the two operations every
+use case needs: reading the stock lines and changing a quantity through the ledger.
+
+SQLite notes (see /work/shared/reference/ecosystem.md §2-3 for the measurements behind them):
+- the DBAPI connection runs with ``isolation_level = None`` and SQLAlchemy emits ``BEGIN IMMEDIATE``
+  itself, so every unit of work takes the write lock up front and read-modify-write cannot lose
+  updates; WAL lets readers in other processes carry on meanwhile;
+- migrations run on a connection with foreign keys OFF (a batch table rebuild with FKs on would
+  cascade-delete child rows), followed by ``PRAGMA foreign_key_check``;
+- opening a database that is already at ``SCHEMA_HEAD`` costs one small SELECT; alembic is only
+  imported when the schema is missing or behind.
+"""
+
+from __future__ import annotations
+
+import os
+import time
+from contextlib import contextmanager
+from pathlib import Path
+from typing import Callable, Iterator, Optional, TypeVar
+
+import sqlalchemy as sa
+from sqlalchemy import event, exc as sa_exc
+from sqlalchemy.engine import Engine, make_url
+from sqlalchemy.orm import Session
+from sqlalchemy.pool import NullPool, StaticPool
+
+from selector.core.errors import DatabaseProblem, InsufficientStock, UnknownStockLine
+from selector.core.types import StockLine
+from selector.store.models import MovementRow, StockLineRow, utcnow
+
+T = TypeVar("T")
+
+SCHEMA_HEAD: str = "0002"
+"""Revision id of the head migration (tests/test_migrations.py compares it with the scripts)."""
+
+KNOWN_REVISIONS: tuple[str, ...] = ("0001", "0002")
+"""Every revision this version of the program can upgrade from, oldest first."""
+
+BUSY_TIMEOUT_MS = 30_000
+BUSY_RETRIES = 3  # whole-unit replays after SQLite gave up waiting for the lock
+_BUSY_WORDS = ("database is locked", "database is busy", "database table is locked")
+
+
+# --------------------------------------------------------------------------- where the file is
+
+def default_path() -> Path:
+    """The default database file: ``stock.db`` in the user data directory."""
+    import platformdirs
+
+    return platformdirs.user_data_path("selector", appauthor=False) / "stock.db"
+
+
+def resolve_url(db: str | None) -> str:
+    """The database URL to use: ``db`` (from ``--db``), else ``$SELECTOR_DB``, else the default
+    file. A plain path becomes ``sqlite:///<absolute path>``; a URL (contains ``://``) is kept."""
+    if not db:
+        db = os.environ.get("SELECTOR_DB") or None
+    if not db:
+        return f"sqlite:///{default_path()}"
+    if "://" in db:
+        return db
+    return f"sqlite:///{Path(db).expanduser().resolve()}"
+
+
+def describe(url: str) -> str:
+    """A short human name for the database (the file path, or the URL without its password)."""
+    try:
+        u = make_url(url)
+    except sa_exc.ArgumentError:
+        return url
+    if u.get_backend_name() == "sqlite":
+        return u.database if u.database and u.database != ":memory:" else "(in memory)"
+    return u.render_as_string(hide_password=True)
+
+
+def _is_memory(u: sa.URL) -> bool:
+    return not u.database or u.database == ":memory:" or u.query.get("mode") == "memory"
+
+
+# --------------------------------------------------------------------------- engines
+
+def _make_engine(url: sa.URL, *, foreign_keys: bool, pooled: bool = True) -> Engine:
+    if u_is_sqlite(url):
+        memory = _is_memory(url)
+        kwargs: dict = {}
+        if memory:
+            kwargs = {"poolclass": StaticPool, "connect_args": {"check_same_thread": False}}
+        elif not pooled:
+            kwargs = {"poolclass": NullPool}
+        engine = sa.create_engine(url, **kwargs)
+
+        @event.listens_for(engine, "connect")
+        def _on_connect(dbapi_conn, _record):  # pragma: no cover - exercised through every test
+            dbapi_conn.isolation_level = None  # SQLAlchemy, not the sqlite3 module, emits BEGIN
+            cur = dbapi_conn.cursor()
+            try:
+                if not memory:
+                    cur.execute("PRAGMA journal_mode=WAL")
+                cur.execute(f"PRAGMA foreign_keys={'ON' if foreign_keys else 'OFF'}")
+                cur.execute(f"PRAGMA busy_timeout={BUSY_TIMEOUT_MS}")
+            finally:
+                cur.close()
+
+        @event.listens_for(engine, "begin")
+        def _on_begin(conn):  # pragma: no cover - exercised through every test
+            conn.exec_driver_sql("BEGIN IMMEDIATE")
+
+        return engine
+    return sa.create_engine(url, pool_pre_ping=True, **({} if pooled else {"poolclass": NullPool}))
+
+
+def u_is_sqlite(u: sa.URL) -> bool:
+    return u.get_backend_name() == "sqlite"
+
+
+def _first_line(err: BaseException) -> str:
+    orig = getattr(err, "orig", None) or err
+    text = str(orig).strip().splitlines()
+    return text[0] if text else type(orig).__name__
+
+
+def _is_busy(err: BaseException) -> bool:
+    return any(w in _first_line(err).lower() for w in _BUSY_WORDS)
+
+
+def _problem(name: str, err: BaseException) -> DatabaseProblem:
+    """Translate a driver error met while opening into one line naming the database."""
+    if _is_busy(err):
+        return DatabaseProblem(f"the stock database {name} is busy (another selector is using it); try again")
+    detail = _first_line(err)
+    low = detail.lower()
+    if "not a database" in low or "malformed" in low or "encrypted" in low:
+        return DatabaseProblem(f"{name} is damaged or is not an SQLite database ({detail})")
+    if "unable to open" in low or "readonly" in low or "read-only" in low or "permission" in low:
+        return DatabaseProblem(f"cannot open the stock database {name} for writing ({detail})")
+    return DatabaseProblem(f"cannot use the stock database {name} ({detail})")
+
+
+def _check_file_path(u: sa.URL, name: str) -> None:
+    path = Path(u.database or "")
+    if path.is_dir():
+        raise DatabaseProblem(f"{name} is a directory, not a stock database file")
+    try:
+        path.parent.mkdir(parents=True, exist_ok=True)
+    except OSError as err:
+        raise DatabaseProblem(f"cannot create the folder for the stock database {name} ({err.strerror or err})")
+    if path.exists() and not os.access(path, os.R_OK | os.W_OK):
+        raise DatabaseProblem(f"cannot open the stock database {name}: no permission to read and write it")
+
+
+def _current_revision(conn: sa.Connection) -> Optional[str]:
+    """The schema revision stored in the database; None when the database holds no tables at all.
+    Raises DatabaseProblem for a database that has tables but is not ours."""
+    try:
+        rows = conn.execute(sa.text("SELECT version_num FROM alembic_version")).scalars().all()
+    except (sa_exc.OperationalError, sa_exc.ProgrammingError) as err:
+        if _is_busy(err):
+            raise
+        conn.rollback()  # PostgreSQL needs this after a failed statement
+        tables = [t for t in sa.inspect(conn).get_table_names() if not t.startswith("sqlite_")]
+        if tables:
+            raise _Foreign(f"it holds tables ({', '.join(sorted(tables)[:4])}) but no selector schema")
+        return None
+    if len(rows) != 1:
+        raise _Foreign("its schema version table is empty or ambiguous")
+    return str(rows[0])
+
+
+class _Foreign(Exception):
+    pass
+
+
+def open_engine(url: str) -> Engine:
+    """An engine for the stock database at ``url`` with the schema at ``SCHEMA_HEAD``: creates the
+    schema in a new or empty database and upgrades an older one. Raises DatabaseProblem (one line
+    naming the database) for a damaged, foreign, newer, unreadable or busy database. The in-memory
+    URL ``sqlite://`` works (one shared connection, so the schema survives)."""
+    try:
+        u = make_url(url)
+    except sa_exc.ArgumentError:
+        raise DatabaseProblem(f"{url!r} is neither a file path nor a database URL")
+    name = describe(url)
+    if u_is_sqlite(u) and not _is_memory(u):
+        _check_file_path(u, name)
+    try:
+        engine = _make_engine(u, foreign_keys=True)
+    except (sa_exc.ArgumentError, sa_exc.NoSuchModuleError, ImportError) as err:
+        raise DatabaseProblem(f"cannot use the database URL {name} ({_first_line(err)})")
+    try:
+        with engine.connect() as conn:
+            revision = _current_revision(conn)
+        if revision == SCHEMA_HEAD:
+            return engine
+        if revision is not None and revision not in KNOWN_REVISIONS:
+            raise DatabaseProblem(
+                f"{name} has schema revision {revision}, which this selector does not know "
+                f"(it expects {SCHEMA_HEAD}); it was probably written by a newer selector"
+            )
+        _migrate(engine, u, name)
+        return engine
+    except _Foreign as why:
+        engine.dispose()
+        raise DatabaseProblem(f"{name} is not a selector stock database: {why}")
+    except DatabaseProblem:
+        engine.dispose()
+        raise
+    except sa_exc.DBAPIError as err:
+        engine.dispose()
+        raise _problem(name, err)
+
+
+def migrations_dir() -> Path:
+    """The Alembic script directory: ``selector.migrations`` in an installed wheel (see
+    pyproject.toml), else the top-level ``migrations/`` folder of a source checkout."""
+    from importlib.resources import files
+
+    try:
+        return Path(str(files("selector.migrations")))
+    except ModuleNotFoundError:
+        here = Path(__file__).resolve().parent.parent.parent / "migrations"
+        if (here / "env.py").is_file():
+            return here
+        raise DatabaseProblem("this selector installation is missing its schema scripts (selector.migrations)")
+
+
+def _migrate(engine: Engine, u: sa.URL, name: str) -> None:
+    """Upgrade to head on a connection with foreign keys OFF, then check every foreign key."""
+    from alembic import command
+    from alembic.config import Config
+
+    memory = u_is_sqlite(u) and _is_memory(u)
+    # In memory there is only the one shared connection: switch its FKs off for the migration.
+    mig_engine = engine if memory or not u_is_sqlite(u) else _make_engine(u, foreign_keys=False, pooled=False)
+    try:
+        with mig_engine.connect() as conn:
+            if memory:
+                conn.connection.dbapi_connection.execute("PRAGMA foreign_keys=OFF")
+            try:
+                cfg = Config()
+                cfg.set_main_option("script_location", str(migrations_dir()))
+                cfg.attributes["connection"] = conn
+                command.upgrade(cfg, "head")
+                if u_is_sqlite(u):
+                    bad = conn.exec_driver_sql("PRAGMA foreign_key_check").fetchall()
+                    if bad:
+                        conn.rollback()
+                        raise DatabaseProblem(
+                            f"upgrading {name} would break {len(bad)} reference(s) between tables "
+                            f"(first in table {bad[0][0]}); the database was left as it was"
+                        )
+                conn.commit()
+            finally:
+                if memory:
+                    conn.rollback()
+                    conn.connection.dbapi_connection.execute("PRAGMA foreign_keys=ON")
+    finally:
+        if mig_engine is not engine:
+            mig_engine.dispose()
+
+
+# --------------------------------------------------------------------------- units of work
+
+@contextmanager
+def transaction(engine: Engine) -> Iterator[Session]:
+    """One Session, one transaction: commit on success, roll back on any exception. Driver errors
+    become DatabaseProblem (a busy database included: use run_in_transaction to retry those)."""
+    name = describe(engine.url.render_as_string(hide_password=False))
+    session = Session(engine, expire_on_commit=False)
+    try:
+        yield session
+        session.commit()
+    except sa_exc.DBAPIError as err:
+        session.rollback()
+        if _is_busy(err):
+            raise _Busy(name) from None
+        raise DatabaseProblem(f"the stock database {name} refused the change ({_first_line(err)})") from None
+    except BaseException:
+        session.rollback()
+        raise
+    finally:
+        session.close()
+
+
+class _Busy(DatabaseProblem):
+    def __init__(self, name: str):
+        super().__init__(f"the stock database {name} is busy (another selector is writing to it); try again")
+
+
+def run_in_transaction(engine: Engine, fn: Callable[[Session], T], *, retries: int = BUSY_RETRIES) -> T:
+    """Run ``fn(session)`` as one transaction; if the database stays busy beyond the busy timeout,
+    replay the whole unit up to ``retries`` more times with backoff before giving up."""
+    delay = 0.25
+    for attempt in range(retries + 1):
+        try:
+            with transaction(engine) as session:
+                return fn(session)
+        except _Busy:
+            if attempt == retries:
+                raise
+            time.sleep(delay)
+            delay *= 2
+    raise AssertionError("unreachable")  # pragma: no cover
+
+
+# --------------------------------------------------------------------------- stock operations
+
+def to_stock_line(row: StockLineRow) -> StockLine:
+    """The plain record the core works with."""
+    return StockLine(
+        id=row.id,
+        kind=row.kind,
+        value=row.value,
+        tol_minus=row.tol_minus,
+        tol_plus=row.tol_plus,
+        quantity=row.quantity,
+        location=row.location,
+        package=row.package,
+        rating=row.rating,
+        dielectric=row.dielectric,
+        polarized=bool(row.polarized),
+        note=row.note,
+    )
+
+
+def load_stock(session: Session, kind: str | None = None) -> list[StockLine]:
+    """All stock lines (optionally of one kind), ordered by id."""
+    stmt = sa.select(StockLineRow).order_by(StockLineRow.id)
+    if kind is not None:
+        stmt = stmt.where(StockLineRow.kind == kind)
+    return [to_stock_line(r) for r in session.scalars(stmt)]
+
+
+def line_label(row: StockLineRow | StockLine) -> str:
+    """'stock line 7 (resistor 4.7 kΩ, A1)' — how messages name a line."""
+    try:
+        from selector.core.notation import FARAD, OHM, format_value
+
+        shown = format_value(row.value, OHM if row.kind == "resistor" else FARAD)
+    except Exception:  # notation not available or value odd: fall back to the plain number
+        shown = f"{row.value:g}"
+    where = f", {row.location}" if row.location else ""
+    return f"stock line {row.id} ({row.kind} {shown}{where})"
+
+
+def apply_movement(
+    session: Session,
+    line_id: int,
+    delta: int,
+    reason: str,
+    reference: str = "",
+    pull_id: int | None = None,
+) -> int:
+    """Change the quantity of one stock line by ``delta`` and write the ledger row; returns the new
+    quantity. A single guarded UPDATE, so concurrent pulls can never drive stock below zero.
+    Raises UnknownStockLine or InsufficientStock (nothing changed). A zero delta writes nothing."""
+    if isinstance(delta, bool) or not isinstance(delta, int):
+        raise TypeError("delta must be an int")
+    if delta == 0:
+        row = session.get(StockLineRow, line_id)
+        if row is None:
+            raise UnknownStockLine(f"there is no stock line {line_id}")
+        return row.quantity
+    q = StockLineRow.quantity
+    result = session.execute(
+        sa.update(StockLineRow)
+        .where(StockLineRow.id == line_id, q + delta >= 0)
+        .values(quantity=q + delta, updated_at=utcnow())
+        .execution_options(synchronize_session="fetch")
+    )
+    if result.rowcount == 0:
+        row = session.get(StockLineRow, line_id)
+        if row is None:
+            raise UnknownStockLine(f"there is no stock line {line_id}")
+        raise InsufficientStock(
+            f"{line_label(row)} holds {row.quantity}; a change of {delta:+d} would leave {row.quantity + delta}"
+        )
+    session.add(MovementRow(line_id=line_id, delta=delta, reason=reason, reference=reference[:255], pull_id=pull_id))
+    session.flush()
+    new_qty = session.execute(sa.select(q).where(StockLineRow.id == line_id)).scalar_one()
+    return int(new_qty)
