@@ -54,3 +54,11 @@ class SimulatorMissing(SelectorError):
 
 class SimulationFailed(SelectorError):
     """ngspice ran but a measurement could not be made."""
+
+
+class UnknownPull(SelectorError):
+    """A pull id given by the user does not exist."""
+
+
+class OptionOutdated(SelectorError):
+    """A saved option uses a stock line that is gone or now holds a different value."""
