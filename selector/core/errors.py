@@ -62,3 +62,7 @@ class UnknownPull(SelectorError):
 
 class OptionOutdated(SelectorError):
     """A saved option uses a stock line that is gone or now holds a different value."""
+
+
+class UnreadableFile(SelectorError):
+    """A file named by the user (a stock CSV to import, an export target) cannot be read or written."""
