@@ -1,0 +1,210 @@
+"""Chip families: our own table of 555 limits, each number with its source (facts.md §3, §6).
+
+Source tags follow /work/shared/reference/facts.md: [S1] bipolar 555 data sheet (typical second
+source), [S5] CMOS 555 data sheet B, [S6] CMOS 555 data sheet C, [S7] application report on the
+50 % output-fed connection, [S15] electrolytic leakage rating, [S25] CMOS-555 circuit page.
+"common practice" marks a shop rule of thumb; "from memory" a value not confirmed in a stored copy.
+The ``sources`` mapping of each family repeats the citation per field, so the CLI can show it and
+a test can insist that no number goes uncited.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from selector.core.errors import OutOfRange, UnknownChipFamily
+
+
+def _plain(x: np.ndarray):
+    """A Python float for scalar input, the array otherwise."""
+    return float(x) if np.ndim(x) == 0 else x
+
+
+@dataclass(frozen=True)
+class ChipFamily:
+    """Limits and levels of one 555 family. SI units (volts, amperes, hertz, ohms, farads)."""
+
+    key: str
+    label: str
+    vcc_min: float
+    vcc_max: float
+    threshold_current_a: float
+    trigger_current_a: float
+    max_astable_hz: float            # practical maximum for formula-accurate work
+    min_ra_ohm: float                # discharge-current rule
+    min_timing_c_f: float            # stray-capacitance rule
+    voh_drop_v: float                # light-load VOH = VCC − voh_drop_v
+    vol_v: float                     # light-load VOL
+    max_r_cap_ohm: float             # practical cap on the total timing resistance
+    output_fed_ok: bool              # offer the output-fed astable
+    astable_initial_error: float     # chip-only timing error, typical, fraction
+    monostable_initial_error: float
+    sources: dict = field(default_factory=dict, compare=False, hash=False, repr=False)
+
+    def voh(self, vcc) -> float:
+        """Output HIGH level at light load."""
+        return _plain(np.asarray(vcc, dtype=float) - self.voh_drop_v)
+
+    def vol(self, vcc) -> float:
+        """Output LOW level at light load (independent of VCC in this model)."""
+        return _plain(np.zeros_like(np.asarray(vcc, dtype=float)) + self.vol_v)
+
+    def max_timing_r_ohm(self, vcc) -> float:
+        """Largest total timing resistance (RA+RB, or R) at supply ``vcc``.
+
+        At the threshold point the resistor still has VCC/3 across it and must deliver the
+        threshold input current: R ≤ VCC/(3·I_th) [S1 note: 20 MΩ at 15 V]. The result is also
+        capped at ``max_r_cap_ohm`` (leakage of boards and capacitors dominates for CMOS parts).
+        """
+        vcc = np.asarray(vcc, dtype=float)
+        return _plain(np.minimum(vcc / (3.0 * self.threshold_current_a), self.max_r_cap_ohm))
+
+    def check_vcc(self, vcc: float) -> None:
+        """Raise :class:`OutOfRange` when ``vcc`` is outside the family's supply range."""
+        if not (self.vcc_min <= float(vcc) <= self.vcc_max):
+            raise OutOfRange(
+                f"VCC {float(vcc):g} V is outside the {self.label} range "
+                f"{self.vcc_min:g}–{self.vcc_max:g} V"
+            )
+
+
+BIPOLAR = ChipFamily(
+    key="bipolar",
+    label="bipolar 555",
+    vcc_min=4.5,                      # [S1] bipolar 555 data sheet: supply 4.5–16 V
+    vcc_max=16.0,                     # [S1]
+    threshold_current_a=0.25e-6,      # [S1] 0.10 µA typ / 0.25 µA max; the max sets the R limit
+    trigger_current_a=2.0e-6,         # [S1] 0.5 µA typ / 2.0 µA max at V_TR = 0 V
+    max_astable_hz=100e3,             # common practice: ~100 kHz for formula-accurate work
+                                      # (stored secondary pages, not a data-sheet limit)
+    min_ra_ohm=1e3,                   # common practice: VCC/RA ≤ 15 mA at 15 V, the DIS test
+                                      # current of [S1]; accuracy specified for RA 1–100 kΩ [S1]
+    min_timing_c_f=100e-12,           # [S25] C ≥ 100 pF; strays of a few pF (common practice)
+    voh_drop_v=1.4,                   # from memory, not confirmed: VCC − 1.4 V at light load;
+                                      # [S1] 13.3 V typ at 15 V / 100 mA (VCC − 1.7 V)
+    vol_v=0.1,                        # [S1] 0.05–0.06 V typ at 5–10 mA sink, rounded up to 0.1 V
+    max_r_cap_ohm=20e6,               # [S1] note: 20 MΩ at 15 V (VCC/(3·I_th) gives the same)
+    output_fed_ok=False,              # facts §3: bipolar VOH depends on load and VCC (derived)
+    astable_initial_error=0.0225,     # [S1] astable 2.25 % typ (RA, RB 1–100 kΩ, C 0.1 µF)
+    monostable_initial_error=0.01,    # [S1] monostable 1 % typ / 3 % max
+    sources={
+        "vcc_min": "[S1] bipolar 555 data sheet, supply 4.5–16 V",
+        "vcc_max": "[S1] bipolar 555 data sheet, supply 4.5–16 V",
+        "threshold_current_a": "[S1] bipolar 555 data sheet, threshold current 0.25 µA max",
+        "trigger_current_a": "[S1] bipolar 555 data sheet, trigger current 2.0 µA max at 0 V",
+        "max_astable_hz": "common practice (about 100 kHz for formula-accurate work)",
+        "min_ra_ohm": "common practice (1 kΩ keeps DIS current at the [S1] 15 mA test level)",
+        "min_timing_c_f": "[S25] C ≥ 100 pF against strays (common practice)",
+        "voh_drop_v": "from memory, not confirmed (VCC − 1.4 V light load; [S1] VCC − 1.7 V at 100 mA)",
+        "vol_v": "[S1] bipolar 555 data sheet, 0.05–0.06 V typ at 5–10 mA, rounded up",
+        "max_r_cap_ohm": "[S1] bipolar 555 data sheet note, 20 MΩ at 15 V",
+        "astable_initial_error": "[S1] bipolar 555 data sheet, astable 2.25 % typ",
+        "monostable_initial_error": "[S1] bipolar 555 data sheet, monostable 1 % typ",
+    },
+)
+
+CMOS = ChipFamily(
+    key="cmos",
+    label="CMOS 555",
+    vcc_min=2.0,                      # [S5] CMOS 555 data sheet B: 2–15 V (C: 3–16 V [S6])
+    vcc_max=15.0,                     # [S5]
+    threshold_current_a=20e-12,       # [S6] CMOS 555 data sheet C: 20 pA typ
+    trigger_current_a=20e-12,         # [S6] 20 pA typ
+    max_astable_hz=100e3,             # [S5] the astable equations hold for f ≤ 100 kHz
+    min_ra_ohm=1e3,                   # [S25] R ≥ 1 kΩ
+    min_timing_c_f=100e-12,           # [S25] C ≥ 100 pF
+    voh_drop_v=0.0,                   # [S7] rail-to-rail at light load (t = RC·ln2 per half)
+    vol_v=0.0,                        # [S7]
+    max_r_cap_ohm=20e6,               # common practice: board and capacitor leakage, not the
+                                      # chip, limit R (facts §6); 20 MΩ still gives 83 nA at 5 V
+    output_fed_ok=True,               # [S4], [S7] 50 % output-fed connection for CMOS parts
+    astable_initial_error=0.01,       # [S6] about 1 % typ astable (stored table garbled)
+    monostable_initial_error=0.01,    # from memory, not confirmed (about 1 % like the bipolar)
+    sources={
+        "vcc_min": "[S5] CMOS 555 data sheet B, 2–15 V (data sheet C [S6]: 3–16 V)",
+        "vcc_max": "[S5] CMOS 555 data sheet B, 2–15 V",
+        "threshold_current_a": "[S6] CMOS 555 data sheet C, 20 pA typ",
+        "trigger_current_a": "[S6] CMOS 555 data sheet C, 20 pA typ",
+        "max_astable_hz": "[S5] CMOS 555 data sheet B, equations hold for f ≤ 100 kHz",
+        "min_ra_ohm": "[S25] CMOS-555 circuit page, R ≥ 1 kΩ",
+        "min_timing_c_f": "[S25] CMOS-555 circuit page, C ≥ 100 pF",
+        "voh_drop_v": "[S7] application report, rail-to-rail output at light load",
+        "vol_v": "[S7] application report, rail-to-rail output at light load",
+        "max_r_cap_ohm": "common practice (leakage of boards and capacitors limits R)",
+        "astable_initial_error": "[S6] CMOS 555 data sheet C, about 1 % typ",
+        "monostable_initial_error": "from memory, not confirmed (about 1 %)",
+    },
+)
+
+FAMILIES: dict[str, ChipFamily] = {f.key: f for f in (BIPOLAR, CMOS)}
+
+
+def family(key: str) -> ChipFamily:
+    """The chip family for ``key`` ("bipolar" or "cmos", any case)."""
+    try:
+        return FAMILIES[str(key).strip().lower()]
+    except KeyError:
+        known = ", ".join(FAMILIES)
+        raise UnknownChipFamily(f"unknown chip family {key!r}; expected one of: {known}") from None
+
+
+# --------------------------------------------------------------------------- electrolytic leakage
+LEAKAGE_MARGIN_MIN = 10.0   # common practice: charging current at threshold ≥ 10× leakage
+
+
+def electrolytic_leakage_a(c_farad, v_rated) -> np.ndarray:
+    """Rated leakage limit of an aluminium electrolytic: I_L ≤ 0.01·C[µF]·V_R[V] µA or 3 µA,
+    whichever is greater, 1–5 min after rated voltage at 20 °C [S15]. Returned in amperes.
+
+    Leakage rises with temperature [S15]; this is the room-temperature rating.
+    """
+    c_uf = np.asarray(c_farad, dtype=float) * 1e6
+    i_ua = np.maximum(0.01 * c_uf * np.asarray(v_rated, dtype=float), 3.0)
+    return i_ua * 1e-6
+
+
+def leakage_margin(r, c_farad, vcc, v_rated) -> np.ndarray:
+    """Charging current at the threshold point, VCC/(3R), divided by the rated leakage.
+
+    Below :data:`LEAKAGE_MARGIN_MIN` the timing is unreliable (common practice, facts §6). When
+    the capacitor's rating is unknown, pass ``vcc``: the part must be rated at least that.
+    """
+    i_charge = np.asarray(vcc, dtype=float) / (3.0 * np.asarray(r, dtype=float))
+    return i_charge / electrolytic_leakage_a(c_farad, v_rated)
+
+
+def leakage_ok(r, c_farad, vcc, v_rated) -> np.ndarray:
+    """True where :func:`leakage_margin` is at least :data:`LEAKAGE_MARGIN_MIN`."""
+    return leakage_margin(r, c_farad, vcc, v_rated) >= LEAKAGE_MARGIN_MIN
+
+
+# --------------------------------------------------------------------------- cautions (text data)
+CAUTIONS: dict[str, str] = {
+    "charged_capacitor": (
+        "Capacitors can hold a charge after power is removed: discharge electrolytics through a "
+        "resistor before handling them."
+    ),
+    "mains": (
+        "Mains-powered equipment under repair can kill: follow local codes and qualified practice, "
+        "work unpowered where you can, and use an isolating transformer."
+    ),
+    "electrolytic_leakage": (
+        "Electrolytic timing capacitor: its leakage (up to 0.01·C·V µA or 3 µA) makes long timings "
+        "drift; keep the charging current VCC/(3R) at least 10× the leakage, or use a film "
+        "capacitor with a larger R on a CMOS 555."
+    ),
+    "high_frequency": (
+        "Above about 100 kHz propagation delays and the discharge switch resistance make the real "
+        "frequency lower than the formula."
+    ),
+    "bipolar_output_fed": (
+        "The output-fed connection depends on the output levels; a bipolar 555 output is not "
+        "rail-to-rail, so the duty is well above 50 % and it may not oscillate at 5 V."
+    ),
+    "decoupling": (
+        "Decouple VCC close to a bipolar 555 (10–100 µF): its output draws current spikes at "
+        "every transition."
+    ),
+}

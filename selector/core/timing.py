@@ -1,0 +1,258 @@
+"""Timing physics of the 555 connections and of plain RC parts (pure numpy).
+
+Everything here rests on ONE primitive, the first-order RC law (facts.md §0, derived): a capacitor
+charging or discharging through R toward an asymptote ``v_inf`` goes from ``v0`` to ``v1`` in
+
+    t = R·C·ln((v_inf − v0) / (v_inf − v1)).
+
+The 555 comparators switch at VCC/3 (trigger) and 2·VCC/3 (threshold) [S4, S5 data sheets]. Every
+function accepts floats or numpy arrays, broadcasts them, and returns float arrays (0-d for scalar
+input). Units are SI: ohms, farads, volts, seconds, hertz. Resistances and capacitances are
+assumed positive; callers validate parts at their public boundary.
+
+Duty everywhere in this module means the fraction of the period the output is HIGH (one CMOS data
+sheet [S4] defines it as the fraction LOW; we do not).
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from selector.core.errors import OutOfRange
+
+LN2 = float(np.log(2.0))
+LN3 = float(np.log(3.0))
+
+# Forward drop of a small-signal silicon steering diode near 1 mA. 1N4148 class: 0.6–0.65 V typ
+# at 1 mA (from memory, not confirmed); 1N4448: 0.62 V min … 0.72 V max at 5 mA [S16 diode data
+# sheets]. The CLI option --diode-vf overrides it (a small Schottky is about 0.3 V).
+DIODE_VF_DEFAULT = 0.65
+
+# Comparator levels on a supply normalised to 3 units (VCC/3 = 1, 2·VCC/3 = 2). Using whole
+# numbers makes the ratios exact in floating point, so ln 2 and ln 3 come out bit-exact.
+_V_FULL, _V_UP, _V_LOW = 3.0, 2.0, 1.0
+
+
+def _f(x) -> np.ndarray:
+    return np.asarray(x, dtype=float)
+
+
+def crossing_time(r, c, v_inf, v0, v1) -> np.ndarray:
+    """Time for an RC node to move from ``v0`` to ``v1`` while relaxing toward ``v_inf``.
+
+    ``t = r·c·ln((v_inf − v0)/(v_inf − v1))``. Where ``v1`` is not between ``v0`` (inclusive) and
+    ``v_inf`` (exclusive) the level is never reached and the result is ``inf``; this is how
+    "no oscillation" (e.g. an output that cannot rise above the threshold) shows up.
+    """
+    r, c, v_inf, v0, v1 = (_f(a) for a in (r, c, v_inf, v0, v1))
+    with np.errstate(divide="ignore", invalid="ignore"):
+        ratio = (v_inf - v0) / (v_inf - v1)
+        t = r * c * np.log(ratio)
+    reached = np.isfinite(ratio) & (ratio >= 1.0)
+    return np.where(reached, t, np.inf)
+
+
+# --------------------------------------------------------------------------- standard astable
+def standard_times(ra, rb, c) -> tuple[np.ndarray, np.ndarray]:
+    """Standard two-resistor astable (RA: VCC→DIS, RB: DIS→THR/TRIG, C: THR→GND).
+
+    t_high = ln2·(RA+RB)·C (C charges through RA+RB from VCC/3 to 2VCC/3),
+    t_low = ln2·RB·C (C discharges through RB into DIS) [S2, S3 bipolar 555 data sheet].
+    Duty is always above 50 % because t_high − t_low = ln2·RA·C > 0.
+    """
+    ra, rb = _f(ra), _f(rb)
+    t_high = crossing_time(ra + rb, c, _V_FULL, _V_LOW, _V_UP)
+    t_low = crossing_time(rb, c, 0.0, _V_UP, _V_LOW)
+    return t_high, t_low
+
+
+def standard_ideal(t_high, t_low, c) -> tuple[np.ndarray, np.ndarray]:
+    """Exact inverse of :func:`standard_times` for a given C: ``(ra, rb)``.
+
+    rb = t_low/(ln2·c); ra = t_high/(ln2·c) − rb. Where t_high ≤ t_low (duty ≤ 50 %) no positive
+    RA exists and ``ra`` is nan.
+    """
+    k = LN2 * _f(c)
+    rb = _f(t_low) / k
+    ra = _f(t_high) / k - rb
+    return np.where(ra > 0, ra, np.nan), rb
+
+
+# --------------------------------------------------------------------------- diode-steered astable
+def _check_supply_and_drop(vcc, vf) -> tuple[np.ndarray, np.ndarray]:
+    vcc, vf = _f(vcc), _f(vf)
+    if np.any(~(vcc > 0)):
+        bad = vcc[~(vcc > 0)] if vcc.ndim else vcc
+        raise OutOfRange(f"VCC {float(np.ravel(bad)[0]):g} V is not a positive supply voltage")
+    if np.any(~(vf >= 0)) or np.any(~(vf < vcc / 3.0)):
+        vfb, vccb = np.broadcast_arrays(vf, vcc)
+        bad = ~((vfb >= 0) & (vfb < vccb / 3.0))
+        i = np.flatnonzero(bad)[0]
+        raise OutOfRange(
+            f"diode forward drop {np.ravel(vfb)[i]:g} V must be at least 0 V and below VCC/3 "
+            f"({np.ravel(vccb)[i] / 3.0:.4g} V at VCC {np.ravel(vccb)[i]:g} V) for the "
+            "diode-steered astable"
+        )
+    return vcc, vf
+
+
+def diode_off_level(ra, rb, vcc, vf) -> np.ndarray:
+    """Capacitor voltage Vc* above which the steering diode stops conducting while charging.
+
+    The diode conducts while RB·(VCC − Vc − Vf) ≥ RA·Vf, i.e. Vc ≤ VCC − Vf·(RA+RB)/RB
+    (facts.md §2, derived).
+    """
+    ra, rb, vcc, vf = _f(ra), _f(rb), _f(vcc), _f(vf)
+    return vcc - vf * (ra + rb) / rb
+
+
+def _diode_high_unchecked(ra, rb, c, vcc, vf) -> np.ndarray:
+    ra, rb, c, vcc, vf = np.broadcast_arrays(_f(ra), _f(rb), _f(c), _f(vcc), _f(vf))
+    v_low, v_up = vcc / 3.0, 2.0 * vcc / 3.0
+    v_star = vcc - vf * (ra + rb) / rb
+    # Case 1: the diode conducts for the whole charge (Vc* ≥ 2VCC/3): C charges toward VCC − Vf
+    # through RA alone [S8 "shorter duty cycle" formula; facts §2].
+    simple = crossing_time(ra, c, vcc - vf, v_low, v_up)
+    # Case 2: piecewise. Diode path up to Vc*, then RA+RB toward VCC (facts §2, derived).
+    vs = np.clip(v_star, v_low, v_up)
+    first = crossing_time(ra, c, vcc - vf, v_low, vs)
+    second = crossing_time(ra + rb, c, vcc, vs, v_up)
+    piecewise = first + second
+    # Case 3 (Vc* ≤ VCC/3) is the piecewise formula with an empty first segment: ln2·(RA+RB)·C.
+    return np.where(v_star >= v_up, simple, piecewise)
+
+
+def diode_times(ra, rb, c, vcc, vf) -> tuple[np.ndarray, np.ndarray]:
+    """Diode-steered astable (diode across RB, anode at DIS): charge via RA, discharge via RB.
+
+    Constant-Vf diode model, piecewise-exact (facts.md §2, checked there by numerical
+    integration): while the diode conducts, C charges toward VCC − Vf through RA; if RB is small
+    against RA the diode turns off at Vc* = VCC − Vf·(RA+RB)/RB and the rest of the charge runs
+    through RA+RB toward VCC. t_low = ln2·RB·C (the diode is reverse-biased; DIS saturation
+    voltage ignored).
+
+    ``vcc`` must be positive and ``0 ≤ vf < vcc/3``; otherwise :class:`OutOfRange` is raised
+    (with vf ≥ VCC/3 the diode path alone could never reach the threshold and the circuit no
+    longer behaves as a diode-steered astable). Vf = 0 gives the ideal ln2·RA·C.
+    """
+    vcc, vf = _check_supply_and_drop(vcc, vf)
+    t_high = _diode_high_unchecked(ra, rb, c, vcc, vf)
+    t_low = crossing_time(rb, c, 0.0, _V_UP, _V_LOW)
+    t_high, t_low = np.broadcast_arrays(t_high, t_low)
+    return np.array(t_high, dtype=float), np.array(t_low, dtype=float)
+
+
+def diode_ideal_ra(t_high, rb, c, vcc, vf) -> np.ndarray:
+    """RA that makes ``diode_times(ra, rb, c, vcc, vf)[0] == t_high`` (vectorised, exact).
+
+    t_high grows strictly with RA for fixed RB and C (each segment is slower and the diode turns
+    off earlier), so the root is unique. Closed forms cover the region where the diode conducts
+    for the whole charge (RA ≤ RB·(VCC/3 − Vf)/Vf) and the region where it never conducts
+    (RA ≥ RB·(2VCC/(3Vf) − 1)); between them a bisection on ln RA runs to full float precision.
+    Where t_high is not positive the result is nan.
+    """
+    vcc, vf = _check_supply_and_drop(vcc, vf)
+    t_high, rb, c, vcc, vf = np.broadcast_arrays(_f(t_high), _f(rb), _f(c), vcc, vf)
+    out = np.full(t_high.shape, np.nan)
+    ok = t_high > 0
+    k_simple = crossing_time(1.0, 1.0, vcc - vf, vcc / 3.0, 2.0 * vcc / 3.0)   # t = k·RA·C
+    with np.errstate(divide="ignore", invalid="ignore"):
+        ra_on = rb * (vcc / 3.0 - vf) / vf          # largest RA with the diode on throughout
+        ra_off = rb * (2.0 * vcc / (3.0 * vf) - 1.0)  # smallest RA with the diode never on
+        ra_simple = t_high / (k_simple * c)
+        ra_plain = t_high / (LN2 * c) - rb
+    in_simple = ok & (ra_simple <= ra_on)            # vf = 0 → ra_on = inf: always here
+    out[in_simple] = ra_simple[in_simple]
+    in_plain = ok & ~in_simple & (ra_plain >= ra_off)
+    out[in_plain] = ra_plain[in_plain]
+    mid = ok & ~in_simple & ~in_plain
+    if np.any(mid):
+        lo, hi = np.log(ra_on[mid]), np.log(ra_off[mid])
+        th, r_b, cc, v, d = t_high[mid], rb[mid], c[mid], vcc[mid], vf[mid]
+        for _ in range(64):          # bracket width ln((2VCC−3Vf)/(VCC−3Vf)) halves 64 times
+            m = 0.5 * (lo + hi)
+            too_slow = _diode_high_unchecked(np.exp(m), r_b, cc, v, d) > th
+            hi = np.where(too_slow, m, hi)
+            lo = np.where(too_slow, lo, m)
+        out[mid] = np.exp(0.5 * (lo + hi))
+    return out
+
+
+# --------------------------------------------------------------------------- output-fed astable
+def output_fed_factors(voh, vol, vcc) -> tuple[np.ndarray, np.ndarray]:
+    """Factors k with t_high = k_high·R·C and t_low = k_low·R·C for the output-fed astable.
+
+    One R from OUT to THR/TRIG and C; C charges toward VOH from VCC/3 to 2VCC/3 and discharges
+    toward VOL from 2VCC/3 to VCC/3 (facts.md §3, derived; rail-to-rail output gives ln2 for
+    both halves [S7]). If VOH ≤ 2VCC/3 or VOL ≥ VCC/3 the output cannot reach the comparator level
+    and that factor is ``inf`` (no oscillation).
+    """
+    voh, vol, vcc = _f(voh), _f(vol), _f(vcc)
+    k_high = crossing_time(1.0, 1.0, voh, vcc / 3.0, 2.0 * vcc / 3.0)
+    k_low = crossing_time(1.0, 1.0, vol, 2.0 * vcc / 3.0, vcc / 3.0)
+    return k_high, k_low
+
+
+def output_fed_times(r, c, voh, vol, vcc) -> tuple[np.ndarray, np.ndarray]:
+    """Output-fed astable times (see :func:`output_fed_factors`); ``inf`` where it cannot run."""
+    k_high, k_low = output_fed_factors(voh, vol, vcc)
+    rc = _f(r) * _f(c)
+    return k_high * rc, k_low * rc
+
+
+# --------------------------------------------------------------------------- monostable, RC
+def monostable_width(r, c) -> np.ndarray:
+    """Monostable pulse width ln3·R·C ≈ 1.1·R·C [S3, S5]: C charges from 0 toward VCC to 2VCC/3."""
+    return crossing_time(r, c, _V_FULL, 0.0, _V_UP)
+
+
+def monostable_ideal_r(width, c) -> np.ndarray:
+    """R = width/(ln3·C), the exact inverse of :func:`monostable_width`."""
+    return _f(width) / (LN3 * _f(c))
+
+
+def rc_tau(r, c) -> np.ndarray:
+    """Time constant τ = R·C (time to charge to 1 − 1/e ≈ 63.2 %)."""
+    return _f(r) * _f(c)
+
+
+def rc_corner(r, c) -> np.ndarray:
+    """Corner (−3 dB) frequency of a first-order RC low- or high-pass: f = 1/(2π·R·C)."""
+    return 1.0 / (2.0 * np.pi * _f(r) * _f(c))
+
+
+def frequency_duty(t_high, t_low) -> tuple[np.ndarray, np.ndarray]:
+    """``(frequency, duty)`` with duty = t_high/(t_high + t_low) (fraction HIGH).
+
+    Where either time is not finite (no oscillation) both results are nan.
+    """
+    t_high, t_low = np.broadcast_arrays(_f(t_high), _f(t_low))
+    period = t_high + t_low
+    good = np.isfinite(period) & (period > 0)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        freq = np.where(good, 1.0 / period, np.nan)
+        duty = np.where(good, t_high / period, np.nan)
+    return freq, duty
+
+
+# --------------------------------------------------------------------------- resistor power
+def ra_power_w(vcc, ra) -> np.ndarray:
+    """Power in RA while the discharge transistor is on (DIS ≈ 0 V): VCC²/RA (facts.md §7).
+
+    Also the idle power of the monostable timing resistor. If the output may sit low for long,
+    the resistor must take this continuously.
+    """
+    return _f(vcc) ** 2 / _f(ra)
+
+
+def rb_power_w(vcc, rb) -> np.ndarray:
+    """Peak power in RB at the start of a discharge: (2·VCC/3)²/RB (facts.md §7, derived)."""
+    return (2.0 * _f(vcc) / 3.0) ** 2 / _f(rb)
+
+
+def output_fed_power_w(r, voh, vol, vcc) -> np.ndarray:
+    """Peak power in the output-fed resistor: max((VOH − VCC/3)², (2VCC/3 − VOL)²)/R (derived)."""
+    vcc = _f(vcc)
+    up = (_f(voh) - vcc / 3.0) ** 2
+    down = (2.0 * vcc / 3.0 - _f(vol)) ** 2
+    return np.maximum(up, down) / _f(r)
