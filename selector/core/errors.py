@@ -66,3 +66,19 @@ class OptionOutdated(SelectorError):
 
 class UnreadableFile(SelectorError):
     """A file named by the user (a stock CSV to import, an export target) cannot be read or written."""
+
+
+class OutOfRange(SelectorError):
+    """A circuit setting (supply voltage, diode drop, …) is outside what the chip or model allows."""
+
+
+class UnknownChipFamily(SelectorError):
+    """A chip family key is not in the table; the message lists the known keys."""
+
+    exit_code = 2
+
+
+class UnknownDistribution(SelectorError):
+    """A tolerance distribution name is not one of the supported ones (uniform, normal)."""
+
+    exit_code = 2
