@@ -1,0 +1,134 @@
+"""Rich tables for the BOM, the pick list, a pull, an undo and the ledger."""
+
+from __future__ import annotations
+
+from typing import Sequence
+
+from rich.console import Console
+from rich.table import Table
+from rich.text import Text
+
+from selector.core import bom as core_bom
+
+
+def _cells(*values) -> list[Text]:
+    """Table cells as plain Text, so a bracket in a location or note is never read as markup."""
+    return [v if isinstance(v, Text) else Text(str(v)) for v in values]
+
+
+def _unit(kind: str) -> str:
+    from selector.core.notation import FARAD, OHM
+
+    return OHM if kind == "resistor" else FARAD if kind == "capacitor" else ""
+
+
+def _value(kind: str, value: float) -> str:
+    from selector.core.notation import format_value
+
+    return format_value(value, _unit(kind))
+
+
+def bom_table(bom: core_bom.Bom) -> Table:
+    boards = f"{bom.boards} board{'s' if bom.boards != 1 else ''}"
+    t = Table(title=f"BOM: option {bom.option} of search {bom.search_id}, {boards}", title_justify="left")
+    for name, kw in (("ref", {}), ("role", {}), ("value", {}), ("tolerance", {}), ("package", {}),
+                     ("rating", {"justify": "right"}), ("dielectric", {}), ("location", {}),
+                     ("line", {"justify": "right"}), ("per board", {"justify": "right"}),
+                     ("total", {"justify": "right"}), ("stock", {})):
+        t.add_column(name, **kw)
+    for row, bl in zip(core_bom.to_rows(bom), bom.lines):
+        role = row["role"] + (f" ({row['network']})" if row["network"] else "")
+        if bl.line_id is None:
+            stock = Text("not in stock", style="yellow")
+        elif not bl.in_stock:
+            stock = Text("short", style="bold red")
+        else:
+            stock = Text("yes")
+        value = row["value"]
+        if bl.value is not None and bl.line_id is None and bl.description:
+            value = f"{value} ({bl.description})"
+        t.add_row(*_cells(row["ref"], role, value, row["tolerance"], row["package"], row["rating"],
+                          row["dielectric"], row["location"], row["line_id"], row["per_board"], row["total"],
+                          stock))
+    return t
+
+
+def pick_table(stops: Sequence[core_bom.PickStop]) -> Table:
+    from selector.core.notation import format_tolerance
+
+    t = Table(title="Pick list (one visit per drawer)", title_justify="left")
+    for name, kw in (("location", {}), ("line", {"justify": "right"}), ("value", {}), ("tolerance", {}),
+                     ("package", {}), ("take", {"justify": "right"}), ("on hand", {"justify": "right"}),
+                     ("refs", {})):
+        t.add_column(name, **kw)
+    for stop in stops:
+        first = True
+        for it in stop.items:
+            take = Text(str(it.quantity))
+            if it.missing:
+                take = Text(f"{it.quantity} (short {it.missing})", style="bold red")
+            t.add_row(*_cells((stop.location or "(no location)") if first else "", it.line_id,
+                              _value(it.kind, it.value), format_tolerance(it.tol_minus, it.tol_plus),
+                              it.package, take, it.on_hand, " ".join(it.refs)))
+            first = False
+    return t
+
+
+def print_bom(console: Console, report) -> None:
+    """The BOM table, the pick list, what to obtain elsewhere, then notes and cautions."""
+    bom = report.bom
+    console.print(bom_table(bom))
+    if report.stops:
+        console.print(pick_table(report.stops))
+    missing = core_bom.to_obtain(bom)
+    if missing:
+        console.print("Not in stock (obtain before building): "
+                      + ", ".join(f"{bl.ref} {bl.role}" for bl in missing), highlight=False, markup=False)
+    for s in report.shortages:
+        console.print(f"Short: stock line {s.line_id} holds {s.on_hand}, the BOM needs {s.needed} "
+                      f"({s.missing} missing).", style="red", highlight=False, markup=False)
+    for note in bom.notes:
+        console.print(note, highlight=False, markup=False)
+
+
+def print_pull(console: Console, result) -> None:
+    from selector.core.notation import format_value
+
+    by_id = {s.id: s for s in result.report.stock}
+    head = "Dry run, nothing taken" if result.pull_id is None else f"Pull {result.pull_id}"
+    t = Table(title=f"{head}: option {result.option} of search {result.search_id}, "
+                    f"{result.boards} board{'s' if result.boards != 1 else ''}", title_justify="left")
+    for name, kw in (("line", {"justify": "right"}), ("value", {}), ("location", {}),
+                     ("taken", {"justify": "right"}), ("left", {"justify": "right"})):
+        t.add_column(name, **kw)
+    for line_id, n in result.taken:
+        s = by_id[line_id]
+        left = s.quantity - n
+        t.add_row(*_cells(line_id, format_value(s.value, _unit(s.kind)), s.location, n, left))
+    console.print(t)
+    missing = core_bom.to_obtain(result.report.bom)
+    if missing:
+        console.print("Not taken (not in stock): " + ", ".join(f"{bl.ref} {bl.role}" for bl in missing),
+                      highlight=False, markup=False)
+    if result.pull_id is not None:
+        console.print(f"To put these parts back: selector undo {result.pull_id}", highlight=False, markup=False)
+
+
+def print_undo(console: Console, result) -> None:
+    total = sum(n for _, n in result.restored)
+    lines = ", ".join(f"line {i} +{n}" for i, n in result.restored)
+    console.print(f"Undid pull {result.pull_id}: {total} part{'s' if total != 1 else ''} put back ({lines}).",
+                  highlight=False, markup=False)
+
+
+def ledger_table(entries) -> Table:
+    t = Table(title="Ledger (newest first)", title_justify="left")
+    for name, kw in (("#", {"justify": "right"}), ("when (UTC)", {}), ("line", {"justify": "right"}),
+                     ("value", {}), ("location", {}), ("change", {"justify": "right"}), ("reason", {}),
+                     ("pull", {"justify": "right"}), ("reference", {})):
+        t.add_column(name, **kw)
+    for e in entries:
+        t.add_row(*_cells(e.movement_id, e.at.strftime("%Y-%m-%d %H:%M:%S"), e.line_id,
+                          _value(e.kind, e.value), e.location, f"{e.delta:+d}", e.reason,
+                          "" if e.pull_id is None else e.pull_id, e.reference))
+    return t

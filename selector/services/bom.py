@@ -1,0 +1,133 @@
+"""Use case ``bom``: read a saved option, match the extra parts against the current stock, and
+return the BOM with its pick list. Read-only; the pull service reuses :func:`bom_in_session`
+inside its own transaction so that what is pulled is exactly what the BOM shows at that moment."""
+
+from __future__ import annotations
+
+import json
+from dataclasses import dataclass
+from typing import Any, Optional
+
+import sqlalchemy as sa
+from sqlalchemy.engine import Engine
+from sqlalchemy.orm import Session
+
+from selector.core import bom as core_bom
+from selector.core.errors import OptionOutdated, UnknownSearch
+from selector.core.types import StockLine
+from selector.store.models import SearchOptionRow, SearchRow
+
+
+@dataclass(frozen=True)
+class SavedOption:
+    """One option of a saved search, with what the BOM needs to know about its circuit."""
+
+    search_id: int
+    rank: int
+    spec: core_bom.CircuitSpec
+    data: dict[str, Any]
+    boards: int  # the board count the search was run for
+
+
+@dataclass(frozen=True)
+class BomReport:
+    """A BOM, its pick list and the stock it was matched against."""
+
+    bom: core_bom.Bom
+    stops: tuple[core_bom.PickStop, ...]
+    stock: tuple[StockLine, ...]
+
+    @property
+    def shortages(self) -> list[core_bom.Shortage]:
+        return core_bom.shortages(self.bom, self.stock)
+
+
+def _loads(text: str, what: str, search_id: int) -> dict[str, Any]:
+    try:
+        data = json.loads(text or "{}")
+    except ValueError:
+        raise UnknownSearch(f"search {search_id} has an unreadable {what}; run the search again")
+    if not isinstance(data, dict):
+        raise UnknownSearch(f"search {search_id} has an unreadable {what}; run the search again")
+    return data
+
+
+def _float_or_none(x: Any) -> Optional[float]:
+    try:
+        return None if x is None else float(x)
+    except (TypeError, ValueError):
+        return None
+
+
+def load_saved_option(session: Session, option: int, search_id: Optional[int] = None) -> SavedOption:
+    """Option ``option`` (its rank, from 1) of search ``search_id``, or of the latest search.
+    Raises UnknownSearch naming what is missing."""
+    if search_id is None:
+        search = session.scalars(sa.select(SearchRow).order_by(SearchRow.id.desc()).limit(1)).first()
+        if search is None:
+            raise UnknownSearch("there is no saved search yet; run `selector find …` first")
+    else:
+        search = session.get(SearchRow, search_id)
+        if search is None:
+            raise UnknownSearch(f"there is no saved search {search_id}")
+    row = session.scalars(
+        sa.select(SearchOptionRow).where(SearchOptionRow.search_id == search.id, SearchOptionRow.rank == option)
+    ).first()
+    if row is None:
+        ranks = session.scalars(
+            sa.select(SearchOptionRow.rank).where(SearchOptionRow.search_id == search.id).order_by(SearchOptionRow.rank)
+        ).all()
+        has = f"it has options {ranks[0]}-{ranks[-1]}" if ranks else "it has no options"
+        raise UnknownSearch(f"search {search.id} has no option {option} ({has})")
+    params = _loads(search.params_json, "settings record", search.id)
+    data = _loads(row.data_json, f"option {option}", search.id)
+    connection = str(data.get("connection") or row.connection or "")
+    spec = core_bom.CircuitSpec(
+        mode=search.mode,
+        connection=connection,
+        chip=str(params.get("chip") or "bipolar"),
+        vcc=_float_or_none(params.get("vcc")),
+        diode_vf=_float_or_none(params.get("diode_vf")),
+    )
+    try:
+        boards = max(1, int(params.get("boards") or 1))
+    except (TypeError, ValueError):
+        boards = 1
+    return SavedOption(search_id=search.id, rank=row.rank, spec=spec, data=data, boards=boards)
+
+
+def bom_in_session(
+    session: Session, option: int, search_id: Optional[int] = None, boards: Optional[int] = None
+) -> BomReport:
+    """The BOM of a saved option against the stock as this session sees it (no writes)."""
+    from selector.core.parts import voltage_derating
+    from selector.store.db import load_stock
+
+    saved = load_saved_option(session, option, search_id)
+    stock = load_stock(session)
+    n = saved.boards if boards is None else boards
+    try:
+        bom = core_bom.assemble_bom(saved.search_id, saved.rank, saved.spec, saved.data, stock, n,
+                                    voltage_derating)
+    except core_bom.OptionOutdatedError as why:
+        what = "is gone" if why.now is None else "now holds another value"
+        raise OptionOutdated(
+            f"option {saved.rank} of search {saved.search_id} uses stock line {why.line_id}, which {what}; "
+            "run the search again"
+        )
+    except (core_bom.OptionShapeError, KeyError, TypeError, ValueError) as why:
+        raise UnknownSearch(
+            f"option {saved.rank} of search {saved.search_id} is not in the expected form ({why}); "
+            "run the search again"
+        )
+    return BomReport(bom=bom, stops=tuple(core_bom.pick_list(bom, stock)), stock=tuple(stock))
+
+
+def build_bom(
+    engine: Engine, option: int, search_id: Optional[int] = None, boards: Optional[int] = None
+) -> BomReport:
+    """The BOM of option ``option`` of search ``search_id`` (default: the latest search) for
+    ``boards`` boards (default: the board count the search was run for). One read transaction."""
+    from selector.store.db import run_in_transaction
+
+    return run_in_transaction(engine, lambda s: bom_in_session(s, option, search_id, boards))
