@@ -1,0 +1,669 @@
+"""Series/parallel networks of stock parts, and exact nearest-value look-ups over all of them.
+
+Public API (the timing search and ``find value`` build on it)::
+
+    build_index(lines, max_parts=2, boards=1, allow_polarized_series=False, kind=None) -> NetworkIndex
+    nearest_networks(lines, target, k=10, max_parts=2, boards=1, allow_polarized_series=False,
+                     kind=None) -> list[Network]
+
+    NetworkIndex (one kind; every network of 1..max_parts parts the stock allows for `boards`):
+        kind, max_parts, boards, allow_polarized_series, lines (tuple[StockLine], sorted by value)
+        nearest_few(targets, k)            -> (n, k) int64 ids, by |log(value/target)|, then fewer
+                                              parts, then id; -1 padding.  EXACT.
+        nearest_sides(targets, k=1)        -> (below (n, k), above (n, k)): the k nearest with
+                                              value <= target (nearest first) and value >= target.
+        between(lo, hi)                    -> (offsets (n+1,), ids): CSR list of every network with
+                                              lo[i] <= value <= hi[i], each row sorted by value.
+        values(ids), bounds(ids) -> (vmin, vmax), nparts(ids)
+        usage_arrays(ids)                  -> (positions (n, 3), counts (n, 3)); positions index
+                                              ``lines`` / ``line_ids`` / ``quantity``; -1 padding
+        fits_together(ids_a, ids_b, boards=None) -> bool (n,)
+        network(id) -> Network;  networks(ids) -> list[Network]
+        size_by_parts() -> {1: n1, 2: n2, 3: n3}   (exact counts, 3-part ones never materialised)
+
+Ids are opaque int64.  1- and 2-part networks are materialised in one array sorted by value (an id
+is a position there); a 3-part network is one part ``a`` joined to a pair ``p`` from that array,
+encoded as ``M + (shape3 * L + a) * M + p`` in canonical form, so equal ids mean equal networks.
+
+Shapes (our own names; ``+`` = in series, ``∥`` = in parallel):
+    "single"           A
+    "series"           A + B
+    "parallel"         A ∥ B
+    "series3"          A + B + C
+    "parallel3"        A ∥ B ∥ C
+    "series+parallel"  (B ∥ C) + A      one part in series with a parallel pair
+    "parallel+series"  (B + C) ∥ A      one part in parallel with a series pair
+Resistors in series add, capacitors in parallel add; the other joint adds reciprocals.
+
+How the 3-part look-up stays exact without materialising ~10^8 networks (meet in the middle): for a
+fixed single part ``a`` and outer joint, the network value is strictly increasing in the pair value
+(x + p and 1/(1/x + 1/p) are both increasing in p, also after floating-point rounding).  So for
+each ``a`` the pair value that would hit the target exactly is computed, found in the sorted pair
+array with ``searchsorted``, and the k nearest *allowed* pairs on each side of it (allowed = the
+quantity rule holds with ``a`` added) are the k best networks with that ``a``.  The k best overall
+are among the union over all ``a`` of those per-``a`` bests.  A small value slack (1e-9 relative)
+around the exact pair value makes the split into "below"/"above" safe against rounding: the pairs
+inside the slack are always examined, and every network is finally judged by its canonical value.
+
+Quantity rule: a network may use a line ``c`` times only if ``c * boards <= quantity``.
+Polarized capacitors: by default no polarized part sits in a series joint (anywhere up the tree);
+``allow_polarized_series=True`` keeps such networks (the caller shows a caution).
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+from typing import Iterable, Sequence, Union
+
+import numpy as np
+
+from selector.core.types import KINDS, StockLine
+
+SHAPES: tuple[str, ...] = (
+    "single",
+    "series",
+    "parallel",
+    "series3",
+    "parallel3",
+    "series+parallel",
+    "parallel+series",
+)
+# 3-part shapes, in the order of their code in an id: (name, outer joint, inner joint, symmetric)
+_SHAPES3: tuple[tuple[str, str, str, bool], ...] = (
+    ("series3", "series", "series", True),
+    ("parallel3", "parallel", "parallel", True),
+    ("series+parallel", "series", "parallel", False),
+    ("parallel+series", "parallel", "series", False),
+)
+_SINGLE, _SERIES, _PARALLEL = 0, 1, 2  # shape codes in the materialised array
+_EPS = 1e-9  # relative value slack around a target when splitting pair arrays (see module doc)
+
+Structure = Union[int, tuple]  # a leaf (index into Network.physical) or (joint, (children...))
+
+
+def adds(kind: str, joint: str) -> bool:
+    """True when this joint adds the values themselves (resistors in series, capacitors in
+    parallel); False when it adds reciprocals."""
+    if kind not in KINDS:
+        raise ValueError(f"unknown part kind {kind!r}")
+    return (joint == "series") == (kind == "resistor")
+
+
+def _join(add: Union[bool, np.ndarray], x: np.ndarray, y: np.ndarray) -> np.ndarray:
+    """Combine two values (arrays) by a joint: sum, or reciprocal of the sum of reciprocals."""
+    with np.errstate(divide="ignore", invalid="ignore"):
+        return np.where(add, x + y, 1.0 / (1.0 / x + 1.0 / y))
+
+
+@dataclass(frozen=True)
+class Network:
+    """One concrete network of 1-3 parts, for display, BOM and Monte Carlo."""
+
+    kind: str
+    value: float
+    vmin: float
+    vmax: float
+    shape: str
+    parts: tuple[tuple[StockLine, int], ...]  # distinct stock lines with counts
+    physical: tuple[StockLine, ...]  # one entry per physical part, in combine() order
+    structure: Structure = field(default=0)  # e.g. ("series", (("parallel", (0, 1)), 2))
+
+    @property
+    def nparts(self) -> int:
+        return len(self.physical)
+
+    @property
+    def usage(self) -> dict[int, int]:
+        """line_id -> number of parts taken from that line."""
+        return {line.id: count for line, count in self.parts}
+
+    def combine(self, part_values: np.ndarray) -> np.ndarray:
+        """Effective value for many draws: ``part_values`` has shape (len(physical), n), one row
+        per physical part; returns shape (n,), by the same laws as ``value``."""
+        pv = np.asarray(part_values, dtype=float)
+        if pv.ndim == 1:
+            pv = pv[:, None]
+        if pv.shape[0] != len(self.physical):
+            raise ValueError(f"expected {len(self.physical)} rows of part values, got {pv.shape[0]}")
+
+        def ev(node: Structure) -> np.ndarray:
+            if isinstance(node, int):
+                return pv[node]
+            joint, children = node
+            vals = [ev(c) for c in children]
+            if adds(self.kind, joint):
+                return np.sum(vals, axis=0)
+            return 1.0 / np.sum([1.0 / v for v in vals], axis=0)
+
+        return ev(self.structure)
+
+    def in_series(self) -> tuple[bool, ...]:
+        """For each physical part: does a series joint sit anywhere above it?"""
+        flags = [False] * len(self.physical)
+
+        def walk(node: Structure, under_series: bool) -> None:
+            if isinstance(node, int):
+                flags[node] = under_series
+                return
+            joint, children = node
+            for c in children:
+                walk(c, under_series or joint == "series")
+
+        walk(self.structure, False)
+        return tuple(flags)
+
+    @property
+    def polarized_in_series(self) -> bool:
+        """A polarized part sits in a series joint (capacitors: show a caution)."""
+        return any(line.polarized and s for line, s in zip(self.physical, self.in_series()))
+
+    @property
+    def dielectrics(self) -> tuple[str, ...]:
+        """Distinct dielectric names of the parts (empty names left out), in part order."""
+        seen: list[str] = []
+        for line in self.physical:
+            d = (line.dielectric or "").strip()
+            if d and d not in seen:
+                seen.append(d)
+        return tuple(seen)
+
+
+def _ranges_concat(start: np.ndarray, stop: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Concatenate integer ranges [start[i], stop[i]) without a Python loop.
+    Returns (row of each element, element)."""
+    length = np.maximum(stop - start, 0)
+    total = int(length.sum())
+    rows = np.repeat(np.arange(len(start)), length)
+    if total == 0:
+        return rows, np.zeros(0, dtype=np.int64)
+    first = np.cumsum(length) - length
+    elem = np.arange(total, dtype=np.int64) - np.repeat(first, length) + np.repeat(start, length)
+    return rows, elem
+
+
+def _rank_rows(rows: np.ndarray, ids: np.ndarray, keys: Sequence[np.ndarray], nrows: int,
+               k: int) -> np.ndarray:
+    """Per row, the first k distinct ids ordered by ``keys`` (primary first) then id."""
+    out = np.full((nrows, k), -1, dtype=np.int64)
+    if len(ids) == 0 or k == 0:
+        return out
+    order = np.lexsort((ids,) + tuple(reversed(keys)) + (rows,))
+    r, i = rows[order], ids[order]
+    keep = np.ones(len(i), dtype=bool)
+    keep[1:] = (r[1:] != r[:-1]) | (i[1:] != i[:-1])  # duplicates are adjacent after the sort
+    r, i = r[keep], i[keep]
+    first = np.searchsorted(r, np.arange(nrows), side="left")
+    rank = np.arange(len(r)) - first[r]
+    sel = rank < k
+    out[r[sel], rank[sel]] = i[sel]
+    return out
+
+
+def _preimage(add: bool, a: np.ndarray, v: np.ndarray) -> np.ndarray:
+    """The pair value p with join(a, p) == v (elementwise; +inf when no finite p reaches v)."""
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+        if add:
+            return v - a
+        p = 1.0 / (1.0 / v - 1.0 / a)
+        return np.where(v >= a, np.inf, p)
+
+
+class NetworkIndex:
+    """All networks of 1..max_parts parts of ONE kind that the stock allows for `boards` boards.
+    Build it with :func:`build_index`.  See the module docstring for the id scheme and methods."""
+
+    def __init__(self, lines: Sequence[StockLine], kind: str, max_parts: int = 2, boards: int = 1,
+                 allow_polarized_series: bool = False):
+        if kind not in KINDS:
+            raise ValueError(f"unknown part kind {kind!r}; expected one of {', '.join(KINDS)}")
+        if max_parts not in (1, 2, 3):
+            raise ValueError(f"max_parts must be 1, 2 or 3, not {max_parts!r}")
+        if int(boards) != boards or boards < 1:
+            raise ValueError(f"boards must be a whole number >= 1, not {boards!r}")
+        self.kind = kind
+        self.max_parts = int(max_parts)
+        self.boards = int(boards)
+        self.allow_polarized_series = bool(allow_polarized_series)
+        usable = [ln for ln in lines if ln.kind == kind and ln.value > 0 and ln.quantity // self.boards >= 1]
+        usable.sort(key=lambda ln: (ln.value, ln.id))
+        self.lines: tuple[StockLine, ...] = tuple(usable)
+        L = len(usable)
+        self._L = L
+        self.line_ids = np.array([ln.id for ln in usable], dtype=np.int64)
+        self.quantity = np.array([ln.quantity for ln in usable], dtype=np.int64)
+        self._v = np.array([ln.value for ln in usable], dtype=float)
+        self._vlo = self._v * (1.0 - np.array([ln.tol_minus for ln in usable], dtype=float))
+        self._vhi = self._v * (1.0 + np.array([ln.tol_plus for ln in usable], dtype=float))
+        self._pol = np.array([bool(ln.polarized) for ln in usable], dtype=bool)
+        self._build_materialised()
+        self._build_pools()
+
+    # ----------------------------------------------------------------- building
+    def _cap(self, boards: int | None = None) -> np.ndarray:
+        return self.quantity // (self.boards if boards is None else int(boards))
+
+    def _block_polarized(self, joint: str) -> bool:
+        return self.kind == "capacitor" and not self.allow_polarized_series and joint == "series"
+
+    def _build_materialised(self) -> None:
+        L, v, lo, hi, cap = self._L, self._v, self._vlo, self._vhi, self._cap()
+        ar = np.arange(L, dtype=np.int64)
+        cols = {"val": [v], "lo": [lo], "hi": [hi], "shape": [np.zeros(L, np.int8)],
+                "li": [ar], "lj": [np.full(L, -1, np.int64)], "pol": [self._pol]}
+        if self.max_parts >= 2 and L:
+            i, j = np.triu_indices(L)
+            keep = (i != j) | (cap[i] >= 2)
+            i, j = i[keep].astype(np.int64), j[keep].astype(np.int64)
+            ppol = self._pol[i] | self._pol[j]
+            for code, joint in ((_SERIES, "series"), (_PARALLEL, "parallel")):
+                sel = ~ppol if self._block_polarized(joint) else np.ones(len(i), bool)
+                ii, jj, add = i[sel], j[sel], adds(self.kind, joint)
+                cols["val"].append(_join(add, v[ii], v[jj]))
+                cols["lo"].append(_join(add, lo[ii], lo[jj]))
+                cols["hi"].append(_join(add, hi[ii], hi[jj]))
+                cols["shape"].append(np.full(len(ii), code, np.int8))
+                cols["li"].append(ii)
+                cols["lj"].append(jj)
+                cols["pol"].append(ppol[sel])
+        c = {name: np.concatenate(parts) for name, parts in cols.items()}
+        npart = np.where(c["shape"] == _SINGLE, 1, 2).astype(np.int8)
+        order = np.lexsort((c["lj"], c["li"], c["shape"], npart, c["val"]))
+        self._val = c["val"][order]
+        self._lo = c["lo"][order]
+        self._hi = c["hi"][order]
+        self._shape = c["shape"][order]
+        self._li = c["li"][order]
+        self._lj = c["lj"][order]
+        self._ppol = c["pol"][order]
+        self._np = npart[order]
+        self._M = M = len(self._val)
+        # Second order for "at or below" look-ups: value ascending, more parts first, higher id
+        # first, so the last k entries at or below a target are the k best by (distance, parts, id).
+        self._order_desc = np.lexsort((-np.arange(M), -self._np.astype(np.int64), self._val))
+        self._val_desc = self._val[self._order_desc]
+        pairs = np.flatnonzero(self._shape != _SINGLE)
+        keys = (self._shape[pairs].astype(np.int64) * L + self._li[pairs]) * L + self._lj[pairs]
+        o = np.argsort(keys, kind="stable")
+        self._pair_keys, self._pair_pos = keys[o], pairs[o]
+
+    def _build_pools(self) -> None:
+        """For each 3-part shape: the sorted array of allowed inner pairs and the allowed singles."""
+        self._pools: list[tuple[np.ndarray, np.ndarray, np.ndarray]] = []  # (pool_pos, pool_val, a_lines)
+        self._outer_add = np.array([adds(self.kind, outer) for _, outer, _, _ in _SHAPES3])
+        if self.max_parts < 3:
+            return
+        for _name, outer, inner, _sym in _SHAPES3:
+            code = _SERIES if inner == "series" else _PARALLEL
+            mask = self._shape == code
+            a_lines = np.arange(self._L, dtype=np.int64)
+            if self._block_polarized(outer):
+                mask &= ~self._ppol
+                a_lines = a_lines[~self._pol]
+            pool_pos = np.flatnonzero(mask).astype(np.int64)
+            self._pools.append((pool_pos, self._val[pool_pos], a_lines))
+
+    # ------------------------------------------------------------ id plumbing
+    def _is_triple(self, ids: np.ndarray) -> np.ndarray:
+        return ids >= self._M
+
+    def _encode(self, s: int, a: np.ndarray, pos: np.ndarray) -> np.ndarray:
+        return self._M + (s * self._L + a) * self._M + pos
+
+    def _decode(self, ids: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+        t = ids - self._M
+        pos = t % self._M
+        q = t // self._M
+        return q // self._L, q % self._L, pos
+
+    def _pair_lookup(self, code: int, i: np.ndarray, j: np.ndarray) -> np.ndarray:
+        keys = (code * self._L + i) * self._L + j
+        at = np.searchsorted(self._pair_keys, keys)
+        at = np.minimum(at, len(self._pair_keys) - 1)
+        if not np.all(self._pair_keys[at] == keys):  # pragma: no cover - would be a bug
+            raise AssertionError("pair missing from the materialised array")
+        return self._pair_pos[at]
+
+    def _triple_ok(self, a: np.ndarray, pos: np.ndarray, cap: np.ndarray | None = None) -> np.ndarray:
+        """Quantity rule for single ``a`` added to pair ``pos`` (the pair alone is already allowed)."""
+        cap = self._cap() if cap is None else cap
+        count = 1 + (self._li[pos] == a) + (self._lj[pos] == a)
+        return count <= cap[a]
+
+    def _canonical(self, s: int, a: np.ndarray, pos: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        """Canonical ids and values of 3-part networks given as (shape s, single a, pair pos)."""
+        name, _outer, inner, sym = _SHAPES3[s]
+        if sym and len(a):
+            x = np.sort(np.stack([a, self._li[pos], self._lj[pos]], axis=1), axis=1)
+            a = x[:, 0]
+            pos = self._pair_lookup(_SERIES if inner == "series" else _PARALLEL, x[:, 1], x[:, 2])
+        vals = _join(bool(self._outer_add[s]), self._v[a], self._val[pos])
+        return self._encode(s, a, pos), vals
+
+    def _check_ids(self, ids) -> np.ndarray:
+        ids = np.asarray(ids, dtype=np.int64)
+        top = self._M + 4 * self._L * self._M
+        bad = (ids < -1) | (ids >= top) | ((ids >= self._M) & (self.max_parts < 3))
+        if np.any(bad):
+            raise ValueError(f"unknown network id {int(ids[bad].flat[0])}")
+        return ids
+
+    # ------------------------------------------------------------ per-id data
+    def __len__(self) -> int:
+        return sum(self.size_by_parts().values())
+
+    def values(self, ids) -> np.ndarray:
+        """Nominal values (nan for -1)."""
+        ids = self._check_ids(ids)
+        out = np.full(ids.shape, np.nan)
+        m = (ids >= 0) & (ids < self._M)
+        out[m] = self._val[ids[m]]
+        t = ids >= self._M
+        if np.any(t):
+            s, a, pos = self._decode(ids[t])
+            out[t] = _join(self._outer_add[s], self._v[a], self._val[pos])
+        return out
+
+    def bounds(self, ids) -> tuple[np.ndarray, np.ndarray]:
+        """Worst-case (vmin, vmax) from the part tolerances (every part at its low or high end;
+        both joints are increasing in every part, so the corners are the extremes)."""
+        ids = self._check_ids(ids)
+        lo, hi = np.full(ids.shape, np.nan), np.full(ids.shape, np.nan)
+        m = (ids >= 0) & (ids < self._M)
+        lo[m], hi[m] = self._lo[ids[m]], self._hi[ids[m]]
+        t = ids >= self._M
+        if np.any(t):
+            s, a, pos = self._decode(ids[t])
+            add = self._outer_add[s]
+            lo[t] = _join(add, self._vlo[a], self._lo[pos])
+            hi[t] = _join(add, self._vhi[a], self._hi[pos])
+        return lo, hi
+
+    def nparts(self, ids) -> np.ndarray:
+        """Number of physical parts (0 for -1)."""
+        ids = self._check_ids(ids)
+        out = np.zeros(ids.shape, dtype=np.int64)
+        m = (ids >= 0) & (ids < self._M)
+        out[m] = self._np[ids[m]]
+        out[ids >= self._M] = 3
+        return out
+
+    def _raw_lines(self, ids: np.ndarray) -> np.ndarray:
+        """(n, 3) line position of each physical part, -1 padding."""
+        raw = np.full((len(ids), 3), -1, dtype=np.int64)
+        m = (ids >= 0) & (ids < self._M)
+        raw[m, 0] = self._li[ids[m]]
+        raw[m, 1] = self._lj[ids[m]]
+        t = ids >= self._M
+        if np.any(t):
+            _s, a, pos = self._decode(ids[t])
+            raw[t] = np.stack([a, self._li[pos], self._lj[pos]], axis=1)
+        return raw
+
+    def usage_arrays(self, ids) -> tuple[np.ndarray, np.ndarray]:
+        """(positions (n, 3), counts (n, 3)): distinct line positions used by each network (index
+        into ``lines``, ``line_ids``, ``quantity``) and how many parts of each; -1 / 0 padding."""
+        ids = self._check_ids(ids).ravel()
+        raw = self._raw_lines(ids)
+        big = np.iinfo(np.int64).max
+        srt = np.sort(np.where(raw < 0, big, raw), axis=1)
+        eq = srt[:, :, None] == srt[:, None, :]
+        counts = eq.sum(axis=2)
+        first = np.ones_like(srt, dtype=bool)
+        first[:, 1] = srt[:, 1] != srt[:, 0]
+        first[:, 2] = srt[:, 2] != srt[:, 1]
+        keep = first & (srt != big)
+        order = np.argsort(~keep, axis=1, kind="stable")
+        pos = np.take_along_axis(np.where(keep, srt, -1), order, axis=1)
+        cnt = np.take_along_axis(np.where(keep, counts, 0), order, axis=1)
+        return pos, cnt
+
+    def fits_together(self, ids_a, ids_b, boards: int | None = None) -> np.ndarray:
+        """True where network a and network b can both be built for ``boards`` boards (default:
+        the index's): for every line, (count in a + count in b) * boards <= quantity."""
+        b = self.boards if boards is None else int(boards)
+        ia, ib = np.broadcast_arrays(self._check_ids(ids_a), self._check_ids(ids_b))
+        shape = ia.shape
+        pa, ca = self.usage_arrays(ia.ravel())
+        pb, cb = self.usage_arrays(ib.ravel())
+        qty = np.append(self.quantity, 0)  # index -1 -> padding, never checked
+        tot_a = ca + ((pa[:, :, None] == pb[:, None, :]) * cb[:, None, :]).sum(axis=2)
+        tot_b = cb + ((pb[:, :, None] == pa[:, None, :]) * ca[:, None, :]).sum(axis=2)
+        ok = np.all((pa < 0) | (tot_a * b <= qty[pa]), axis=1) & np.all((pb < 0) | (tot_b * b <= qty[pb]), axis=1)
+        ok &= (ia.ravel() >= 0) & (ib.ravel() >= 0)
+        return ok.reshape(shape)
+
+    def network(self, id) -> Network:
+        """The concrete network behind one id."""
+        i = int(self._check_ids(np.array([id]))[0])
+        if i < 0:
+            raise ValueError("id -1 is padding, not a network")
+        value = float(self.values(np.array([i]))[0])
+        lo, hi = self.bounds(np.array([i]))
+        raw = self._raw_lines(np.array([i]))[0]
+        ln = self.lines
+        if i < self._M:
+            code = int(self._shape[i])
+            if code == _SINGLE:
+                shape, physical, structure = "single", (ln[raw[0]],), 0
+            else:
+                joint = "series" if code == _SERIES else "parallel"
+                shape, physical, structure = joint, (ln[raw[0]], ln[raw[1]]), (joint, (0, 1))
+        else:
+            s = int(self._decode(np.array([i]))[0][0])
+            shape, outer, inner, sym = _SHAPES3[s]
+            if sym:
+                physical, structure = (ln[raw[0]], ln[raw[1]], ln[raw[2]]), (outer, (0, 1, 2))
+            else:  # pair first, as written: (B ∥ C) + A
+                physical = (ln[raw[1]], ln[raw[2]], ln[raw[0]])
+                structure = (outer, ((inner, (0, 1)), 2))
+        counts: dict[int, int] = {}
+        for line in physical:
+            counts[line.id] = counts.get(line.id, 0) + 1
+        seen: list[StockLine] = []
+        for line in physical:
+            if line not in seen:
+                seen.append(line)
+        parts = tuple((line, counts[line.id]) for line in seen)
+        return Network(kind=self.kind, value=value, vmin=float(lo[0]), vmax=float(hi[0]), shape=shape,
+                       parts=parts, physical=physical, structure=structure)
+
+    def networks(self, ids: Iterable[int]) -> list[Network]:
+        return [self.network(int(i)) for i in ids if int(i) >= 0]
+
+    def size_by_parts(self) -> dict[int, int]:
+        """Exact number of distinct networks by part count (3-part ones counted, not built)."""
+        out = {1: int(np.sum(self._np == 1))}
+        if self.max_parts >= 2:
+            out[2] = int(np.sum(self._np == 2))
+        if self.max_parts >= 3:
+            cap, L, n3 = self._cap(), self._L, 0
+            for s, (pool_pos, _pv, a_lines) in enumerate(self._pools):
+                sym = _SHAPES3[s][3]
+                pi, pj = self._li[pool_pos], self._lj[pool_pos]
+                diff = pi != pj
+                other = np.bincount(pi[diff], minlength=L) + np.bincount(pj[diff], minlength=L)
+                own = np.bincount(pi[~diff], minlength=L)
+                if sym:  # canonical: a is the lowest line of the three
+                    ge = len(pi) - np.searchsorted(np.sort(pi), a_lines, side="left")
+                    first_other = np.bincount(pi[diff], minlength=L)
+                    bad = (cap[a_lines] < 2) * first_other[a_lines] + (cap[a_lines] < 3) * own[a_lines]
+                    n3 += int(np.sum(ge - bad))
+                else:
+                    bad = (cap[a_lines] < 2) * other[a_lines] + (cap[a_lines] < 3) * own[a_lines]
+                    n3 += int(len(a_lines) * len(pi) - np.sum(bad))
+            out[3] = n3
+        return out
+
+    # ------------------------------------------------------------ look-ups
+    @staticmethod
+    def _targets(targets) -> np.ndarray:
+        t = np.atleast_1d(np.asarray(targets, dtype=float)).ravel()
+        if not np.all(np.isfinite(t) & (t > 0)):
+            raise ValueError("targets must be finite positive values")
+        return t
+
+    def _chunks(self, n: int):
+        """Target chunks small enough that the 3-part windows stay a few MB."""
+        per = max(1, sum(len(a) for _p, _v, a in self._pools))
+        step = max(1, 60_000 // per) if self._pools else max(1, n)
+        for start in range(0, n, step):
+            yield slice(start, min(n, start + step))
+
+    def _triple_candidates(self, T: np.ndarray, k: int) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+        """For every target row and every allowed single part a: the k nearest allowed pairs on
+        each side of the exactly-needed pair value, plus every pair inside the rounding slack.
+        Returns (row, canonical id, value) of the candidates (may repeat)."""
+        out_r, out_i, out_v = [], [], []
+        m = len(T)
+        for s, (pool_pos, pool_val, a_lines) in enumerate(self._pools):
+            n_pool, na = len(pool_pos), len(a_lines)
+            if n_pool == 0 or na == 0:
+                continue
+            add = bool(self._outer_add[s])
+            av = self._v[a_lines][None, :]
+            plo = _preimage(add, av, (T * (1.0 - _EPS))[:, None]).ravel()
+            phi = _preimage(add, av, (T * (1.0 + _EPS))[:, None]).ravel()
+            zl_all = np.searchsorted(pool_val, plo, side="left")
+            zh_all = np.searchsorted(pool_val, phi, side="right")
+            row_a = np.tile(a_lines, m)
+            pending = np.arange(m * na)
+            w = k + 2
+            while pending.size:
+                zl, zh, a = zl_all[pending], zh_all[pending], row_a[pending]
+                zmax = int(np.max(zh - zl))
+                idx = zl[:, None] + (np.arange(2 * w + zmax) - w)[None, :]
+                inside = (idx >= 0) & (idx < n_pool)
+                pos = pool_pos[np.clip(idx, 0, n_pool - 1)]
+                ok = inside & self._triple_ok(a[:, None], pos)
+                left = np.sum(ok & (idx < zl[:, None]), axis=1)
+                right = np.sum(ok & (idx >= zh[:, None]), axis=1)
+                more = ((left < k) & (zl - w > 0)) | ((right < k) & (zl + w + zmax < n_pool))
+                done = ~more
+                r, c = np.nonzero(ok & done[:, None])
+                if len(r):
+                    ids, vals = self._canonical(s, a[r], pos[r, c])
+                    out_r.append(pending[r] // na)
+                    out_i.append(ids)
+                    out_v.append(vals)
+                pending = pending[more]
+                w *= 4
+        if not out_r:
+            z = np.zeros(0, dtype=np.int64)
+            return z, z, np.zeros(0)
+        return np.concatenate(out_r), np.concatenate(out_i), np.concatenate(out_v)
+
+    def nearest_sides(self, targets, k: int = 1) -> tuple[np.ndarray, np.ndarray]:
+        """(below, above): for each target the k nearest networks with value <= target (nearest
+        first, then fewer parts, then id) and the k nearest with value >= target; -1 padding.
+        A network exactly on the target appears on both sides.  EXACT, 3-part ones included."""
+        T = self._targets(targets)
+        k = int(k)
+        below = np.full((len(T), k), -1, dtype=np.int64)
+        above = np.full((len(T), k), -1, dtype=np.int64)
+        if k <= 0 or self._M == 0:
+            return below, above
+        for sl in self._chunks(len(T)):
+            t = T[sl]
+            n = len(t)
+            ib = np.searchsorted(self._val_desc, t, side="right")
+            rb, eb = _ranges_concat(np.maximum(ib - k, 0), ib)
+            eb = self._order_desc[eb]
+            ia = np.searchsorted(self._val, t, side="left")
+            ra, ea = _ranges_concat(ia, np.minimum(ia + k, self._M))
+            vb, va = self._val[eb], self._val[ea]
+            if self._pools:
+                tr, ti, tv = self._triple_candidates(t, k)
+                lo, hi = tv <= t[tr], tv >= t[tr]
+                rb, eb, vb = np.concatenate([rb, tr[lo]]), np.concatenate([eb, ti[lo]]), np.concatenate([vb, tv[lo]])
+                ra, ea, va = np.concatenate([ra, tr[hi]]), np.concatenate([ea, ti[hi]]), np.concatenate([va, tv[hi]])
+            below[sl] = _rank_rows(rb, eb, (-vb, self.nparts(eb)), n, k)
+            above[sl] = _rank_rows(ra, ea, (va, self.nparts(ea)), n, k)
+        return below, above
+
+    def nearest_few(self, targets, k: int) -> np.ndarray:
+        """(len(targets), k) ids of the k nearest networks to each target by |log(value/target)|,
+        then fewer parts, then id; -1 padding when fewer than k exist.  EXACT: the k nearest are
+        among the k nearest at or below and the k nearest at or above."""
+        T = self._targets(targets)
+        below, above = self.nearest_sides(T, k)
+        cand = np.concatenate([below, above], axis=1)
+        rows = np.repeat(np.arange(len(T)), cand.shape[1])
+        ids = cand.ravel()
+        m = ids >= 0
+        rows, ids = rows[m], ids[m]
+        with np.errstate(divide="ignore"):
+            err = np.abs(np.log(self.values(ids) / T[rows]))
+        return _rank_rows(rows, ids, (err, self.nparts(ids)), len(T), int(k))
+
+    def between(self, lo, hi) -> tuple[np.ndarray, np.ndarray]:
+        """Every network with lo[i] <= value <= hi[i], CSR style: (offsets (n+1,), ids), each
+        row sorted by value, then fewer parts, then id.  Exact for 3-part networks as well (they
+        are enumerated slice by slice of the sorted pair arrays, never all at once)."""
+        lo = np.atleast_1d(np.asarray(lo, dtype=float)).ravel()
+        hi = np.atleast_1d(np.asarray(hi, dtype=float)).ravel()
+        lo, hi = np.broadcast_arrays(lo, hi)
+        n = len(lo)
+        rows_all, ids_all, vals_all = [], [], []
+        if self._M:
+            s0 = np.searchsorted(self._val, lo, side="left")
+            e0 = np.searchsorted(self._val, hi, side="right")
+            r, e = _ranges_concat(s0, np.maximum(e0, s0))
+            rows_all.append(r)
+            ids_all.append(e)
+            vals_all.append(self._val[e])
+        cap = self._cap()
+        for sl in self._chunks(n):
+            l, h = lo[sl], hi[sl]
+            for s, (pool_pos, pool_val, a_lines) in enumerate(self._pools):
+                na = len(a_lines)
+                if len(pool_pos) == 0 or na == 0:
+                    continue
+                add, sym = bool(self._outer_add[s]), _SHAPES3[s][3]
+                av = self._v[a_lines][None, :]
+                plo = _preimage(add, av, (l * (1.0 - _EPS))[:, None]).ravel()
+                phi = _preimage(add, av, (h * (1.0 + _EPS))[:, None]).ravel()
+                zl = np.searchsorted(pool_val, plo, side="left")
+                zh = np.searchsorted(pool_val, phi, side="right")
+                r, e = _ranges_concat(zl, np.maximum(zh, zl))
+                a = a_lines[r % na]
+                pos = pool_pos[e]
+                ok = self._triple_ok(a, pos, cap)
+                if sym:
+                    ok &= a <= self._li[pos]  # canonical copy only: a is the lowest line
+                a, pos, t = a[ok], pos[ok], r[ok] // na
+                vals = _join(add, self._v[a], self._val[pos])
+                inr = (vals >= l[t]) & (vals <= h[t])
+                rows_all.append(t[inr] + sl.start)
+                ids_all.append(self._encode(s, a[inr], pos[inr]))
+                vals_all.append(vals[inr])
+        if not rows_all:
+            return np.zeros(n + 1, dtype=np.int64), np.zeros(0, dtype=np.int64)
+        rows, ids, vals = (np.concatenate(x) for x in (rows_all, ids_all, vals_all))
+        order = np.lexsort((ids, self.nparts(ids), vals, rows))
+        rows, ids = rows[order], ids[order]
+        offsets = np.searchsorted(rows, np.arange(n + 1), side="left").astype(np.int64)
+        return offsets, ids.astype(np.int64)
+
+
+def build_index(lines: Sequence[StockLine], max_parts: int = 2, boards: int = 1,
+                allow_polarized_series: bool = False, kind: str | None = None) -> NetworkIndex:
+    """Index every network of 1..max_parts parts of one kind that ``lines`` allow for ``boards``
+    boards.  ``kind`` picks the lines of that kind; when omitted all lines must share one kind
+    (an empty list gives an empty resistor index)."""
+    if kind is None:
+        kinds = {ln.kind for ln in lines}
+        if len(kinds) > 1:
+            raise ValueError("stock lines of several kinds: pass kind='resistor' or kind='capacitor'")
+        kind = kinds.pop() if kinds else "resistor"
+    return NetworkIndex(lines, kind, max_parts=max_parts, boards=boards,
+                        allow_polarized_series=allow_polarized_series)
+
+
+def nearest_networks(lines: Sequence[StockLine], target: float, k: int = 10, max_parts: int = 2,
+                     boards: int = 1, allow_polarized_series: bool = False,
+                     kind: str | None = None) -> list[Network]:
+    """The k networks nearest to ``target`` (by |log ratio|, then fewer parts), best first."""
+    index = build_index(lines, max_parts=max_parts, boards=boards,
+                        allow_polarized_series=allow_polarized_series, kind=kind)
+    return index.networks(index.nearest_few(np.array([float(target)]), k)[0])
