@@ -1,0 +1,482 @@
+"""Stock use cases: import a CSV (validate, plan, apply), list, export, adjust, set, add a kit.
+
+Each use case that touches the database is one function and one transaction. Importing follows
+"plan, then apply": ``validate_rows`` turns the file's text cells into part specs (every problem
+of the whole file collected), ``plan_import`` is a pure function of those specs and the current
+stock, and ``apply_plan`` writes the plan through the ledger. ``--dry-run`` stops after the plan.
+
+Identity of a stock line (what merges): kind, value, tolerance, location, package, rating and
+dielectric, compared exactly after rounding to 12 significant digits (so "4k7" and "4.7k" are the
+same part). The note is not part of the identity; an import never rewrites the note of an
+existing line.
+"""
+
+from __future__ import annotations
+
+import io
+import re
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Iterable, Optional, Sequence
+
+from selector.core.errors import InvalidStockFile, UnknownStockLine, UnparseableValue
+from selector.core.parts import default_tolerance, is_polarized, normalize_dielectric
+from selector.core.types import StockLine
+
+_KIND_WORDS = {"resistor": "resistor", "r": "resistor", "capacitor": "capacitor", "c": "capacitor"}
+_QTY_RE = re.compile(r"\+?\d+(?:\.0*)?")
+MAX_TEXT = 64  # location and package columns (models.py: String(64))
+
+
+def clean(x: float) -> float:
+    """Round to 12 significant digits: removes float noise from notation arithmetic (4.7 * 1e3)
+    so that equal parts compare equal; no real part is specified that finely."""
+    return float(f"{x:.12g}")
+
+
+def parse_kind(text: str) -> str:
+    """'resistor'/'R' or 'capacitor'/'C' in any case → the canonical kind."""
+    try:
+        return _KIND_WORDS[text.strip().lower()]
+    except KeyError:
+        raise UnparseableValue(f'"{text.strip()}": expected resistor or capacitor (or R / C)') from None
+
+
+def parse_quantity(text: str) -> int:
+    """A whole number of parts, 0 or more ("3", "+3", "3.0")."""
+    t = text.strip()
+    if not _QTY_RE.fullmatch(t):
+        raise UnparseableValue(f'"{t}": expected a whole number of parts, 0 or more')
+    return int(t.split(".")[0])
+
+
+# --------------------------------------------------------------------------- specs and plans
+
+@dataclass(frozen=True)
+class PartSpec:
+    """A validated part description (everything but the quantity), SI values."""
+
+    kind: str
+    value: float
+    tol_minus: float
+    tol_plus: float
+    location: str = ""
+    package: str = ""
+    rating: Optional[float] = None
+    dielectric: str = ""
+    note: str = ""
+
+    @property
+    def polarized(self) -> bool:
+        return is_polarized(self.dielectric)
+
+    @property
+    def key(self) -> tuple:
+        return (self.kind, self.value, self.tol_minus, self.tol_plus, self.location, self.package,
+                self.rating, self.dielectric)
+
+
+def line_key(line: StockLine) -> tuple:
+    """The identity of an existing stock line, comparable with PartSpec.key."""
+    return (line.kind, clean(line.value), clean(line.tol_minus), clean(line.tol_plus), line.location,
+            line.package, None if line.rating is None else clean(line.rating), line.dielectric)
+
+
+@dataclass(frozen=True)
+class ImportRow:
+    """One validated file row: its spreadsheet row number, the part and the quantity."""
+
+    row: int
+    spec: PartSpec
+    quantity: int
+
+
+@dataclass(frozen=True)
+class NewLine:
+    """A stock line the plan creates, with the file rows that make it up."""
+
+    spec: PartSpec
+    quantity: int
+    rows: tuple[int, ...]
+
+
+@dataclass(frozen=True)
+class LineChange:
+    """An existing stock line whose quantity the plan changes."""
+
+    line: StockLine
+    new_quantity: int
+    rows: tuple[int, ...]
+
+    @property
+    def delta(self) -> int:
+        return self.new_quantity - self.line.quantity
+
+
+@dataclass(frozen=True)
+class ImportPlan:
+    """What an import (or a kit) will do. ``unchanged`` are matched lines whose quantity stays."""
+
+    replace: bool
+    new_lines: tuple[NewLine, ...] = ()
+    changes: tuple[LineChange, ...] = ()
+    unchanged: tuple[StockLine, ...] = ()
+    source: str = ""
+
+    @property
+    def is_empty(self) -> bool:
+        return not self.changes and not self.new_lines
+
+    @property
+    def parts_added(self) -> int:
+        return sum(n.quantity for n in self.new_lines) + sum(c.delta for c in self.changes if c.delta > 0)
+
+    @property
+    def parts_removed(self) -> int:
+        return -sum(c.delta for c in self.changes if c.delta < 0)
+
+
+def validate_rows(raw_rows: Iterable) -> list[ImportRow]:
+    """Turn csvio.RawRow text cells into ImportRows. Every problem of every row is collected; any
+    problem raises InvalidStockFile (nothing is half-read)."""
+    from selector.core.notation import FARAD, OHM, parse_rating, parse_tolerance, parse_value
+
+    problems: list[str] = []
+    out: list[ImportRow] = []
+    for raw in raw_rows:
+        c = raw.cells
+        errs: list[str] = []
+
+        def bad(column: str, message: str) -> None:
+            errs.append(f"row {raw.row}, column {column}: {message}")
+
+        def need(column: str) -> bool:
+            if not c[column]:
+                bad(column, f"empty: the {column} is required")
+                return False
+            return True
+
+        kind = value = None
+        if need("kind"):
+            try:
+                kind = parse_kind(c["kind"])
+            except UnparseableValue as e:
+                bad("kind", str(e))
+        dielectric = ""
+        try:
+            dielectric = normalize_dielectric(c["dielectric"])
+        except UnparseableValue as e:
+            bad("dielectric", str(e))
+        if kind == "resistor" and dielectric:
+            bad("dielectric", f'"{c["dielectric"]}": a resistor has no dielectric; leave it empty')
+        if kind and need("value"):
+            try:
+                value = parse_value(c["value"], kind, OHM if kind == "resistor" else FARAD)
+                if not value > 0:
+                    bad("value", f'"{c["value"]}": expected a value above zero')
+                    value = None
+            except UnparseableValue as e:
+                bad("value", str(e))
+        tol: Optional[tuple[float, float]] = None
+        if kind:
+            if c["tolerance"]:
+                if value is not None:
+                    try:
+                        tol = parse_tolerance(c["tolerance"], kind, value)
+                        if not (0 <= tol[0] < 1 and tol[1] >= 0):
+                            bad("tolerance", f'"{c["tolerance"]}": expected less than 100 % below nominal')
+                            tol = None
+                    except UnparseableValue as e:
+                        bad("tolerance", str(e))
+            else:
+                tol = default_tolerance(kind, dielectric)
+        rating = None
+        if kind and c["rating"]:
+            try:
+                rating = parse_rating(c["rating"], kind)
+                if not rating > 0:
+                    bad("rating", f'"{c["rating"]}": expected a rating above zero')
+            except UnparseableValue as e:
+                bad("rating", str(e))
+        quantity = None
+        if need("quantity"):
+            try:
+                quantity = parse_quantity(c["quantity"])
+            except UnparseableValue as e:
+                bad("quantity", str(e))
+        for column in ("location", "package"):
+            if len(c[column]) > MAX_TEXT:
+                bad(column, f'"{c[column][:20]}…": expected at most {MAX_TEXT} characters')
+        if errs:
+            problems.extend(errs)
+            continue
+        assert kind and value is not None and tol is not None and quantity is not None
+        spec = PartSpec(kind, clean(value), clean(tol[0]), clean(tol[1]), c["location"], c["package"],
+                        None if rating is None else clean(rating), dielectric, c["note"])
+        out.append(ImportRow(raw.row, spec, quantity))
+    if problems:
+        raise InvalidStockFile(problems)
+    return out
+
+
+def plan_import(rows: Sequence[ImportRow], current: Sequence[StockLine], *, replace: bool = False,
+                source: str = "") -> ImportPlan:
+    """Pure: what importing ``rows`` into ``current`` does. Rows for the same part merge (their
+    quantities add). Without ``replace`` the file's quantity is added to a matching line; with
+    ``replace`` the matching line's quantity is SET to the file's; lines the file does not mention
+    are left as they are in both modes. A part with no matching line becomes a new line."""
+    totals: dict[tuple, list] = {}
+    for r in rows:
+        entry = totals.setdefault(r.spec.key, [r.spec, 0, []])
+        entry[1] += r.quantity
+        entry[2].append(r.row)
+    existing: dict[tuple, StockLine] = {}
+    for line in sorted(current, key=lambda ln: ln.id):
+        existing.setdefault(line_key(line), line)
+    new_lines, changes, unchanged = [], [], []
+    for key, (spec, qty, rownums) in totals.items():
+        line = existing.get(key)
+        if line is None:
+            new_lines.append(NewLine(spec, qty, tuple(rownums)))
+            continue
+        target = qty if replace else line.quantity + qty
+        if target == line.quantity:
+            unchanged.append(line)
+        else:
+            changes.append(LineChange(line, target, tuple(rownums)))
+    changes.sort(key=lambda ch: ch.line.id)
+    unchanged.sort(key=lambda ln: ln.id)
+    return ImportPlan(replace, tuple(new_lines), tuple(changes), tuple(unchanged), source)
+
+
+def apply_plan(session, plan: ImportPlan, reason: str, reference: str) -> list[int]:
+    """Write a plan: new lines are inserted at 0 and filled by a ledger movement; changed lines get
+    one movement each. Returns the ids of the new lines, in plan order."""
+    from selector.store.db import apply_movement
+    from selector.store.models import StockLineRow
+
+    new_ids = []
+    for n in plan.new_lines:
+        s = n.spec
+        row = StockLineRow(kind=s.kind, value=s.value, tol_minus=s.tol_minus, tol_plus=s.tol_plus, quantity=0,
+                           location=s.location, package=s.package, rating=s.rating, dielectric=s.dielectric,
+                           polarized=s.polarized, note=s.note)
+        session.add(row)
+        session.flush()
+        new_ids.append(row.id)
+        if n.quantity:
+            apply_movement(session, row.id, n.quantity, reason, reference)
+    for ch in plan.changes:
+        apply_movement(session, ch.line.id, ch.delta, reason, reference)
+    return new_ids
+
+
+def import_stock(engine, path: str | Path, *, replace: bool = False, dry_run: bool = False) -> ImportPlan:
+    """Import a stock CSV in one transaction (reason "import", reference = the file name). The file
+    is read and validated before the database is touched; with ``dry_run`` nothing is written."""
+    from selector.store.csvio import read_stock_file
+    from selector.store.db import load_stock, run_in_transaction
+
+    rows = validate_rows(read_stock_file(path))
+    name = Path(path).name
+
+    def unit(session) -> ImportPlan:
+        plan = plan_import(rows, load_stock(session), replace=replace, source=name)
+        if not dry_run:
+            apply_plan(session, plan, "import", name)
+        return plan
+
+    return run_in_transaction(engine, unit)
+
+
+# --------------------------------------------------------------------------- kits
+
+def kit_rows(series: str, kind: str, low: float, high: float, quantity: int, location: str, *,
+             tolerance: Optional[tuple[float, float]] = None, dielectric: str = "",
+             rating: Optional[float] = None, package: str = "", note: str = "") -> list[ImportRow]:
+    """One row per member of an IEC 60063 series within [low, high]. Without a tolerance a
+    resistor takes the series' own tolerance (E24 ±5 %, E96 ±1 %, ...), a capacitor the default
+    of its dielectric (core/parts.py)."""
+    from selector.core.eseries import SERIES_TOLERANCE, series_key, series_values
+
+    kind = parse_kind(kind)
+    dielectric = normalize_dielectric(dielectric)
+    if kind == "resistor" and dielectric:
+        raise UnparseableValue(f'"{dielectric}": a resistor has no dielectric')
+    if tolerance is None:
+        key = series_key(series)
+        if kind == "resistor" and key in SERIES_TOLERANCE:
+            tolerance = (SERIES_TOLERANCE[key], SERIES_TOLERANCE[key])
+        else:
+            tolerance = default_tolerance(kind, dielectric)
+    values = series_values(series, low, high)
+    if not values:
+        raise UnparseableValue(f"no {series.upper()} value lies between {low:g} and {high:g}")
+    return [
+        ImportRow(0, PartSpec(kind, clean(v), clean(tolerance[0]), clean(tolerance[1]), location, package,
+                              None if rating is None else clean(rating), dielectric, note), quantity)
+        for v in values
+    ]
+
+
+def add_kit(engine, rows: Sequence[ImportRow], reference: str, *, dry_run: bool = False) -> ImportPlan:
+    """Add kit rows to stock (merging with identical lines), ledgered with reason "kit"."""
+    from selector.store.db import load_stock, run_in_transaction
+
+    def unit(session) -> ImportPlan:
+        plan = plan_import(rows, load_stock(session), replace=False, source=reference)
+        if not dry_run:
+            apply_plan(session, plan, "kit", reference)
+        return plan
+
+    return run_in_transaction(engine, unit)
+
+
+# --------------------------------------------------------------------------- list / adjust / set
+
+@dataclass(frozen=True)
+class StockFilter:
+    """What ``stock list`` shows: None means no restriction."""
+
+    kind: Optional[str] = None
+    location: Optional[str] = None
+    min_value: Optional[float] = None
+    max_value: Optional[float] = None
+
+
+def filter_lines(lines: Iterable[StockLine], f: StockFilter) -> list[StockLine]:
+    """Pure: the lines passing the filter (location compared without regard to case)."""
+    out = []
+    for ln in lines:
+        if f.kind and ln.kind != f.kind:
+            continue
+        if f.location is not None and ln.location.casefold() != f.location.strip().casefold():
+            continue
+        if f.min_value is not None and ln.value < f.min_value * (1 - 1e-12):
+            continue
+        if f.max_value is not None and ln.value > f.max_value * (1 + 1e-12):
+            continue
+        out.append(ln)
+    return out
+
+
+def list_stock(engine, f: StockFilter = StockFilter()) -> list[StockLine]:
+    """The stock lines passing ``f``, ordered by id."""
+    from selector.store.db import load_stock, run_in_transaction
+
+    return run_in_transaction(engine, lambda s: filter_lines(load_stock(s, f.kind), f))
+
+
+def stock_json(lines: Iterable[StockLine]) -> list[dict]:
+    """The ``stock list --json`` records (SI values, tolerances as positive fractions)."""
+    return [
+        {"line_id": ln.id, "kind": ln.kind, "value": ln.value, "tol_minus": ln.tol_minus, "tol_plus": ln.tol_plus,
+         "quantity": ln.quantity, "location": ln.location, "package": ln.package, "rating": ln.rating,
+         "dielectric": ln.dielectric, "polarized": ln.polarized, "note": ln.note}
+        for ln in lines
+    ]
+
+
+def _get_line(session, line_id: int) -> StockLine:
+    from selector.store.db import to_stock_line
+    from selector.store.models import StockLineRow
+
+    row = session.get(StockLineRow, line_id)
+    if row is None:
+        raise UnknownStockLine(f"there is no stock line {line_id} (see `selector stock list`)")
+    session.refresh(row)
+    return to_stock_line(row)
+
+
+def adjust_line(engine, line_id: int, delta: int, reference: str = "") -> tuple[StockLine, StockLine]:
+    """Change a line's quantity by ``delta`` (reason "adjust"); returns (before, after)."""
+    from selector.store.db import apply_movement, run_in_transaction
+
+    def unit(session):
+        before = _get_line(session, line_id)
+        apply_movement(session, line_id, delta, "adjust", reference)
+        return before, _get_line(session, line_id)
+
+    return run_in_transaction(engine, unit)
+
+
+def set_line(engine, line_id: int, quantity: int, reference: str = "") -> tuple[StockLine, StockLine]:
+    """Set a line's quantity (reason "set", the difference goes into the ledger)."""
+    from selector.store.db import apply_movement, run_in_transaction
+
+    if quantity < 0:
+        raise UnparseableValue(f"{quantity}: expected a quantity of 0 or more")
+
+    def unit(session):
+        before = _get_line(session, line_id)
+        apply_movement(session, line_id, quantity - before.quantity, "set", reference)
+        return before, _get_line(session, line_id)
+
+    return run_in_transaction(engine, unit)
+
+
+# --------------------------------------------------------------------------- export
+
+def _minimal_exp(x: float) -> str:
+    """The shortest e-notation text that reads back as exactly ``x`` ("4.7e-05")."""
+    for p in range(0, 17):
+        t = f"{x:.{p}e}"
+        if float(t) == x:
+            return t
+    return repr(x)
+
+
+def _first_exact(candidates: Iterable, parse, target) -> str:
+    for make in candidates:
+        try:
+            text = make()
+            if text and parse(text) == target:
+                return text
+        except (UnparseableValue, ValueError, ImportError, ArithmeticError):
+            continue
+    raise AssertionError(f"no lossless text for {target!r}")  # a notation bug; caught by tests
+
+
+def export_cells(line: StockLine) -> dict[str, str]:
+    """The CSV cells of a line, each written so that importing it gives back exactly this line:
+    the readable notation when it reads back exactly, else a full-precision number."""
+    from selector.core import notation as n
+
+    unit = n.OHM if line.kind == "resistor" else n.FARAD
+    value = _first_exact(
+        (lambda: n.format_value(line.value, unit), lambda: repr(line.value) if line.kind == "resistor" else "",
+         lambda: _minimal_exp(line.value)),
+        lambda t: clean(n.parse_value(t, line.kind, unit)), line.value)
+    tol = (line.tol_minus, line.tol_plus)
+    pct = lambda x: repr(clean(x * 100))  # noqa: E731
+    tolerance = _first_exact(
+        (lambda: n.format_tolerance(*tol), lambda: f"±{pct(tol[0])}%" if tol[0] == tol[1] else "",
+         lambda: f"-{pct(tol[0])}/+{pct(tol[1])}%"),
+        lambda t: tuple(clean(x) for x in n.parse_tolerance(t, line.kind, line.value)), tol)
+    rating = ""
+    if line.rating is not None:
+        runit = n.WATT if line.kind == "resistor" else n.VOLT
+        rating = _first_exact(
+            (lambda: n.format_value(line.rating, runit), lambda: repr(line.rating)),
+            lambda t: clean(n.parse_rating(t, line.kind)), line.rating)
+    return {"kind": line.kind, "value": value, "tolerance": tolerance, "quantity": str(line.quantity),
+            "location": line.location, "package": line.package, "rating": rating,
+            "dielectric": line.dielectric, "note": line.note}
+
+
+def export_stock(engine, path: str | Path) -> int:
+    """Write every stock line to a CSV that re-imports to the identical stock ("-": stdout text is
+    returned by export_text instead). Returns the number of lines written."""
+    from selector.store.csvio import write_stock_file
+
+    lines = list_stock(engine)
+    return write_stock_file(path, [export_cells(ln) for ln in lines])
+
+
+def export_text(engine) -> str:
+    """The export CSV as text (for ``stock export -``)."""
+    from selector.store.csvio import write_stock_csv
+
+    buf = io.StringIO()
+    write_stock_csv(buf, [export_cells(ln) for ln in list_stock(engine)])
+    return buf.getvalue()
