@@ -63,7 +63,8 @@ def standard_times(ra, rb, c) -> tuple[np.ndarray, np.ndarray]:
     ra, rb = _f(ra), _f(rb)
     t_high = crossing_time(ra + rb, c, _V_FULL, _V_LOW, _V_UP)
     t_low = crossing_time(rb, c, 0.0, _V_UP, _V_LOW)
-    return t_high, t_low
+    t_high, t_low = np.broadcast_arrays(t_high, t_low)
+    return np.array(t_high, dtype=float), np.array(t_low, dtype=float)
 
 
 def standard_ideal(t_high, t_low, c) -> tuple[np.ndarray, np.ndarray]:
