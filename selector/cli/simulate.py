@@ -1,9 +1,96 @@
-"""Commands of the 'simulate' group (placeholder: filled in by its issue)."""
+"""Top-level commands ``netlist`` and ``simulate``: a saved option as a SPICE netlist, and the
+same netlist run in ngspice beside the search's prediction. Thin: parse, call one service, render.
+Heavy imports happen inside the commands so ``selector --help`` stays quick."""
 
 from __future__ import annotations
 
+import json
+from pathlib import Path
+from typing import Optional
+
 import typer
+
+from selector.cli._common import db_arg, fail, handles_errors
+
+
+def _engine(ctx: typer.Context):
+    from selector.store.db import open_engine, resolve_url
+
+    return open_engine(resolve_url(db_arg(ctx)))
+
+
+_OPTION_HELP = "Option number of the search (1 = the first listed)."
+_SEARCH_HELP = "Search id (default: the latest search)."
+_CYCLES_HELP = "Astable cycles to measure after the first one (their mean is shown)."
+_RD_HELP = ("On-resistance of the 555's discharge switch in ohms (default 1, near-ideal like the "
+            "formulas; a bipolar part's data sheet gives about 12).")
+
+
+@handles_errors
+def netlist_command(
+    ctx: typer.Context,
+    option: int = typer.Argument(..., min=1, help=_OPTION_HELP),
+    search: Optional[int] = typer.Option(None, "--search", min=1, help=_SEARCH_HELP),
+    output: Optional[Path] = typer.Option(None, "--output", "-o", dir_okay=False,
+                                          help="Write the netlist to this file instead of the screen."),
+    cycles: int = typer.Option(5, "--cycles", min=1, max=200, help=_CYCLES_HELP),
+    discharge_ohms: Optional[float] = typer.Option(None, "--discharge-ohms", min=0.001, help=_RD_HELP),
+) -> None:
+    """Write a SPICE netlist of one saved option (run it with `ngspice -b FILE`).
+
+    Every physical part is its own element, wired as its network is built; the 555 is selector's
+    own behavioural model; .meas lines measure what the search predicted.
+    """
+    from selector.services.simulate import option_netlist
+
+    engine = _engine(ctx)
+    try:
+        text = option_netlist(engine, option, search, cycles=cycles, discharge_ohms=discharge_ohms)
+    finally:
+        engine.dispose()
+    if output is None:
+        typer.echo(text, nl=False)
+        return
+    try:
+        output.write_text(text, encoding="ascii", errors="replace")
+    except OSError as err:
+        fail(f"cannot write {output}: {err.strerror or err}")
+    typer.echo(f"Wrote {output}", err=True)
+
+
+@handles_errors
+def simulate_command(
+    ctx: typer.Context,
+    option: int = typer.Argument(..., min=1, help=_OPTION_HELP),
+    search: Optional[int] = typer.Option(None, "--search", min=1, help=_SEARCH_HELP),
+    cycles: int = typer.Option(5, "--cycles", min=1, max=200, help=_CYCLES_HELP),
+    corners: bool = typer.Option(False, "--corners", help="Also simulate the worst-case tolerance corners."),
+    as_json: bool = typer.Option(False, "--json", help="Print JSON: predicted, simulated, difference (and corners)."),
+    discharge_ohms: Optional[float] = typer.Option(None, "--discharge-ohms", min=0.001, help=_RD_HELP),
+) -> None:
+    """Run one saved option in ngspice and show the measured timing beside the prediction.
+
+    Needs ngspice on PATH. Differences are signed fractions, (ngspice - predicted) / predicted.
+    """
+    from selector.services.simulate import simulate_option
+
+    engine = _engine(ctx)
+    try:
+        report = simulate_option(engine, option, search, cycles=cycles, corners=corners,
+                                 discharge_ohms=discharge_ohms)
+    finally:
+        engine.dispose()
+    if as_json:
+        typer.echo(json.dumps(report.to_json(), indent=2))
+        return
+    from rich.console import Console
+
+    from selector.render.simulate import report_view
+
+    Console(highlight=False).print(report_view(report))
 
 
 def register(app: typer.Typer) -> None:
-    """Attach this module's commands to the root app."""
+    """Attach ``netlist`` and ``simulate`` to the root app as top-level commands."""
+    app.command("netlist")(netlist_command)
+    app.command("simulate")(simulate_command)

@@ -1,0 +1,261 @@
+"""Use cases ``netlist`` and ``simulate``: read a saved option, write its SPICE netlist, run it
+in ngspice batch mode (a subprocess) and compare the measurements with the search's prediction.
+
+The database is only read (one short read transaction); ngspice runs after it has closed. The
+netlist and measurement logic is pure and lives in :mod:`selector.core.spice`.
+"""
+
+from __future__ import annotations
+
+import json
+import math
+import os
+import shutil
+import subprocess
+import tempfile
+import time
+from dataclasses import dataclass, field, replace
+from typing import Any, Mapping, Optional
+
+from sqlalchemy.engine import Engine
+
+from selector.core import spice
+from selector.core.errors import SimulationFailed, SimulatorMissing, UnknownSearch
+from selector.store.db import transaction
+from selector.store.models import StockLineRow
+
+INSTALL_HINT = "install it (Debian/Ubuntu: apt-get install ngspice) or put it on PATH"
+NGSPICE_TIMEOUT_S = 120.0
+SIMULATED_MODES = ("astable", "monostable", "rc")
+
+
+@dataclass(frozen=True)
+class CornerResult:
+    """One worst-case tolerance corner: the formula's and ngspice's figures for it."""
+
+    name: str
+    description: str
+    predicted: dict[str, float]
+    simulated: dict[str, float]
+    difference: dict[str, float]
+
+
+@dataclass(frozen=True)
+class SimulationReport:
+    """What ``simulate`` shows: prediction, simulation and their signed relative difference."""
+
+    search_id: int
+    rank: int
+    mode: str
+    connection: str
+    chip: str
+    vcc: float
+    predicted: dict[str, float]
+    simulated: dict[str, float]
+    difference: dict[str, float]
+    cycles: int
+    discharge_ohms: float
+    diode_vf: Optional[float]
+    netlist: str
+    elapsed_s: float
+    corners: tuple[CornerResult, ...] = ()
+    warnings: tuple[str, ...] = field(default_factory=tuple)
+
+    def to_json(self) -> dict[str, Any]:
+        out: dict[str, Any] = {
+            "search": self.search_id, "option": self.rank, "mode": self.mode,
+            "connection": self.connection, "chip": self.chip, "vcc": self.vcc,
+            "predicted": self.predicted, "simulated": self.simulated, "difference": self.difference,
+            "difference_is": "(simulated - predicted) / predicted, a signed fraction",
+            "cycles": self.cycles,
+            "model": {"discharge_ohms": self.discharge_ohms, "diode_vf": self.diode_vf},
+        }
+        if self.corners:
+            out["corners"] = [{"name": c.name, "description": c.description, "predicted": c.predicted,
+                               "simulated": c.simulated, "difference": c.difference} for c in self.corners]
+        return out
+
+
+# ----------------------------------------------------------------------------- option → circuit
+def _float(x: Any, what: str) -> float:
+    try:
+        v = float(x)
+    except (TypeError, ValueError):
+        raise UnknownSearch(f"the saved option has an unreadable {what} ({x!r}); run the search again") from None
+    if not math.isfinite(v):
+        raise UnknownSearch(f"the saved option has an unreadable {what} ({x!r}); run the search again")
+    return v
+
+
+def _network(label: str, raw: Mapping[str, Any], tolerances: Mapping[int, tuple[float, float]]) -> spice.Network:
+    parts: list[spice.Part] = []
+    for p in raw.get("parts") or []:
+        line_id = p.get("line_id")
+        tol = tolerances.get(int(line_id)) if line_id is not None else None
+        count = int(p.get("count") or 1)
+        for _ in range(count):
+            parts.append(spice.Part(value=_float(p.get("value"), f"{label} part value"),
+                                    line_id=None if line_id is None else int(line_id),
+                                    location=str(p.get("location") or ""),
+                                    tol_minus=tol[0] if tol else None, tol_plus=tol[1] if tol else None))
+    if not parts:
+        raise UnknownSearch(f"the saved option's {label} network lists no parts; run the search again")
+    shape = str(raw.get("shape") or ("single" if len(parts) == 1 else ""))
+    value = raw.get("value")
+    value = None if value is None else _float(value, f"{label} value")
+    kind = "C" if label.startswith("C") else "R"
+    ordered = spice.physical_order(shape, kind, parts, value)
+    return spice.Network(label=label, shape=shape, parts=ordered, value=value)
+
+
+def circuit_from_saved(mode: str, connection: str, params: Mapping[str, Any], data: Mapping[str, Any],
+                       tolerances: Mapping[int, tuple[float, float]], *, discharge_ohms: Optional[float] = None,
+                       title: str = "") -> spice.Circuit:
+    """A :class:`spice.Circuit` from a saved search's mode, settings and option record."""
+    from selector.core import chips, timing
+
+    if mode not in SIMULATED_MODES:
+        raise SimulationFailed(f"a {mode} search has no circuit to simulate; expected one of: "
+                               + ", ".join(SIMULATED_MODES))
+    if mode == "rc":
+        connection = "rc"
+    elif mode == "monostable":
+        connection = "monostable"
+    fam_key = str(params.get("chip") or "bipolar")
+    vcc = params.get("vcc")
+    vcc = _float(vcc, "supply voltage") if vcc is not None else (1.0 if mode == "rc" else None)
+    if vcc is None or vcc <= 0:
+        raise UnknownSearch("the saved search has no supply voltage; run the search again")
+    fam = chips.family(fam_key)
+    chip = spice.chip_model(fam.key, vcc, fam.voh(vcc), fam.vol(vcc), discharge_ohms)
+    vf = params.get("diode_vf")
+    vf = timing.DIODE_VF_DEFAULT if vf is None else _float(vf, "diode forward drop")
+    nets = {label: _network(label, raw, tolerances) for label, raw in (data.get("networks") or {}).items()}
+    predicted = {k: float(v) for k, v in (data.get("predicted") or {}).items() if isinstance(v, (int, float))}
+    return spice.Circuit(connection=connection, networks=nets, chip=chip, diode_vf=vf,
+                         expected=predicted, title=title)
+
+
+def predict(c: spice.Circuit) -> dict[str, float]:
+    """The formulas' figures (``selector.core.timing``) for a circuit, e.g. a tolerance corner."""
+    from selector.core import timing
+
+    def val(label: str) -> float:
+        n = c.networks[label]
+        kind = "C" if label.startswith("C") else "R"
+        return spice.tree_value(spice.shape_tree(n.shape, len(n.parts)), [p.value for p in n.parts], kind)
+
+    cap = val("C")
+    if c.connection == "rc":
+        r = val("R")
+        return {"tau_s": float(timing.rc_tau(r, cap)), "corner_hz": float(timing.rc_corner(r, cap))}
+    if c.connection == "monostable":
+        return {"width_s": float(timing.monostable_width(val("R"), cap))}
+    if c.connection == "standard":
+        th, tl = timing.standard_times(val("RA"), val("RB"), cap)
+    elif c.connection == "diode":
+        th, tl = timing.diode_times(val("RA"), val("RB"), cap, c.chip.vcc, c.diode_vf)
+    else:
+        th, tl = timing.output_fed_times(val("R"), cap, c.chip.voh, c.chip.vol, c.chip.vcc)
+    f, d = timing.frequency_duty(th, tl)
+    return {"frequency_hz": float(f), "duty": float(d), "t_high_s": float(th), "t_low_s": float(tl)}
+
+
+def _load(engine: Engine, rank: int, search_id: Optional[int], discharge_ohms: Optional[float]):
+    from selector.services.bom import load_saved_option
+    from selector.store.models import SearchRow
+
+    with transaction(engine) as session:
+        saved = load_saved_option(session, rank, search_id)
+        search = session.get(SearchRow, saved.search_id)
+        params = json.loads(search.params_json or "{}")
+        ids = set()
+        for raw in (saved.data.get("networks") or {}).values():
+            for p in raw.get("parts") or []:
+                if p.get("line_id") is not None:
+                    ids.add(int(p["line_id"]))
+        tolerances = {}
+        if ids:
+            for row in session.query(StockLineRow).filter(StockLineRow.id.in_(ids)):
+                tolerances[row.id] = (float(row.tol_minus), float(row.tol_plus))
+        mode = search.mode
+    title = f"selector: search {saved.search_id}, option {saved.rank} ({mode}, {saved.spec.connection})"
+    circuit = circuit_from_saved(mode, saved.spec.connection, params, saved.data, tolerances,
+                                 discharge_ohms=discharge_ohms, title=title)
+    return saved, mode, circuit
+
+
+def option_netlist(engine: Engine, rank: int, search_id: Optional[int] = None, *, cycles: int = 5,
+                   discharge_ohms: Optional[float] = None) -> str:
+    """The SPICE netlist text of option ``rank`` of a saved search (default: the latest)."""
+    _saved, _mode, circuit = _load(engine, rank, search_id, discharge_ohms)
+    return spice.build_netlist(circuit, cycles).text
+
+
+# ----------------------------------------------------------------------------- running ngspice
+def find_ngspice(ngspice: Optional[str] = None) -> str:
+    """Path of the ngspice program, or :class:`SimulatorMissing` with the install hint."""
+    exe = shutil.which(ngspice or "ngspice")
+    if exe is None:
+        raise SimulatorMissing(f"ngspice was not found on PATH; {INSTALL_HINT}")
+    return exe
+
+
+def run_ngspice(text: str, exe: str, timeout: float = NGSPICE_TIMEOUT_S) -> str:
+    """Run one netlist in batch mode in a scratch directory; return everything it printed."""
+    with tempfile.TemporaryDirectory(prefix="selector-spice-") as tmp:
+        path = os.path.join(tmp, "option.cir")
+        with open(path, "w", encoding="ascii", errors="replace") as fh:
+            fh.write(text)
+        try:
+            proc = subprocess.run([exe, "-b", path], capture_output=True, text=True, cwd=tmp,
+                                  timeout=timeout, stdin=subprocess.DEVNULL)
+        except subprocess.TimeoutExpired:
+            raise SimulationFailed(f"ngspice did not finish within {timeout:g} s") from None
+        except OSError as err:
+            raise SimulatorMissing(f"ngspice could not be started ({err.strerror or err}); {INSTALL_HINT}") from None
+    out = (proc.stdout or "") + "\n" + (proc.stderr or "")
+    if proc.returncode != 0:
+        first = next((ln.strip() for ln in out.splitlines() if "error" in ln.lower()), "")
+        raise SimulationFailed(f"ngspice stopped with exit code {proc.returncode}"
+                               + (f": {first}" if first else ""))
+    return out
+
+
+def simulate_circuit(c: spice.Circuit, exe: str, cycles: int = 5) -> dict[str, float]:
+    """Netlist → ngspice → measurements for one circuit (raises SimulationFailed)."""
+    nl = spice.build_netlist(c, cycles)
+    found, _failed = spice.parse_measurements(run_ngspice(nl.text, exe))
+    return spice.reduce_measurements(c, found, nl.cycles)
+
+
+def simulate_option(engine: Engine, rank: int, search_id: Optional[int] = None, *, cycles: int = 5,
+                    corners: bool = False, discharge_ohms: Optional[float] = None,
+                    ngspice: Optional[str] = None) -> SimulationReport:
+    """Simulate option ``rank`` (and, with ``corners``, its worst-case tolerance corners)."""
+    exe = find_ngspice(ngspice)
+    t0 = time.perf_counter()
+    saved, mode, circuit = _load(engine, rank, search_id, discharge_ohms)
+    netlist = spice.build_netlist(circuit, cycles)
+    found, _ = spice.parse_measurements(run_ngspice(netlist.text, exe))
+    simulated = spice.reduce_measurements(circuit, found, netlist.cycles)
+    predicted = {k: v for k, v in circuit.expected.items() if k in simulated}
+    results = []
+    if corners:
+        for name, desc, cc in spice.corner_circuits(circuit):
+            pred = predict(cc)
+            cc = replace(cc, expected=pred)
+            sim = simulate_circuit(cc, exe, cycles)
+            results.append(CornerResult(name, desc, pred, sim, spice.difference(pred, sim)))
+    warnings = []
+    if circuit.connection != "rc" and circuit.expected.get("frequency_hz", 0) > 100e3:
+        warnings.append("above about 100 kHz a real 555 runs slower than both figures: the model has no "
+                        "propagation delay [S5]")
+    return SimulationReport(
+        search_id=saved.search_id, rank=saved.rank, mode=mode, connection=circuit.connection,
+        chip=circuit.chip.family, vcc=circuit.chip.vcc, predicted=predicted, simulated=simulated,
+        difference=spice.difference(predicted, simulated), cycles=netlist.cycles,
+        discharge_ohms=circuit.chip.discharge_ohms,
+        diode_vf=circuit.diode_vf if circuit.connection == "diode" else None,
+        netlist=netlist.text, elapsed_s=time.perf_counter() - t0, corners=tuple(results),
+        warnings=tuple(warnings))
