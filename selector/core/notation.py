@@ -203,6 +203,8 @@ def _capacitor_bare(reading: _Reading, raw: str) -> Decimal:
         # Two significant digits then a multiplier digit, in pF (facts.md 8.3 [S11]); 8 and 9
         # mean x0.01 and x0.1 (the trade's rule, from memory); 7 is used on tantalum parts
         # (107 = 100 µF, from memory).
+        if raw[0] == "0":  # leading-zero forms read d.d pF: 010 = 1.0 pF, 047 = 4.7 pF [S11]
+            return Decimal(f"{raw[1]}.{raw[2]}") * Decimal("1e-12")
         digits, multiplier = int(raw[:2]), int(raw[2])
         scale = {8: Decimal("0.01"), 9: Decimal("0.1")}.get(multiplier, Decimal(10) ** multiplier)
         return Decimal(digits) * scale * Decimal("1e-12")
