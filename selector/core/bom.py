@@ -362,11 +362,12 @@ def _extras(
     )]
     if spec.connection == "diode":
         schottky = spec.diode_vf is not None and spec.diode_vf < 0.45
-        what = "small-signal Schottky diode" if schottky else "small-signal silicon diode (1N4148 class)"
-        vf = f", Vf about {spec.diode_vf:g} V as searched" if spec.diode_vf is not None else ""
+        what = "small-signal Schottky diode" if schottky else "small-signal silicon diode, 1N4148 class"
+        vf = f"; Vf about {spec.diode_vf:g} V as searched" if spec.diode_vf is not None else ""
         out.append(BomLine(
             ref="D1", role=ROLE_DIODE, kind="diode", value=None, per_board=1, total=boards,
-            in_stock=False, description=f"{what}{vf}; across RB, anode at DIS, cathode at THR/TRIG",
+            in_stock=False, description=what,
+            note=f"across RB, anode at DIS, cathode at THR/TRIG{vf}",
         ))
 
     wanted: list[tuple[str, float, Callable[[float], bool], Sequence[str], Sequence[str], str]] = []
@@ -378,7 +379,7 @@ def _extras(
     if spec.chip != "cmos":
         lo, hi = RESERVOIR_RANGE_F
         wanted.append((ROLE_RESERVOIR, lo, _within(lo, hi), POLARIZED + CERAMIC, (),
-                       "VCC to ground, close to the IC; 10-100 uF"))
+                       "VCC to ground, close to the IC; 10-100 µF"))
 
     taken = demand(so_far)
     visited = {bl.location for bl in so_far if bl.line_id is not None}
@@ -390,10 +391,10 @@ def _extras(
             need_v = ""
             if spec.vcc is not None:
                 diel = "electrolytic" if role == ROLE_RESERVOIR else "X7R"
-                need_v = f"; rated at least {spec.vcc / derating(diel):.3g} V"
+                need_v = f"; rated at least {math.ceil(spec.vcc / derating(diel) * 10) / 10:g} V"
             out.append(BomLine(
                 ref=ref, role=role, kind="capacitor", value=nominal, per_board=1, total=boards,
-                in_stock=False, description=f"{where}{need_v}",
+                in_stock=False, note=f"{where}{need_v}",
             ))
             continue
         taken[line.id] = taken.get(line.id, 0) + boards
@@ -534,7 +535,7 @@ def to_rows(bom: Bom) -> list[dict[str, str]]:
     for bl in bom.lines:
         note = bl.note
         if bl.line_id is None:
-            note = "not in stock" + (f"; {bl.description}" if bl.value is not None and bl.description else "")
+            note = "not in stock" + (f"; {bl.note}" if bl.note else "")
         elif not bl.in_stock:
             note = "short in stock" + (f"; {bl.note}" if bl.note else "")
         rows.append({

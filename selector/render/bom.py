@@ -4,6 +4,7 @@ from __future__ import annotations
 
 from typing import Sequence
 
+from rich import box
 from rich.console import Console
 from rich.table import Table
 from rich.text import Text
@@ -30,14 +31,17 @@ def _value(kind: str, value: float) -> str:
 
 def bom_table(bom: core_bom.Bom) -> Table:
     boards = f"{bom.boards} board{'s' if bom.boards != 1 else ''}"
-    t = Table(title=f"BOM: option {bom.option} of search {bom.search_id}, {boards}", title_justify="left")
-    for name, kw in (("ref", {}), ("role", {}), ("value", {}), ("tolerance", {}), ("package", {}),
-                     ("rating", {"justify": "right"}), ("dielectric", {}), ("location", {}),
-                     ("line", {"justify": "right"}), ("per board", {"justify": "right"}),
-                     ("total", {"justify": "right"}), ("stock", {})):
+    t = Table(title=f"BOM: option {bom.option} of search {bom.search_id}, {boards}", title_justify="left",
+              box=box.SIMPLE_HEAD, pad_edge=False)
+    for name, kw in (("ref", {}), ("role", {"min_width": 12}), ("value", {"min_width": 7}), ("tolerance", {}), ("part", {}),
+                     ("rating", {"justify": "right"}), ("location", {}), ("line", {"justify": "right"}),
+                     ("per board", {"justify": "right"}), ("total", {"justify": "right"}), ("stock", {})):
         t.add_column(name, **kw)
     for row, bl in zip(core_bom.to_rows(bom), bom.lines):
-        role = row["role"] + (f" ({row['network']})" if row["network"] else "")
+        role = row["role"]
+        if bl.network:
+            shape, _, pos = bl.network.partition(", part ")
+            role = f"{role} ({shape} {pos.replace(' of ', '/')})"
         if bl.line_id is None:
             stock = Text("not in stock", style="yellow")
         elif not bl.in_stock:
@@ -45,18 +49,17 @@ def bom_table(bom: core_bom.Bom) -> Table:
         else:
             stock = Text("yes")
         value = row["value"]
-        if bl.value is not None and bl.line_id is None and bl.description:
-            value = f"{value} ({bl.description})"
-        t.add_row(*_cells(row["ref"], role, value, row["tolerance"], row["package"], row["rating"],
-                          row["dielectric"], row["location"], row["line_id"], row["per_board"], row["total"],
-                          stock))
+        part = ", ".join(x for x in (row["package"], row["dielectric"]) if x)
+        t.add_row(*_cells(row["ref"], role, value, row["tolerance"], part, row["rating"], row["location"],
+                          row["line_id"], row["per_board"], row["total"], stock))
     return t
 
 
 def pick_table(stops: Sequence[core_bom.PickStop]) -> Table:
     from selector.core.notation import format_tolerance
 
-    t = Table(title="Pick list (one visit per drawer)", title_justify="left")
+    t = Table(title="Pick list (one visit per drawer)", title_justify="left", box=box.SIMPLE_HEAD,
+              pad_edge=False)
     for name, kw in (("location", {}), ("line", {"justify": "right"}), ("value", {}), ("tolerance", {}),
                      ("package", {}), ("take", {"justify": "right"}), ("on hand", {"justify": "right"}),
                      ("refs", {})):
@@ -82,8 +85,11 @@ def print_bom(console: Console, report) -> None:
         console.print(pick_table(report.stops))
     missing = core_bom.to_obtain(bom)
     if missing:
-        console.print("Not in stock (obtain before building): "
-                      + ", ".join(f"{bl.ref} {bl.role}" for bl in missing), highlight=False, markup=False)
+        console.print("Not in stock (obtain before building):", highlight=False, markup=False)
+        for bl in missing:
+            what = bl.description if bl.value is None else _value(bl.kind, bl.value)
+            console.print(f"  {bl.ref} {bl.role}: {what} x{bl.total}" + (f" ({bl.note})" if bl.note else ""),
+                          highlight=False, markup=False)
     for s in report.shortages:
         console.print(f"Short: stock line {s.line_id} holds {s.on_hand}, the BOM needs {s.needed} "
                       f"({s.missing} missing).", style="red", highlight=False, markup=False)

@@ -96,11 +96,23 @@ def load_saved_option(session: Session, option: int, search_id: Optional[int] = 
     return SavedOption(search_id=search.id, rank=row.rank, spec=spec, data=data, boards=boards)
 
 
+def safe_derating(dielectric: str) -> float:
+    """The store's voltage derating for a dielectric; a dielectric it does not know (a row written
+    by hand, outside `stock import`) gets the strictest factor in its table (0.5) rather than an
+    error, since it only decides whether an extra capacitor may be used."""
+    from selector.core.errors import SelectorError
+    from selector.core.parts import voltage_derating
+
+    try:
+        return voltage_derating(dielectric)
+    except SelectorError:
+        return 0.5
+
+
 def bom_in_session(
     session: Session, option: int, search_id: Optional[int] = None, boards: Optional[int] = None
 ) -> BomReport:
     """The BOM of a saved option against the stock as this session sees it (no writes)."""
-    from selector.core.parts import voltage_derating
     from selector.store.db import load_stock
 
     saved = load_saved_option(session, option, search_id)
@@ -108,7 +120,7 @@ def bom_in_session(
     n = saved.boards if boards is None else boards
     try:
         bom = core_bom.assemble_bom(saved.search_id, saved.rank, saved.spec, saved.data, stock, n,
-                                    voltage_derating)
+                                    safe_derating)
     except core_bom.OptionOutdatedError as why:
         what = "is gone" if why.now is None else "now holds another value"
         raise OptionOutdated(
