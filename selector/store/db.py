@@ -81,7 +81,8 @@ def _is_memory(u: sa.URL) -> bool:
 
 # --------------------------------------------------------------------------- engines
 
-def _make_engine(url: sa.URL, *, foreign_keys: bool, pooled: bool = True) -> Engine:
+def _make_engine(url: sa.URL, *, foreign_keys: bool, pooled: bool = True,
+                 busy_timeout_ms: int = BUSY_TIMEOUT_MS) -> Engine:
     if u_is_sqlite(url):
         memory = _is_memory(url)
         kwargs: dict = {}
@@ -99,7 +100,7 @@ def _make_engine(url: sa.URL, *, foreign_keys: bool, pooled: bool = True) -> Eng
                 if not memory:
                     cur.execute("PRAGMA journal_mode=WAL")
                 cur.execute(f"PRAGMA foreign_keys={'ON' if foreign_keys else 'OFF'}")
-                cur.execute(f"PRAGMA busy_timeout={BUSY_TIMEOUT_MS}")
+                cur.execute(f"PRAGMA busy_timeout={int(busy_timeout_ms)}")
             finally:
                 cur.close()
 
@@ -172,11 +173,12 @@ class _Foreign(Exception):
     pass
 
 
-def open_engine(url: str) -> Engine:
+def open_engine(url: str, *, busy_timeout_ms: int = BUSY_TIMEOUT_MS) -> Engine:
     """An engine for the stock database at ``url`` with the schema at ``SCHEMA_HEAD``: creates the
     schema in a new or empty database and upgrades an older one. Raises DatabaseProblem (one line
     naming the database) for a damaged, foreign, newer, unreadable or busy database. The in-memory
-    URL ``sqlite://`` works (one shared connection, so the schema survives)."""
+    URL ``sqlite://`` works (one shared connection, so the schema survives). ``busy_timeout_ms``
+    is how long SQLite waits for another writer before reporting the database busy."""
     try:
         u = make_url(url)
     except sa_exc.ArgumentError:
@@ -185,7 +187,7 @@ def open_engine(url: str) -> Engine:
     if u_is_sqlite(u) and not _is_memory(u):
         _check_file_path(u, name)
     try:
-        engine = _make_engine(u, foreign_keys=True)
+        engine = _make_engine(u, foreign_keys=True, busy_timeout_ms=busy_timeout_ms)
     except (sa_exc.ArgumentError, sa_exc.NoSuchModuleError, ImportError) as err:
         raise DatabaseProblem(f"cannot use the database URL {name} ({_first_line(err)})")
     try:
