@@ -28,6 +28,7 @@ from selector.core.notation import (
     format_value,
     infer_kind,
     parse_fraction,
+    parse_marked_value,
     parse_rating,
     parse_tolerance,
     parse_value,
@@ -453,3 +454,35 @@ def test_parts_round_trip_within_three_digit_rounding(v, kind):
     for text in (format_value(v, unit), format_rkm(v, kind)):
         back = parse_value(text, kind)
         assert abs(back - v) <= 0.005 * v * (1 + 1e-12), text
+
+
+@pytest.mark.parametrize(
+    "text, kind, value, tolerance",
+    [
+        ("4K7J", "resistor", 4.7e3, (0.05, 0.05)),   # trailing tolerance letter (facts.md 8.4, from memory)
+        ("104K", "capacitor", 100e-9, (0.10, 0.10)),  # "104K": the letter after a code is the tolerance [S11]
+        ("47K", "capacitor", 47e-12, (0.10, 0.10)),   # two-digit pF marking + K [S11]
+        ("47K", "resistor", 47e3, None),              # whole text reads as a value first
+        ("4n7J", "capacitor", 4.7e-9, (0.05, 0.05)),
+        ("1K0F", "resistor", 1e3, (0.01, 0.01)),
+        ("2p2C", "capacitor", 2.2e-12, (0.25 / 2.2, 0.25 / 2.2)),  # below 10 pF: ±0.25 pF [S11]
+        ("473Z", "capacitor", 47e-9, (0.20, 0.80)),
+        ("100nF", "capacitor", 100e-9, None),
+    ],
+)
+def test_marked_values(text, kind, value, tolerance):
+    got_value, got_tol = parse_marked_value(text, kind)
+    assert got_value == pytest.approx(value, rel=1e-15)
+    if tolerance is None:
+        assert got_tol is None
+    else:
+        assert got_tol == pytest.approx(tolerance, rel=1e-12)
+
+
+def test_marked_value_refusals_quote_the_whole_marking():
+    with pytest.raises(UnparseableValue) as err:
+        parse_marked_value("104E", "capacitor")
+    assert str(err.value).startswith('cannot read "104E" as a capacitor tolerance: the letter E means')
+    with pytest.raises(UnparseableValue) as err:
+        parse_marked_value("1M", "capacitor")
+    assert str(err.value).startswith('cannot read "1M" as a capacitance: "M" is ambiguous')

@@ -137,13 +137,8 @@ def _split_unit(suffix: str) -> tuple[str, str | None]:
     return suffix, None
 
 
-def _prefix_unit(prefix: str) -> str | None:
-    """The quantity a bare prefix suggests: p n u -> capacitance; k K M G meg -> resistance."""
-    if prefix in ("p", "n", "u"):
-        return FARAD
-    if prefix in ("k", "K", "M", "G", "meg"):
-        return OHM
-    return None
+# The quantity a bare prefix suggests: p n u -> capacitance; k K M G meg -> resistance.
+_PREFIX_HINT = {"p": FARAD, "n": FARAD, "u": FARAD, "k": OHM, "K": OHM, "M": OHM, "G": OHM, "meg": OHM}
 
 
 def _scan(s: str) -> _Reading:
@@ -173,7 +168,7 @@ def _scan(s: str) -> _Reading:
         prefix = "meg"
     if prefix not in _PREFIX_EXP:
         raise ValueError("unknown prefix or unit")
-    return _Reading(number, _PREFIX_EXP[prefix], unit, _prefix_unit(prefix), prefix, "si")
+    return _Reading(number, _PREFIX_EXP[prefix], unit, _PREFIX_HINT.get(prefix), prefix, "si")
 
 
 def _expected(kind: str | None, unit: str | None) -> str | None:
@@ -295,6 +290,26 @@ def infer_kind(text: str) -> str | None:
     if written == FARAD:
         return "capacitor"
     return None
+
+
+def parse_marked_value(text: str, kind: str) -> tuple[float, tuple[float, float] | None]:
+    """A value as marked on a part, possibly followed by an IEC 60062 tolerance letter: "4K7J"
+    (4.7 kΩ ±5 %), "104K" (100 nF ±10 %), "47K" on a capacitor (47 pF ±10 %). The whole text is
+    tried as a value first, so "47K" on a resistor is 47 kΩ with no tolerance (None)."""
+    try:
+        return parse_value(text, kind), None
+    except UnparseableValue as whole_error:
+        body = str(text).rstrip()
+        if len(body) < 2 or not body[-1].isalpha():
+            raise
+        try:
+            value = parse_value(body[:-1], kind)
+        except UnparseableValue:
+            raise whole_error from None
+        try:
+            return value, parse_tolerance(body[-1], kind, value)
+        except UnparseableValue as exc:  # quote the whole marking, not just its letter
+            raise UnparseableValue(str(exc).replace(f'"{body[-1]}"', f'"{text}"', 1)) from None
 
 
 # --- tolerances -----------------------------------------------------------------------------
@@ -503,8 +518,7 @@ def _three_digits(x: float) -> Decimal:
 
 def _plain(d: Decimal) -> str:
     """A decimal written without exponent and without trailing zeros: 4.70 -> '4.7', 1E+2 -> '100'."""
-    text = format(d.normalize(), "f")
-    return text
+    return format(d.normalize(), "f")
 
 
 def _non_finite(value: float) -> str | None:
