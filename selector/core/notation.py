@@ -99,11 +99,11 @@ class _Reading:
 
 def _normalise(text: str) -> str:
     s = str(text).strip()
-    for micro in ("µ", "μ"):
+    for micro in ("\u00b5", "\u03bc"):  # micro sign and Greek small mu
         s = s.replace(micro, "u")
-    for omega in ("Ω", "Ω"):
+    for omega in ("\u03a9", "\u2126"):  # Greek capital omega and the ohm sign
         s = s.replace(omega, "ohm")
-    return s.replace("−", "-").replace("\u00a0", " ").replace("\u2009", " ").replace("\u202f", " ")
+    return s.replace("\u2212", "-").replace("\u00a0", " ").replace("\u2009", " ").replace("\u202f", " ")
 
 
 def _split_unit(suffix: str) -> tuple[str, str | None]:
