@@ -100,7 +100,7 @@ def _pull_in_session(
     pull = PullRow(search_id=bom.search_id, option_rank=bom.option, boards=bom.boards)
     session.add(pull)
     session.flush()
-    reference = f"pull {pull.id}: search {bom.search_id} option {bom.option}, {bom.boards} board(s)"
+    reference = f"search {bom.search_id} option {bom.option} x{bom.boards}"
     for line_id, qty in plan:
         # The guarded UPDATE inside apply_movement is a second line of defence: it raises
         # InsufficientStock (rolling the whole pull back) rather than ever going below zero.
