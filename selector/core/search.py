@@ -1,0 +1,352 @@
+"""The exact timing search: which resistor and capacitor networks from the stock come closest to a
+timing target inside the chip's limits and the parts' ratings.
+
+Pure core (numpy + stdlib). It works on two network indexes built by ``selector.core.networks``
+(one of resistor networks, one of capacitor networks, both already limited to what the stock
+holds for the number of boards) and returns raw options sorted by |error|; tolerance spread,
+yield and the final ranking live in ``selector.core.ranking``.
+
+Error of an option (what "exact" refers to):
+- astable (standard, diode, output-fed): the larger of the relative errors of t_high and t_low,
+  ``max(|t_high/T_high - 1|, |t_low/T_low - 1|)``, reported signed (the sign of the larger one);
+- monostable: ``width/W - 1``; RC: ``tau/T - 1`` or, for a corner target, ``corner/F - 1``.
+
+Why the search cannot miss a better option (the correctness argument)
+---------------------------------------------------------------------
+Astable, standard and diode connections. t_low = ln2·RB·C in both (the steering diode is reverse
+biased while the capacitor discharges), so for a capacitor network c the low-time error depends on
+RB alone: e_low = |RB/RB*(c) - 1| with RB*(c) = T_low/(ln2·c). t_high is strictly increasing in RA
+for fixed RB and c (standard: linear; diode: each piece of the charge takes longer through a
+larger RA), so for a fixed pair (c, RB) the high-time error is V-shaped in RA, smallest at the
+ideal RA*(c, RB). Every limit that involves RA together with the pair is an interval in RA: RA >=
+the chip's minimum RA, RA + RB <= the maximum total timing resistance, frequency <= maximum
+(period increases with RA, so it is a lower bound on RA). The remaining per-network conditions
+(power rating; stock shared with RB) are checked on each candidate. Hence the best RA for a pair
+is the nearest FEASIBLE network on one of the two sides of clamp(RA*, lo, hi); ``_nearest_feasible``
+widens its look-up until it finds one or proves there is none on that side (the side ran out of
+networks, or the next network is already outside [lo, hi]).
+1. Provisional bound: for every allowed c, the nearest RB on each side of RB*(c) with its best RA
+   gives finite errors; let B be the K-th smallest (K = pool size).
+2. Certificate: an option with error <= B has e_low <= B, so its RB lies in the contiguous slice
+   [RB*(c)·(1 - B), RB*(c)·(1 + B)] of the sorted network values. ``index.between`` returns that
+   slice exactly (also for 3-part networks) and every RB in it is paired with its best RA.
+3. So every pair (c, RB) whose best option has error <= B is evaluated, which contains the pair of
+   the globally best option; the minimum over the evaluated options is the exact minimum, and the
+   K best pair-options are the exact K best (each pair counted once, with its best RA).
+Limits on C alone (minimum timing capacitance, voltage rating) and on RA alone (minimum RA, power)
+are applied to the candidate sets BEFORE the search, so exactness holds over the allowed options.
+Boundary slack: the slice is widened by a relative 1e-9 against rounding.
+
+Single-resistor connections (monostable, RC, output-fed). For a capacitor network c the error is a
+function of R that is monotone on each side of one ideal value R* (width, tau and both half-periods
+of the output-fed astable grow with R; a corner falls with R; for the output-fed astable the error
+is the larger of two V-shaped functions of R, again V-shaped, smallest at R* = 2/(a_high + a_low)
+where a = t/(R·T)). So the best R for c is the nearest feasible network on one side of clamp(R*,
+lo, hi), and the exact best option is the best over all allowed c; no certificate is needed.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+from typing import Callable, Optional, Sequence
+
+import numpy as np
+
+from selector.core.errors import NothingFeasible
+
+LN2 = math.log(2.0)
+LN3 = math.log(3.0)
+INF = float("inf")
+_SLACK = 1e-9  # relative widening of certified slices and intervals against rounding
+
+ProgressFn = Callable[[float], None]  # called with the fraction done, 0..1
+
+ASTABLE_CONNECTIONS = ("standard", "diode", "output-fed")
+
+
+@dataclass(frozen=True)
+class Target:
+    """What the user asked for, in SI units. Astable: t_high, t_low (from frequency and duty).
+    Monostable: width. RC: tau (also when a corner was asked; ``corner_hz`` then set)."""
+
+    mode: str  # "astable" | "monostable" | "rc"
+    t_high: float = math.nan
+    t_low: float = math.nan
+    width: float = math.nan
+    tau: float = math.nan
+    corner_hz: float = math.nan
+
+    @staticmethod
+    def astable(freq_hz: float, duty: float) -> "Target":
+        period = 1.0 / freq_hz
+        return Target("astable", t_high=duty * period, t_low=(1.0 - duty) * period)
+
+    @property
+    def frequency(self) -> float:
+        return 1.0 / (self.t_high + self.t_low)
+
+    @property
+    def duty(self) -> float:
+        return self.t_high / (self.t_high + self.t_low)
+
+
+@dataclass(frozen=True)
+class Limits:
+    """The numeric limits one search applies (resolved from the chip family, VCC and defaults by
+    ``selector.services.find_timing``; inf / 0 mean "no limit")."""
+
+    vcc: float
+    min_r_ohm: float = 0.0  # RA (astable), R (monostable, output-fed)
+    max_total_r_ohm: float = INF  # RA + RB, or R
+    min_c_f: float = 0.0
+    max_freq_hz: float = INF
+    r_power_volts: float = 0.0  # volts across RA / R when it dissipates most (0: no power check)
+    r_power_derating: float = 0.5  # allowed fraction of the rated power
+    cap_volts: float = 0.0  # working voltage across the timing capacitor (0: no rating check)
+    cap_derating: Callable[[str], float] = field(default=lambda dielectric: 1.0)
+    diode_vf: float = 0.65
+    voh: float = math.nan  # output levels for the output-fed connection
+    vol: float = math.nan
+
+
+@dataclass(frozen=True)
+class RawOption:
+    """One complete answer before tolerance analysis: the connection, the network ids in their
+    indexes (``r_ids`` is (RA, RB) for standard/diode, (R,) otherwise), the predicted times and
+    the signed error."""
+
+    connection: str
+    c_id: int
+    r_ids: tuple[int, ...]
+    error: float
+    t_high: float = math.nan
+    t_low: float = math.nan
+    time: float = math.nan  # width or tau
+    pool_parts: int = 0  # the max-parts budget of the pass that found it
+
+    @property
+    def abs_error(self) -> float:
+        return abs(self.error)
+
+
+@dataclass
+class Exclusions:
+    """How many candidates each limit excluded (for the NothingFeasible message)."""
+
+    counts: dict[str, int] = field(default_factory=dict)
+
+    def add(self, reason: str, n: int) -> None:
+        if n:
+            self.counts[reason] = self.counts.get(reason, 0) + int(n)
+
+    def message(self, what: str) -> str:
+        if not self.counts:
+            return f"no {what} option can be built from the stock (no networks of the needed kind)"
+        parts = [f"{n} {reason}" for reason, n in sorted(self.counts.items(), key=lambda kv: -kv[1])]
+        return f"no {what} option is inside the limits; excluded: " + "; ".join(parts)
+
+
+
+
+# --------------------------------------------------------------------------- limits and connections
+
+
+def resolve_limits(connection: str, chip_key: str, vcc: float, diode_vf: float) -> Limits:
+    """The limits of one connection for a chip family at ``vcc`` (facts.md §6, §7, §8.5):
+    RA (or R) >= the family's minimum, total timing R <= its maximum at this VCC, C >= its minimum
+    timing capacitance, frequency <= its practical maximum (astable); power in RA / R with the
+    largest voltage it sees continuously (VCC with the discharge switch on; for the output-fed R
+    the larger of VOH − VCC/3 and 2VCC/3 − VOL) within rating × RESISTOR_POWER_DERATING; the
+    capacitor rated for VCC after ``voltage_derating``. RC networks ("rc") have no chip: only the
+    ratings apply, with the full VCC across R and C (a step input)."""
+    from selector.core import chips, parts, timing
+
+    common = dict(vcc=vcc, r_power_derating=parts.RESISTOR_POWER_DERATING, cap_volts=vcc,
+                  cap_derating=parts.voltage_derating, diode_vf=diode_vf)
+    if connection == "rc":
+        return Limits(r_power_volts=vcc, **common)
+    fam = chips.family(chip_key)
+    fam.check_vcc(vcc)
+    lim = dict(min_r_ohm=fam.min_ra_ohm, max_total_r_ohm=float(fam.max_timing_r_ohm(vcc)),
+               min_c_f=fam.min_timing_c_f, r_power_volts=vcc, **common)
+    if connection in ASTABLE_CONNECTIONS:
+        lim["max_freq_hz"] = fam.max_astable_hz
+    if connection == "output-fed":
+        voh, vol = float(fam.voh(vcc)), float(fam.vol(vcc))
+        lim.update(voh=voh, vol=vol,
+                   r_power_volts=math.sqrt(float(timing.output_fed_power_w(1.0, voh, vol, vcc))))
+    return Limits(**lim)
+
+
+def output_fed_best_error(target: Target, limits: Limits) -> float:
+    """The smallest error the output-fed astable can reach with a perfect R for this target: its
+    duty is fixed by the output levels, so a duty mismatch alone costs this much."""
+    from selector.core import timing
+
+    kh, kl = (float(x) for x in timing.output_fed_factors(limits.voh, limits.vol, limits.vcc))
+    if not (math.isfinite(kh) and math.isfinite(kl)):
+        return math.inf
+    a, b = kh * target.t_low, kl * target.t_high
+    return abs(a - b) / (a + b)
+
+
+def choose_connections(target: Target, connection: str, chip_key: str, vcc: float, diode_vf: float,
+                       accept: float) -> tuple[str, ...]:
+    """Which astable connections to search. ``auto``: standard only when the duty is above 50 %
+    (its duty always is); diode-steered always (any duty, needs VCC > 3·Vf); output-fed only for
+    families that allow it AND when its fixed duty alone keeps the error within ``accept``
+    (``output_fed_best_error``). A named connection that cannot reach the target raises
+    NothingFeasible saying why."""
+    from selector.core import chips
+
+    fam = chips.family(chip_key)
+    duty = target.duty
+    can_diode = 3.0 * diode_vf < vcc
+    if connection == "auto":
+        out = []
+        if duty > 0.5:
+            out.append("standard")
+        if can_diode:
+            out.append("diode")
+        if fam.output_fed_ok:
+            lim = resolve_limits("output-fed", chip_key, vcc, diode_vf)
+            if output_fed_best_error(target, lim) <= accept:
+                out.append("output-fed")
+        if not out:
+            raise NothingFeasible(
+                f"no connection reaches a duty of {duty:.1%}: the standard one needs more than 50 % "
+                f"and the diode-steered one needs VCC above 3 × Vf ({3 * diode_vf:g} V)")
+        return tuple(out)
+    if connection == "standard" and not duty > 0.5:
+        raise NothingFeasible(
+            f"the standard connection cannot reach a duty of {duty:.1%}: its duty is always above "
+            "50 %; use --connection diode (or auto)")
+    if connection == "diode" and not can_diode:
+        raise NothingFeasible(
+            f"the diode-steered connection needs VCC above 3 × Vf ({3 * diode_vf:g} V); VCC is {vcc:g} V")
+    if connection == "output-fed" and not fam.output_fed_ok:
+        raise NothingFeasible(
+            f"the output-fed connection is offered only for a chip with a rail-to-rail output "
+            f"(--chip cmos); a {fam.label} output is not (facts: load- and VCC-dependent)")
+    if connection not in ASTABLE_CONNECTIONS:
+        raise NothingFeasible(f"unknown connection {connection!r}; expected auto, "
+                              + ", ".join(ASTABLE_CONNECTIONS))
+    return (connection,)
+
+
+# --------------------------------------------------------------------------- the public search
+
+
+@dataclass(frozen=True)
+class FoundOption:
+    """One option with its concrete networks (roles "RA", "RB", "C" or "R", "C")."""
+
+    connection: str
+    networks: dict
+    error: float
+    t_high: float = math.nan
+    t_low: float = math.nan
+    time: float = math.nan
+    budget: int = 0  # largest network size allowed in the pass that found it
+
+    @property
+    def abs_error(self) -> float:
+        return abs(self.error)
+
+    @property
+    def nparts(self) -> int:
+        return sum(n.nparts for n in self.networks.values())
+
+    def key(self) -> tuple:
+        return (self.connection,) + tuple(
+            (role, n.shape, round(n.value, 12), tuple(sorted(n.usage.items())))
+            for role, n in sorted(self.networks.items()))
+
+
+@dataclass
+class SearchResult:
+    """``options`` sorted by |error|; ``options[0]`` is the exact best the stock and limits
+    allow. ``exclusions`` counts what each limit excluded."""
+
+    options: list
+    exclusions: Exclusions
+    connections: tuple
+    network_counts: dict = field(default_factory=dict)
+
+    @property
+    def best_error(self) -> float:
+        return self.options[0].error if self.options else math.nan
+
+
+def search_timing(r_lines: Sequence, c_lines: Sequence, target: Target, connections: Sequence[str],
+                  limits: dict, max_parts: int = 2, boards: int = 1, pool: int = 20,
+                  progress: Optional[ProgressFn] = None, indexes: Optional[dict] = None) -> SearchResult:
+    """Search every connection in ``connections`` (``limits[connection]`` holds its Limits) over
+    the networks of up to ``max_parts`` parts the stock allows for ``boards`` boards.
+
+    Besides the exact search with ``max_parts``, a pass is made for every smaller budget (1 ..
+    max_parts − 1 parts per network) so the pool also holds the best simpler builds the ranking
+    may prefer. Each pass keeps its ``pool`` best (C, RB) / (C, R) pairs by |error|. Raises
+    NothingFeasible (naming the limits and what they excluded) when nothing is left.
+    ``indexes`` may map budget -> (r_index, c_index) to reuse indexes already built."""
+    from selector.core.networks import build_index
+    from selector.core.search_kernel import PowerCheck, _Pass, _Physics, capacitor_candidates
+
+    ex = Exclusions()
+    found: dict[tuple, FoundOption] = {}
+    weights = {p: 10.0 ** (p - 1) for p in range(1, max_parts + 1)}
+    total_w = sum(weights.values()) * len(connections)
+    done_w = 0.0
+    counts = {}
+    for budget in range(1, max_parts + 1):
+        if indexes and budget in indexes:
+            r_index, c_index = indexes[budget]
+        else:
+            r_index = build_index(r_lines, max_parts=budget, boards=boards, kind="resistor")
+            c_index = build_index(c_lines, max_parts=budget, boards=boards, kind="capacitor")
+        counts[budget] = (_size(r_index), _size(c_index))
+        for conn in connections:
+            lim = limits[conn]
+            pex = ex if budget == max_parts else Exclusions()  # count each exclusion once
+            c_ids = capacitor_candidates(c_index, lim, pex)
+            phys = _Physics(conn, target, lim)
+            power = PowerCheck(r_index, lim.r_power_volts, lim.r_power_derating)
+            ps = _Pass(phys, r_index, c_index, c_ids, lim, power, pex)
+            two = conn in ("standard", "diode")
+            steps = max(1, -(-c_ids.size // ps.chunk)) * (2 if two else 1)
+            state = {"n": 0}
+            w = weights[budget]
+
+            def tick(state=state, steps=steps, w=w, base=done_w):
+                state["n"] += 1
+                if progress:
+                    progress(min(1.0, (base + w * state["n"] / steps) / total_w))
+
+            raw = ps.run2(pool, tick) if two else ps.run1(pool, tick)
+            done_w += w
+            for c_id, r_ids, err, th, tl, tt in raw:
+                nets = {"C": c_index.network(c_id)}
+                if two:
+                    nets["RA"] = r_index.network(r_ids[0])
+                    nets["RB"] = r_index.network(r_ids[1])
+                else:
+                    nets["R"] = r_index.network(r_ids[0])
+                opt = FoundOption(conn, nets, err, th, tl, tt, budget)
+                k = opt.key()
+                if k not in found:
+                    found[k] = opt
+    if progress:
+        progress(1.0)
+    options = sorted(found.values(), key=lambda o: (o.abs_error, o.nparts))
+    if not options:
+        what = target.mode if target.mode != "astable" else "astable (" + ", ".join(connections) + ")"
+        raise NothingFeasible(ex.message(what))
+    return SearchResult(options, ex, tuple(connections), counts)
+
+
+def _size(index) -> int:
+    try:
+        return int(sum(index.size_by_parts().values()))
+    except Exception:  # older index without the counter
+        return -1

@@ -1,0 +1,431 @@
+"""Kernels of the exact timing search (see ``selector.core.search`` for the correctness argument):
+the candidate filters on single networks, the widening nearest-feasible look-up, the timing laws
+in the form the search needs, and one search pass over one pair of network indexes."""
+
+from __future__ import annotations
+
+import math
+from typing import Callable, Optional
+
+import numpy as np
+
+INF = float("inf")
+_SLACK = 1e-9  # relative widening of certified slices and intervals against rounding
+
+MAX_ERROR = 1.0
+"""Options more than 100 % off target (a factor of two on a time) are never offered; exactness is
+over the options within this bound (the exhaustive reference in the tests applies it too)."""
+
+
+# --------------------------------------------------------------------------- per-network checks
+
+
+def _line_arrays(index, attr: str, default: float = math.nan) -> np.ndarray:
+    lines = index.lines
+    out = np.empty(len(lines), dtype=float)
+    for i, ln in enumerate(lines):
+        v = getattr(ln, attr)
+        out[i] = default if v is None else float(v)
+    return out
+
+
+def _all_ids(index) -> np.ndarray:
+    _, ids = index.between(np.array([0.0]), np.array([INF]))
+    return np.asarray(ids, dtype=np.int64)
+
+
+def capacitor_candidates(c_index, limits, ex) -> np.ndarray:
+    """Ids of the capacitor networks allowed in the timing position: value >= the minimum timing
+    capacitance, and every part rated for the working voltage after derating (each part of a
+    series string must stand the full voltage on its own: the DC division across series
+    capacitors is set by leakage, not by capacitance - common practice). Unknown rating: allowed
+    (the renderer adds a caution)."""
+    ids = _all_ids(c_index)
+    if ids.size == 0:
+        return ids
+    vals = c_index.values(ids)
+    small = vals < limits.min_c_f * (1 - _SLACK)
+    ex.add(f"C networks below the {_fmt(limits.min_c_f, 'F')} minimum timing capacitance", small.sum())
+    ids = ids[~small]
+    if limits.cap_volts > 0 and ids.size:
+        rating = _line_arrays(c_index, "rating")
+        derate = np.array([limits.cap_derating(ln.dielectric or "") for ln in c_index.lines])
+        line_ok = ~(rating * derate < limits.cap_volts)  # nan (unknown) -> allowed
+        pos, _cnt = c_index.usage_arrays(ids)
+        pos = np.asarray(pos)
+        ok = np.all(np.where(pos >= 0, line_ok[np.maximum(pos, 0)], True), axis=1)
+        ex.add(f"C networks with a part rated below {limits.cap_volts:g} V after derating", (~ok).sum())
+        ids = ids[ok]
+    return ids
+
+
+class PowerCheck:
+    """Per-part power of resistor networks with ``volts`` across them, against rating × derating.
+    The power in part i of any series/parallel network is P·S_i, where P = V²/R is the network's
+    power and S_i = d ln R / d ln r_i its sensitivity to that part (S_i >= 0, sum 1: R is
+    homogeneous of degree 1 in its parts) - a standard consequence of Tellegen's theorem. A cheap
+    bound decides most networks (P <= derating × the smallest rating: every part is fine); the
+    rest are computed exactly from the network's own combine() law and cached."""
+
+    def __init__(self, r_index, volts: float, derating: float):
+        self.index = r_index
+        self.volts = volts
+        self.derating = derating
+        rating = _line_arrays(r_index, "rating")
+        self.line_rating = rating
+        self.active = volts > 0 and bool(np.isfinite(rating).any())
+        self._cache: dict[int, bool] = {}
+
+    def ok(self, ids: np.ndarray) -> np.ndarray:
+        ids = np.asarray(ids, dtype=np.int64)
+        if not self.active or ids.size == 0:
+            return np.ones(ids.shape, dtype=bool)
+        flat = ids.ravel()
+        vals = self.index.values(flat)
+        p = self.volts**2 / vals
+        pos, _cnt = self.index.usage_arrays(flat)
+        pos = np.asarray(pos)
+        r = np.where(pos >= 0, self.line_rating[np.maximum(pos, 0)], np.nan)
+        known = np.isfinite(r)
+        rmin = np.where(known, r, np.inf).min(axis=1)
+        surely_ok = p <= self.derating * rmin
+        res = surely_ok.copy()
+        for j in np.flatnonzero(~surely_ok):
+            nid = int(flat[j])
+            hit = self._cache.get(nid)
+            if hit is None:
+                hit = self._exact(nid)
+                self._cache[nid] = hit
+            res[j] = hit
+        return res.reshape(ids.shape)
+
+    def _exact(self, nid: int) -> bool:
+        net = self.index.network(nid)
+        phys = np.array([ln.value for ln in net.physical], dtype=float)
+        n = len(phys)
+        total = float(net.combine(phys[:, None])[0])
+        p = self.volts**2 / total
+        h = 1e-6
+        bumped = np.repeat(phys[:, None], n, axis=1)
+        bumped[np.arange(n), np.arange(n)] *= 1 + h
+        sens = np.log(net.combine(bumped) / total) / math.log1p(h)
+        for ln, s in zip(net.physical, sens):
+            if ln.rating is not None and p * max(float(s), 0.0) > self.derating * ln.rating * (1 + 1e-9):
+                return False
+        return True
+
+
+# --------------------------------------------------------------------------- the look-up kernel
+
+
+def _nearest_feasible(index, target, lo, hi, ok_fn, k0: int = 2, kmax: int = 1 << 16):
+    """For each row i: the feasible network nearest in value to clamp(target[i], lo[i], hi[i]) on
+    each side, feasible meaning lo <= value <= hi and ``ok_fn(ids, rows)`` true. Returns
+    (below_ids, above_ids), -1 where a side has none. Widens k until found or proven absent."""
+    n = len(target)
+    out = [np.full(n, -1, dtype=np.int64), np.full(n, -1, dtype=np.int64)]
+    if len(index) == 0:
+        return out[0], out[1]
+    target = np.nan_to_num(np.asarray(target, dtype=float), nan=np.nan, neginf=0.0)
+    tb = np.minimum(target, hi)
+    ta = np.maximum(target, lo)
+    good = np.isfinite(target) & (lo <= hi * (1 + _SLACK))
+    rows_side = [np.flatnonzero(good & (tb >= lo * (1 - _SLACK)) & (tb > 0)),
+                 np.flatnonzero(good & (ta <= hi * (1 + _SLACK)) & np.isfinite(ta))]
+    tiny = np.finfo(float).tiny
+    tgt_side = [tb, np.maximum(ta, tiny)]  # the index takes finite positive targets only
+    k = k0
+    while (rows_side[0].size or rows_side[1].size) and k <= kmax:
+        for side in (0, 1):
+            rows = rows_side[side]
+            if rows.size == 0:
+                continue
+            below, above = index.nearest_sides(tgt_side[side][rows], k)
+            ids = np.asarray(below if side == 0 else above, dtype=np.int64).reshape(rows.size, -1)
+            valid = ids >= 0
+            vals = np.full(ids.shape, np.nan)
+            vals[valid] = index.values(ids[valid])
+            lo_r = (lo[rows] * (1 - _SLACK))[:, None]
+            hi_r = (hi[rows] * (1 + _SLACK))[:, None]
+            inrange = valid & (vals >= lo_r) & (vals <= hi_r)
+            okm = inrange.copy()
+            if inrange.any():
+                rr = np.broadcast_to(rows[:, None], ids.shape)[inrange]
+                okm[inrange] = ok_fn(ids[inrange], rr)
+            dist = np.where(okm, np.abs(vals - tgt_side[side][rows][:, None]), np.inf)
+            j = np.argmin(dist, axis=1)
+            found = np.isfinite(dist[np.arange(rows.size), j])
+            out[side][rows[found]] = ids[found, j[found]]
+            if side == 0:  # going down: once a value is below lo, everything further is too
+                beyond = np.any(valid & (vals < lo_r), axis=1)
+            else:
+                beyond = np.any(valid & (vals > hi_r), axis=1)
+            more = ~found & valid.all(axis=1) & ~beyond & (ids.shape[1] >= k)
+            rows_side[side] = rows[more]
+        k *= 4
+    return out[0], out[1]
+
+
+def _fmt(v: float, unit: str) -> str:
+    try:
+        from selector.core.notation import format_value
+
+        return format_value(v, unit)
+    except Exception:  # notation module missing or unit unknown: plain SI
+        return f"{v:g} {unit}"
+
+
+def _signed_max(e1: np.ndarray, e2: np.ndarray) -> np.ndarray:
+    return np.where(np.abs(e1) >= np.abs(e2), e1, e2)
+
+
+# --------------------------------------------------------------------------- connections (physics)
+
+
+class _Physics:
+    """The timing laws of one connection in the form the search needs (all from core.timing)."""
+
+    def __init__(self, connection: str, target, limits):
+        from selector.core import timing
+
+        self.t = timing
+        self.connection = connection
+        self.target = target
+        self.limits = limits
+        if connection == "output-fed":
+            kh, kl = timing.output_fed_factors(limits.voh, limits.vol, limits.vcc)
+            self.kh, self.kl = float(kh), float(kl)
+
+    # --- two-resistor connections (standard, diode): t_low = ln2·RB·C in both
+    def t_low(self, rb, c):
+        return self.t.standard_times(0.0, rb, c)[1]
+
+    def rb_ideal(self, c):
+        return self.t.standard_ideal(self.target.t_high, self.target.t_low, c)[1]
+
+    def ra_for_high(self, t_high, rb, c):
+        """RA giving exactly ``t_high`` with this RB and C (may be <= 0 or nan: none)."""
+        if self.connection == "standard":
+            ra0, rb0 = self.t.standard_ideal(t_high, 0.0, c)  # rb0 = 0 → ra0 = t_high/(ln2 c) if > 0
+            return np.nan_to_num(ra0, nan=-np.inf) - rb
+        lim = self.limits
+        return self.t.diode_ideal_ra(t_high, rb, c, lim.vcc, lim.diode_vf)
+
+    def times2(self, ra, rb, c):
+        if self.connection == "standard":
+            return self.t.standard_times(ra, rb, c)
+        return self.t.diode_times(ra, rb, c, self.limits.vcc, self.limits.diode_vf)
+
+    # --- one-resistor connections
+    def r_ideal(self, c):
+        tg = self.target
+        if self.connection == "output-fed":
+            a_h = self.kh * c / tg.t_high
+            a_l = self.kl * c / tg.t_low
+            return 2.0 / (a_h + a_l)
+        if self.connection == "monostable":
+            return self.t.monostable_ideal_r(tg.width, c)
+        if not math.isnan(tg.corner_hz):
+            return self.t.rc_corner(1.0, c) / tg.corner_hz
+        return tg.tau / self.t.rc_tau(1.0, c)
+
+    def error1(self, r, c):
+        """(signed error, t_high, t_low, time) for one-resistor connections."""
+        tg = self.target
+        nan = np.full(np.shape(r), np.nan)
+        if self.connection == "output-fed":
+            th, tl = self.t.output_fed_times(r, c, self.limits.voh, self.limits.vol, self.limits.vcc)
+            return _signed_max(th / tg.t_high - 1, tl / tg.t_low - 1), th, tl, nan
+        if self.connection == "monostable":
+            w = self.t.monostable_width(r, c)
+            return w / tg.width - 1, nan, nan, w
+        tau = self.t.rc_tau(r, c)
+        if not math.isnan(tg.corner_hz):
+            return self.t.rc_corner(r, c) / tg.corner_hz - 1, nan, nan, tau
+        return tau / tg.tau - 1, nan, nan, tau
+
+    def r_bounds1(self, c):
+        lim = self.limits
+        lo = np.full(np.shape(c), lim.min_r_ohm, dtype=float)
+        if self.connection == "output-fed" and math.isfinite(lim.max_freq_hz):
+            lo = np.maximum(lo, (1.0 / lim.max_freq_hz) / ((self.kh + self.kl) * c))
+        hi = np.full(np.shape(c), lim.max_total_r_ohm, dtype=float)
+        return lo, hi
+
+
+# --------------------------------------------------------------------------- the searches
+
+
+def _chunks(n: int, size: int):
+    for s in range(0, n, size):
+        yield slice(s, min(n, s + size))
+
+
+class _Pass:
+    """One search over one pair of indexes (one parts budget) for one connection."""
+
+    def __init__(self, phys: _Physics, r_index, c_index, c_ids, limits, power: PowerCheck,
+                 ex, chunk: int = 2048):
+        self.p = phys
+        self.r = r_index
+        self.c_ids = c_ids
+        self.c_vals = c_index.values(c_ids) if c_ids.size else np.zeros(0)
+        self.lim = limits
+        self.power = power
+        self.ex = ex
+        self.chunk = chunk
+
+    # ---- two-resistor connections
+    def _best_ra(self, cv, rb_id, rb):
+        """Best RA for each (c, RB) pair: (ra_id, signed error, t_high, t_low); ra_id -1 = none."""
+        lim, p, tg = self.lim, self.p, self.p.target
+        n = len(cv)
+        t_low = p.t_low(rb, cv)
+        ra_star = p.ra_for_high(np.full(n, tg.t_high), rb, cv)
+        lo = np.full(n, lim.min_r_ohm, dtype=float)
+        if math.isfinite(lim.max_freq_hz):
+            need_high = 1.0 / lim.max_freq_hz - t_low  # period >= 1/fmax
+            pos = need_high > 0
+            ra_f = np.full(n, -np.inf)
+            if pos.any():
+                ra_f[pos] = p.ra_for_high(need_high[pos], rb[pos], cv[pos])
+            too_fast = np.isnan(ra_f)
+            ra_f = np.where(too_fast, np.inf, ra_f)
+            freq_bound = ra_f > lo
+            lo = np.maximum(lo, ra_f)
+        else:
+            freq_bound = np.zeros(n, dtype=bool)
+        hi = lim.max_total_r_ohm - rb
+        empty = lo > hi * (1 + _SLACK)
+        self.ex.add("RA/RB pairs over the total timing resistance limit", (empty & ~freq_bound).sum())
+        self.ex.add(f"combinations above the {_fmt(lim.max_freq_hz, 'Hz')} maximum frequency",
+                    (empty & freq_bound).sum())
+
+        def ok(ids, rows):
+            good = self.power.ok(ids)
+            if good.any():
+                sub = np.flatnonzero(good)
+                good[sub] = self.r.fits_together(ids[sub], rb_id[rows[sub]])
+            return good
+
+        below, above = _nearest_feasible(self.r, ra_star, lo, hi, ok)
+        best_id = np.full(n, -1, dtype=np.int64)
+        best_err = np.full(n, np.nan)
+        th_out = np.full(n, np.nan)
+        tl_out = np.full(n, np.nan)
+        for side in (below, above):
+            has = side >= 0
+            if not has.any():
+                continue
+            ra = self.r.values(side[has])
+            th, tl = p.times2(ra, rb[has], cv[has])
+            e = _signed_max(th / tg.t_high - 1, tl / tg.t_low - 1)
+            cur = best_err[has]
+            better = np.isnan(cur) | (np.abs(e) < np.abs(cur))
+            idx = np.flatnonzero(has)[better]
+            best_id[idx] = side[has][better]
+            best_err[idx] = e[better]
+            th_out[idx] = th[better]
+            tl_out[idx] = tl[better]
+        nothing = (best_id < 0) & ~empty
+        self.ex.add("RA/RB pairs with no RA left in range (power rating or shared stock)", nothing.sum())
+        return best_id, best_err, th_out, tl_out
+
+    def _eval_pairs(self, ci, rb_id):
+        """Evaluate pairs given by positions ``ci`` into c_ids and RB ids; returns rows kept."""
+        cv = self.c_vals[ci]
+        rb = self.r.values(rb_id)
+        ra_id, err, th, tl = self._best_ra(cv, rb_id, rb)
+        keep = (ra_id >= 0) & (np.abs(err) <= MAX_ERROR)
+        return (ci[keep], rb_id[keep], ra_id[keep], err[keep], th[keep], tl[keep])
+
+    def run2(self, pool: int, progress: Optional[Callable[[], None]] = None) -> list[tuple]:
+        lim, p = self.lim, self.p
+        nc = self.c_ids.size
+        if nc == 0:
+            return []
+        rb_star = p.rb_ideal(self.c_vals)
+        rb_hi_all = np.full(nc, lim.max_total_r_ohm - lim.min_r_ohm)
+        found: list[tuple] = []
+        # Phase 1: provisional bound from the nearest RB on each side of RB*(c).
+        for sl in _chunks(nc, self.chunk):
+            ci = np.arange(sl.start, sl.stop)
+            below, above = _nearest_feasible(self.r, rb_star[sl], np.zeros(ci.size), rb_hi_all[sl],
+                                             lambda ids, rows: np.ones(ids.shape, dtype=bool))
+            above = np.where(above == below, -1, above)  # an exact hit is found on both sides
+            cc = np.concatenate([ci[below >= 0], ci[above >= 0]])
+            rr = np.concatenate([below[below >= 0], above[above >= 0]])
+            if cc.size:
+                found.append(self._eval_pairs(cc, rr))
+            if progress:
+                progress()
+        errs = np.concatenate([f[3] for f in found]) if found else np.zeros(0)
+        errs = np.abs(errs)
+        if errs.size >= pool:
+            bound = float(np.partition(errs, pool - 1)[pool - 1])
+        else:
+            bound = MAX_ERROR  # too few options yet: certify the whole allowed range
+        bound = min(bound, MAX_ERROR) * (1 + _SLACK) + 1e-15
+        # Phase 2: every RB in the certified slice, each with its best RA.
+        for sl in _chunks(nc, self.chunk):
+            lo = rb_star[sl] * (1 - bound)
+            hi = np.minimum(rb_star[sl] * (1 + bound), rb_hi_all[sl])
+            offsets, ids = self.r.between(lo, np.maximum(hi, lo))
+            counts = np.diff(offsets)
+            ci = np.repeat(np.arange(sl.start, sl.stop), counts)
+            ids = np.asarray(ids, dtype=np.int64)
+            for sub in _chunks(ids.size, 200_000):
+                found.append(self._eval_pairs(ci[sub], ids[sub]))
+            if progress:
+                progress()
+        return self._collect(found, pool, two=True)
+
+    # ---- one-resistor connections
+    def run1(self, pool: int, progress: Optional[Callable[[], None]] = None) -> list[tuple]:
+        p = self.p
+        nc = self.c_ids.size
+        found = []
+        for sl in _chunks(nc, self.chunk):
+            ci = np.arange(sl.start, sl.stop)
+            cv = self.c_vals[sl]
+            r_star = p.r_ideal(cv)
+            lo, hi = p.r_bounds1(cv)
+            empty = lo > hi * (1 + _SLACK)
+            self.ex.add("C networks needing R outside the allowed range", empty.sum())
+            below, above = _nearest_feasible(self.r, r_star, lo, hi, lambda ids, rows: self.power.ok(ids))
+            self.ex.add("C networks with no R left in range (power rating)",
+                        ((below < 0) & (above < 0) & ~empty).sum())
+            for side in (below, above):
+                has = side >= 0
+                if not has.any():
+                    continue
+                e, th, tl, tt = p.error1(self.r.values(side[has]), cv[has])
+                keep = np.abs(e) <= MAX_ERROR
+                found.append((ci[has][keep], side[has][keep], e[keep], th[keep], tl[keep], tt[keep]))
+            if progress:
+                progress()
+        return self._collect(found, pool, two=False)
+
+    def _collect(self, found, pool: int, two: bool) -> list[tuple]:
+        if not found:
+            return []
+        cols = [np.concatenate(col) for col in zip(*found)]
+        if two:
+            ci, rb, ra, err, th, tl = cols
+            key = np.stack([ci, rb], axis=1)
+        else:
+            ci, r, err, th, tl, tt = cols
+            key = np.stack([ci, r], axis=1)
+        if key.size == 0:
+            return []
+        _, first = np.unique(key, axis=0, return_index=True)
+        order = first[np.argsort(np.abs(err[first]), kind="stable")][:pool]
+        out = []
+        for j in order:
+            if two:
+                out.append((int(self.c_ids[ci[j]]), (int(ra[j]), int(rb[j])), float(err[j]),
+                            float(th[j]), float(tl[j]), math.nan))
+            else:
+                out.append((int(self.c_ids[ci[j]]), (int(r[j]),), float(err[j]),
+                            float(th[j]), float(tl[j]), float(tt[j])))
+        return out

@@ -1,0 +1,334 @@
+"""The fast timing search finds the same best error as a plain exhaustive reference.
+
+The reference below is written independently of the search and of the network index: it lists
+every network with itertools (every multiset of parts, every shape), applies the same limits with
+plain formulas, checks the whole-option quantity rule line by line, and scores every single
+combination. Only the diode-steered charge time is taken from ``selector.core.timing`` (the physics
+under test elsewhere, in tests/test_timing_reference.py, against an ODE solver); the search itself
+is never used to compute an expected value.
+"""
+
+from __future__ import annotations
+
+import itertools
+import math
+from collections import Counter
+
+import numpy as np
+import pytest
+from hypothesis import HealthCheck, given, settings, strategies as st
+
+from selector.core.errors import NothingFeasible
+from selector.core.search import Limits, Target, search_timing
+from selector.core.types import StockLine
+
+LN2, LN3 = math.log(2.0), math.log(3.0)
+E12 = [1.0, 1.2, 1.5, 1.8, 2.2, 2.7, 3.3, 3.9, 4.7, 5.6, 6.8, 8.2]  # IEC 60063 E12 decade
+
+
+# --------------------------------------------------------------------------- plain reference
+
+
+def plain_networks(lines, max_parts, boards):
+    """Every network of 1..max_parts parts: (value, shape, [(line, role-in-shape)], power_fn).
+
+    ``power_fn(V)`` returns the power in each physical part with V across the network (plain
+    circuit analysis per shape). Capacitors: no polarized part under a series joint."""
+    usable = [ln for ln in lines if ln.quantity // boards >= 1]
+    kind = usable[0].kind if usable else "resistor"
+    res = kind == "resistor"
+
+    def ser(*xs):
+        return sum(xs) if res else 1.0 / sum(1.0 / x for x in xs)
+
+    def par(*xs):
+        return 1.0 / sum(1.0 / x for x in xs) if res else sum(xs)
+
+    out = []
+    for n in range(1, max_parts + 1):
+        for combo in itertools.combinations_with_replacement(usable, n):
+            cnt = Counter(ln.id for ln in combo)
+            if any(c * boards > ln.quantity for ln in combo for lid, c in cnt.items() if lid == ln.id):
+                continue
+            pol = [ln.polarized for ln in combo]
+            v = [ln.value for ln in combo]
+            if n == 1:
+                out.append((v[0], "single", combo, lambda V, v=v: [V * V / v[0]]))
+                continue
+            if n == 2:
+                a, b = v
+                if res or not any(pol):
+                    out.append((ser(a, b), "series", combo,
+                                lambda V, a=a, b=b: [(V / (a + b)) ** 2 * a, (V / (a + b)) ** 2 * b]))
+                out.append((par(a, b), "parallel", combo, lambda V, a=a, b=b: [V * V / a, V * V / b]))
+                continue
+            if res or not any(pol):
+                out.append((ser(*v), "series3", combo,
+                            lambda V, v=v: [(V / sum(v)) ** 2 * x for x in v]))
+            out.append((par(*v), "parallel3", combo, lambda V, v=v: [V * V / x for x in v]))
+            for k in range(3):  # part k alone, the other two as a pair
+                rest = [i for i in range(3) if i != k]
+                a, b, c = v[rest[0]], v[rest[1]], v[k]
+                order = (combo[rest[0]], combo[rest[1]], combo[k])
+                pa_pol = pol[rest[0]] or pol[rest[1]]
+                # (a ∥ b) + c : c and the pair are in series
+                if res or not any(pol):
+                    def p_sp(V, a=a, b=b, c=c):
+                        ab = a * b / (a + b)
+                        i = V / (c + ab)
+                        vab = i * ab
+                        return [vab * vab / a, vab * vab / b, i * i * c]
+                    out.append((ser(par(a, b), c), "series+parallel", order, p_sp))
+                # (a + b) ∥ c : the series pair is in parallel with c
+                if res or not pa_pol:
+                    def p_ps(V, a=a, b=b, c=c):
+                        i = V / (a + b)
+                        return [i * i * a, i * i * b, V * V / c]
+                    out.append((par(ser(a, b), c), "parallel+series", order, p_ps))
+    return out
+
+
+def usage(combo):
+    return Counter(ln.id for ln in combo)
+
+
+def power_ok(net, volts, derating):
+    if volts <= 0:
+        return True
+    _v, _s, combo, pfn = net
+    return all(ln.rating is None or p <= derating * ln.rating * (1 + 1e-9)
+               for ln, p in zip(combo, pfn(volts)))
+
+
+def cap_ok(net, lim):
+    value, _s, combo, _p = net
+    if value < lim.min_c_f * (1 - 1e-9):
+        return False
+    if lim.cap_volts > 0:
+        for ln in combo:
+            if ln.rating is not None and ln.rating * lim.cap_derating(ln.dielectric) < lim.cap_volts:
+                return False
+    return True
+
+
+def fits(nets, lines, boards):
+    qty = {ln.id: ln.quantity for ln in lines}
+    total = Counter()
+    for n in nets:
+        total.update(usage(n[2]))
+    return all(c * boards <= qty[lid] for lid, c in total.items())
+
+
+def reference_best(r_lines, c_lines, target, connection, lim, max_parts, boards):
+    """Smallest |error| over every allowed option, or None when nothing is allowed."""
+    from selector.core import timing  # physics only (diode charge), see module docstring
+
+    rn = plain_networks(r_lines, max_parts, boards)
+    cn = [n for n in plain_networks(c_lines, max_parts, boards) if cap_ok(n, lim)]
+    best = None
+    if connection in ("standard", "diode"):
+        ra_ok = [n for n in rn if n[0] >= lim.min_r_ohm * (1 - 1e-9)
+                 and power_ok(n, lim.r_power_volts, lim.r_power_derating)]
+        for ra, rb in itertools.product(ra_ok, rn):
+            if ra[0] + rb[0] > lim.max_total_r_ohm * (1 + 1e-9):
+                continue
+            if not fits([ra, rb], r_lines, boards):
+                continue
+            c = np.array([n[0] for n in cn])
+            if c.size == 0:
+                continue
+            if connection == "standard":
+                th = LN2 * (ra[0] + rb[0]) * c
+            else:
+                th = timing.diode_times(ra[0], rb[0], c, lim.vcc, lim.diode_vf)[0]
+            tl = LN2 * rb[0] * c
+            ok = 1.0 / (th + tl) <= lim.max_freq_hz * (1 + 1e-9)
+            e = np.maximum(np.abs(th / target.t_high - 1), np.abs(tl / target.t_low - 1))
+            e = e[ok & (e <= 1.0)]
+            if e.size and (best is None or e.min() < best):
+                best = float(e.min())
+        return best
+    # one-resistor connections
+    r_ok = [n for n in rn if lim.min_r_ohm * (1 - 1e-9) <= n[0] <= lim.max_total_r_ohm * (1 + 1e-9)
+            and power_ok(n, lim.r_power_volts, lim.r_power_derating)]
+    for r in r_ok:
+        for cnet in cn:
+            R, C = r[0], cnet[0]
+            if connection == "monostable":
+                e = abs(LN3 * R * C / target.width - 1)
+            elif connection == "rc":
+                if math.isnan(target.corner_hz):
+                    e = abs(R * C / target.tau - 1)
+                else:
+                    e = abs(1 / (2 * math.pi * R * C) / target.corner_hz - 1)
+            else:  # output-fed, thresholds VCC/3 and 2VCC/3 (facts.md §3, derived)
+                v = lim.vcc
+                th = R * C * math.log((lim.voh - v / 3) / (lim.voh - 2 * v / 3))
+                tl = R * C * math.log((2 * v / 3 - lim.vol) / (v / 3 - lim.vol))
+                if 1 / (th + tl) > lim.max_freq_hz * (1 + 1e-9):
+                    continue
+                e = max(abs(th / target.t_high - 1), abs(tl / target.t_low - 1))
+            if e <= 1.0 and (best is None or e < best):
+                best = e
+    return best
+
+
+# --------------------------------------------------------------------------- random small stocks
+
+
+def _stock(draw, kind, n_lines, start_id, decades):
+    lines = []
+    for i in range(n_lines):
+        mant = draw(st.sampled_from(E12))
+        dec = draw(st.sampled_from(decades))
+        qty = draw(st.integers(1, 3))
+        if kind == "resistor":
+            rating = draw(st.sampled_from([None, 0.125, 0.25, 0.5]))
+            lines.append(StockLine(start_id + i, kind, mant * dec, 0.05, 0.05, qty, rating=rating))
+        else:
+            diel = draw(st.sampled_from(["film", "C0G", "electrolytic", "X7R"]))
+            rating = draw(st.sampled_from([None, 6.3, 16.0, 50.0]))
+            lines.append(StockLine(start_id + i, kind, mant * dec, 0.1, 0.1, qty, rating=rating,
+                                   dielectric=diel, polarized=diel == "electrolytic"))
+    return lines
+
+
+def _derating(d):
+    return {"electrolytic": 0.8, "X7R": 0.5}.get(d, 0.8)  # same shape as core.parts, fixed here
+
+
+@st.composite
+def cases(draw, connection, max_parts_max=3):
+    max_parts = draw(st.integers(1, max_parts_max))
+    nr = draw(st.integers(1, 5 if max_parts < 3 else 4))
+    nc = draw(st.integers(1, 4 if max_parts < 3 else 3))
+    r_lines = _stock(draw, "resistor", nr, 1, [1e2, 1e3, 1e4, 1e5])
+    c_lines = _stock(draw, "capacitor", nc, 100, [1e-10, 1e-9, 1e-8, 1e-7, 1e-6])
+    boards = draw(st.integers(1, 2))
+    vcc = draw(st.sampled_from([5.0, 9.0, 12.0, 15.0]))
+    lim = Limits(
+        vcc=vcc,
+        min_r_ohm=draw(st.sampled_from([0.0, 500.0, 1e3, 5e3])),
+        max_total_r_ohm=draw(st.sampled_from([math.inf, 2e5, 5e4])),
+        min_c_f=draw(st.sampled_from([0.0, 1e-10, 1e-9])),
+        max_freq_hz=draw(st.sampled_from([math.inf, 1e5, 1e3])) if connection != "monostable" else math.inf,
+        r_power_volts=draw(st.sampled_from([0.0, vcc, 3 * vcc])),
+        r_power_derating=0.5,
+        cap_volts=draw(st.sampled_from([0.0, vcc])),
+        cap_derating=_derating,
+        diode_vf=draw(st.sampled_from([0.0, 0.3, 0.65])),
+        voh=vcc - draw(st.sampled_from([0.0, 1.0])),
+        vol=draw(st.sampled_from([0.0, 0.1])),
+    )
+    # a target near something the stock can make, perturbed (so the best is not always exact)
+    r1 = draw(st.sampled_from(r_lines)).value
+    r2 = draw(st.sampled_from(r_lines)).value
+    c = draw(st.sampled_from(c_lines)).value
+    wiggle = draw(st.floats(0.7, 1.4))
+    if connection in ("standard", "diode", "output-fed"):
+        th, tl = LN2 * (r1 + r2) * c * wiggle, LN2 * r2 * c / draw(st.floats(0.7, 1.4))
+        if connection == "diode" or connection == "output-fed":
+            th = LN2 * r1 * c * wiggle
+        target = Target("astable", t_high=th, t_low=tl)
+    elif connection == "monostable":
+        target = Target("monostable", width=LN3 * r1 * c * wiggle)
+    else:
+        if draw(st.booleans()):
+            target = Target("rc", tau=r1 * c * wiggle)
+        else:
+            tau = r1 * c * wiggle
+            target = Target("rc", tau=tau, corner_hz=1 / (2 * math.pi * tau))
+    pool = draw(st.integers(1, 6))
+    return r_lines, c_lines, target, lim, max_parts, boards, pool
+
+
+def _check(case, connection):
+    r_lines, c_lines, target, lim, max_parts, boards, pool = case
+    expected = reference_best(r_lines, c_lines, target, connection, lim, max_parts, boards)
+    try:
+        res = search_timing(r_lines, c_lines, target, (connection,), {connection: lim},
+                            max_parts=max_parts, boards=boards, pool=pool)
+    except NothingFeasible:
+        assert expected is None, f"search found nothing, the reference found {expected}"
+        return
+    assert expected is not None, f"search found {res.best_error}, the reference nothing"
+    assert abs(abs(res.best_error) - expected) <= 1e-12 + 1e-9 * expected
+    # and every returned option really is allowed and buildable
+    for opt in res.options:
+        nets = list(opt.networks.values())
+        total = Counter()
+        for n in nets:
+            total.update(n.usage)
+        qty = {ln.id: ln.quantity for ln in r_lines + c_lines}
+        assert all(cnt * boards <= qty[lid] for lid, cnt in total.items())
+
+
+_SETTINGS = dict(max_examples=60, deadline=None, derandomize=True,
+                 suppress_health_check=[HealthCheck.too_slow, HealthCheck.data_too_large])
+
+
+@settings(**_SETTINGS)
+@given(cases("standard"))
+def test_standard_astable_matches_exhaustive(case):
+    _check(case, "standard")
+
+
+@settings(**_SETTINGS)
+@given(cases("diode"))
+def test_diode_astable_matches_exhaustive(case):
+    _check(case, "diode")
+
+
+@settings(**_SETTINGS)
+@given(cases("output-fed"))
+def test_output_fed_astable_matches_exhaustive(case):
+    _check(case, "output-fed")
+
+
+@settings(**_SETTINGS)
+@given(cases("monostable"))
+def test_monostable_matches_exhaustive(case):
+    _check(case, "monostable")
+
+
+@settings(**_SETTINGS)
+@given(cases("rc"))
+def test_rc_matches_exhaustive(case):
+    _check(case, "rc")
+
+
+def test_reference_enumerator_hand_checks():
+    """Hand-checkable (derived): 10 k + 10 k = 20 k, 10 k ∥ 10 k = 5 k; two 100 nF in series
+    = 50 nF, in parallel 200 nF; and the count of shapes for three different parts (1 series3,
+    1 parallel3, 3 of each mixed shape)."""
+    r = [StockLine(1, "resistor", 10e3, 0.01, 0.01, 2)]
+    vals = sorted(round(n[0], 6) for n in plain_networks(r, 2, 1))
+    assert vals == [5e3, 10e3, 20e3]
+    c = [StockLine(2, "capacitor", 100e-9, 0.1, 0.1, 2)]
+    vals = sorted(round(n[0] * 1e9, 6) for n in plain_networks(c, 2, 1))
+    assert vals == [50.0, 100.0, 200.0]
+    three = [StockLine(i, "resistor", v, 0.01, 0.01, 1) for i, v in ((1, 1e3), (2, 2e3), (3, 3e3))]
+    shapes = Counter(n[1] for n in plain_networks(three, 3, 1) if len(n[2]) == 3)
+    assert shapes == {"series3": 1, "parallel3": 1, "series+parallel": 3, "parallel+series": 3}
+
+
+def test_pool_holds_the_k_best_pairs():
+    """With a pool of K, the K best (C, RB) pairs by error are exactly those the reference ranks
+    first (each pair with its best RA)."""
+    r_lines = [StockLine(i + 1, "resistor", v * 1e3, 0.05, 0.05, 2) for i, v in enumerate(E12)]
+    c_lines = [StockLine(50 + i, "capacitor", v * 1e-8, 0.1, 0.1, 2) for i, v in enumerate(E12[:6])]
+    target = Target.astable(1000.0, 0.7)
+    lim = Limits(vcc=9.0)
+    res = search_timing(r_lines, c_lines, target, ("standard",), {"standard": lim}, max_parts=1, pool=5)
+    # plain reference over all single parts: best RA per (C, RB)
+    per_pair = {}
+    for rb in r_lines:
+        for c in c_lines:
+            best = min(
+                max(abs(LN2 * (ra.value + rb.value) * c.value / target.t_high - 1),
+                    abs(LN2 * rb.value * c.value / target.t_low - 1))
+                for ra in r_lines if ra.id != rb.id or ra.quantity >= 2)
+            per_pair[(c.id, rb.id)] = best
+    expected = sorted(per_pair.values())[:5]
+    got = sorted(o.abs_error for o in res.options if o.budget == 1)[:5]
+    assert np.allclose(got, expected, rtol=1e-12, atol=0)
