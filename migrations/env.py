@@ -40,11 +40,16 @@ def _url() -> str:
 
 
 def _configure(connection) -> None:
+    sqlite = connection.dialect.name == "sqlite"
     context.configure(
         connection=connection,
         target_metadata=target_metadata,
-        render_as_batch=connection.dialect.name == "sqlite",
+        render_as_batch=sqlite,
         compare_type=True,
+        # Our SQLite connections run with isolation_level None and an explicit BEGIN IMMEDIATE, so
+        # DDL is transactional: the whole upgrade (and the foreign-key check after it) commits or
+        # rolls back as one unit. Without this alembic commits on its own after the last step.
+        transactional_ddl=True if sqlite else None,
     )
 
 

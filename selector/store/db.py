@@ -240,6 +240,9 @@ def _migrate(engine: Engine, u: sa.URL, name: str) -> None:
             if memory:
                 conn.connection.dbapi_connection.execute("PRAGMA foreign_keys=OFF")
             try:
+                # Begin here, so alembic sees an external transaction and never commits by itself:
+                # the upgrade and the foreign-key check below commit or roll back together.
+                conn.begin()
                 cfg = Config()
                 cfg.set_main_option("script_location", str(migrations_dir()))
                 cfg.attributes["connection"] = conn
