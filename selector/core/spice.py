@@ -417,6 +417,7 @@ def _rc_netlist(c: Circuit, L: list[str], cycles: int) -> Netlist:
           f"meas tran m_t63 WHEN v(cap)={_num(RC_FRACTION * v)} RISE=1",
           f"ac dec 200 {_num(fc / 100)} {_num(fc * 100)}",
           f"meas ac m_fc WHEN vdb(cap)={MINUS_3DB:.8f} FALL=1",
+          "quit",
           ".endc",
           ".end"]
     return Netlist("\n".join(L) + "\n", ("m_t63", "m_fc"), cycles)

@@ -1,0 +1,269 @@
+"""ngspice (an outside, general-purpose circuit simulator) against the timing formulas.
+
+Part 1 runs hand-built circuits and compares with the formulas of facts.md written out here with
+math.log (never with selector's own timing code). Part 2 goes through the saved-search records and
+the real command line. The options the search itself finds are checked in
+tests/test_simulate_found.py.
+
+Margins (ngspice vs formula), and why:
+- standard, output-fed, monostable: 0.5 %. Measured ≤ 0.1 %: the timestep is 1/1000 of the
+  shorter half-period (a comparator flips up to one step late), the 1 Ω discharge switch adds
+  RD/RB to t_low and leaves C a few mV above 0 V [S2: formula ignores RD].
+- diode-steered t_high: 3 %. The model's diode is exponential (Vf moves about n·Vt·ln(I1/I2),
+  tens of mV, as the charging current falls), the prediction holds Vf constant (facts §2).
+- RC τ (63.2 % time) and corner (AC −3 dB): 0.2 %.
+"""
+
+from __future__ import annotations
+
+import json
+import math
+import os
+import shutil
+import sys
+from pathlib import Path
+
+import pytest
+
+from selector.core import spice
+from selector.core.errors import SimulationFailed
+
+needs_ngspice = pytest.mark.skipif(shutil.which("ngspice") is None, reason="ngspice is not installed")
+pytestmark = [needs_ngspice, pytest.mark.ngspice]
+
+LN2, LN3 = math.log(2.0), math.log(3.0)
+M_555 = 0.005
+M_DIODE = 0.03
+M_RC = 0.002
+
+
+def single(label, *values, shape=None, tol=0.05):
+    shape = shape or ("single" if len(values) == 1 else "series")
+    return spice.Network(label, shape, tuple(spice.Part(v, tol_minus=tol, tol_plus=tol) for v in values))
+
+
+def run(c, cycles=5):
+    from selector.services.simulate import find_ngspice, simulate_circuit
+
+    return simulate_circuit(c, find_ngspice(), cycles)
+
+
+# ----------------------------------------------------------------------------- part 1: hand-built
+@pytest.mark.parametrize("family, vcc, voh, vol, ra, rb, c", [
+    ("bipolar", 9.0, 7.6, 0.1, 10e3, 47e3, 10e-9),      # 1.38 kHz
+    ("cmos", 5.0, 5.0, 0.0, 1.78e3, 4.12e3, 10e-9),     # 14.4 kHz ([S4] Fig. 7-6 values)
+    ("bipolar", 12.0, 10.6, 0.1, 100e3, 220e3, 10e-6),  # 0.26 Hz, slow
+])
+def test_standard_astable_matches_the_data_sheet_formula(family, vcc, voh, vol, ra, rb, c):
+    # [S2, S3] bipolar 555 data sheet: t_high = ln2·(RA+RB)·C, t_low = ln2·RB·C
+    th, tl = LN2 * (ra + rb) * c, LN2 * rb * c
+    circ = spice.Circuit("standard", {"RA": single("RA", ra), "RB": single("RB", rb), "C": single("C", c)},
+                         spice.chip_model(family, vcc, voh, vol), expected={"t_high_s": th, "t_low_s": tl})
+    got = run(circ)
+    assert got["t_high_s"] == pytest.approx(th, rel=M_555)
+    assert got["t_low_s"] == pytest.approx(tl, rel=M_555)
+    assert got["frequency_hz"] == pytest.approx(1 / (th + tl), rel=M_555)
+    assert got["duty"] == pytest.approx(th / (th + tl), rel=M_555)
+
+
+def test_series_network_simulates_as_its_sum():
+    # RA = 6.8k + 3.3k in series (two elements) behaves as 10.1k [facts §11.3 series law]
+    ra, rb, c = 10.1e3, 22e3, 47e-9
+    th, tl = LN2 * (ra + rb) * c, LN2 * rb * c
+    circ = spice.Circuit("standard", {"RA": single("RA", 6.8e3, 3.3e3), "RB": single("RB", rb),
+                                      "C": single("C", 22e-9, 25e-9, shape="parallel")},
+                         spice.chip_model("bipolar", 9, 7.6, 0.1), expected={"t_high_s": th, "t_low_s": tl})
+    assert run(circ)["frequency_hz"] == pytest.approx(1 / (th + tl), rel=M_555)
+
+
+@pytest.mark.parametrize("vcc, vf, ra, rb, c", [
+    (5.0, 0.65, 10e3, 22e3, 10e-9),   # duty < 50 %
+    (9.0, 0.65, 4.7e3, 47e3, 100e-9),
+    (12.0, 0.3, 33e3, 10e3, 1e-6),    # Schottky-like drop, RB small: the diode turns off late in the charge
+])
+def test_diode_astable_matches_the_constant_drop_formula(vcc, vf, ra, rb, c):
+    # facts §2 [S8]: t_high = RA·C·ln((2VCC − 3Vf)/(VCC − 3Vf)) while the diode conducts all the
+    # way; piecewise when Vc* = VCC − Vf(RA+RB)/RB falls inside the swing (derived there)
+    v_star = vcc - vf * (ra + rb) / rb
+    if v_star >= 2 * vcc / 3:
+        th = ra * c * math.log((2 * vcc - 3 * vf) / (vcc - 3 * vf))
+    else:
+        th = (ra * c * math.log((vcc - vf - vcc / 3) / (vcc - vf - v_star))
+              + (ra + rb) * c * math.log((vcc - v_star) / (vcc / 3)))
+    tl = LN2 * rb * c
+    circ = spice.Circuit("diode", {"RA": single("RA", ra), "RB": single("RB", rb), "C": single("C", c)},
+                         spice.chip_model("cmos", vcc, vcc, 0.0), diode_vf=vf,
+                         expected={"t_high_s": th, "t_low_s": tl})
+    got = run(circ)
+    assert got["t_high_s"] == pytest.approx(th, rel=M_DIODE)
+    assert got["t_low_s"] == pytest.approx(tl, rel=M_555)
+
+
+@pytest.mark.parametrize("family, vcc, voh, vol", [("cmos", 5.0, 5.0, 0.0), ("bipolar", 15.0, 13.6, 0.1)])
+def test_output_fed_astable_matches_the_level_formula(family, vcc, voh, vol):
+    # facts §3 (derived; [S7] for the rail-to-rail case): t_high = RC·ln((VOH − VCC/3)/(VOH − 2VCC/3)),
+    # t_low = RC·ln((2VCC/3 − VOL)/(VCC/3 − VOL)); facts §3 table: 15 V, VOH 13.6 V → D = 55.7 %
+    r, c = 47e3, 10e-9
+    th = r * c * math.log((voh - vcc / 3) / (voh - 2 * vcc / 3))
+    tl = r * c * math.log((2 * vcc / 3 - vol) / (vcc / 3 - vol))
+    circ = spice.Circuit("output-fed", {"R": single("R", r), "C": single("C", c)},
+                         spice.chip_model(family, vcc, voh, vol), expected={"t_high_s": th, "t_low_s": tl})
+    got = run(circ)
+    assert got["t_high_s"] == pytest.approx(th, rel=M_555)
+    assert got["t_low_s"] == pytest.approx(tl, rel=M_555)
+
+
+def test_output_that_cannot_reach_the_threshold_is_a_failure_not_a_number():
+    # facts §3: a bipolar output at 5 V with VOH 3.3 V < 2/3·VCC never oscillates
+    circ = spice.Circuit("output-fed", {"R": single("R", 10e3), "C": single("C", 10e-9)},
+                         spice.chip_model("bipolar", 5.0, 3.3, 0.1),
+                         expected={"t_high_s": 1e-4, "t_low_s": 1e-4})
+    with pytest.raises(SimulationFailed, match="could not measure"):
+        run(circ)
+
+
+@pytest.mark.parametrize("family, vcc, r, c", [("bipolar", 9.0, 5e3, 0.1e-6), ("cmos", 5.0, 1e6, 4.7e-6)])
+def test_monostable_width_is_ln3_rc(family, vcc, r, c):
+    # [S3, S5]: t_w = ln3·R·C ≈ 1.1·R·C
+    circ = spice.Circuit("monostable", {"R": single("R", r), "C": single("C", c)},
+                         spice.chip_model(family, vcc, vcc - (1.4 if family == "bipolar" else 0), 0.0),
+                         expected={"width_s": LN3 * r * c})
+    assert run(circ)["width_s"] == pytest.approx(LN3 * r * c, rel=M_555)
+
+
+def test_rc_step_and_corner():
+    # τ = RC (63.2 % time) and fc = 1/(2πRC); 1.6 kΩ × 100 nF → 994.7 Hz (facts §11 identities)
+    circ = spice.Circuit("rc", {"R": single("R", 1.6e3), "C": single("C", 100e-9)},
+                         spice.chip_model("cmos", 1.0, 1.0, 0.0), expected={"tau_s": 1.6e-4})
+    got = run(circ)
+    assert got["tau_s"] == pytest.approx(1.6e-4, rel=M_RC)
+    assert got["corner_hz"] == pytest.approx(994.7, rel=M_RC)
+
+
+def test_datasheet_discharge_resistance_lengthens_t_low():
+    # A real discharge transistor saturates at 180 mV / 15 mA ([S1], about 12 Ω): C stops short
+    # of 0 V and t_low grows; facts §2 gives t_low = RB·C·ln((2VCC/3 − Vsat)/(VCC/3 − Vsat)).
+    ra, rb, c, vcc = 1e3, 10e3, 100e-9, 9.0
+    th, tl = LN2 * (ra + rb) * c, LN2 * rb * c
+    nets = {"RA": single("RA", ra), "RB": single("RB", rb), "C": single("C", c)}
+    ideal = run(spice.Circuit("standard", nets, spice.chip_model("bipolar", vcc, 7.6, 0.1),
+                              expected={"t_high_s": th, "t_low_s": tl}))
+    real = run(spice.Circuit("standard", nets, spice.chip_model("bipolar", vcc, 7.6, 0.1, discharge_ohms=12.0),
+                             expected={"t_high_s": th, "t_low_s": tl}))
+    # at the end of the discharge DIS carries VCC/RA + Vc/RB ≈ 9.3 mA → Vsat ≈ 0.11 V (12 Ω)
+    vsat = 12.0 * (vcc / ra + (vcc / 3) / rb)
+    lower = rb * c * math.log((2 * vcc / 3) / (vcc / 3 - vsat))   # switch drop at its largest
+    assert real["t_low_s"] > ideal["t_low_s"] * 1.01
+    assert real["t_low_s"] < lower * 1.01
+
+
+# ----------------------------------------------------------------------------- part 2: records and CLI
+STOCK_CSV = """Kind,Value,Tolerance,Quantity,Location,Package,Rating,Dielectric,Note
+resistor,10k,1%,20,R1,axial,1/4W,,metal film
+resistor,4k7,5%,20,R2,axial,1/4W,,carbon film
+resistor,47k,1%,20,R3,axial,1/4W,,metal film
+capacitor,10n,5%,20,C1,radial,50V,C0G,
+capacitor,100n,10%,20,C2,radial,50V,X7R,
+"""
+
+
+@pytest.fixture
+def saved_db(tmp_path, db_url):
+    """A stock file imported through the stock service, plus one hand-written saved search in the
+    documented record form (what `find astable` stores), option 1 = RA 10k+4k7, RB 47k, C 10n."""
+    from selector.services.stock import import_stock
+    from selector.store.db import load_stock, open_engine, transaction
+    from selector.store.models import SearchOptionRow, SearchRow
+
+    csv = tmp_path / "stock.csv"
+    csv.write_text(STOCK_CSV, encoding="utf-8")
+    engine = open_engine(db_url)
+    try:
+        import_stock(engine, csv)
+        with transaction(engine) as s:
+            lines = {round(l.value, 15): l for l in load_stock(s)}
+            r10, r47k, r4k7, c10 = lines[10e3], lines[47e3], lines[4.7e3], lines[round(10e-9, 15)]
+            ra, rb, c = 14.7e3, 47e3, 10e-9
+            th, tl = LN2 * (ra + rb) * c, LN2 * rb * c   # [S2, S3]
+            part = lambda l: {"line_id": l.id, "value": l.value, "count": 1, "location": l.location}
+            data = {"rank": 1, "connection": "standard", "error": 0.0,
+                    "predicted": {"frequency_hz": 1 / (th + tl), "duty": th / (th + tl), "t_high_s": th, "t_low_s": tl},
+                    "range": {}, "yield": 1.0,
+                    "networks": {"RA": {"value": ra, "shape": "series", "parts": [part(r10), part(r4k7)]},
+                                 "RB": {"value": rb, "shape": "single", "parts": [part(r47k)]},
+                                 "C": {"value": c, "shape": "single", "parts": [part(c10)]}}}
+            search = SearchRow(mode="astable", target_json=json.dumps({"frequency_hz": 1000.0}),
+                               params_json=json.dumps({"chip": "bipolar", "vcc": 9.0, "boards": 1}))
+            s.add(search)
+            s.flush()
+            s.add(SearchOptionRow(search_id=search.id, rank=1, connection="standard", error=0.0,
+                                  data_json=json.dumps(data)))
+    finally:
+        engine.dispose()
+    return db_url
+
+
+def test_cli_simulate_json_has_the_three_blocks(cli, saved_db):
+    r = cli("simulate", "1", "--json", db=saved_db)
+    assert r.returncode == 0, r.stderr
+    out = json.loads(r.stdout)
+    assert set(out["predicted"]) == {"frequency_hz", "duty", "t_high_s", "t_low_s"}
+    assert set(out["simulated"]) == set(out["predicted"]) == set(out["difference"])
+    for k in out["predicted"]:
+        assert out["difference"][k] == pytest.approx(
+            (out["simulated"][k] - out["predicted"][k]) / out["predicted"][k], rel=1e-9)
+        assert abs(out["difference"][k]) < M_555
+
+
+def test_cli_simulate_table_shows_both_figures(cli, saved_db):
+    r = cli("simulate", "1", db=saved_db)
+    assert r.returncode == 0, r.stderr
+    assert "frequency" in r.stdout and "predicted" in r.stdout and "ngspice" in r.stdout
+    assert "Caution" in r.stdout
+
+
+def test_cli_corners_bracket_the_nominal(cli, saved_db):
+    r = cli("simulate", "1", "--json", "--corners", db=saved_db)
+    assert r.returncode == 0, r.stderr
+    out = json.loads(r.stdout)
+    corners = {c["name"]: c for c in out["corners"]}
+    f = out["simulated"]["frequency_hz"]
+    # facts §10: f is monotonic in every part: all parts low → highest f, all high → lowest
+    assert corners["all -tol"]["simulated"]["frequency_hz"] > f > corners["all +tol"]["simulated"]["frequency_hz"]
+    assert corners["duty max"]["simulated"]["duty"] > out["simulated"]["duty"] > corners["duty min"]["simulated"]["duty"]
+    for c in corners.values():
+        assert abs(c["difference"]["frequency_hz"]) < M_555
+    # all −tol by hand: RA = 10k·0.99 + 4k7·0.95, RB = 47k·0.99, C = 10n·0.95 [S2, S3]
+    ra, rb, c = 10e3 * 0.99 + 4.7e3 * 0.95, 47e3 * 0.99, 10e-9 * 0.95
+    assert corners["all -tol"]["simulated"]["frequency_hz"] == pytest.approx(1 / (LN2 * (ra + 2 * rb) * c), rel=M_555)
+
+
+def test_cli_netlist_writes_a_file_ngspice_runs(cli, saved_db, tmp_path):
+    out = tmp_path / "opt1.cir"
+    r = cli("netlist", "1", "--output", str(out), db=saved_db)
+    assert r.returncode == 0, r.stderr
+    text = out.read_text()
+    assert text.count("\nRRA_") == 2   # the two series parts of RA, each its own element
+    import subprocess
+
+    run_out = subprocess.run(["ngspice", "-b", str(out)], capture_output=True, text=True, cwd=tmp_path)
+    found, failed = spice.parse_measurements(run_out.stdout)
+    assert not failed and "m_f6" in found
+
+
+def test_cli_unknown_option_is_one_line(cli, saved_db):
+    r = cli("simulate", "7", db=saved_db)
+    assert r.returncode == 1
+    assert r.stderr.strip().splitlines() == ["Error: search 1 has no option 7 (it has options 1-1)"]
+
+
+def test_cli_without_ngspice_says_how_to_install(cli, saved_db, tmp_path):
+    # a PATH holding only the Python interpreter's folder: ngspice cannot be found
+    bindir = tmp_path / "bin"
+    bindir.mkdir()
+    os.symlink(sys.executable, bindir / "python")
+    r = cli("simulate", "1", db=saved_db, env={"PATH": str(bindir)})
+    assert r.returncode == 1
+    line = r.stderr.strip()
+    assert line.startswith("Error: ngspice was not found on PATH") and "apt-get install ngspice" in line
+    assert "Traceback" not in r.stderr
