@@ -125,7 +125,7 @@ def test_capacitor_rkm_examples(text, expected):
         ("2 s", None, SECOND, 2.0), ("2.5kHz", None, None, 2500.0), ("2.5 khz", None, HERTZ, 2500.0),
         ("1MHz", None, HERTZ, 1e6), ("50 mHz", None, HERTZ, 0.05), ("9V", None, None, 9.0),
         ("9 V", None, VOLT, 9.0), ("250mW", None, WATT, 0.25), ("  4.7k  ", None, None, 4.7e3),
-        (".47", "resistor", None, 0.47), ("+100", None, None, 100.0), ("0R", "resistor", None, 0.0),
+        (".47", "resistor", None, 0.47), ("+100", None, None, 100.0), ("0R", "resistor", None, 0.0), ("-0", None, None, 0.0),
         ("1.5e-6", "capacitor", None, 1.5e-6), ("4.7E-9", "capacitor", None, 4.7e-9),
         ("0.000047", "capacitor", None, 47e-6),  # a plain decimal below 1 mF is farads
         ("4k7Ω", "resistor", None, 4.7e3), ("4n7F", "capacitor", None, 4.7e-9),
@@ -194,6 +194,8 @@ def test_codes_apply_only_to_capacitors():
          'cannot read "4 7k" as a resistance: expected e.g. 4700, 4.7k, 4k7, 4.7 kΩ'),
         ("1e999", None, None,
          'cannot read "1e999" as a value: it is too large; expected e.g. 4.7k, 100n, 150ms, 2.5 kHz'),
+        ("1e-999", "resistor", None,
+         'cannot read "1e-999" as a resistance: it is too small; expected e.g. 4700, 4.7k, 4k7, 4.7 kΩ'),
     ],
 )
 def test_refusals_quote_the_text_and_say_what_was_expected(text, kind, unit, message):
@@ -486,3 +488,7 @@ def test_marked_value_refusals_quote_the_whole_marking():
     with pytest.raises(UnparseableValue) as err:
         parse_marked_value("1M", "capacitor")
     assert str(err.value).startswith('cannot read "1M" as a capacitance: "M" is ambiguous')
+
+
+def test_negative_zero_reads_as_plain_zero():
+    assert math.copysign(1.0, parse_value("-0")) == 1.0

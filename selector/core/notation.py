@@ -263,7 +263,9 @@ def _parse(
         raise _fail(text, q, str(exc), what, examples) from None
     if not math.isfinite(value):
         raise _fail(text, q, "it is too large", what, examples)
-    return value
+    if value == 0 and reading.number != 0:
+        raise _fail(text, q, "it is too small", what, examples)
+    return value + 0.0  # -0 -> 0
 
 
 def parse_value(text: str, kind: str | None = None, unit: str | None = None) -> float:
