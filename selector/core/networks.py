@@ -93,6 +93,8 @@ def adds(kind: str, joint: str) -> bool:
 def _join(add: Union[bool, np.ndarray], x: np.ndarray, y: np.ndarray) -> np.ndarray:
     """Combine two values (arrays) by a joint: sum, or reciprocal of the sum of reciprocals."""
     with np.errstate(divide="ignore", invalid="ignore"):
+        if add is True or add is False:
+            return x + y if add else 1.0 / (1.0 / x + 1.0 / y)
         return np.where(add, x + y, 1.0 / (1.0 / x + 1.0 / y))
 
 
@@ -200,6 +202,23 @@ def _rank_rows(rows: np.ndarray, ids: np.ndarray, keys: Sequence[np.ndarray], nr
     return out
 
 
+def _argsort_stable(x: np.ndarray) -> np.ndarray:
+    """Same result as a stable argsort, faster on large float arrays: a quicksort, then only the
+    runs of equal values put back in position order."""
+    order = np.argsort(x)
+    sx = x[order]
+    tie = np.zeros(len(x), dtype=bool)
+    if len(x) > 1:
+        eq = sx[1:] == sx[:-1]
+        tie[1:] |= eq
+        tie[:-1] |= eq
+    if tie.any():
+        at = np.flatnonzero(tie)
+        sub = at[np.lexsort((order[at], sx[at]))]
+        order[at] = order[sub]
+    return order
+
+
 def _preimage(add: bool, a: np.ndarray, v: np.ndarray) -> np.ndarray:
     """The pair value p with join(a, p) == v (elementwise; +inf when no finite p reaches v)."""
     with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
@@ -247,45 +266,62 @@ class NetworkIndex:
         return self.kind == "capacitor" and not self.allow_polarized_series and joint == "series"
 
     def _build_materialised(self) -> None:
-        L, v, lo, hi, cap = self._L, self._v, self._vlo, self._vhi, self._cap()
-        ar = np.arange(L, dtype=np.int64)
-        cols = {"val": [v], "lo": [lo], "hi": [hi], "shape": [np.zeros(L, np.int8)],
-                "li": [ar], "lj": [np.full(L, -1, np.int64)], "pol": [self._pol]}
+        L, v, cap = self._L, self._v, self._cap()
+        cols = {"val": [v], "shape": [np.zeros(L, np.int8)],
+                "li": [np.arange(L, dtype=np.int64)], "lj": [np.full(L, -1, np.int64)]}
         if self.max_parts >= 2 and L:
             i, j = np.triu_indices(L)
             keep = (i != j) | (cap[i] >= 2)
             i, j = i[keep].astype(np.int64), j[keep].astype(np.int64)
             ppol = self._pol[i] | self._pol[j]
             for code, joint in ((_SERIES, "series"), (_PARALLEL, "parallel")):
-                sel = ~ppol if self._block_polarized(joint) else np.ones(len(i), bool)
-                ii, jj, add = i[sel], j[sel], adds(self.kind, joint)
-                cols["val"].append(_join(add, v[ii], v[jj]))
-                cols["lo"].append(_join(add, lo[ii], lo[jj]))
-                cols["hi"].append(_join(add, hi[ii], hi[jj]))
+                ii, jj = i, j
+                if self._block_polarized(joint) and ppol.any():
+                    ii, jj = i[~ppol], j[~ppol]
+                cols["val"].append(_join(adds(self.kind, joint), v[ii], v[jj]))
                 cols["shape"].append(np.full(len(ii), code, np.int8))
                 cols["li"].append(ii)
                 cols["lj"].append(jj)
-                cols["pol"].append(ppol[sel])
         c = {name: np.concatenate(parts) for name, parts in cols.items()}
-        npart = np.where(c["shape"] == _SINGLE, 1, 2).astype(np.int8)
-        order = np.lexsort((c["lj"], c["li"], c["shape"], npart, c["val"]))
+        # Built in (parts, shape, li, lj) order, so sorting on (value, build position) gives the
+        # order (value, parts, shape, li, lj) that ids and tie-breaks rely on.
+        order = _argsort_stable(c["val"])
         self._val = c["val"][order]
-        self._lo = c["lo"][order]
-        self._hi = c["hi"][order]
         self._shape = c["shape"][order]
         self._li = c["li"][order]
         self._lj = c["lj"][order]
-        self._ppol = c["pol"][order]
-        self._np = npart[order]
+        self._np = np.where(self._shape == _SINGLE, 1, 2).astype(np.int8)
         self._M = M = len(self._val)
-        # Second order for "at or below" look-ups: value ascending, more parts first, higher id
-        # first, so the last k entries at or below a target are the k best by (distance, parts, id).
-        self._order_desc = np.lexsort((-np.arange(M), -self._np.astype(np.int64), self._val))
-        self._val_desc = self._val[self._order_desc]
-        pairs = np.flatnonzero(self._shape != _SINGLE)
-        keys = (self._shape[pairs].astype(np.int64) * L + self._li[pairs]) * L + self._lj[pairs]
-        o = np.argsort(keys, kind="stable")
-        self._pair_keys, self._pair_pos = keys[o], pairs[o]
+        # Second order for "at or below" look-ups: within each run of equal values the higher
+        # positions (more parts, higher id) first, so the last k entries at or below a target
+        # are the k best by (distance, parts, id).
+        p = np.arange(M)
+        new_run = np.ones(M, dtype=bool)
+        new_run[1:] = self._val[1:] != self._val[:-1]
+        run = np.cumsum(new_run) - 1
+        starts = np.flatnonzero(new_run)
+        ends = np.append(starts[1:], M) - 1
+        self._order_desc = starts[run] + ends[run] - p
+        self._val_desc = self._val  # same values, same ascending order
+        # (shape, li, lj) keys of the pairs are increasing in build order: no sort needed.
+        inverse = np.empty(M, dtype=np.int64)
+        inverse[order] = p
+        self._pair_keys = (c["shape"][L:].astype(np.int64) * L + c["li"][L:]) * L + c["lj"][L:]
+        self._pair_pos = inverse[L:]
+
+    def _mat_bounds(self, pos: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        """Worst-case bounds of materialised entries, computed on demand from their parts."""
+        li, lj, shape = self._li[pos], self._lj[pos], self._shape[pos]
+        single = shape == _SINGLE
+        add = np.where(shape == _SERIES, adds(self.kind, "series"), adds(self.kind, "parallel"))
+        ljc = np.where(single, li, lj)
+        lo = np.where(single, self._vlo[li], _join(add, self._vlo[li], self._vlo[ljc]))
+        hi = np.where(single, self._vhi[li], _join(add, self._vhi[li], self._vhi[ljc]))
+        return lo, hi
+
+    def _mat_polarized(self, pos: np.ndarray) -> np.ndarray:
+        lj = self._lj[pos]
+        return self._pol[self._li[pos]] | ((lj >= 0) & self._pol[np.maximum(lj, 0)])
 
     def _build_pools(self) -> None:
         """For each 3-part shape: the sorted array of allowed inner pairs and the allowed singles."""
@@ -298,7 +334,7 @@ class NetworkIndex:
             mask = self._shape == code
             a_lines = np.arange(self._L, dtype=np.int64)
             if self._block_polarized(outer):
-                mask &= ~self._ppol
+                mask &= ~self._mat_polarized(np.arange(self._M))
                 a_lines = a_lines[~self._pol]
             pool_pos = np.flatnonzero(mask).astype(np.int64)
             self._pools.append((pool_pos, self._val[pool_pos], a_lines))
@@ -370,13 +406,14 @@ class NetworkIndex:
         ids = self._check_ids(ids)
         lo, hi = np.full(ids.shape, np.nan), np.full(ids.shape, np.nan)
         m = (ids >= 0) & (ids < self._M)
-        lo[m], hi[m] = self._lo[ids[m]], self._hi[ids[m]]
+        lo[m], hi[m] = self._mat_bounds(ids[m])
         t = ids >= self._M
         if np.any(t):
             s, a, pos = self._decode(ids[t])
             add = self._outer_add[s]
-            lo[t] = _join(add, self._vlo[a], self._lo[pos])
-            hi[t] = _join(add, self._vhi[a], self._hi[pos])
+            plo, phi = self._mat_bounds(pos)
+            lo[t] = _join(add, self._vlo[a], plo)
+            hi[t] = _join(add, self._vhi[a], phi)
         return lo, hi
 
     def nparts(self, ids) -> np.ndarray:
@@ -506,63 +543,130 @@ class NetworkIndex:
     def _chunks(self, n: int):
         """Target chunks small enough that the 3-part windows stay a few MB."""
         per = max(1, sum(len(a) for _p, _v, a in self._pools))
-        step = max(1, 60_000 // per) if self._pools else max(1, n)
+        step = max(1, 200_000 // per) if self._pools else max(1, n)
         for start in range(0, n, step):
             yield slice(start, min(n, start + step))
 
-    def _triple_candidates(self, T: np.ndarray, k: int) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-        """For every target row and every allowed single part a: the k nearest allowed pairs on
-        each side of the exactly-needed pair value, plus every pair inside the rounding slack.
-        Returns (row, canonical id, value) of the candidates (may repeat)."""
-        out_r, out_i, out_v = [], [], []
+    def _windows(self, s: int, zl: np.ndarray, zh: np.ndarray, a: np.ndarray, k: int,
+                 below: bool) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+        """For rows (single a, pool slice zone [zl, zh)): every allowed pair in the zone plus the k
+        nearest allowed pairs beyond it on one side (below: indices < zl; above: >= zh).
+        Returns (row, a, pair position) of those entries."""
+        pool_pos = self._pools[s][0]
+        n_pool = len(pool_pos)
+        out_r, out_a, out_p = [], [], []
+        pending = np.arange(len(zl))
+        w = k + 2
+        while pending.size:
+            pl, ph, pa = zl[pending], zh[pending], a[pending]
+            zmax = int(np.max(ph - pl)) if len(pl) else 0
+            if below:
+                idx = ph[:, None] - 1 - np.arange(zmax + w)[None, :]  # from the zone end downwards
+            else:
+                idx = pl[:, None] + np.arange(zmax + w)[None, :]
+            inside = (idx >= 0) & (idx < n_pool)
+            if below:
+                inside &= idx < ph[:, None]
+            else:
+                inside &= idx >= pl[:, None]
+            pos = pool_pos[np.clip(idx, 0, n_pool - 1)]
+            ok = inside & self._triple_ok(pa[:, None], pos)
+            if below:
+                beyond = np.sum(ok & (idx < pl[:, None]), axis=1)
+                more = (beyond < k) & (ph - zmax - w > 0)
+            else:
+                beyond = np.sum(ok & (idx >= ph[:, None]), axis=1)
+                more = (beyond < k) & (pl + zmax + w < n_pool)
+            r, c = np.nonzero(ok & ~more[:, None])
+            out_r.append(pending[r])
+            out_a.append(pa[r])
+            out_p.append(pos[r, c])
+            pending = pending[more]
+            w *= 4
+        return np.concatenate(out_r), np.concatenate(out_a), np.concatenate(out_p)
+
+    def _triple_sides(self, T: np.ndarray, k: int, bounds: tuple[np.ndarray, np.ndarray]):
+        """Candidates among the 3-part networks for the k nearest below and above each target
+        (T ascending: then every single part's pair look-ups come in ascending order, which
+        numpy's searchsorted runs much faster).
+
+        Exactness argument.  For one single part a (a "row"), values rise with the pair's
+        position in the sorted pool, so the entries on the wanted side form a prefix/suffix and
+        the row's best ones are next to the split point.  Phase 1 looks only at the pool entry
+        next to the split: its distance is a lower bound LB for every entry of the row on that
+        side, and when that entry is allowed it is also a real network, an upper bound.  A
+        network can repeat in at most 3 rows (the symmetric shapes), so the (3k)-th smallest
+        row upper bound, and the caller's bound from the 1-2 part networks, are upper bounds U
+        on the k-th best distance.  Rows with LB > U cannot hold any of the k best; phase 2
+        takes the k nearest allowed entries (plus the rounding-slack zone) of the other rows.
+        Returns [(target row, canonical id, value) below, (...) above]."""
         m = len(T)
+        blocks = []
+        lbs: tuple[list, list] = ([], [])
+        ubs: tuple[list, list] = ([], [])
         for s, (pool_pos, pool_val, a_lines) in enumerate(self._pools):
             n_pool, na = len(pool_pos), len(a_lines)
             if n_pool == 0 or na == 0:
                 continue
             add = bool(self._outer_add[s])
-            av = self._v[a_lines][None, :]
-            plo = _preimage(add, av, (T * (1.0 - _EPS))[:, None]).ravel()
-            phi = _preimage(add, av, (T * (1.0 + _EPS))[:, None]).ravel()
-            zl_all = np.searchsorted(pool_val, plo, side="left")
-            zh_all = np.searchsorted(pool_val, phi, side="right")
-            row_a = np.tile(a_lines, m)
-            pending = np.arange(m * na)
-            w = k + 2
-            while pending.size:
-                zl, zh, a = zl_all[pending], zh_all[pending], row_a[pending]
-                zmax = int(np.max(zh - zl))
-                idx = zl[:, None] + (np.arange(2 * w + zmax) - w)[None, :]
-                inside = (idx >= 0) & (idx < n_pool)
-                pos = pool_pos[np.clip(idx, 0, n_pool - 1)]
-                ok = inside & self._triple_ok(a[:, None], pos)
-                left = np.sum(ok & (idx < zl[:, None]), axis=1)
-                right = np.sum(ok & (idx >= zh[:, None]), axis=1)
-                more = ((left < k) & (zl - w > 0)) | ((right < k) & (zl + w + zmax < n_pool))
-                done = ~more
-                r, c = np.nonzero(ok & done[:, None])
-                if len(r):
-                    ids, vals = self._canonical(s, a[r], pos[r, c])
-                    out_r.append(pending[r] // na)
-                    out_i.append(ids)
-                    out_v.append(vals)
-                pending = pending[more]
-                w *= 4
-        if not out_r:
-            z = np.zeros(0, dtype=np.int64)
-            return z, z, np.zeros(0)
-        return np.concatenate(out_r), np.concatenate(out_i), np.concatenate(out_v)
+            av = self._v[a_lines][:, None]  # rows: a-major, targets ascending within each a
+            zl = np.searchsorted(pool_val, _preimage(add, av, (T * (1.0 - _EPS))[None, :]).ravel(), side="left")
+            zh = np.searchsorted(pool_val, _preimage(add, av, (T * (1.0 + _EPS))[None, :]).ravel(), side="right")
+            a = np.repeat(a_lines, m)
+            tt = np.tile(T, na)
+            for side, probe in ((0, zh - 1), (1, zl)):
+                have = (probe >= 0) & (probe < n_pool)
+                pc = np.clip(probe, 0, n_pool - 1)
+                with np.errstate(divide="ignore", invalid="ignore"):
+                    value = _join(add, self._v[a], pool_val[pc])
+                    dist = np.log(tt / value) if side == 0 else np.log(value / tt)
+                lbs[side].append(np.where(have, np.maximum(dist, 0.0), np.inf).reshape(na, m))
+                ok = have & (dist >= 0) & self._triple_ok(a, pool_pos[pc])
+                ubs[side].append(np.where(ok, dist, np.inf).reshape(na, m))
+            blocks.append((s, zl, zh, a))
+        z = np.zeros(0, dtype=np.int64)
+        result = []
+        for side in (0, 1):
+            if not blocks:
+                result.append((z, z, np.zeros(0)))
+                continue
+            ub_all = np.concatenate(ubs[side], axis=0)
+            u = bounds[side].copy()
+            if ub_all.shape[0] >= 3 * k:
+                u = np.minimum(u, np.partition(ub_all, 3 * k - 1, axis=0)[3 * k - 1])
+            u = u * (1.0 + 1e-9) + 1e-12  # generous slack: more candidates never hurt exactness
+            out_r, out_i, out_v = [], [], []
+            for (s, zl, zh, a), lb in zip(blocks, lbs[side]):
+                keep = np.flatnonzero((lb <= u[None, :]).ravel())
+                if keep.size == 0:
+                    continue
+                r, aa, pos = self._windows(s, zl[keep], zh[keep], a[keep], k, side == 0)
+                ids, vals = self._canonical(s, aa, pos)
+                rows = keep[r] % m
+                with np.errstate(divide="ignore"):
+                    d = np.log(T[rows] / vals) if side == 0 else np.log(vals / T[rows])
+                sel = (d >= 0) & (d <= u[rows])
+                out_r.append(rows[sel])
+                out_i.append(ids[sel])
+                out_v.append(vals[sel])
+            if out_r:
+                result.append((np.concatenate(out_r), np.concatenate(out_i), np.concatenate(out_v)))
+            else:
+                result.append((z, z, np.zeros(0)))
+        return result
 
     def nearest_sides(self, targets, k: int = 1) -> tuple[np.ndarray, np.ndarray]:
         """(below, above): for each target the k nearest networks with value <= target (nearest
         first, then fewer parts, then id) and the k nearest with value >= target; -1 padding.
         A network exactly on the target appears on both sides.  EXACT, 3-part ones included."""
-        T = self._targets(targets)
+        T_in = self._targets(targets)
         k = int(k)
-        below = np.full((len(T), k), -1, dtype=np.int64)
-        above = np.full((len(T), k), -1, dtype=np.int64)
+        below = np.full((len(T_in), k), -1, dtype=np.int64)
+        above = np.full((len(T_in), k), -1, dtype=np.int64)
         if k <= 0 or self._M == 0:
             return below, above
+        order = np.argsort(T_in, kind="stable")
+        T = T_in[order]
         for sl in self._chunks(len(T)):
             t = T[sl]
             n = len(t)
@@ -573,12 +677,16 @@ class NetworkIndex:
             ra, ea = _ranges_concat(ia, np.minimum(ia + k, self._M))
             vb, va = self._val[eb], self._val[ea]
             if self._pools:
-                tr, ti, tv = self._triple_candidates(t, k)
-                lo, hi = tv <= t[tr], tv >= t[tr]
-                rb, eb, vb = np.concatenate([rb, tr[lo]]), np.concatenate([eb, ti[lo]]), np.concatenate([vb, tv[lo]])
-                ra, ea, va = np.concatenate([ra, tr[hi]]), np.concatenate([ea, ti[hi]]), np.concatenate([va, tv[hi]])
-            below[sl] = _rank_rows(rb, eb, (-vb, self.nparts(eb)), n, k)
-            above[sl] = _rank_rows(ra, ea, (va, self.nparts(ea)), n, k)
+                # the k-th best 1-2 part distance bounds the 3-part search (inf if fewer than k)
+                kb = np.where(ib >= k, self._val_desc[np.maximum(ib - k, 0)], 0.0)
+                ka = np.where(ia + k <= self._M, self._val[np.minimum(ia + k - 1, self._M - 1)], np.inf)
+                with np.errstate(divide="ignore"):
+                    bounds = (np.log(t / kb), np.log(ka / t))
+                (br, bi, bv), (ar, ai, av) = self._triple_sides(t, k, bounds)
+                rb, eb, vb = np.concatenate([rb, br]), np.concatenate([eb, bi]), np.concatenate([vb, bv])
+                ra, ea, va = np.concatenate([ra, ar]), np.concatenate([ea, ai]), np.concatenate([va, av])
+            below[order[sl]] = _rank_rows(rb, eb, (-vb, self.nparts(eb)), n, k)
+            above[order[sl]] = _rank_rows(ra, ea, (va, self.nparts(ea)), n, k)
         return below, above
 
     def nearest_few(self, targets, k: int) -> np.ndarray:
