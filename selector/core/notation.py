@@ -12,7 +12,12 @@ What is read (details and the decisions taken are in the README section "Notatio
   ``4K7``, ``2R2``, ``R47``, ``1M5``, ``47K3``, ``M47``, ``4n7``, ``2p2``, ``u47``, ``1µ0``;
 * for capacitors only (``kind="capacitor"``): the EIA three-digit code in picofarads, ``104`` =
   100 nF, with multiplier digits 8 and 9 meaning x0.01 and x0.1 (``109`` = 1.0 pF), and the
-  two-digit marking read directly in picofarads (``47`` = 47 pF).
+  two-digit marking read directly in picofarads (``47`` = 47 pF); any other bare number on a
+  capacitor must carry an exponent (``1e-7``) or be a plain decimal below 1 mF, because "0.1" or
+  "4700" in a capacitor column could mean µF, pF or F.
+
+Refused rather than guessed: ``1M``/``MF``/``mf`` on a capacitor (mega, or the old microfarad
+marking?), ``mhz`` (milli or mega?), tolerance letters E, H and A (tables disagree).
 
 Every refusal raises :class:`selector.core.errors.UnparseableValue` with one line that quotes the
 text and says what was expected.
