@@ -1,9 +1,165 @@
-"""Commands of the 'find' group (placeholder: filled in by its issue)."""
+"""``find astable``, ``find monostable`` and ``find rc``: parse the options, call
+selector.services.find_timing.find_timing once, render with selector.render.timing."""
 
 from __future__ import annotations
 
+from enum import Enum
+from typing import Optional
+
 import typer
+
+from selector.cli._common import db_arg, handles_errors
+
+
+class ConnectionChoice(str, Enum):
+    auto = "auto"
+    standard = "standard"
+    diode = "diode"
+    output_fed = "output-fed"
+
+
+class ChipChoice(str, Enum):
+    bipolar = "bipolar"
+    cmos = "cmos"
+
+
+class DistributionChoice(str, Enum):
+    uniform = "uniform"
+    normal = "normal"
+
+
+def _value(text: str, unit: str, option: str) -> float:
+    from selector.core.errors import UnparseableValue
+    from selector.core.notation import parse_value
+
+    try:
+        return parse_value(text, None, unit)
+    except UnparseableValue as e:
+        raise UnparseableValue(f"{option}: {e}") from None
+
+
+def _fraction(text: str, option: str) -> float:
+    from selector.core.errors import UnparseableValue
+    from selector.core.notation import parse_fraction
+
+    try:
+        return parse_fraction(text)
+    except UnparseableValue as e:
+        raise UnparseableValue(f"{option}: {e}") from None
+
+
+def _run(ctx: typer.Context, as_json: bool, **fields) -> None:
+    import json
+
+    from selector.core.notation import VOLT
+    from selector.render.timing import LazyProgress, print_report
+    from selector.services.find_timing import TimingRequest, find_timing
+    from selector.store.db import open_engine, resolve_url
+
+    vcc = _value(fields.pop("vcc_text"), VOLT, "--vcc")
+    vf_text = fields.pop("vf_text", None)
+    vf = _value(vf_text, VOLT, "--diode-vf") if vf_text is not None else None
+    accept = _fraction(fields.pop("accept_text"), "--accept")
+    req = TimingRequest(vcc=vcc, diode_vf=vf, accept=accept, **fields)
+    req.check()  # before the database is opened: a bad option changes nothing
+    engine = open_engine(resolve_url(db_arg(ctx)))
+    progress = LazyProgress()
+    try:
+        report = find_timing(engine, req, progress)
+    finally:
+        progress.close()
+        engine.dispose()
+    if as_json:
+        typer.echo(json.dumps(report.json, indent=2))
+    else:
+        print_report(report)
+
+
+_COMMON_HELP = {
+    "chip": "Chip family: its supply range, limits and output levels apply.",
+    "vcc": "Supply voltage, e.g. 9V, 12, 5V.",
+    "max_parts": "Largest number of parts per network (1-3).",
+    "top": "How many options to show.",
+    "boards": "Build this many boards: every part count is multiplied.",
+    "accept": "Acceptance band for the yield, e.g. 5% or 0.05.",
+    "json": "Print the options as JSON only.",
+    "distribution": "How part values spread inside their tolerance for the yield.",
+    "seed": "Seed of the yield simulation (same seed, same figures).",
+    "samples": "Simulated builds per option (at least 10000).",
+}
 
 
 def register(find_app: typer.Typer) -> None:
     """Attach this module's commands to the find group."""
+
+    @find_app.command("astable")
+    @handles_errors
+    def astable(
+        ctx: typer.Context,
+        freq: str = typer.Option(..., "--freq", metavar="F", help="Target frequency, e.g. 1.2k, 1.2kHz, 440."),
+        duty: str = typer.Option(..., "--duty", metavar="D", help="Fraction of the period the output is HIGH, e.g. 65% or 0.65."),
+        connection: ConnectionChoice = typer.Option(ConnectionChoice.auto, "--connection", help="Wiring: standard (duty above 50 %), diode (diode across RB, any duty), output-fed (CMOS, about 50 %), or auto."),
+        chip: ChipChoice = typer.Option(ChipChoice.bipolar, "--chip", help=_COMMON_HELP["chip"]),
+        vcc: str = typer.Option("9V", "--vcc", metavar="V", help=_COMMON_HELP["vcc"]),
+        diode_vf: Optional[str] = typer.Option(None, "--diode-vf", metavar="V", help="Forward drop of the steering diode (default 0.65 V, small-signal silicon)."),
+        max_parts: int = typer.Option(2, "--max-parts", metavar="N", help=_COMMON_HELP["max_parts"]),
+        top: int = typer.Option(10, "--top", metavar="K", help=_COMMON_HELP["top"]),
+        boards: int = typer.Option(1, "--boards", metavar="B", help=_COMMON_HELP["boards"]),
+        accept: str = typer.Option("5%", "--accept", metavar="PCT", help=_COMMON_HELP["accept"]),
+        distribution: DistributionChoice = typer.Option(DistributionChoice.uniform, "--distribution", help=_COMMON_HELP["distribution"]),
+        seed: int = typer.Option(0, "--seed", help=_COMMON_HELP["seed"]),
+        samples: int = typer.Option(10_000, "--samples", metavar="N", help=_COMMON_HELP["samples"]),
+        as_json: bool = typer.Option(False, "--json", help=_COMMON_HELP["json"]),
+    ) -> None:
+        """Find RA, RB and C networks in stock for an astable (free-running) 555 at a frequency and duty."""
+        _run(ctx, as_json, mode="astable", freq_hz=_value(freq, "Hz", "--freq"), duty=_fraction(duty, "--duty"),
+             connection=connection.value, chip=chip.value, vcc_text=vcc, vf_text=diode_vf,
+             max_parts=max_parts, top=top, boards=boards, accept_text=accept,
+             distribution=distribution.value, seed=seed, samples=samples)
+
+    @find_app.command("monostable")
+    @handles_errors
+    def monostable(
+        ctx: typer.Context,
+        width: str = typer.Option(..., "--width", metavar="T", help="Pulse width, e.g. 150ms, 2.5s, 0.1."),
+        chip: ChipChoice = typer.Option(ChipChoice.bipolar, "--chip", help=_COMMON_HELP["chip"]),
+        vcc: str = typer.Option("9V", "--vcc", metavar="V", help=_COMMON_HELP["vcc"]),
+        max_parts: int = typer.Option(2, "--max-parts", metavar="N", help=_COMMON_HELP["max_parts"]),
+        top: int = typer.Option(10, "--top", metavar="K", help=_COMMON_HELP["top"]),
+        boards: int = typer.Option(1, "--boards", metavar="B", help=_COMMON_HELP["boards"]),
+        accept: str = typer.Option("5%", "--accept", metavar="PCT", help=_COMMON_HELP["accept"]),
+        distribution: DistributionChoice = typer.Option(DistributionChoice.uniform, "--distribution", help=_COMMON_HELP["distribution"]),
+        seed: int = typer.Option(0, "--seed", help=_COMMON_HELP["seed"]),
+        samples: int = typer.Option(10_000, "--samples", metavar="N", help=_COMMON_HELP["samples"]),
+        as_json: bool = typer.Option(False, "--json", help=_COMMON_HELP["json"]),
+    ) -> None:
+        """Find R and C networks in stock for a monostable (one-shot) 555 pulse width."""
+        _run(ctx, as_json, mode="monostable", width_s=_value(width, "s", "--width"), chip=chip.value,
+             vcc_text=vcc, max_parts=max_parts, top=top, boards=boards, accept_text=accept,
+             distribution=distribution.value, seed=seed, samples=samples)
+
+    @find_app.command("rc")
+    @handles_errors
+    def rc(
+        ctx: typer.Context,
+        tau: Optional[str] = typer.Option(None, "--tau", metavar="T", help="Time constant R·C, e.g. 10ms."),
+        corner: Optional[str] = typer.Option(None, "--corner", metavar="F", help="Corner frequency 1/(2π·R·C), e.g. 1kHz."),
+        vcc: str = typer.Option("9V", "--vcc", metavar="V", help="Working voltage across the parts (for their ratings)."),
+        max_parts: int = typer.Option(2, "--max-parts", metavar="N", help=_COMMON_HELP["max_parts"]),
+        top: int = typer.Option(10, "--top", metavar="K", help=_COMMON_HELP["top"]),
+        boards: int = typer.Option(1, "--boards", metavar="B", help=_COMMON_HELP["boards"]),
+        accept: str = typer.Option("5%", "--accept", metavar="PCT", help=_COMMON_HELP["accept"]),
+        distribution: DistributionChoice = typer.Option(DistributionChoice.uniform, "--distribution", help=_COMMON_HELP["distribution"]),
+        seed: int = typer.Option(0, "--seed", help=_COMMON_HELP["seed"]),
+        samples: int = typer.Option(10_000, "--samples", metavar="N", help=_COMMON_HELP["samples"]),
+        as_json: bool = typer.Option(False, "--json", help=_COMMON_HELP["json"]),
+    ) -> None:
+        """Find R and C networks in stock for an RC time constant or corner frequency (give one)."""
+        if (tau is None) == (corner is None):
+            typer.echo("Error: give exactly one of --tau or --corner", err=True)
+            raise typer.Exit(2)
+        _run(ctx, as_json, mode="rc",
+             tau_s=_value(tau, "s", "--tau") if tau is not None else None,
+             corner_hz=_value(corner, "Hz", "--corner") if corner is not None else None,
+             vcc_text=vcc, max_parts=max_parts, top=top, boards=boards, accept_text=accept,
+             distribution=distribution.value, seed=seed, samples=samples)

@@ -1,0 +1,225 @@
+"""Tolerance spread, build yield and the ranking of timing options (pure core).
+
+For each option found by :mod:`selector.core.search`:
+- predicted values from the nominal parts;
+- the worst-case range of each predicted quantity over the PHYSICAL parts' tolerance bands
+  (``tolerance.corners`` through each network's own ``combine`` law; exact because every model is
+  monotone in each part, see ``tolerance.corners``), widened by any Monte Carlo sample outside it;
+- the build yield: the share of seeded Monte Carlo builds (>= 10 000 per option, part values drawn
+  uniformly within tolerance, or ``normal`` with tolerance = 3σ) that meet the target within
+  ``accept``. Astable: frequency within ±accept of the target frequency AND duty within ±accept of
+  the target duty, both relative (|f/F − 1| <= accept and |D/D0 − 1| <= accept). Monostable:
+  |width/W − 1| <= accept. RC: |τ/T − 1| <= accept (or the corner, when a corner was asked).
+  Part tolerances only: the chip's own initial error (e.g. 2.25 % typ astable, bipolar [S1]) is
+  not included, and the footer says so.
+
+Ranking rule (what a technician should pick first):
+    score  = max(|error|, spread / 4), where spread is the full relative width of the worst-case
+             range of the main quantity (frequency, width, τ or corner), (max − min)/nominal;
+             an error far below the option's own tolerance spread is worth nothing.
+    bucket = floor(log(score) / log(1.25)) (bands 25 % wide; scores below 1e-6 share one band);
+    order  = bucket, then fewer physical parts, then higher yield, then smaller |error|.
+The option with the exact smallest error is always among those returned: if the rule would push
+it below the cut, it takes the last place shown (its true error is in every option's JSON).
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+from typing import Optional, Sequence
+
+import numpy as np
+
+SCORE_FLOOR = 1e-6
+BAND = 1.25  # width of a ranking band: scores within 25 % of each other count as equal
+
+
+@dataclass
+class RankedOption:
+    """An option with its predictions, spread, yield and ranking keys."""
+
+    found: object  # selector.core.search.FoundOption
+    predicted: dict
+    range: dict
+    yield_fraction: float
+    spread: float
+    score: float
+    cautions: list = field(default_factory=list)
+    rank: int = 0
+    is_best_error: bool = False
+
+    @property
+    def connection(self) -> str:
+        return self.found.connection
+
+    @property
+    def error(self) -> float:
+        return self.found.error
+
+    @property
+    def nparts(self) -> int:
+        return self.found.nparts
+
+    def sort_key(self) -> tuple:
+        bucket = math.floor(math.log(max(self.score, SCORE_FLOOR)) / math.log(BAND))
+        y = 0.0 if math.isnan(self.yield_fraction) else self.yield_fraction
+        return (bucket, self.nparts, -round(y, 6), abs(self.error))
+
+
+def _order(found) -> list:
+    roles = ("RA", "RB", "R", "C")
+    return [r for r in roles if r in found.networks]
+
+
+def _model(found, target, limits):
+    """fn(*part_values) -> tuple of outputs, and the output names."""
+    from selector.core import timing
+
+    roles = _order(found)
+    nets = [found.networks[r] for r in roles]
+    sizes = [n.nparts for n in nets]
+    conn = found.connection
+
+    def values(args):
+        out, i = {}, 0
+        for role, net, k in zip(roles, nets, sizes):
+            out[role] = net.combine(np.stack([np.asarray(a, dtype=float) for a in args[i:i + k]]))
+            i += k
+        return out
+
+    if target.mode == "astable":
+        names = ("frequency_hz", "duty", "t_high_s", "t_low_s")
+
+        def fn(*args):
+            v = values(args)
+            if conn == "standard":
+                th, tl = timing.standard_times(v["RA"], v["RB"], v["C"])
+            elif conn == "diode":
+                th, tl = timing.diode_times(v["RA"], v["RB"], v["C"], limits.vcc, limits.diode_vf)
+            else:
+                th, tl = timing.output_fed_times(v["R"], v["C"], limits.voh, limits.vol, limits.vcc)
+            f, d = timing.frequency_duty(th, tl)
+            return f, d, th, tl
+    elif target.mode == "monostable":
+        names = ("width_s",)
+
+        def fn(*args):
+            v = values(args)
+            return (timing.monostable_width(v["R"], v["C"]),)
+    else:
+        names = ("tau_s", "corner_hz")
+
+        def fn(*args):
+            v = values(args)
+            return timing.rc_tau(v["R"], v["C"]), timing.rc_corner(v["R"], v["C"])
+    return fn, names, [p for n in nets for p in n.physical]
+
+
+def evaluate(found, target, limits, accept: float, distribution: str = "uniform", samples: int = 10_000,
+             seed: int = 0, monte_carlo: bool = True) -> RankedOption:
+    """Predictions, worst-case range, Monte Carlo yield and cautions of one option
+    (``monte_carlo=False``: corners only, yield nan - for a first cut of a large pool)."""
+    from selector.core import tolerance
+
+    fn, names, phys = _model(found, target, limits)
+    nominal = np.array([p.value for p in phys], dtype=float)
+    tm = np.array([p.tol_minus for p in phys], dtype=float)
+    tp = np.array([p.tol_plus for p in phys], dtype=float)
+    nom = [float(np.asarray(x).ravel()[0]) for x in fn(*[np.array([v]) for v in nominal])]
+    lows, highs = tolerance.band(nominal, tm, tp)
+    cmin, cmax = tolerance.corners(fn, list(lows), list(highs))
+    if monte_carlo:
+        rng = tolerance.rng_for(seed)
+        n = max(int(samples), tolerance.MIN_SAMPLES)
+        draws = tolerance.draw_parts(nominal, tm, tp, n, rng, distribution)
+        outs = [np.asarray(o, dtype=float) for o in fn(*draws)]
+    else:
+        outs = [np.array([np.nan]) for _ in names]
+    predicted, rng_out = {}, {}
+    for j, name in enumerate(names):
+        lo, hi = float(np.min(cmin[j])), float(np.max(cmax[j]))
+        if monte_carlo:
+            lo, hi = min(lo, float(np.nanmin(outs[j]))), max(hi, float(np.nanmax(outs[j])))
+        predicted[name] = nom[j]
+        rng_out[name] = [lo, hi]
+    if target.mode == "astable":
+        ok = (np.abs(outs[0] / target.frequency - 1) <= accept) & (np.abs(outs[1] / target.duty - 1) <= accept)
+        main = "frequency_hz"
+    elif target.mode == "monostable":
+        ok = np.abs(outs[0] / target.width - 1) <= accept
+        main = "width_s"
+    elif not math.isnan(target.corner_hz):
+        ok = np.abs(outs[1] / target.corner_hz - 1) <= accept
+        main = "corner_hz"
+    else:
+        ok = np.abs(outs[0] / target.tau - 1) <= accept
+        main = "tau_s"
+    y = float(np.mean(ok)) if monte_carlo else math.nan
+    lo, hi = rng_out[main]
+    spread = (hi - lo) / predicted[main] if predicted[main] > 0 else math.inf
+    score = max(abs(found.error), spread / 4.0)
+    return RankedOption(found, predicted, rng_out, y, spread, score, cautions(found, target, limits))
+
+
+def cautions(found, target, limits) -> list:
+    """Per-option cautions (keys of ``chips.CAUTIONS`` or plain sentences)."""
+    from selector.core import chips, parts
+
+    out = []
+    c = found.networks["C"]
+    charging = {"standard": ("RA", "RB"), "diode": ("RA",)}.get(found.connection, ("R",))
+    r_charge = sum(found.networks[k].value for k in charging if k in found.networks)
+    long_time = (target.mode == "monostable" and target.width >= 1.0) or (
+        target.mode == "astable" and target.t_high + target.t_low >= 1.0)
+    for ln in c.physical:
+        try:
+            diel = parts.normalize_dielectric(ln.dielectric or "")
+        except Exception:  # a hand-written dielectric the table does not know: keep it as is
+            diel = ln.dielectric or ""
+        if ln.polarized or diel in ("electrolytic", "tantalum"):
+            v_rated = ln.rating if ln.rating is not None else limits.vcc
+            if target.mode != "rc" and (long_time or not bool(chips.leakage_ok(r_charge, c.value, limits.vcc, v_rated))):
+                if "electrolytic_leakage" not in out:
+                    out.append("electrolytic_leakage")
+        if parts.is_class2_ceramic(diel) and "class2" not in out:
+            out.append("class2")
+        if ln.rating is None and limits.cap_volts > 0 and "cap_rating_unknown" not in out:
+            out.append("cap_rating_unknown")
+    return out
+
+
+def evaluate_and_rank(found_options: Sequence, target, limits_by_connection: dict, accept: float,
+                      top: int, distribution: str = "uniform", samples: int = 10_000,
+                      seed: int = 0) -> list:
+    """Evaluate a pool and rank it. The Monte Carlo (the costly part) runs only for the first
+    ``top + 5`` options by the other keys (bucket, parts, |error|) and for the exact best; yield
+    therefore breaks ties among those."""
+    if not found_options:
+        return []
+    first = [evaluate(o, target, limits_by_connection[o.connection], accept, distribution, samples,
+                      seed, monte_carlo=False) for o in found_options]
+    best = min(first, key=lambda o: (abs(o.error), o.nparts))
+    pre = sorted(first, key=lambda o: o.sort_key()[:2] + (abs(o.error),))
+    chosen = pre[: int(top) + 5]
+    if best not in chosen:
+        chosen.append(best)
+    full = [evaluate(o.found, target, limits_by_connection[o.connection], accept, distribution,
+                     samples, seed) for o in chosen]
+    return rank(full, top)
+
+
+def rank(options: Sequence[RankedOption], top: int) -> list:
+    """Order by the ranking rule, keep ``top``, make sure the exact best-error option is there,
+    and number them 1..n."""
+    if not options:
+        return []
+    best = min(options, key=lambda o: (abs(o.error), o.nparts))
+    best.is_best_error = True
+    ordered = sorted(options, key=RankedOption.sort_key)
+    shown = ordered[: max(1, int(top))]
+    if best not in shown:
+        shown[-1] = best
+    for i, o in enumerate(shown, start=1):
+        o.rank = i
+    return shown

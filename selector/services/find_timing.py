@@ -1,0 +1,217 @@
+"""Use case: search the stock for an astable, monostable or RC timing option, rank the options
+and save the search so ``bom N`` / ``pull N`` can refer to its numbered options.
+
+Plan, then apply: :func:`plan_timing` is pure (stock lines in, ranked options and the exact JSON
+out); :func:`find_timing` reads the stock in one transaction, plans, and saves the search and its
+options in a second, short transaction. The search itself can take seconds (3-part networks) and
+must not hold SQLite's write lock meanwhile; the saved options record what was computed from that
+snapshot, and ``pull`` re-checks quantities inside its own transaction.
+"""
+
+from __future__ import annotations
+
+import json
+import math
+from dataclasses import dataclass, field
+from typing import Callable, Optional
+
+from selector.core.errors import OutOfRange
+
+CONNECTIONS = ("auto", "standard", "diode", "output-fed")
+
+
+@dataclass(frozen=True)
+class TimingRequest:
+    """What ``find astable|monostable|rc`` asks for, in SI units (validated by ``check``)."""
+
+    mode: str  # "astable" | "monostable" | "rc"
+    freq_hz: Optional[float] = None
+    duty: Optional[float] = None
+    width_s: Optional[float] = None
+    tau_s: Optional[float] = None
+    corner_hz: Optional[float] = None
+    connection: str = "auto"
+    chip: str = "bipolar"
+    vcc: float = 9.0
+    diode_vf: Optional[float] = None  # None: timing.DIODE_VF_DEFAULT
+    max_parts: int = 2
+    top: int = 10
+    boards: int = 1
+    accept: float = 0.05
+    distribution: str = "uniform"
+    seed: int = 0
+    samples: int = 10_000
+
+    def check(self) -> None:
+        """Raise OutOfRange (one line, naming the option) for values outside what we accept."""
+        from selector.core import chips, tolerance
+
+        def positive(name, v):
+            if v is None or not (v > 0) or not math.isfinite(v):
+                raise OutOfRange(f"{name} must be a positive finite value, not {v!r}")
+
+        if self.mode == "astable":
+            positive("--freq", self.freq_hz)
+            if self.duty is None or not (0.0 < self.duty < 1.0):
+                raise OutOfRange(f"--duty must be between 0 and 100 % (exclusive), not {self.duty!r}")
+            if self.connection not in CONNECTIONS:
+                raise OutOfRange(f"--connection must be one of {', '.join(CONNECTIONS)}, not {self.connection!r}")
+        elif self.mode == "monostable":
+            positive("--width", self.width_s)
+        elif self.mode == "rc":
+            if (self.tau_s is None) == (self.corner_hz is None):
+                raise OutOfRange("give exactly one of --tau or --corner")
+            positive("--tau" if self.tau_s is not None else "--corner",
+                     self.tau_s if self.tau_s is not None else self.corner_hz)
+        else:
+            raise OutOfRange(f"unknown search mode {self.mode!r}")
+        positive("--vcc", self.vcc)
+        if self.mode != "rc":
+            chips.family(self.chip).check_vcc(self.vcc)
+        if self.diode_vf is not None and not (0.0 <= self.diode_vf < self.vcc / 3.0):
+            raise OutOfRange(f"--diode-vf {self.diode_vf:g} V must be at least 0 V and below VCC/3 "
+                             f"({self.vcc / 3.0:.3g} V)")
+        if self.max_parts not in (1, 2, 3):
+            raise OutOfRange(f"--max-parts must be 1, 2 or 3, not {self.max_parts}")
+        if self.top < 1:
+            raise OutOfRange(f"--top must be at least 1, not {self.top}")
+        if self.boards < 1:
+            raise OutOfRange(f"--boards must be at least 1, not {self.boards}")
+        if not (0.0 < self.accept < 1.0):
+            raise OutOfRange(f"--accept must be between 0 and 100 % (exclusive), not {self.accept!r}")
+        if self.distribution not in tolerance.DISTRIBUTIONS:
+            raise OutOfRange(f"--distribution must be one of {', '.join(tolerance.DISTRIBUTIONS)}, "
+                             f"not {self.distribution!r}")
+        if self.samples < tolerance.MIN_SAMPLES:
+            raise OutOfRange(f"--samples must be at least {tolerance.MIN_SAMPLES}, not {self.samples}")
+
+    @property
+    def vf(self) -> float:
+        from selector.core import timing
+
+        return timing.DIODE_VF_DEFAULT if self.diode_vf is None else float(self.diode_vf)
+
+
+@dataclass
+class TimingReport:
+    """Everything the renderer needs; ``json`` is exactly what ``--json`` prints."""
+
+    request: TimingRequest
+    target: dict
+    params: dict
+    options: list  # option dicts, exactly as saved and printed
+    ranked: list  # core.ranking.RankedOption, same order
+    connections: tuple
+    limits: dict  # connection -> core.search.Limits
+    network_counts: dict = field(default_factory=dict)
+    search_id: Optional[int] = None
+
+    @property
+    def json(self) -> dict:
+        return {"target": self.target, "options": self.options}
+
+
+def _target(req: TimingRequest):
+    from selector.core.search import Target
+
+    if req.mode == "astable":
+        return Target.astable(req.freq_hz, req.duty)
+    if req.mode == "monostable":
+        return Target("monostable", width=req.width_s)
+    if req.tau_s is not None:
+        return Target("rc", tau=req.tau_s)
+    return Target("rc", tau=1.0 / (2.0 * math.pi * req.corner_hz), corner_hz=req.corner_hz)
+
+
+def target_json(req: TimingRequest, target) -> dict:
+    if req.mode == "astable":
+        return {"mode": "astable", "frequency_hz": req.freq_hz, "duty": req.duty,
+                "t_high_s": target.t_high, "t_low_s": target.t_low}
+    if req.mode == "monostable":
+        return {"mode": "monostable", "width_s": req.width_s}
+    if req.corner_hz is not None:
+        return {"mode": "rc", "corner_hz": req.corner_hz, "tau_s": target.tau}
+    return {"mode": "rc", "tau_s": req.tau_s}
+
+
+def params_json(req: TimingRequest) -> dict:
+    return {"chip": req.chip, "vcc": req.vcc, "diode_vf": req.vf if req.mode == "astable" else None,
+            "boards": req.boards, "max_parts": req.max_parts, "accept": req.accept,
+            "distribution": req.distribution, "seed": req.seed,
+            "connection": req.connection if req.mode == "astable" else req.mode, "top": req.top}
+
+
+def network_json(net) -> dict:
+    return {"value": net.value, "shape": net.shape,
+            "parts": [{"line_id": ln.id, "value": ln.value, "count": cnt, "location": ln.location}
+                      for ln, cnt in net.parts]}
+
+
+def option_json(opt) -> dict:
+    """One option in the documented shape (SI units, signed error, yield as a fraction)."""
+    order = ("RA", "RB", "R", "C")
+    nets = opt.found.networks
+    return {
+        "rank": opt.rank,
+        "connection": opt.connection,
+        "error": opt.error,
+        "predicted": dict(opt.predicted),
+        "range": {k: list(v) for k, v in opt.range.items()},
+        "yield": opt.yield_fraction,
+        "networks": {role: network_json(nets[role]) for role in order if role in nets},
+    }
+
+
+def plan_timing(r_lines, c_lines, req: TimingRequest,
+                progress: Optional[Callable[[float], None]] = None) -> TimingReport:
+    """Search, evaluate and rank (pure: no database). Raises NothingFeasible when nothing fits."""
+    from selector.core.ranking import evaluate_and_rank
+    from selector.core.search import choose_connections, resolve_limits, search_timing
+
+    req.check()
+    target = _target(req)
+    if req.mode == "astable":
+        connections = choose_connections(target, req.connection, req.chip, req.vcc, req.vf, req.accept)
+    else:
+        connections = (req.mode,)
+    limits = {c: resolve_limits(c, req.chip, req.vcc, req.vf) for c in connections}
+    result = search_timing(r_lines, c_lines, target, connections, limits, max_parts=req.max_parts,
+                           boards=req.boards, pool=max(req.top, 5), progress=progress)
+    ranked = evaluate_and_rank(result.options, target, limits, req.accept, req.top,
+                               req.distribution, req.samples, req.seed)
+    options = [option_json(o) for o in ranked]
+    return TimingReport(req, target_json(req, target), params_json(req), options, ranked,
+                        tuple(connections), limits, result.network_counts)
+
+
+def save_search(session, report: TimingReport) -> int:
+    """Write the search and its options (one SearchRow, one SearchOptionRow per option)."""
+    from selector.store.models import SearchOptionRow, SearchRow
+
+    row = SearchRow(mode=report.request.mode, target_json=json.dumps(report.target),
+                    params_json=json.dumps(report.params))
+    session.add(row)
+    session.flush()
+    for opt in report.options:
+        session.add(SearchOptionRow(search_id=row.id, rank=opt["rank"], connection=opt["connection"],
+                                    error=float(opt["error"]), data_json=json.dumps(opt)))
+    session.flush()
+    return int(row.id)
+
+
+def find_timing(engine, req: TimingRequest,
+                progress: Optional[Callable[[float], None]] = None) -> TimingReport:
+    """Read the stock, plan, save; returns the report with ``search_id`` set."""
+    from selector.store.db import load_stock, run_in_transaction
+
+    req.check()  # bad options fail before the database is touched
+    lines = run_in_transaction(engine, lambda s: load_stock(s))
+    r_lines = [ln for ln in lines if ln.kind == "resistor"]
+    c_lines = [ln for ln in lines if ln.kind == "capacitor"]
+    report = plan_timing(r_lines, c_lines, req, progress)
+    report.search_id = run_in_transaction(engine, lambda s: save_search(s, report))
+    return report
+
+
+__all__ = ["TimingRequest", "TimingReport", "plan_timing", "find_timing", "save_search",
+           "option_json", "network_json", "target_json", "params_json", "CONNECTIONS"]
