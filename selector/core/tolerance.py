@@ -100,8 +100,10 @@ def corners(fn: Callable, lows: Sequence, highs: Sequence) -> tuple[np.ndarray, 
     (RA+RB)/(RA+2RB) rises with RA, falls with RB and ignores C. For the diode-steered astable
     (derived): t_high rises with RA, and with RB it is flat (diode on throughout) or rises with
     dt_high/dRB = C·ln x > 0, x = (VCC − Vc*)/(VCC/3) ∈ (1, 2) (piecewise region); the duty falls
-    with RB because th/C > RB·ln x. So the corners are exact there too. For any other ``fn`` that
-    is not monotone, use :func:`grid_extremes` or the Monte Carlo samples as well.
+    with RB because th/C > RB·ln x. So the corners are exact there too. Series and parallel
+    networks are increasing in every part, so evaluating over the PHYSICAL parts through a
+    network's combine keeps the corners exact. The diode drop Vf is not toleranced. For any other
+    ``fn`` that is not monotone, use :func:`grid_extremes` or the Monte Carlo samples as well.
     """
     if len(lows) != len(highs):
         raise ValueError("lows and highs need one entry per part")
