@@ -112,3 +112,15 @@ def test_cautions_cover_the_usual_hazards():
     text = " ".join(chips.CAUTIONS.values()).lower()
     for word in ("discharge", "mains", "local codes", "leakage"):
         assert word in text
+
+
+def test_high_frequency_limit_example_is_outside_every_family():
+    # [S5] CMOS 555 data sheet B fmax test: RA = 470 Ω, RB = 200 Ω, CT = 200 pF measures
+    # 2.1 MHz typ (1.2 MHz min) while the ideal formula says 8.29 MHz (facts §11.1 row 11).
+    from selector.core import timing as T
+
+    f, _ = T.frequency_duty(*T.standard_times(470.0, 200.0, 200e-12))
+    assert float(f) == pytest.approx(8.29e6, abs=0.005e6)
+    for fam in chips.FAMILIES.values():
+        assert float(f) > fam.max_astable_hz
+        assert 1.2e6 > fam.max_astable_hz      # even the measured minimum is beyond our limit
