@@ -1,9 +1,78 @@
-"""Commands of the 'find' group (placeholder: filled in by its issue)."""
+"""``find value``: the networks of the stock nearest to one resistor or capacitor value.
+Parse, call selector.services.find_value.find_value once, render with selector.render.networks."""
 
 from __future__ import annotations
 
+from enum import Enum
+from typing import Optional
+
 import typer
+
+from selector.cli._common import db_arg, handles_errors
+
+
+class KindChoice(str, Enum):
+    resistor = "resistor"
+    capacitor = "capacitor"
+
+
+def _target(text: str, kind: Optional[str]) -> tuple[float, str]:
+    """(SI value, kind): the kind comes from --kind, else from the unit or prefix in the text
+    (µF/nF/pF/F or a lower-case RKM letter: capacitor), else resistor."""
+    from selector.core.errors import UnparseableValue
+    from selector.core.notation import FARAD, OHM, infer_kind, parse_value
+
+    k = kind or infer_kind(text) or "resistor"
+    try:
+        value = parse_value(text, k, OHM if k == "resistor" else FARAD)
+    except UnparseableValue as e:
+        raise UnparseableValue(f"VALUE: {e}") from None
+    if not value > 0:
+        raise UnparseableValue(f'VALUE: "{text}" is not a positive {k} value')
+    return value, k
 
 
 def register(find_app: typer.Typer) -> None:
-    """Attach this module's commands to the find group."""
+    """Attach ``value`` to the find group."""
+
+    @find_app.command("value")
+    @handles_errors
+    def value_command(
+        ctx: typer.Context,
+        value: str = typer.Argument(..., metavar="VALUE", help="The value you need, e.g. 5k1, 3.3k, 4k7, 150nF, 2u2, 33p."),
+        kind: Optional[KindChoice] = typer.Option(None, "--kind", help="resistor or capacitor (default: from the unit; a bare number or 47k is a resistor)."),
+        max_parts: int = typer.Option(2, "--max-parts", min=1, max=3, help="Largest network: 1 (single parts), 2 or 3 parts in series/parallel."),
+        top: int = typer.Option(10, "--top", min=1, max=1000, help="How many options to show."),
+        boards: int = typer.Option(1, "--boards", min=1, help="Boards to build: every part is needed this many times."),
+        allow_polarized_series: bool = typer.Option(False, "--allow-polarized-series", help="Also offer networks with polarized capacitors in series (shown with a caution)."),
+        as_json: bool = typer.Option(False, "--json", help='Print only JSON: {"target", "options": [{"rank", "value", "error", "min", "max", "shape", "parts"}]}.'),
+    ) -> None:
+        """Find the single parts and series/parallel networks in stock nearest to VALUE.
+
+        Ranked by relative error (then fewer parts); each option shows its worst-case range from
+        the part tolerances and where to pick the parts. The search is saved, so `selector bom 1`
+        lists the parts of option 1. Shapes in --json: single, series, parallel, series3,
+        parallel3, series+parallel = (B ∥ C) + A, parallel+series = (B + C) ∥ A.
+        """
+        import json
+
+        from selector.services.find_value import ValueRequest, find_value
+        from selector.store.db import open_engine, resolve_url
+
+        target, k = _target(value, kind.value if kind else None)
+        req = ValueRequest(target=target, kind=k, max_parts=max_parts, top=top, boards=boards,
+                           allow_polarized_series=allow_polarized_series)
+        req.check()
+        engine = open_engine(resolve_url(db_arg(ctx)))
+        try:
+            report = find_value(engine, req)
+        finally:
+            engine.dispose()
+        if as_json:
+            typer.echo(json.dumps(report.to_json(), indent=2, ensure_ascii=False))
+            return
+        from rich.console import Console
+
+        from selector.render.networks import print_value_report
+
+        print_value_report(Console(highlight=False), report)

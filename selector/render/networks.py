@@ -1,0 +1,109 @@
+"""Writing networks for people: ``10 kΩ + 2.2 kΩ`` (in series), ``22 kΩ ∥ 47 kΩ`` (in parallel),
+``(10 kΩ ∥ 10 kΩ) + 1 kΩ``; the JSON form of a network option; the ``find value`` table.
+
+``+`` always means "in series" and ``∥`` "in parallel", for capacitors too (two 100 nF in series
+are written ``100 nF + 100 nF`` and make 50 nF); the table says so under it."""
+
+from __future__ import annotations
+
+from typing import TYPE_CHECKING, Any, Sequence
+
+if TYPE_CHECKING:  # pragma: no cover
+    from rich.console import Console
+    from rich.table import Table
+
+    from selector.core.networks import Network
+
+SERIES_SIGN = "+"
+PARALLEL_SIGN = "∥"
+LEGEND = "+ = in series, ∥ = in parallel"
+
+
+def _unit(kind: str) -> str:
+    from selector.core.notation import FARAD, OHM
+
+    return OHM if kind == "resistor" else FARAD
+
+
+def value_text(kind: str, value: float) -> str:
+    from selector.core.notation import format_value
+
+    return format_value(value, _unit(kind))
+
+
+def network_text(net: "Network") -> str:
+    """The network written readably, following its structure: parts in physical order, a
+    nested pair in parentheses."""
+
+    def walk(node, top: bool) -> str:
+        if isinstance(node, int):
+            return value_text(net.kind, net.physical[node].value)
+        joint, children = node
+        sign = SERIES_SIGN if joint == "series" else PARALLEL_SIGN
+        text = f" {sign} ".join(walk(c, False) for c in children)
+        return text if top else f"({text})"
+
+    return walk(net.structure, True)
+
+
+def parts_json(net: "Network") -> list[dict[str, Any]]:
+    """[{"line_id", "value", "count", "location"}] for the distinct stock lines of a network."""
+    return [{"line_id": line.id, "value": line.value, "count": count, "location": line.location}
+            for line, count in net.parts]
+
+
+def option_json(rank: int, net: "Network", target: float) -> dict[str, Any]:
+    """One ``find value`` option exactly as --json prints it (SI units; error = value/target - 1)."""
+    return {"rank": rank, "value": net.value, "error": net.value / target - 1.0, "min": net.vmin,
+            "max": net.vmax, "shape": net.shape, "parts": parts_json(net)}
+
+
+def pick_text(net: "Network") -> str:
+    """Where to take the parts from: ``A4 (line 20) ×2, B1 (line 33)``."""
+    out = []
+    for line, count in net.parts:
+        where = line.location or "no location"
+        out.append(f"{where} (line {line.id})" + (f" ×{count}" if count > 1 else ""))
+    return ", ".join(out)
+
+
+def percent_text(fraction: float) -> str:
+    """Signed percentage with enough digits to tell near-exact options apart."""
+    pct = fraction * 100.0
+    if abs(pct) < 1e-9:  # floating-point dust of an exact hit
+        return "0 %"
+    text = f"{pct:+.2f}" if abs(pct) >= 0.1 else f"{pct:+.2g}"
+    return f"{text} %"
+
+
+def value_table(kind: str, target: float, options: Sequence["Network"],
+                alternatives: Sequence[Sequence["Network"]] | None = None) -> "Table":
+    """The ranked ``find value`` table."""
+    from rich.table import Table
+
+    table = Table(title=f"Networks nearest to {value_text(kind, target)} ({kind}s)", header_style="bold")
+    for name, justify in (("#", "right"), ("network", "left"), ("value", "right"), ("error", "right"),
+                          ("worst case", "left"), ("parts", "right"), ("pick from", "left")):
+        table.add_column(name, justify=justify, overflow="fold")
+    alternatives = list(alternatives or [])
+    for rank, net in enumerate(options, start=1):
+        pick = pick_text(net)
+        alts = alternatives[rank - 1] if rank - 1 < len(alternatives) else []
+        if alts:
+            pick += "; or " + "; or ".join(pick_text(a) for a in alts[:2])
+            if len(alts) > 2:
+                pick += f" (+{len(alts) - 2} more)"
+        table.add_row(str(rank), network_text(net), value_text(kind, net.value),
+                      percent_text(net.value / target - 1.0),
+                      f"{value_text(kind, net.vmin)} … {value_text(kind, net.vmax)}",
+                      str(net.nparts), pick)
+    return table
+
+
+def print_value_report(console: "Console", report) -> None:
+    """Table, legend, and the notes and cautions of a ``find value`` report."""
+    if report.options:
+        console.print(value_table(report.kind, report.target, report.options, report.alternatives))
+        console.print(LEGEND)
+    for note in report.notes:
+        console.print(note)
