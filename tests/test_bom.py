@@ -64,7 +64,8 @@ def test_standard_astable_bom_for_three_boards():
         ("C3", "supply decoupling capacitor", "capacitor", 100e-9, 5, 1, 3, True),
         ("C4", "supply reservoir capacitor", "capacitor", 47e-6, 6, 1, 3, True),
     ]
-    assert [bl.network for bl in bom.lines[:3]] == ["", "series, part 1 of 2", "series, part 2 of 2"]
+    assert [bl.network for bl in bom.lines[:3]] == ["", "series: R2 + R3", "series: R2 + R3"]
+    assert B.wirings(bom) == [("RB", "series: R2 + R3")]
     assert bom.lines[4].description == "555 timer, bipolar"
     assert B.demand(bom.lines) == {1: 3, 2: 3, 3: 3, 4: 6, 5: 3, 6: 3}
     assert any("discharge electrolytics" in n for n in bom.notes)
@@ -104,7 +105,7 @@ def test_monostable_cmos_has_no_control_pin_or_reservoir_capacitor():
     assert bom.lines[3].description == "555 timer, CMOS"
     assert B.demand(bom.lines) == {1: 8, 6: 4, 5: 4}
     assert any("control pin is left open" in n for n in bom.notes)
-    assert [bl.network for bl in bom.lines[:2]] == ["parallel, part 1 of 2", "parallel, part 2 of 2"]
+    assert [bl.network for bl in bom.lines[:2]] == ["parallel: R1 ∥ R2"] * 2
 
 
 def test_rc_and_value_options_are_networks_only():
@@ -121,6 +122,35 @@ def test_rc_and_value_options_are_networks_only():
         ("R1", "network", "resistor", 10000.0, 1, 1, 1, True),
         ("R2", "network", "resistor", 4700.0, 2, 1, 1, True),
     ]
+
+
+def test_mixed_three_part_networks_are_wired_as_their_value_says():
+    # (B ∥ C) + A with B = A = 10 kΩ (line 1) and C = 4.7 kΩ (line 2). The saved JSON only says
+    # "line 1 twice, line 2 once"; the lone series part is the one that reproduces the value.
+    value = 10e3 * 4.7e3 / (10e3 + 4.7e3) + 10e3  # parallel pair, then in series (Ohm's law)
+    opt = {"connection": "rc", "networks": {
+        "R": {"value": value, "shape": "series+parallel", "parts": [part(1, 10e3, 2, "A1"), part(2, 4.7e3, 1, "A10")]},
+        "C": {"value": 100e-9, "shape": "single", "parts": [part(5, 100e-9, 1, "B2")]}}}
+    bom = build(opt, mode="rc")
+    assert [(bl.ref, bl.value) for bl in bom.lines[:3]] == [("R1", 10e3), ("R2", 4.7e3), ("R3", 10e3)]
+    assert B.wirings(bom) == [("R", "series+parallel: (R1 ∥ R2) + R3")]
+    # Capacitors: (B ∥ C) in series with A; B = 10 nF, C = A = 100 nF (parallel C add, series C
+    # add reciprocally): 110 nF in series with 100 nF.
+    cval = 1 / (1 / 110e-9 + 1 / 100e-9)
+    copt = {"connection": "rc", "networks": {
+        "R": {"value": 10e3, "shape": "single", "parts": [part(1, 10e3, 1, "A1")]},
+        "C": {"value": cval, "shape": "series+parallel", "parts": [part(4, 10e-9, 1, "B1"), part(5, 100e-9, 2, "B2")]}}}
+    cbom = build(copt, mode="rc")
+    assert [(bl.ref, bl.value) for bl in cbom.lines[1:]] == [("C1", 10e-9), ("C2", 100e-9), ("C3", 100e-9)]
+    assert B.wirings(cbom) == [("C", "series+parallel: (C1 ∥ C2) + C3")]
+    # (B + C) ∥ A with A = 1 kΩ alone: 20 kΩ ∥ 1 kΩ
+    pval = 1 / (1 / 20e3 + 1 / 1e3)
+    popt = {"connection": "rc", "networks": {
+        "R": {"value": pval, "shape": "parallel+series", "parts": [part(3, 1e3, 1, "A2"), part(1, 10e3, 2, "A1")]},
+        "C": {"value": 100e-9, "shape": "single", "parts": [part(5, 100e-9, 1, "B2")]}}}
+    pbom = build(popt, mode="rc")
+    assert [(bl.ref, bl.value) for bl in pbom.lines[:3]] == [("R1", 10e3), ("R2", 10e3), ("R3", 1e3)]
+    assert B.wirings(pbom) == [("R", "parallel+series: (R1 + R2) ∥ R3")]
 
 
 def test_extra_rating_must_cover_vcc_after_derating():
@@ -306,7 +336,8 @@ def test_cli_bom_table_shows_parts_pick_list_and_cautions(cli, bench):
     r = cli("bom", "1", "--search", "1", db=bench)
     assert r.returncode == 0, r.stderr
     out = r.stdout
-    for text in ("BOM: option 1 of search 1, 3 boards", "Pick list", "RB (series 1/2)", "U1", "555 timer, bipolar",
+    for text in ("BOM: option 1 of search 1, 3 boards", "Pick list", "Wiring: RB = R2 + R3 (series)", "U1",
+                 "555 timer, bipolar",
                  "discharge electrolytics", "qualified practice"):
         assert text in out, text
     assert "Traceback" not in r.stderr

@@ -33,8 +33,6 @@ or ``null`` for a part that has none in our records (the IC, the diode, a part n
 
 from __future__ import annotations
 
-import csv
-import io
 import math
 import re
 from dataclasses import dataclass, replace
@@ -204,6 +202,46 @@ def _role_for(key: str, mode: str) -> str:
 
 
 # ---------------------------------------------------------------------------------------------
+# Wiring of a network
+# ---------------------------------------------------------------------------------------------
+
+#: How each shape is wired, pair first for the mixed 3-part shapes ("+" series, "∥" parallel);
+#: the shape names are the network engine's (selector/core/networks.py).
+_TEMPLATES = {
+    "single": "{0}", "series": "{0} + {1}", "parallel": "{0} ∥ {1}",
+    "series3": "{0} + {1} + {2}", "parallel3": "{0} ∥ {1} ∥ {2}",
+    "series+parallel": "({0} ∥ {1}) + {2}", "parallel+series": "({0} + {1}) ∥ {2}",
+}
+
+
+def _join(kind: str, joint: str, values: Sequence[float]) -> float:
+    adds = (joint == "series") == (kind == "resistor")  # R in series and C in parallel add
+    return sum(values) if adds else 1.0 / sum(1.0 / v for v in values)
+
+
+def wiring(shape: str, physical: Sequence[StockLine], value: Optional[float]) -> tuple[list[StockLine], str]:
+    """Order the physical parts of a network as its formula reads and return the formula
+    template. The saved JSON lists parts by stock line with counts, which loses which part is
+    the lone one in a mixed 3-part shape; it is recovered as the choice that reproduces the
+    network's saved value (else the last part, the network engine's order)."""
+    parts = list(physical)
+    template = _TEMPLATES.get(shape)
+    if template is None or template.count("{") != len(parts):
+        joint = " ∥ " if shape.startswith("parallel") else " + "
+        return parts, joint.join("{%d}" % i for i in range(len(parts)))
+    if shape in ("series+parallel", "parallel+series") and value is not None:
+        outer, inner = ("series", "parallel") if shape == "series+parallel" else ("parallel", "series")
+        kind = parts[0].kind
+        for lone in (2, 1, 0):
+            pair = [parts[i].value for i in range(3) if i != lone]
+            got = _join(kind, outer, [_join(kind, inner, pair), parts[lone].value])
+            if math.isclose(got, value, rel_tol=1e-6):
+                parts = [parts[i] for i in range(3) if i != lone] + [parts[lone]]
+                break
+    return parts, template
+
+
+# ---------------------------------------------------------------------------------------------
 # Assembly
 # ---------------------------------------------------------------------------------------------
 
@@ -301,10 +339,7 @@ def assemble_bom(
         parts = list(net.get("parts") or [])
         if not parts:
             raise OptionShapeError(f"network {key} has no parts")
-        physical = sum(int(p["count"]) for p in parts)
-        shape = str(net.get("shape") or ("single" if physical == 1 else ""))
-        role = _role_for(key, spec.mode)
-        i = 0
+        physical: list[StockLine] = []
         for p in parts:
             line_id = int(p["line_id"])
             line = by_id.get(line_id)
@@ -313,15 +348,21 @@ def assemble_bom(
                 raise OptionOutdatedError(line_id, None, value)
             if not math.isclose(line.value, value, rel_tol=_SAME_VALUE):
                 raise OptionOutdatedError(line_id, line.value, value)
-            for _ in range(int(p["count"])):
-                i += 1
-                lines.append(BomLine(
-                    ref=next_ref(line.kind), role=role, kind=line.kind, value=line.value,
-                    per_board=1, total=boards, in_stock=True, line_id=line.id,
-                    tol_minus=line.tol_minus, tol_plus=line.tol_plus, location=line.location,
-                    package=line.package, rating=line.rating, dielectric=line.dielectric,
-                    note=line.note, network=f"{shape}, part {i} of {physical}" if physical > 1 else "",
-                ))
+            physical.extend([line] * int(p["count"]))
+        shape = str(net.get("shape") or ("single" if len(physical) == 1 else "series"))
+        net_value = net.get("value")
+        physical, template = wiring(shape, physical, None if net_value is None else float(net_value))
+        role = _role_for(key, spec.mode)
+        refs = [next_ref(line.kind) for line in physical]
+        formula = template.format(*refs)
+        for ref, line in zip(refs, physical):
+            lines.append(BomLine(
+                ref=ref, role=role, kind=line.kind, value=line.value,
+                per_board=1, total=boards, in_stock=True, line_id=line.id,
+                tol_minus=line.tol_minus, tol_plus=line.tol_plus, location=line.location,
+                package=line.package, rating=line.rating, dielectric=line.dielectric,
+                note=line.note, network=f"{shape}: {formula}" if len(physical) > 1 else "",
+            ))
 
     if spec.uses_timer:
         lines.extend(_extras(spec, stock, boards, derating, lines, next_ref, notes))
@@ -457,6 +498,15 @@ def pick_list(bom: Bom, stock: Sequence[StockLine]) -> list[PickStop]:
     ]
 
 
+def wirings(bom: Bom) -> list[tuple[str, str]]:
+    """(role, "shape: formula") for each network of more than one part, in BOM order."""
+    seen: list[tuple[str, str]] = []
+    for bl in bom.lines:
+        if bl.network and (bl.role, bl.network) not in seen:
+            seen.append((bl.role, bl.network))
+    return seen
+
+
 def to_obtain(bom: Bom) -> list[BomLine]:
     """Parts the stock does not supply (the IC, the diode, extras with no fitting line)."""
     return [bl for bl in bom.lines if bl.line_id is None]
@@ -473,149 +523,17 @@ def shortages(bom: Bom, stock: Sequence[StockLine]) -> list[Shortage]:
     return out
 
 
-# ---------------------------------------------------------------------------------------------
-# Formats
-# ---------------------------------------------------------------------------------------------
-
-#: A spreadsheet treats a cell starting with one of these as a formula (or strips it into one).
-_FORMULA_START = ("=", "+", "-", "@", "\t", "\r", "\n")
-
-
-def neutralize_cell(text: str) -> str:
-    """Make a text cell safe to open in a spreadsheet: a cell that begins with =, +, -, @, a tab,
-    CR or LF is prefixed with a single quote so it is shown as text, never evaluated. Numbers this
-    module writes are positive and never pass through here."""
-    if text and text.startswith(_FORMULA_START):
-        return "'" + text
-    return text
-
-
-def _unit(kind: str) -> str:
-    from selector.core.notation import FARAD, OHM
-
-    return OHM if kind == "resistor" else FARAD if kind == "capacitor" else ""
-
-
-def value_text(bl: BomLine) -> str:
-    from selector.core.notation import format_value
-
-    if bl.value is None:
-        return bl.description
-    return format_value(bl.value, _unit(bl.kind))
-
-
-def tolerance_text(bl: BomLine) -> str:
-    from selector.core.notation import format_tolerance
-
-    if bl.tol_minus is None or bl.tol_plus is None:
-        return ""
-    return format_tolerance(bl.tol_minus, bl.tol_plus)
-
-
-def rating_text(bl: BomLine) -> str:
-    if bl.rating is None:
-        return ""
-    from selector.core.notation import VOLT, WATT, format_value
-
-    return format_value(bl.rating, WATT if bl.kind == "resistor" else VOLT)
-
-
-def _number(x: Optional[float]) -> str:
-    return "" if x is None else repr(float(x))
-
-
-CSV_COLUMNS = ("ref", "role", "network", "kind", "value", "value_si", "tolerance", "package",
-               "rating", "dielectric", "location", "line_id", "per_board", "total", "in_stock",
-               "note")
-
-
-def to_rows(bom: Bom) -> list[dict[str, str]]:
-    """The BOM as text cells (what CSV and Markdown show), in ``CSV_COLUMNS`` order."""
-    rows = []
-    for bl in bom.lines:
-        note = bl.note
-        if bl.line_id is None:
-            note = "not in stock" + (f"; {bl.note}" if bl.note else "")
-        elif not bl.in_stock:
-            note = "short in stock" + (f"; {bl.note}" if bl.note else "")
-        rows.append({
-            "ref": bl.ref, "role": bl.role, "network": bl.network, "kind": bl.kind,
-            "value": value_text(bl), "value_si": _number(bl.value), "tolerance": tolerance_text(bl),
-            "package": bl.package, "rating": rating_text(bl), "dielectric": bl.dielectric,
-            "location": bl.location, "line_id": "" if bl.line_id is None else str(bl.line_id),
-            "per_board": str(bl.per_board), "total": str(bl.total),
-            "in_stock": "yes" if bl.in_stock else "no", "note": note,
-        })
-    return rows
-
-
-def to_csv(bom: Bom) -> str:
-    """RFC 4180 CSV (CRLF line ends, header row), every text cell neutralised against formula
-    injection. The caller writes it as UTF-8 with a byte-order mark to a file (see the CLI)."""
-    buf = io.StringIO()
-    w = csv.writer(buf, lineterminator="\r\n")
-    w.writerow(CSV_COLUMNS)
-    for row in to_rows(bom):
-        w.writerow([neutralize_cell(row[c]) for c in CSV_COLUMNS])
-    return buf.getvalue()
-
-
-def md_cell(text: str) -> str:
-    """A Markdown table cell: backslashes and pipes escaped, line breaks folded to spaces."""
-    text = re.sub(r"[\r\n]+", " ", text).strip()
-    return text.replace("\\", "\\\\").replace("|", "\\|")
-
-
-MD_COLUMNS = ("ref", "role", "network", "value", "tolerance", "package", "rating", "dielectric",
-              "location", "line_id", "per_board", "total", "in_stock", "note")
-
-
-def to_markdown(bom: Bom, stops: Sequence[PickStop] = ()) -> str:
-    """A Markdown document: the BOM table, the pick list by drawer, then the notes and cautions."""
-    from selector.core.notation import format_value
-
-    out = [f"## BOM: search {bom.search_id}, option {bom.option}, {bom.boards} board"
-           f"{'s' if bom.boards != 1 else ''}", ""]
-    out.append("| " + " | ".join(MD_COLUMNS) + " |")
-    out.append("|" + "|".join("---" for _ in MD_COLUMNS) + "|")
-    for row in to_rows(bom):
-        out.append("| " + " | ".join(md_cell(row[c]) for c in MD_COLUMNS) + " |")
-    if stops:
-        out += ["", "## Pick list", "", "| location | line_id | value | take | refs |", "|---|---|---|---|---|"]
-        for stop in stops:
-            for it in stop.items:
-                take = f"{it.quantity}" + (f" (short by {it.missing})" if it.missing else "")
-                out.append("| " + " | ".join(md_cell(x) for x in (
-                    stop.location or "(no location)", str(it.line_id), format_value(it.value, _unit(it.kind)),
-                    take, " ".join(it.refs))) + " |")
-    if bom.notes:
-        out.append("")
-        out += [f"- {md_cell(n)}" for n in bom.notes]
-    return "\n".join(out) + "\n"
-
-
-def to_json(bom: Bom) -> dict[str, Any]:
-    """``{"search", "option", "boards", "lines": [{"ref", "role", "kind", "value", "tolerance",
-    "line_id", "location", "per_board", "total", "in_stock"}]}`` in SI units."""
-    return {
-        "search": bom.search_id,
-        "option": bom.option,
-        "boards": bom.boards,
-        "lines": [
-            {
-                "ref": bl.ref, "role": bl.role, "kind": bl.kind, "value": bl.value,
-                "tolerance": bl.tolerance, "line_id": bl.line_id, "location": bl.location,
-                "per_board": bl.per_board, "total": bl.total, "in_stock": bl.in_stock,
-            }
-            for bl in bom.lines
-        ],
-    }
-
+# The output forms live in their own module to keep this one short; same public names here.
+from selector.core.bom_formats import (  # noqa: E402  (after the types they format)
+    CSV_COLUMNS, MD_COLUMNS, md_cell, neutralize_cell, rating_text, to_csv, to_json, to_markdown, to_rows,
+    tolerance_text, value_text,
+)
 
 __all__ = [
     "Bom", "BomLine", "CircuitSpec", "PickItem", "PickStop", "Shortage", "OptionOutdatedError",
-    "OptionShapeError", "assemble_bom", "demand", "pick_list", "to_obtain", "shortages",
+    "OptionShapeError", "assemble_bom", "demand", "pick_list", "wiring", "wirings", "to_obtain", "shortages",
     "neutralize_cell", "md_cell", "to_csv", "to_markdown", "to_json", "to_rows", "natural_key",
+    "CSV_COLUMNS", "MD_COLUMNS", "rating_text", "tolerance_text", "value_text",
     "CAUTIONS", "ROLE_TIMING_C", "ROLE_IC", "ROLE_DIODE", "ROLE_CV", "ROLE_DECOUPLE",
     "ROLE_RESERVOIR", "ROLE_NETWORK",
 ]

@@ -29,29 +29,32 @@ def _value(kind: str, value: float) -> str:
     return format_value(value, _unit(kind))
 
 
-def bom_table(bom: core_bom.Bom) -> Table:
+def bom_table(bom: core_bom.Bom, width: int = 200) -> Table:
+    """One row per physical part. Below about 120 columns the package/dielectric column is left
+    out so that the quantities stay visible (the CSV and Markdown forms always carry it)."""
     boards = f"{bom.boards} board{'s' if bom.boards != 1 else ''}"
+    wide = width >= 120
     t = Table(title=f"BOM: option {bom.option} of search {bom.search_id}, {boards}", title_justify="left",
               box=box.SIMPLE_HEAD, pad_edge=False)
-    for name, kw in (("ref", {}), ("role", {"min_width": 12}), ("value", {"min_width": 7}), ("tolerance", {}), ("part", {}),
-                     ("rating", {"justify": "right"}), ("location", {}), ("line", {"justify": "right"}),
-                     ("per board", {"justify": "right"}), ("total", {"justify": "right"}), ("stock", {})):
+    short = {"no_wrap": True}
+    cols = [("ref", short), ("role", {"ratio": 2}), ("value", {"min_width": 7}), ("tol.", short)]
+    cols += [("part", {})] if wide else []
+    cols += [("rating", {"justify": "right", **short}), ("location", {}), ("line", {"justify": "right", **short}),
+             ("/board", {"justify": "right", **short}), ("total", {"justify": "right", **short}),
+             ("in stock", short)]
+    for name, kw in cols:
         t.add_column(name, **kw)
     for row, bl in zip(core_bom.to_rows(bom), bom.lines):
-        role = row["role"]
-        if bl.network:
-            shape, _, pos = bl.network.partition(", part ")
-            role = f"{role} ({shape} {pos.replace(' of ', '/')})"
         if bl.line_id is None:
-            stock = Text("not in stock", style="yellow")
+            stock = Text("no", style="yellow")
         elif not bl.in_stock:
             stock = Text("short", style="bold red")
         else:
             stock = Text("yes")
-        value = row["value"]
-        part = ", ".join(x for x in (row["package"], row["dielectric"]) if x)
-        t.add_row(*_cells(row["ref"], role, value, row["tolerance"], part, row["rating"], row["location"],
-                          row["line_id"], row["per_board"], row["total"], stock))
+        cells = [row["ref"], row["role"], row["value"], row["tolerance"]]
+        cells += [", ".join(x for x in (row["package"], row["dielectric"]) if x)] if wide else []
+        cells += [row["rating"], row["location"], row["line_id"], row["per_board"], row["total"], stock]
+        t.add_row(*_cells(*cells))
     return t
 
 
@@ -80,7 +83,10 @@ def pick_table(stops: Sequence[core_bom.PickStop]) -> Table:
 def print_bom(console: Console, report) -> None:
     """The BOM table, the pick list, what to obtain elsewhere, then notes and cautions."""
     bom = report.bom
-    console.print(bom_table(bom))
+    console.print(bom_table(bom, console.width))
+    for role, network in core_bom.wirings(bom):
+        shape, _, formula = network.partition(": ")
+        console.print(f"Wiring: {role} = {formula} ({shape})", highlight=False, markup=False)
     if report.stops:
         console.print(pick_table(report.stops))
     missing = core_bom.to_obtain(bom)
