@@ -205,3 +205,43 @@ def test_cli_pull_table_and_ledger(cli, engine, db_path):
     assert r.returncode == 0 and "Ledger (newest first)" in r.stdout
     r = cli("undo", "7", db=db_path)
     assert (r.returncode, r.stderr) == (1, "Error: there is no pull 7 (see `selector ledger`)\n")
+
+
+def test_cli_search_bom_pull_undo_on_the_sample_stock(cli, db_path, tmp_path):
+    """The README's flow: import the sample stock, search, `bom 1`, `pull 1 --boards 2`, see the
+    stock go down, `undo` it. Expected reductions come from the search's own JSON (the timing
+    parts, written by the search code) plus the extras the BOM lists from stock."""
+    from conftest import SAMPLE
+
+    assert cli("stock", "import", str(SAMPLE), db=db_path).returncode == 0
+    r = cli("find", "astable", "--freq", "1.2k", "--duty", "65%", "--json", db=db_path)
+    assert r.returncode == 0, r.stderr
+    option = json.loads(r.stdout)["options"][0]
+    timing: dict[int, int] = {}
+    for network in option["networks"].values():
+        for p in network["parts"]:
+            timing[p["line_id"]] = timing.get(p["line_id"], 0) + p["count"]
+
+    r = cli("bom", "1", "--format", "json", db=db_path)
+    assert r.returncode == 0, r.stderr
+    bom = json.loads(r.stdout)
+    roles = [x["role"] for x in bom["lines"]]
+    assert "timer IC" in roles and "supply decoupling capacitor" in roles
+    per_board = dict(timing)
+    for x in bom["lines"]:
+        if x["role"] not in ("RA", "RB", "R", "timing capacitor") and x["line_id"] is not None:
+            per_board[x["line_id"]] = per_board.get(x["line_id"], 0) + x["per_board"]
+    assert cli("bom", "1", db=db_path).returncode == 0
+
+    before = {x["line_id"]: x["quantity"] for x in json.loads(cli("stock", "list", "--json", db=db_path).stdout)}
+    r = cli("pull", "1", "--boards", "2", "--json", db=db_path)
+    assert r.returncode == 0, r.stderr
+    pulled = json.loads(r.stdout)
+    assert {x["line_id"]: x["taken"] for x in pulled["lines"]} == {i: 2 * n for i, n in per_board.items()}
+    now = {x["line_id"]: x["quantity"] for x in json.loads(cli("stock", "list", "--json", db=db_path).stdout)}
+    assert now == {i: q - 2 * per_board.get(i, 0) for i, q in before.items()}
+
+    r = cli("undo", str(pulled["pull_id"]), db=db_path)
+    assert r.returncode == 0, r.stderr
+    restored = {x["line_id"]: x["quantity"] for x in json.loads(cli("stock", "list", "--json", db=db_path).stdout)}
+    assert restored == before
