@@ -109,9 +109,11 @@ def print_pull(console: Console, result) -> None:
     by_id = {s.id: s for s in result.report.stock}
     head = "Dry run, nothing taken" if result.pull_id is None else f"Pull {result.pull_id}"
     t = Table(title=f"{head}: option {result.option} of search {result.search_id}, "
-                    f"{result.boards} board{'s' if result.boards != 1 else ''}", title_justify="left")
+                    f"{result.boards} board{'s' if result.boards != 1 else ''}", title_justify="left",
+              box=box.SIMPLE_HEAD, pad_edge=False)
+    taken = "would take" if result.pull_id is None else "taken"
     for name, kw in (("line", {"justify": "right"}), ("value", {}), ("location", {}),
-                     ("taken", {"justify": "right"}), ("left", {"justify": "right"})):
+                     (taken, {"justify": "right"}), ("left", {"justify": "right"})):
         t.add_column(name, **kw)
     for line_id, n in result.taken:
         s = by_id[line_id]
@@ -134,13 +136,13 @@ def print_undo(console: Console, result) -> None:
 
 
 def ledger_table(entries) -> Table:
-    t = Table(title="Ledger (newest first)", title_justify="left")
-    for name, kw in (("#", {"justify": "right"}), ("when (UTC)", {}), ("line", {"justify": "right"}),
+    t = Table(title="Ledger (newest first)", title_justify="left", box=box.SIMPLE_HEAD, pad_edge=False)
+    for name, kw in (("#", {"justify": "right"}), ("when (UTC)", {"no_wrap": True}), ("line", {"justify": "right"}),
                      ("value", {}), ("location", {}), ("change", {"justify": "right"}), ("reason", {}),
-                     ("pull", {"justify": "right"}), ("reference", {})):
+                     ("pull", {"justify": "right"}), ("reference", {"ratio": 1})):
         t.add_column(name, **kw)
     for e in entries:
-        t.add_row(*_cells(e.movement_id, e.at.strftime("%Y-%m-%d %H:%M:%S"), e.line_id,
+        t.add_row(*_cells(e.movement_id, e.at.strftime("%Y-%m-%d %H:%M"), e.line_id,
                           _value(e.kind, e.value), e.location, f"{e.delta:+d}", e.reason,
                           "" if e.pull_id is None else e.pull_id, e.reference))
     return t
