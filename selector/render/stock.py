@@ -72,19 +72,30 @@ def _spec_cells(kind, value, tol_minus, tol_plus, location, package, rating, die
             rating_text(kind, rating), dielectric]
 
 
-def plan_table(plan) -> Table:
-    """The lines an import/kit plan creates or changes (ImportPlan from services/stock.py)."""
+PLAN_ROWS_SHOWN = 100
+
+
+def plan_table(plan, limit: int = PLAN_ROWS_SHOWN) -> Table:
+    """The lines an import/kit plan creates or changes (ImportPlan from services/stock.py), at
+    most ``limit`` of them (the summary line always counts all)."""
     table = Table(header_style="bold")
     for name, justify in (("action", "left"), ("line", "right"), ("kind", "left"), ("value", "right"),
                           ("tolerance", "left"), ("location", "left"), ("package", "left"), ("rating", "right"),
                           ("dielectric", "left"), ("qty", "right"), ("change", "right"), ("rows", "left")):
         table.add_column(name, justify=justify, overflow="fold")
+    shown = 0
     for n in plan.new_lines:
+        if shown == limit:
+            break
+        shown += 1
         s = n.spec
         table.add_row("new", "", *_spec_cells(s.kind, s.value, s.tol_minus, s.tol_plus, s.location, s.package,
                                              s.rating, s.dielectric),
                       str(n.quantity), f"+{n.quantity}", _rows(n.rows))
     for ch in plan.changes:
+        if shown == limit:
+            break
+        shown += 1
         ln = ch.line
         table.add_row("set" if plan.replace else "add", str(ln.id),
                       *_spec_cells(ln.kind, ln.value, ln.tol_minus, ln.tol_plus, ln.location, ln.package, ln.rating,
@@ -102,6 +113,9 @@ def print_plan(console: Console, plan, *, dry_run: bool, verb: str = "import") -
     """The plan table and one summary line saying what was (or would be) written."""
     if plan.new_lines or plan.changes:
         console.print(plan_table(plan))
+        hidden = len(plan.new_lines) + len(plan.changes) - PLAN_ROWS_SHOWN
+        if hidden > 0:
+            console.print(f"… and {hidden} more line{'s' if hidden != 1 else ''} not shown")
     summary = (f"{len(plan.new_lines)} new line{'s' if len(plan.new_lines) != 1 else ''}, "
                f"{len(plan.changes)} changed, {len(plan.unchanged)} unchanged; "
                f"+{plan.parts_added} / -{plan.parts_removed} parts")

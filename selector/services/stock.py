@@ -250,22 +250,31 @@ def plan_import(rows: Sequence[ImportRow], current: Sequence[StockLine], *, repl
 
 
 def apply_plan(session, plan: ImportPlan, reason: str, reference: str) -> list[int]:
-    """Write a plan: new lines are inserted at 0 and filled by a ledger movement; changed lines get
-    one movement each. Returns the ids of the new lines, in plan order."""
-    from selector.store.db import apply_movement
-    from selector.store.models import StockLineRow
+    """Write a plan in the caller's transaction: each new line is inserted together with the
+    ledger movement that brings it to its quantity (none for quantity 0); each changed line gets
+    one guarded movement. Returns the ids of the new lines, in plan order."""
+    import sqlalchemy as sa
 
-    new_ids = []
+    from selector.store.db import apply_movement
+    from selector.store.models import MovementRow, StockLineRow, utcnow
+
+    lines, moves = StockLineRow.__table__, MovementRow.__table__
+    session.flush()
+    new_ids, ledger = [], []
+    now = utcnow()
     for n in plan.new_lines:
         s = n.spec
-        row = StockLineRow(kind=s.kind, value=s.value, tol_minus=s.tol_minus, tol_plus=s.tol_plus, quantity=0,
-                           location=s.location, package=s.package, rating=s.rating, dielectric=s.dielectric,
-                           polarized=s.polarized, note=s.note)
-        session.add(row)
-        session.flush()
-        new_ids.append(row.id)
+        result = session.execute(sa.insert(lines).values(
+            kind=s.kind, value=s.value, tol_minus=s.tol_minus, tol_plus=s.tol_plus, quantity=n.quantity,
+            location=s.location, package=s.package, rating=s.rating, dielectric=s.dielectric,
+            polarized=s.polarized, note=s.note, created_at=now, updated_at=now))
+        line_id = result.inserted_primary_key[0]
+        new_ids.append(line_id)
         if n.quantity:
-            apply_movement(session, row.id, n.quantity, reason, reference)
+            ledger.append({"line_id": line_id, "delta": n.quantity, "reason": reason, "reference": reference[:255],
+                           "pull_id": None, "created_at": now})
+    if ledger:
+        session.execute(sa.insert(moves), ledger)
     for ch in plan.changes:
         apply_movement(session, ch.line.id, ch.delta, reason, reference)
     return new_ids

@@ -24,6 +24,7 @@ COLUMNS: tuple[str, ...] = (
 )
 REQUIRED: tuple[str, ...] = ("kind", "value", "quantity")
 _DELIMITERS = (",", ";", "\t")
+_REJECTED = "\0rejected"  # a header cell already reported as unknown or duplicate
 
 
 @dataclass(frozen=True)
@@ -99,6 +100,8 @@ def read_stock_csv(data: bytes) -> list[RawRow]:
                 continue
             values = {c: "" for c in COLUMNS}
             for i, (name, cell) in enumerate(zip(names, cells)):
+                if name == _REJECTED:  # already reported in the header
+                    continue
                 if name is None:
                     if cell:
                         problems.append(
@@ -128,14 +131,14 @@ def _check_header(record: list[str], rownum: int, problems: list[str]) -> list[s
                 f'row {rownum}, column {column_letter(i)}: "{cell.strip()}": unknown column; '
                 f"expected some of {', '.join(COLUMNS)}"
             )
-            names.append(None)
+            names.append(_REJECTED)
             continue
         if name in seen:
             problems.append(
                 f'row {rownum}, column {column_letter(i)}: "{cell.strip()}": duplicate column '
                 f"(already column {column_letter(seen[name])}); keep one of them"
             )
-            names.append(None)
+            names.append(_REJECTED)
             continue
         seen[name] = i
         names.append(name)

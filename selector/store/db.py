@@ -24,6 +24,7 @@ import sqlalchemy as sa
 from sqlalchemy import event, exc as sa_exc
 from sqlalchemy.engine import Engine, make_url
 from sqlalchemy.orm import Session
+from sqlalchemy.orm.util import identity_key
 from sqlalchemy.pool import NullPool, StaticPool
 
 from selector.core.errors import DatabaseProblem, InsufficientStock, UnknownStockLine
@@ -367,21 +368,28 @@ def apply_movement(
         if row is None:
             raise UnknownStockLine(f"there is no stock line {line_id}")
         return row.quantity
-    q = StockLineRow.quantity
+    lines = StockLineRow.__table__
+    session.flush()  # pending ORM changes (e.g. a line added in this unit) go first
     result = session.execute(
-        sa.update(StockLineRow)
-        .where(StockLineRow.id == line_id, q + delta >= 0)
-        .values(quantity=q + delta, updated_at=utcnow())
-        .execution_options(synchronize_session="fetch")
+        sa.update(lines)
+        .where(lines.c.id == line_id, lines.c.quantity + delta >= 0)
+        .values(quantity=lines.c.quantity + delta, updated_at=utcnow())
     )
     if result.rowcount == 0:
-        row = session.get(StockLineRow, line_id)
+        row = session.get(StockLineRow, line_id, populate_existing=True)
         if row is None:
             raise UnknownStockLine(f"there is no stock line {line_id}")
         raise InsufficientStock(
             f"{line_label(row)} holds {row.quantity}; a change of {delta:+d} would leave {row.quantity + delta}"
         )
-    session.add(MovementRow(line_id=line_id, delta=delta, reason=reason, reference=reference[:255], pull_id=pull_id))
-    session.flush()
-    new_qty = session.execute(sa.select(q).where(StockLineRow.id == line_id)).scalar_one()
+    # Core statements bypass the identity map: make a loaded copy of this line re-read itself.
+    loaded = session.identity_map.get(identity_key(StockLineRow, line_id))
+    if loaded is not None:
+        session.expire(loaded, ["quantity", "updated_at"])
+    session.execute(
+        sa.insert(MovementRow.__table__).values(
+            line_id=line_id, delta=delta, reason=reason, reference=reference[:255], pull_id=pull_id
+        )
+    )
+    new_qty = session.execute(sa.select(lines.c.quantity).where(lines.c.id == line_id)).scalar_one()
     return int(new_qty)
