@@ -135,16 +135,26 @@ class Exclusions:
     """How many candidates each limit excluded (for the NothingFeasible message)."""
 
     counts: dict[str, int] = field(default_factory=dict)
+    notes: list = field(default_factory=list)
 
     def add(self, reason: str, n: int) -> None:
         if n:
             self.counts[reason] = self.counts.get(reason, 0) + int(n)
 
+    def note(self, text: str) -> None:
+        if text not in self.notes:
+            self.notes.append(text)
+
     def message(self, what: str) -> str:
+        if self.notes and not self.counts:
+            return f"no {what} option: " + "; ".join(self.notes)
         if not self.counts:
-            return f"no {what} option can be built from the stock (no networks of the needed kind)"
+            return f"no {what} option can be built from the stock"
         parts = [f"{n} {reason}" for reason, n in sorted(self.counts.items(), key=lambda kv: -kv[1])]
-        return f"no {what} option is inside the limits; excluded: " + "; ".join(parts)
+        head = f"no {what} option is inside the limits; "
+        if self.notes:
+            head += "; ".join(self.notes) + "; "
+        return head + "excluded: " + "; ".join(parts)
 
 
 
@@ -258,6 +268,14 @@ class FoundOption:
     def nparts(self) -> int:
         return sum(n.nparts for n in self.networks.values())
 
+    def same_build_key(self) -> tuple:
+        """Options with equal keys are the same build from different drawers (same values,
+        tolerances and dielectrics in the same shapes); only the first of them is kept."""
+        return (self.connection,) + tuple(
+            (role, n.shape, tuple(sorted((p.value, p.tol_minus, p.tol_plus, p.dielectric, p.rating or 0.0)
+                                         for p in n.physical)))
+            for role, n in sorted(self.networks.items()))
+
     def key(self) -> tuple:
         return (self.connection,) + tuple(
             (role, n.shape, round(n.value, 12), tuple(sorted(n.usage.items())))
@@ -306,6 +324,11 @@ def search_timing(r_lines: Sequence, c_lines: Sequence, target: Target, connecti
             r_index = build_index(r_lines, max_parts=budget, boards=boards, kind="resistor")
             c_index = build_index(c_lines, max_parts=budget, boards=boards, kind="capacitor")
         counts[budget] = (_size(r_index), _size(c_index))
+        per = f" for {boards} boards" if boards > 1 else ""
+        if len(r_index) == 0:
+            ex.note(f"no resistor in stock{per}")
+        if len(c_index) == 0:
+            ex.note(f"no capacitor in stock{per}")
         for conn in connections:
             lim = limits[conn]
             pex = ex if budget == max_parts else Exclusions()  # count each exclusion once
@@ -338,7 +361,12 @@ def search_timing(r_lines: Sequence, c_lines: Sequence, target: Target, connecti
                     found[k] = opt
     if progress:
         progress(1.0)
-    options = sorted(found.values(), key=lambda o: (o.abs_error, o.nparts))
+    options, seen = [], set()
+    for o in sorted(found.values(), key=lambda o: (o.abs_error, o.nparts)):
+        k = o.same_build_key()
+        if k not in seen:
+            seen.add(k)
+            options.append(o)
     if not options:
         what = target.mode if target.mode != "astable" else "astable (" + ", ".join(connections) + ")"
         raise NothingFeasible(ex.message(what))

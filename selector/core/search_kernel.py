@@ -132,7 +132,7 @@ def _nearest_feasible(index, target, lo, hi, ok_fn, k0: int = 2, kmax: int = 1 <
     good = np.isfinite(target) & (lo <= hi * (1 + _SLACK))
     rows_side = [np.flatnonzero(good & (tb >= lo * (1 - _SLACK)) & (tb > 0)),
                  np.flatnonzero(good & (ta <= hi * (1 + _SLACK)) & np.isfinite(ta))]
-    tiny = np.finfo(float).tiny
+    tiny = 1e-30  # below any part value, far from float underflow
     tgt_side = [tb, np.maximum(ta, tiny)]  # the index takes finite positive targets only
     k = k0
     while (rows_side[0].size or rows_side[1].size) and k <= kmax:
@@ -328,7 +328,7 @@ class _Pass:
             th_out[idx] = th[better]
             tl_out[idx] = tl[better]
         nothing = (best_id < 0) & ~empty
-        self.ex.add("RA/RB pairs with no RA left in range (power rating or shared stock)", nothing.sum())
+        self.ex.add("RA/RB pairs with no RA in range (over its power rating or sharing stock with RB)", nothing.sum())
         return best_id, best_err, th_out, tl_out
 
     def _eval_pairs(self, ci, rb_id):
@@ -339,10 +339,22 @@ class _Pass:
         keep = (ra_id >= 0) & (np.abs(err) <= MAX_ERROR)
         return (ci[keep], rb_id[keep], ra_id[keep], err[keep], th[keep], tl[keep])
 
+    def _resistors_usable(self) -> bool:
+        """False (and counted) when no resistor network reaches the minimum RA / R at all."""
+        if len(self.r) == 0:
+            return False  # noted by the caller ("no resistor in stock")
+        if self.lim.min_r_ohm > 0:
+            _b, above = self.r.nearest_sides(np.array([self.lim.min_r_ohm * (1 - _SLACK)]), 1)
+            if int(np.asarray(above).ravel()[0]) < 0:
+                self.ex.add(f"resistor networks below the {_fmt(self.lim.min_r_ohm, 'Ω')} minimum "
+                            "RA / R (all of them)", len(self.r))
+                return False
+        return True
+
     def run2(self, pool: int, progress: Optional[Callable[[], None]] = None) -> list[tuple]:
         lim, p = self.lim, self.p
         nc = self.c_ids.size
-        if nc == 0:
+        if nc == 0 or not self._resistors_usable():
             return []
         rb_star = p.rb_ideal(self.c_vals)
         rb_hi_all = np.full(nc, lim.max_total_r_ohm - lim.min_r_ohm)
@@ -384,6 +396,8 @@ class _Pass:
     def run1(self, pool: int, progress: Optional[Callable[[], None]] = None) -> list[tuple]:
         p = self.p
         nc = self.c_ids.size
+        if nc == 0 or not self._resistors_usable():
+            return []
         found = []
         for sl in _chunks(nc, self.chunk):
             ci = np.arange(sl.start, sl.stop)
@@ -393,7 +407,7 @@ class _Pass:
             empty = lo > hi * (1 + _SLACK)
             self.ex.add("C networks needing R outside the allowed range", empty.sum())
             below, above = _nearest_feasible(self.r, r_star, lo, hi, lambda ids, rows: self.power.ok(ids))
-            self.ex.add("C networks with no R left in range (power rating)",
+            self.ex.add("C networks with no R in range within its power rating",
                         ((below < 0) & (above < 0) & ~empty).sum())
             for side in (below, above):
                 has = side >= 0

@@ -41,6 +41,14 @@ def network_text(net) -> str:
     return walk(net.structure)
 
 
+def network_cell(net) -> str:
+    """The network text, with the capacitor dielectrics after it (they matter for timing)."""
+    text = network_text(net)
+    if net.kind == "capacitor" and net.dielectrics:
+        text += " (" + ", ".join(net.dielectrics) + ")"
+    return text
+
+
 def _pct(x: float, digits: int = 2) -> str:
     if x is None or (isinstance(x, float) and math.isnan(x)):
         return "–"
@@ -134,7 +142,7 @@ def options_table(report) -> Table:
         cells = [str(o.rank), CONNECTION_TEXT.get(o.connection, o.connection)]
         for r in present:
             net = o.found.networks.get(r)
-            cells.append(network_text(net) if net is not None else "")
+            cells.append(network_cell(net) if net is not None else "")
         mark = " *" if o.is_best_error else ""
         cells += [_predicted_text(mode, o), _pct(o.error, 3) + mark, _range_text(mode, o),
                   f"{o.yield_fraction * 100:.1f} %", str(o.nparts), _locations(o)]

@@ -176,7 +176,7 @@ def plan_timing(r_lines, c_lines, req: TimingRequest,
         connections = (req.mode,)
     limits = {c: resolve_limits(c, req.chip, req.vcc, req.vf) for c in connections}
     result = search_timing(r_lines, c_lines, target, connections, limits, max_parts=req.max_parts,
-                           boards=req.boards, pool=max(req.top, 5), progress=progress)
+                           boards=req.boards, pool=2 * max(req.top, 5), progress=progress)
     ranked = evaluate_and_rank(result.options, target, limits, req.accept, req.top,
                                req.distribution, req.samples, req.seed)
     options = [option_json(o) for o in ranked]
