@@ -1,0 +1,256 @@
+"""The stock commands end to end (a real `python -m selector` process and a file database per
+test): output shapes, ledgered changes, and refusals with one clear line and no change."""
+
+from __future__ import annotations
+
+import csv
+import json
+import sqlite3
+from pathlib import Path
+
+import pytest
+
+REPO = Path(__file__).resolve().parent.parent
+SAMPLE = REPO / "sample_stock.csv"
+
+JSON_KEYS = {"line_id", "kind", "value", "tol_minus", "tol_plus", "quantity", "location", "package", "rating",
+             "dielectric", "polarized", "note"}
+
+
+def _json(cli, db, *args):
+    r = cli("stock", "list", "--json", *args, db=db)
+    assert r.returncode == 0, r.stderr
+    return json.loads(r.stdout)
+
+
+def _dump(db_path: Path) -> list[str]:
+    with sqlite3.connect(db_path) as c:
+        return list(c.iterdump())
+
+
+def _import(cli, db, path=SAMPLE, *extra):
+    r = cli("stock", "import", str(path), *extra, db=db)
+    assert r.returncode == 0, r.stderr
+    return r
+
+
+def _sample_rows() -> int:
+    """Data rows of the sample file, counted with the csv module (independent of our reader)."""
+    with open(SAMPLE, newline="", encoding="utf-8-sig") as fh:
+        return sum(1 for row in csv.DictReader(fh) if any(v.strip() for v in row.values()))
+
+
+def test_help_lists_every_stock_command(cli):
+    r = cli("stock", "--help", env={"TYPER_USE_RICH": "0"})
+    assert r.returncode == 0
+    for name in ("import", "list", "export", "adjust", "set", "kit"):
+        assert name in r.stdout
+
+
+def test_import_sample_and_list_json_shape(cli, db_path):
+    r = _import(cli, db_path)
+    assert "Imported from sample_stock.csv" in r.stdout
+    lines = _json(cli, db_path)
+    assert len(lines) == _sample_rows()  # the sample has no exact duplicates, so one line per row
+    for ln in lines:
+        assert set(ln) == JSON_KEYS
+        assert isinstance(ln["line_id"], int) and isinstance(ln["quantity"], int)
+        assert ln["kind"] in ("resistor", "capacitor")
+        assert isinstance(ln["value"], float) and ln["value"] > 0
+        assert 0 <= ln["tol_minus"] < 1 and ln["tol_plus"] >= 0
+        assert ln["rating"] is None or isinstance(ln["rating"], float)
+        assert ln["polarized"] == (ln["dielectric"] in ("electrolytic", "tantalum"))
+    by_note = [ln for ln in lines if ln["note"] == "salvaged"]
+    # sample row "capacitor,10u,20%,12,bin 3,radial,35V,electrolytic,salvaged"
+    assert by_note == [{"line_id": by_note[0]["line_id"], "kind": "capacitor", "value": 1e-5, "tol_minus": 0.2,
+                        "tol_plus": 0.2, "quantity": 12, "location": "bin 3", "package": "radial", "rating": 35.0,
+                        "dielectric": "electrolytic", "polarized": True, "note": "salvaged"}]
+
+
+def test_list_table_and_polarity_caution(cli, db_path):
+    _import(cli, db_path)
+    r = cli("stock", "list", "--kind", "capacitor", "--location", "e1", db=db_path)
+    assert r.returncode == 0, r.stderr
+    assert "4.7 µF" in r.stdout and "electrolytic" in r.stdout
+    assert "polarised" in r.stdout and "Caution" in r.stdout
+    r = cli("stock", "list", "--kind", "resistor", "--location", "A1", db=db_path)
+    assert "Caution" not in r.stdout
+
+
+def test_list_filters(cli, db_path):
+    _import(cli, db_path)
+    caps = _json(cli, db_path, "--kind", "capacitor")
+    assert caps and {ln["kind"] for ln in caps} == {"capacitor"}
+    a1 = _json(cli, db_path, "--location", "a1")
+    assert a1 and {ln["location"] for ln in a1} == {"A1"}
+    band = _json(cli, db_path, "--kind", "resistor", "--min", "1k", "--max", "10k")
+    assert band and all(1000 <= ln["value"] <= 10000 for ln in band)
+    everything = _json(cli, db_path, "--kind", "resistor")
+    assert len(band) == sum(1 for ln in everything if 1000 <= ln["value"] <= 10000)  # ends included
+    tiny = _json(cli, db_path, "--max", "1n")  # "n" says capacitance without --kind
+    assert tiny and all(ln["kind"] == "capacitor" and ln["value"] <= 1e-9 for ln in tiny)
+
+
+def test_list_bad_bound_is_one_line(cli, db_path):
+    r = cli("stock", "list", "--kind", "resistor", "--min", "4k7k", db=db_path)
+    assert r.returncode == 1
+    assert r.stderr.strip() == 'Error: --min: cannot read "4k7k" as a resistance: expected e.g. 4700, 4.7k, 4k7, 4.7 kΩ'
+
+
+def test_empty_stock_list(cli, db_path):
+    r = cli("stock", "list", db=db_path)
+    assert r.returncode == 0 and "No stock lines match" in r.stdout
+    assert _json(cli, db_path) == []
+
+
+def test_adjust_negative_and_positive(cli, db_path):
+    _import(cli, db_path)
+    first = _json(cli, db_path)[0]
+    r = cli("stock", "adjust", str(first["line_id"]), "-3", db=db_path)
+    assert r.returncode == 0, r.stderr
+    assert f"{first['quantity']} → {first['quantity'] - 3} (-3)" in r.stdout
+    r = cli("stock", "adjust", str(first["line_id"]), "+5", "--reference", "found more", db=db_path)
+    assert r.returncode == 0, r.stderr
+    assert _json(cli, db_path)[0]["quantity"] == first["quantity"] + 2
+    with sqlite3.connect(db_path) as c:
+        rows = c.execute("SELECT delta, reason, reference FROM movements WHERE line_id = ? ORDER BY id",
+                         (first["line_id"],)).fetchall()
+    assert rows[-2:] == [(-3, "adjust", ""), (5, "adjust", "found more")]
+
+
+def test_adjust_below_zero_is_refused_and_changes_nothing(cli, db_path):
+    _import(cli, db_path, _write_csv(db_path.parent, "kind,value,quantity,location\nR,4k7,3,A3\n"))
+    before = _dump(db_path)
+    r = cli("stock", "adjust", "1", "-5", db=db_path)
+    assert r.returncode == 1
+    assert r.stderr.strip() == "Error: stock line 1 (resistor 4.7 kΩ, A3) holds 3; a change of -5 would leave -2"
+    assert "Traceback" not in r.stderr
+    assert _dump(db_path) == before
+
+
+def test_unknown_line_id(cli, db_path):
+    _import(cli, db_path, _write_csv(db_path.parent, "kind,value,quantity\nR,1k,1\n"))
+    before = _dump(db_path)
+    for args in (("adjust", "99", "2"), ("set", "99", "2")):
+        r = cli("stock", *args, db=db_path)
+        assert r.returncode == 1
+        assert r.stderr.strip() == "Error: there is no stock line 99 (see `selector stock list`)"
+    assert _dump(db_path) == before
+
+
+def test_adjust_with_a_non_number_is_a_usage_error(cli, db_path):
+    r = cli("stock", "adjust", "1", "three", db=db_path)
+    assert r.returncode == 2
+    assert r.stderr.strip() == 'Error: DELTA "three": expected a whole number such as 5, +5 or -3'
+
+
+def test_set_is_ledgered_and_refuses_negative(cli, db_path):
+    _import(cli, db_path, _write_csv(db_path.parent, "kind,value,quantity\nC,100n,10\n"))
+    r = cli("stock", "set", "1", "4", "--reference", "stocktake", db=db_path)
+    assert r.returncode == 0, r.stderr
+    assert "10 → 4 (-6)" in r.stdout
+    with sqlite3.connect(db_path) as c:
+        assert c.execute("SELECT delta, reason, reference FROM movements ORDER BY id").fetchall() == [
+            (10, "import", "stock.csv"), (-6, "set", "stocktake")]
+    before = _dump(db_path)
+    r = cli("stock", "set", "1", "-1", db=db_path)
+    assert r.returncode == 2  # typer's min=0: a usage error
+    assert "Traceback" not in r.stderr
+    assert _dump(db_path) == before
+
+
+def test_import_errors_through_the_cli(cli, db_path):
+    _import(cli, db_path, _write_csv(db_path.parent, "kind,value,quantity\nR,1k,1\n", "ok.csv"))
+    before = _dump(db_path)
+    bad = _write_csv(db_path.parent, "kind,value,quantity\nR,1k,1\ndiode,1N4148,2\nR,2k2,-1\n", "bad.csv")
+    r = cli("stock", "import", str(bad), db=db_path)
+    assert r.returncode == 1
+    assert r.stderr.splitlines() == [
+        "Error: 2 problems in the stock file; nothing was imported",
+        '  row 3, column kind: "diode": expected resistor or capacitor (or R / C)',
+        '  row 4, column quantity: "-1": expected a whole number of parts, 0 or more',
+    ]
+    assert _dump(db_path) == before
+    r = cli("stock", "import", str(db_path.parent / "missing.csv"), db=db_path)
+    assert r.returncode == 1
+    assert r.stderr.strip() == f"Error: cannot read the stock file {db_path.parent / 'missing.csv'}: No such file or directory"
+
+
+def test_import_dry_run_and_replace(cli, db_path):
+    d = db_path.parent
+    _import(cli, db_path, _write_csv(d, "kind,value,quantity,location\nR,1k,10,A1\nR,2k2,3,A1\n", "a.csv"))
+    before = _dump(db_path)
+    r = cli("stock", "import", str(_write_csv(d, "kind,value,quantity,location\nR,1k,4,A1\n", "b.csv")),
+            "--replace", "--dry-run", db=db_path)
+    assert r.returncode == 0, r.stderr
+    assert "Dry run" in r.stdout and "Nothing was written" in r.stdout and "10 → 4" in r.stdout
+    assert _dump(db_path) == before
+    _import(cli, db_path, d / "b.csv", "--replace")
+    assert [ln["quantity"] for ln in _json(cli, db_path)] == [4, 3]
+
+
+def test_export_import_round_trip_gives_identical_list(cli, tmp_path):
+    a, b = tmp_path / "a.db", tmp_path / "b.db"
+    _import(cli, a)
+    cli("stock", "adjust", "2", "-7", db=a)
+    out = tmp_path / "out.csv"
+    r = cli("stock", "export", str(out), db=a)
+    assert r.returncode == 0, r.stderr
+    _import(cli, b, out)
+    assert _json(cli, b) == _json(cli, a)
+    r = cli("stock", "export", "-", db=b)
+    assert r.stdout == out.read_text(encoding="utf-8")
+
+
+# IEC 60063 E12 decade (facts.md §9 [S9]): 1.0 1.2 1.5 1.8 2.2 2.7 3.3 3.9 4.7 5.6 6.8 8.2; written by hand.
+E12_1K_TO_10K = [1000.0, 1200.0, 1500.0, 1800.0, 2200.0, 2700.0, 3300.0, 3900.0, 4700.0, 5600.0, 6800.0, 8200.0,
+                 10000.0]
+
+
+def test_kit_adds_one_line_per_series_value_and_merges_when_repeated(cli, db_path):
+    args = ("stock", "kit", "E12", "--kind", "resistor", "--from", "1k", "--to", "10k", "--qty", "5",
+            "--location", "kit box")
+    r = cli(*args, db=db_path)
+    assert r.returncode == 0, r.stderr
+    lines = _json(cli, db_path)
+    assert [ln["value"] for ln in lines] == E12_1K_TO_10K
+    # E12 is the ±10 % series (IEC 60063; facts.md §9).
+    assert {(ln["tol_minus"], ln["tol_plus"], ln["quantity"], ln["location"]) for ln in lines} == {
+        (0.1, 0.1, 5, "kit box")}
+    r = cli(*args, db=db_path)
+    assert r.returncode == 0, r.stderr
+    again = _json(cli, db_path)
+    assert [ln["line_id"] for ln in again] == [ln["line_id"] for ln in lines]
+    assert {ln["quantity"] for ln in again} == {10}
+    with sqlite3.connect(db_path) as c:
+        assert c.execute("SELECT count(*), sum(delta) FROM movements WHERE reason = 'kit'").fetchone() == (26, 130)
+
+
+def test_kit_capacitors_with_dielectric_and_rating(cli, db_path):
+    r = cli("stock", "kit", "E6", "--kind", "capacitor", "--from", "1n", "--to", "100n", "--qty", "10",
+            "--location", "D9", "--dielectric", "C0G", "--rating", "50V", db=db_path)
+    assert r.returncode == 0, r.stderr
+    lines = _json(cli, db_path)
+    # IEC 60063 E6 (1.0 1.5 2.2 3.3 4.7 6.8) from 1 nF to 100 nF; C0G default ±5 % (facts.md §8.1 [S12]).
+    assert [ln["value"] for ln in lines] == [1e-9, 1.5e-9, 2.2e-9, 3.3e-9, 4.7e-9, 6.8e-9, 1e-8, 1.5e-8, 2.2e-8,
+                                             3.3e-8, 4.7e-8, 6.8e-8, 1e-7]
+    assert {(ln["dielectric"], ln["rating"], ln["tol_minus"]) for ln in lines} == {("C0G", 50.0, 0.05)}
+
+
+def test_kit_errors_are_one_line(cli, db_path):
+    r = cli("stock", "kit", "E7", "--kind", "resistor", "--from", "1k", "--to", "10k", "--qty", "1",
+            "--location", "X", db=db_path)
+    assert r.returncode == 1 and len(r.stderr.strip().splitlines()) == 1 and "E7" in r.stderr
+    r = cli("stock", "kit", "E12", "--kind", "resistor", "--from", "10k", "--to", "1k", "--qty", "1",
+            "--location", "X", db=db_path)
+    assert r.returncode == 2 and r.stderr.strip() == "Error: --from 10k is above --to 1k"
+    r = cli("stock", "kit", "E12", "--kind", "resistor", "--from", "1k", "--to", "10x", "--qty", "1",
+            "--location", "X", db=db_path)
+    assert r.returncode == 1 and r.stderr.strip().startswith('Error: --to: cannot read "10x"')
+    assert _json(cli, db_path) == []
+
+
+def _write_csv(folder: Path, text: str, name: str = "stock.csv") -> Path:
+    p = folder / name
+    p.write_text(text, encoding="utf-8")
+    return p
