@@ -77,8 +77,8 @@ def _notes(req: ValueRequest, options: Sequence) -> list[str]:
     notes: list[str] = []
     best = abs(options[0].value / req.target - 1.0)
     if best > FAR_LIMIT:
-        notes.append(f"The stock cannot get within {FAR_LIMIT:.0%} of {value_text(req.kind, req.target)}: "
-                     f"the nearest option is {options[0].value / req.target - 1.0:+.1%} off. "
+        notes.append(f"The stock cannot get within {FAR_LIMIT * 100:.0f} % of {value_text(req.kind, req.target)}: "
+                     f"the nearest option is {(options[0].value / req.target - 1.0) * 100:+.1f} % off. "
                      "The nearest ones are shown anyway.")
     if req.kind == "capacitor":
         pol = [str(i) for i, n in enumerate(options, 1) if n.polarized_in_series]
