@@ -96,8 +96,9 @@ def to_csv(bom: Bom) -> str:
 
 
 def md_cell(text: str) -> str:
-    """A Markdown table cell: backslashes and pipes escaped, line breaks folded to spaces."""
-    text = re.sub(r"[\r\n]+", " ", text).strip()
+    """A Markdown table cell: every line boundary (``str.splitlines``: LF, CR, FF, VT, U+2028 …)
+    becomes one space, outer blanks are trimmed, backslashes and pipes are escaped."""
+    text = " ".join(text.splitlines()).strip()
     return text.replace("\\", "\\\\").replace("|", "\\|")
 
 
