@@ -321,6 +321,16 @@ def test_every_text_field_reaching_the_csv_is_neutralised():
     assert (c1["location"], c1["package"], c1["dielectric"], c1["note"]) == ("'@A1", "'\tradial", "'=C0G", "'\rnote")
 
 
+def test_an_asymmetric_tolerance_cell_is_kept_as_text():
+    # "-20/+80 %" (IEC 60062 letter Z, facts §8.2) starts with "-": a spreadsheet would compute it.
+    z5u = {5: ("capacitor", 100e-9, 0.20, 0.80, 30, "B2", "radial", 50.0, "Z5U", "")}
+    bom = build(astable_standard(), stock=stock_lines(z5u))
+    rows = list(csv.DictReader(io.StringIO(B.to_csv(bom), newline="")))
+    dec = [r for r in rows if r["role"] == B.ROLE_DECOUPLE][0]
+    assert (dec["line_id"], dec["tolerance"]) == ("5", "'-20/+80 %")
+    assert B.to_json(bom)["lines"][6]["tolerance"] == {"minus": 0.20, "plus": 0.80}
+
+
 # --------------------------------------------------------------------------- through the CLI
 
 
