@@ -70,6 +70,10 @@ def test_standard_astable_bom_for_three_boards():
     assert B.demand(bom.lines) == {1: 3, 2: 3, 3: 3, 4: 6, 5: 3, 6: 3}
     assert any("discharge electrolytics" in n for n in bom.notes)
     assert any("local electrical codes and qualified practice" in n for n in bom.notes)
+    # RA: VCC→DIS, RB: DIS→THR/TRIG, C: THR→GND (facts §1); RESET to VCC when unused (facts §4, S1/S3)
+    assert bom.notes[0] == ("Connections: RA from VCC to DIS; RB from DIS to THR and TRIG; timing capacitor "
+                            "from THR/TRIG to GND.")
+    assert bom.notes[1] == "Tie RESET to VCC when it is not used."
 
 
 def test_diode_steered_astable_lists_the_diode_and_prefers_ceramic_decoupling():
@@ -105,11 +109,14 @@ def test_monostable_cmos_has_no_control_pin_or_reservoir_capacitor():
     assert bom.lines[3].description == "555 timer, CMOS"
     assert B.demand(bom.lines) == {1: 8, 6: 4, 5: 4}
     assert any("control pin is left open" in n for n in bom.notes)
+    # monostable: R from VCC to DIS/THR, C from THR to GND, trigger on TRIG (facts §4)
+    assert bom.notes[0].startswith("Connections: R from VCC to DIS and THR; timing capacitor from THR to GND")
     assert [bl.network for bl in bom.lines[:2]] == ["parallel: R1 ∥ R2"] * 2
 
 
 def test_rc_and_value_options_are_networks_only():
     rc = build(rc_series_pair(), mode="rc")
+    assert not any(n.startswith("Connections") or "RESET" in n for n in rc.notes)
     assert summary(rc) == [
         ("R1", "R", "resistor", 10000.0, 1, 1, 1, True),
         ("R2", "R", "resistor", 10000.0, 1, 1, 1, True),

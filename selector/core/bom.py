@@ -374,6 +374,7 @@ def assemble_bom(
         else bl
         for bl in lines
     ]
+    notes[:0] = connection_notes(spec)
     if spec.uses_timer and spec.chip == "cmos":
         notes.append(
             "CMOS timer: the control pin is left open (one CMOS 555 data sheet says it need not be "
@@ -385,6 +386,29 @@ def assemble_bom(
         notes.extend(CAUTIONS)
     return Bom(search_id=search_id, option=option_rank, boards=boards, spec=spec,
                lines=tuple(lines), notes=tuple(notes))
+
+
+#: Where each timing network goes, by connection (facts.md §1 standard, §2 diode-steered [S8],
+#: §3 output-fed, §4 monostable); RESET tied to VCC when unused [facts §4, S1/S3].
+_CONNECTIONS = {
+    "standard": "Connections: RA from VCC to DIS; RB from DIS to THR and TRIG; timing capacitor from "
+                "THR/TRIG to GND.",
+    "diode": "Connections: RA from VCC to DIS; RB from DIS to THR and TRIG with the steering diode across "
+             "it (anode at DIS, cathode at THR/TRIG); timing capacitor from THR/TRIG to GND.",
+    "output-fed": "Connections: R from OUT to THR and TRIG; timing capacitor from THR/TRIG to GND; DIS "
+                  "left unconnected.",
+    "monostable": "Connections: R from VCC to DIS and THR; timing capacitor from THR to GND; the trigger "
+                  "pulse goes to TRIG (take it close to 0 V and keep it shorter than the pulse width).",
+}
+
+
+def connection_notes(spec: CircuitSpec) -> list[str]:
+    """How the timing networks are wired to the timer, for a 555 option."""
+    if not spec.uses_timer:
+        return []
+    key = "monostable" if spec.mode == "monostable" else spec.connection
+    out = [_CONNECTIONS[key]] if key in _CONNECTIONS else []
+    return out + ["Tie RESET to VCC when it is not used."]
 
 
 def _extras(
