@@ -374,3 +374,14 @@ def test_found_three_part_networks_are_wired_part_by_part(tmp_path):
         assert {"series3", "series+parallel", "parallel3", "parallel+series"} <= shapes
     finally:
         engine.dispose()
+
+
+def test_cli_plot_writes_an_svg_of_the_run(cli, saved_db, tmp_path):
+    import xml.etree.ElementTree as ET
+
+    svg = tmp_path / "run.svg"
+    r = cli("simulate", "1", "--plot", str(svg), db=saved_db)
+    assert r.returncode == 0, r.stderr
+    root = ET.fromstring(svg.read_text(encoding="utf-8"))
+    lines = root.findall("{http://www.w3.org/2000/svg}polyline")
+    assert len(lines) == 2   # v(C) and v(OUT)

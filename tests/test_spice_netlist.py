@@ -271,3 +271,43 @@ def test_corners_move_every_part_by_its_own_tolerance():
 def test_corners_need_known_tolerances():
     with pytest.raises(SimulationFailed, match="tolerance"):
         spice.corner_circuits(astable(tol=None))
+
+
+# Golden text: the first lines of `wrdata wave.txt v(cap) v(out)` (with `set wr_singlescale`)
+# written by ngspice 39.3 for a 9 V bipolar standard astable, RA 10k, RB 47k, C 10 nF.
+WRDATA = """\
+ 3.25000000e-09  5.13150738e-05  7.60000000e+00 
+ 3.36900051e-09  5.31940025e-05  7.60000000e+00 
+ 3.60700152e-09  5.69518592e-05  7.60000000e+00 
+"""
+
+
+def test_waveform_columns_are_read_in_order():
+    times, cols = spice.parse_waveform(WRDATA)
+    assert times == [3.25e-09, 3.36900051e-09, 3.60700152e-09]
+    assert cols[0][2] == 5.69518592e-05 and cols[1] == [7.6, 7.6, 7.6]
+
+
+def test_waveform_request_adds_a_dump_and_keeps_the_measures():
+    text = spice.build_netlist(astable(), 3, waveform=True).text
+    assert f"wrdata {spice.WAVE_FILE} v(cap) v(out)" in text and ".meas tran m_f4" in text
+    assert spice.build_netlist(astable(), 3).text.count(".control") == 0
+
+
+def test_svg_plot_is_well_formed_with_one_trace_per_node():
+    import xml.etree.ElementTree as ET
+
+    from selector.render.simulate import waveform_svg
+    from selector.services.simulate import Waveform
+
+    t = [i * 1e-5 for i in range(5000)]
+    square = [5.0 if (i // 700) % 2 == 0 else 0.0 for i in range(5000)]
+    ramp = [1.0 + (i % 700) / 350.0 for i in range(5000)]
+    svg = waveform_svg(Waveform(tuple(t), (("v(C)", tuple(ramp)), ("v(OUT)", tuple(square))),
+                                (("1/3 VCC", 5 / 3), ("2/3 VCC", 10 / 3))), "test <plot>")
+    root = ET.fromstring(svg)
+    lines = root.findall("{http://www.w3.org/2000/svg}polyline")
+    assert len(lines) == 2
+    # decimated to at most 4 points per pixel column, yet both levels of the square wave kept
+    ys = {float(p.split(",")[1]) for p in lines[1].get("points").split()}
+    assert len(lines[1].get("points").split()) <= 4 * 820 and len(ys) == 2

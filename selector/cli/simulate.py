@@ -67,6 +67,8 @@ def simulate_command(
     corners: bool = typer.Option(False, "--corners", help="Also simulate the worst-case tolerance corners."),
     as_json: bool = typer.Option(False, "--json", help="Print JSON: predicted, simulated, difference (and corners)."),
     discharge_ohms: Optional[float] = typer.Option(None, "--discharge-ohms", min=0.001, help=_RD_HELP),
+    plot: Optional[Path] = typer.Option(None, "--plot", dir_okay=False,
+                                        help="Also write an SVG plot of the capacitor and output voltages."),
 ) -> None:
     """Run one saved option in ngspice and show the measured timing beside the prediction.
 
@@ -77,9 +79,18 @@ def simulate_command(
     engine = _engine(ctx)
     try:
         report = simulate_option(engine, option, search, cycles=cycles, corners=corners,
-                                 discharge_ohms=discharge_ohms)
+                                 discharge_ohms=discharge_ohms, waveform=plot is not None)
     finally:
         engine.dispose()
+    if plot is not None:
+        from selector.render.simulate import waveform_svg
+
+        title = f"search {report.search_id}, option {report.rank}: {report.connection} (ngspice)"
+        try:
+            plot.write_text(waveform_svg(report.waveform, title), encoding="utf-8")
+        except OSError as err:
+            fail(f"cannot write {plot}: {err.strerror or err}")
+        typer.echo(f"Wrote {plot}", err=True)
     if as_json:
         typer.echo(json.dumps(report.to_json(), indent=2))
         return

@@ -57,7 +57,10 @@ DATASHEET_DISCHARGE_OHMS: dict[str, float] = {
     "bipolar": 12.0,  # [S1] DIS saturation 180 mV typ at 15 mA (VCC 15 V) → 12 Ω
     "cmos": 40.0,     # [S6] DIS ≤ 0.4 V at 10 mA, 5 V → at most 40 Ω (stored table garbled)
 }
-DISCHARGE_OFF_OHMS = 1e9   # [S1] DIS leakage 20 nA typ: 1 GΩ leaks 9 nA at 9 V
+DISCHARGE_OFF_OHMS = 1e12
+"""Off-resistance of the discharge switch: near-ideal too. A real bipolar DIS leaks 20 nA typ
+[S1] (about 1 GΩ at 9 V), which with a 1.8 MΩ timing resistor already lengthens a monostable
+pulse by 0.15 %; the formulas ignore it, as they ignore the threshold input current."""
 RESET_LEVEL_V = 0.7        # [S1] reset threshold 0.4 / 0.7 / 1.0 V (min/typ/max)
 LATCH_DELAY_R, LATCH_DELAY_C = 1e3, 1e-12   # 1 ns per gate: keeps the latch well-posed
 DIODE_N = 1.9              # emission coefficient of a small-signal Si diode (from memory, 1.7–2)
@@ -65,6 +68,7 @@ THERMAL_V = 0.025852       # kT/q at 300 K (derived: 1.380649e-23·300/1.602177e
 RC_FRACTION = 1.0 - math.exp(-1.0)          # 63.212 % of the step: reached after one τ (derived)
 MINUS_3DB = 20.0 * math.log10(1.0 / math.sqrt(2.0))  # −3.0103 dB: the corner of a first-order RC
 STEPS_PER_SEGMENT = 1000   # timestep limit: the shortest half-period / this (ecosystem §6: ≤ 0.1 %)
+STEPS_PER_PULSE = 5000     # monostable and RC runs are one segment, so they can afford a finer step
 MAX_STEPS = 400_000        # cap on points per run, so a very lopsided duty stays a few seconds
 
 CONNECTIONS_555 = ("standard", "diode", "output-fed", "monostable")
@@ -323,9 +327,18 @@ def _tran(tmax: float, tstop: float) -> str:
     return f".tran {_num(tmax)} {_num(tstop)} 0 {_num(tmax)} UIC"
 
 
-def build_netlist(c: Circuit, cycles: int = 5) -> Netlist:
+WAVE_FILE = "waveform.txt"
+
+
+def _wave_block(nodes: str) -> list[str]:
+    # an ngspice control block: run the analysis above, then dump the waveforms as columns
+    return [".control", "run", "set wr_singlescale", f"wrdata {WAVE_FILE} {nodes}", "quit", ".endc"]
+
+
+def build_netlist(c: Circuit, cycles: int = 5, waveform: bool = False) -> Netlist:
     """The complete netlist for ``c`` with its ``.meas`` lines; ``cycles`` full astable cycles
-    are measured after the first one."""
+    are measured after the first one. With ``waveform`` the run also writes :data:`WAVE_FILE`
+    (time and the plotted node voltages, see :func:`parse_waveform`)."""
     if c.connection not in CONNECTIONS:
         raise SimulationFailed(f"unknown connection {c.connection!r}; expected one of: " + ", ".join(CONNECTIONS))
     if cycles < 1:
@@ -341,7 +354,7 @@ def build_netlist(c: Circuit, cycles: int = 5) -> Netlist:
          ".options numdgt=10"]
     meas: list[str] = []
     if c.connection == "rc":
-        return _rc_netlist(c, L, cycles)
+        return _rc_netlist(c, L, cycles, waveform)
     L.append(f"VCC vcc 0 DC {_num(vcc)}")
     mid = _num((chip.voh + chip.vol) / 2.0)
     cn = _net(c, "C")
@@ -376,10 +389,12 @@ def build_netlist(c: Circuit, cycles: int = 5) -> Netlist:
               f"VTRIG trig 0 PULSE({_num(vcc)} 0 {_num(td)} {_num(edge)} {_num(edge)} {_num(pw)} {_num(1e3 * tw)})",
               "X555 0 trig out vcc ctl cap cap vcc SEL555_" + chip.family.upper()]
         L += subckt_555(chip)
-        L += [".save v(cap) v(out) v(trig)", _tran(tw / STEPS_PER_SEGMENT, td + 3.0 * tw)]
+        L += [".save v(cap) v(out) v(trig)", _tran(tw / STEPS_PER_PULSE, td + 3.0 * tw)]
         for name, edge_kind in (("m_r1", "RISE=1"), ("m_f1", "FALL=1")):
             meas.append(name)
             L.append(f".meas tran {name} WHEN v(out)={mid} {edge_kind}")
+        if waveform:
+            L += _wave_block("v(cap) v(out) v(trig)")
         L.append(".end")
         return Netlist("\n".join(L) + "\n", tuple(meas), 1)
     L += subckt_555(chip)
@@ -395,11 +410,13 @@ def build_netlist(c: Circuit, cycles: int = 5) -> Netlist:
     for k in range(1, cycles + 3):
         meas.append(f"m_r{k}")
         L.append(f".meas tran m_r{k} WHEN v(out)={mid} RISE={k}")
+    if waveform:
+        L += _wave_block("v(cap) v(out)")
     L.append(".end")
     return Netlist("\n".join(L) + "\n", tuple(meas), cycles)
 
 
-def _rc_netlist(c: Circuit, L: list[str], cycles: int) -> Netlist:
+def _rc_netlist(c: Circuit, L: list[str], cycles: int, waveform: bool = False) -> Netlist:
     tau = float(c.expected.get("tau_s") or 0)
     if not (tau > 0 and math.isfinite(tau)):
         raise SimulationFailed("the RC option has no predicted tau_s to size the run")
@@ -411,10 +428,11 @@ def _rc_netlist(c: Circuit, L: list[str], cycles: int) -> Netlist:
     L += network_lines(_net(c, "R"), "in", "cap")
     L += network_lines(_net(c, "C"), "cap", "0", ic=0.0)
     # ngspice runs one analysis per .meas set in batch mode, so the two run from a control block
-    tmax = max(tau / STEPS_PER_SEGMENT, (td + 3.0 * tau) / MAX_STEPS)
+    tmax = max(tau / STEPS_PER_PULSE, (td + 3.0 * tau) / MAX_STEPS)
     L += [".control",
           f"tran {_num(tmax)} {_num(td + 3.0 * tau)} 0 {_num(tmax)} UIC",
           f"meas tran m_t63 WHEN v(cap)={_num(RC_FRACTION * v)} RISE=1",
+          *(["set wr_singlescale", f"wrdata {WAVE_FILE} v(in) v(cap)"] if waveform else []),
           f"ac dec 200 {_num(fc / 100)} {_num(fc * 100)}",
           f"meas ac m_fc WHEN vdb(cap)={MINUS_3DB:.8f} FALL=1",
           "quit",
@@ -446,8 +464,34 @@ def parse_measurements(text: str) -> tuple[dict[str, float], set[str]]:
 
 def _need(found: Mapping[str, float], name: str, what: str) -> float:
     if name not in found:
-        raise SimulationFailed(f"ngspice could not measure {what} ({name}): the waveform never got there")
+        raise SimulationFailed(f"ngspice could not measure {what} ({name}): the circuit never got there "
+                               "(it does not switch, or runs far slower than predicted)")
     return found[name]
+
+
+def parse_waveform(text: str) -> tuple[list[float], list[list[float]]]:
+    """``(times, [column, ...])`` from an ngspice ``wrdata`` file written with a single time
+    scale (time first, then one column per node)."""
+    times: list[float] = []
+    cols: list[list[float]] = []
+    for line in text.splitlines():
+        f = line.split()
+        if not f:
+            continue
+        try:
+            row = [float(x) for x in f]
+        except ValueError:
+            continue
+        if not cols:
+            cols = [[] for _ in row[1:]]
+        if len(row) != len(cols) + 1:
+            continue
+        times.append(row[0])
+        for col, v in zip(cols, row[1:]):
+            col.append(v)
+    if not times:
+        raise SimulationFailed("ngspice wrote no waveform data")
+    return times, cols
 
 
 def reduce_measurements(c: Circuit, found: Mapping[str, float], cycles: int) -> dict[str, float]:

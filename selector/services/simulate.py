@@ -41,6 +41,15 @@ class CornerResult:
 
 
 @dataclass(frozen=True)
+class Waveform:
+    """Node voltages over time from the nominal run (for ``--plot``)."""
+
+    times: tuple[float, ...]
+    series: tuple[tuple[str, tuple[float, ...]], ...]   # (label, volts)
+    levels: tuple[tuple[str, float], ...] = ()          # dashed guide lines, e.g. 1/3 and 2/3 VCC
+
+
+@dataclass(frozen=True)
 class SimulationReport:
     """What ``simulate`` shows: prediction, simulation and their signed relative difference."""
 
@@ -60,6 +69,7 @@ class SimulationReport:
     elapsed_s: float
     corners: tuple[CornerResult, ...] = ()
     warnings: tuple[str, ...] = field(default_factory=tuple)
+    waveform: Optional["Waveform"] = None
 
     def to_json(self) -> dict[str, Any]:
         out: dict[str, Any] = {
@@ -203,6 +213,13 @@ def find_ngspice(ngspice: Optional[str] = None) -> str:
 
 def run_ngspice(text: str, exe: str, timeout: float = NGSPICE_TIMEOUT_S) -> str:
     """Run one netlist in batch mode in a scratch directory; return everything it printed."""
+    return _run(text, exe, timeout)[0]
+
+
+def _run(text: str, exe: str, timeout: float = NGSPICE_TIMEOUT_S,
+         read: Optional[str] = None) -> tuple[str, Optional[str]]:
+    """ngspice -b on ``text``; returns (what it printed, the text of file ``read`` it wrote)."""
+    extra: Optional[str] = None
     with tempfile.TemporaryDirectory(prefix="selector-spice-") as tmp:
         path = os.path.join(tmp, "option.cir")
         with open(path, "w", encoding="ascii", errors="replace") as fh:
@@ -214,12 +231,15 @@ def run_ngspice(text: str, exe: str, timeout: float = NGSPICE_TIMEOUT_S) -> str:
             raise SimulationFailed(f"ngspice did not finish within {timeout:g} s") from None
         except OSError as err:
             raise SimulatorMissing(f"ngspice could not be started ({err.strerror or err}); {INSTALL_HINT}") from None
+        if read is not None and os.path.exists(os.path.join(tmp, read)):
+            with open(os.path.join(tmp, read), encoding="ascii", errors="replace") as fh:
+                extra = fh.read()
     out = (proc.stdout or "") + "\n" + (proc.stderr or "")
     if proc.returncode != 0:
         first = next((ln.strip() for ln in out.splitlines() if "error" in ln.lower()), "")
         raise SimulationFailed(f"ngspice stopped with exit code {proc.returncode}"
                                + (f": {first}" if first else ""))
-    return out
+    return out, extra
 
 
 def simulate_circuit(c: spice.Circuit, exe: str, cycles: int = 5) -> dict[str, float]:
@@ -229,16 +249,31 @@ def simulate_circuit(c: spice.Circuit, exe: str, cycles: int = 5) -> dict[str, f
     return spice.reduce_measurements(c, found, nl.cycles)
 
 
+def _waveform(c: spice.Circuit, text: Optional[str]) -> Waveform:
+    if text is None:
+        raise SimulationFailed("ngspice wrote no waveform file")
+    times, cols = spice.parse_waveform(text)
+    if c.connection == "rc":
+        names, levels = ("input step", "v(C)"), (("63.2 %", spice.RC_FRACTION * c.chip.vcc),)
+    else:
+        names = ("v(C)", "v(OUT)", "v(TRIG)")
+        levels = (("1/3 VCC", c.chip.vcc / 3.0), ("2/3 VCC", 2.0 * c.chip.vcc / 3.0))
+    return Waveform(tuple(times), tuple((n, tuple(col)) for n, col in zip(names, cols)), levels)
+
+
 def simulate_option(engine: Engine, rank: int, search_id: Optional[int] = None, *, cycles: int = 5,
                     corners: bool = False, discharge_ohms: Optional[float] = None,
-                    ngspice: Optional[str] = None) -> SimulationReport:
-    """Simulate option ``rank`` (and, with ``corners``, its worst-case tolerance corners)."""
+                    ngspice: Optional[str] = None, waveform: bool = False) -> SimulationReport:
+    """Simulate option ``rank`` (and, with ``corners``, its worst-case tolerance corners); with
+    ``waveform`` the report also carries the nominal run's node voltages."""
     exe = find_ngspice(ngspice)
     t0 = time.perf_counter()
     saved, mode, circuit = _load(engine, rank, search_id, discharge_ohms)
-    netlist = spice.build_netlist(circuit, cycles)
-    found, _ = spice.parse_measurements(run_ngspice(netlist.text, exe))
+    netlist = spice.build_netlist(circuit, cycles, waveform=waveform)
+    out, wave_text = _run(netlist.text, exe, read=spice.WAVE_FILE if waveform else None)
+    found, _ = spice.parse_measurements(out)
     simulated = spice.reduce_measurements(circuit, found, netlist.cycles)
+    wave = _waveform(circuit, wave_text) if waveform else None
     predicted = {k: v for k, v in circuit.expected.items() if k in simulated}
     results = []
     if corners:
@@ -258,4 +293,4 @@ def simulate_option(engine: Engine, rank: int, search_id: Optional[int] = None, 
         discharge_ohms=circuit.chip.discharge_ohms,
         diode_vf=circuit.diode_vf if circuit.connection == "diode" else None,
         netlist=netlist.text, elapsed_s=time.perf_counter() - t0, corners=tuple(results),
-        warnings=tuple(warnings))
+        warnings=tuple(warnings), waveform=wave)
