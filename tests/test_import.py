@@ -394,3 +394,9 @@ def test_killed_import_leaves_old_or_new_stock(tmp_path, db_path, db_url):
         assert state == old
     else:
         assert state == new
+
+
+def test_absurd_quantity_is_refused(memory_engine, tmp_path):
+    p = _write(tmp_path, "kind,value,quantity\nR,1k,99999999999999999999999\n")
+    assert _problems(memory_engine, p) == [
+        'row 2, column quantity: "99999999999999999999999": expected at most 1000000000 parts on one line']

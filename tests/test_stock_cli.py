@@ -254,3 +254,18 @@ def _write_csv(folder: Path, text: str, name: str = "stock.csv") -> Path:
     p = folder / name
     p.write_text(text, encoding="utf-8")
     return p
+
+
+def test_numbers_beyond_any_stock_are_refused_in_one_line(cli, db_path):
+    _import(cli, db_path, _write_csv(db_path.parent, "kind,value,quantity\nR,1k,1\n"))
+    before = _dump(db_path)
+    huge = "99999999999999999999999"
+    for args, message in (
+        (("adjust", "1", huge), f"Error: a change of +{huge} parts is beyond any stock (at most 1000000000)"),
+        (("set", "1", huge), f"Error: {huge}: expected a quantity from 0 to 1000000000"),
+        (("adjust", huge, "1"), f"Error: there is no stock line {huge} (see `selector stock list`)"),
+    ):
+        r = cli("stock", *args, db=db_path)
+        assert r.returncode == 1, r.stderr
+        assert r.stderr.strip() == message
+    assert _dump(db_path) == before

@@ -7,8 +7,8 @@ stock, and ``apply_plan`` writes the plan through the ledger. ``--dry-run`` stop
 
 Identity of a stock line (what merges): kind, value, tolerance, location, package, rating and
 dielectric, compared exactly after rounding to 12 significant digits (so "4k7" and "4.7k" are the
-same part). The note is not part of the identity; an import never rewrites the note of an
-existing line.
+same part). The note is not part of the identity: a new line takes the note of the first file row
+for it, and an import never rewrites the note of an existing line.
 """
 
 from __future__ import annotations
@@ -22,6 +22,7 @@ from typing import Iterable, Optional, Sequence
 from selector.core.errors import InvalidStockFile, UnknownStockLine, UnparseableValue
 from selector.core.parts import default_tolerance, is_polarized, normalize_dielectric
 from selector.core.types import StockLine
+from selector.store.db import MAX_QUANTITY
 
 _KIND_WORDS = {"resistor": "resistor", "r": "resistor", "capacitor": "capacitor", "c": "capacitor"}
 _QTY_RE = re.compile(r"\+?\d+(?:\.0*)?")
@@ -43,11 +44,14 @@ def parse_kind(text: str) -> str:
 
 
 def parse_quantity(text: str) -> int:
-    """A whole number of parts, 0 or more ("3", "+3", "3.0")."""
+    """A whole number of parts, 0 or more ("3", "+3", "3.0"), at most MAX_QUANTITY."""
     t = text.strip()
     if not _QTY_RE.fullmatch(t):
         raise UnparseableValue(f'"{t}": expected a whole number of parts, 0 or more')
-    return int(t.split(".")[0])
+    q = int(t.split(".")[0])
+    if q > MAX_QUANTITY:
+        raise UnparseableValue(f'"{t}": expected at most {MAX_QUANTITY} parts on one line')
+    return q
 
 
 # --------------------------------------------------------------------------- specs and plans
@@ -390,7 +394,7 @@ def _get_line(session, line_id: int) -> StockLine:
     from selector.store.db import to_stock_line
     from selector.store.models import StockLineRow
 
-    row = session.get(StockLineRow, line_id)
+    row = session.get(StockLineRow, line_id) if 0 < line_id < 2**63 else None
     if row is None:
         raise UnknownStockLine(f"there is no stock line {line_id} (see `selector stock list`)")
     session.refresh(row)
@@ -413,8 +417,8 @@ def set_line(engine, line_id: int, quantity: int, reference: str = "") -> tuple[
     """Set a line's quantity (reason "set", the difference goes into the ledger)."""
     from selector.store.db import apply_movement, run_in_transaction
 
-    if quantity < 0:
-        raise UnparseableValue(f"{quantity}: expected a quantity of 0 or more")
+    if not 0 <= quantity <= MAX_QUANTITY:
+        raise UnparseableValue(f"{quantity}: expected a quantity from 0 to {MAX_QUANTITY}")
 
     def unit(session):
         before = _get_line(session, line_id)

@@ -39,6 +39,8 @@ SCHEMA_HEAD: str = "0002"
 KNOWN_REVISIONS: tuple[str, ...] = ("0001", "0002")
 """Every revision this version of the program can upgrade from, oldest first."""
 
+MAX_QUANTITY = 10**9  # parts on one line or in one change; far beyond any drawer, far inside int64
+_MAX_ID = 2**63 - 1
 BUSY_TIMEOUT_MS = 30_000
 BUSY_RETRIES = 3  # whole-unit replays after SQLite gave up waiting for the lock
 _BUSY_WORDS = ("database is locked", "database is busy", "database table is locked")
@@ -363,6 +365,10 @@ def apply_movement(
     Raises UnknownStockLine or InsufficientStock (nothing changed). A zero delta writes nothing."""
     if isinstance(delta, bool) or not isinstance(delta, int):
         raise TypeError("delta must be an int")
+    if not 0 < line_id <= _MAX_ID:
+        raise UnknownStockLine(f"there is no stock line {line_id}")
+    if abs(delta) > MAX_QUANTITY:
+        raise InsufficientStock(f"a change of {delta:+d} parts is beyond any stock (at most {MAX_QUANTITY})")
     if delta == 0:
         row = session.get(StockLineRow, line_id)
         if row is None:
