@@ -299,7 +299,8 @@ class SearchResult:
 
 def search_timing(r_lines: Sequence, c_lines: Sequence, target: Target, connections: Sequence[str],
                   limits: dict, max_parts: int = 2, boards: int = 1, pool: int = 20,
-                  progress: Optional[ProgressFn] = None, indexes: Optional[dict] = None) -> SearchResult:
+                  progress: Optional[ProgressFn] = None, indexes: Optional[dict] = None,
+                  c_max_parts: Optional[int] = None) -> SearchResult:
     """Search every connection in ``connections`` (``limits[connection]`` holds its Limits) over
     the networks of up to ``max_parts`` parts the stock allows for ``boards`` boards.
 
@@ -307,7 +308,9 @@ def search_timing(r_lines: Sequence, c_lines: Sequence, target: Target, connecti
     max_parts − 1 parts per network) so the pool also holds the best simpler builds the ranking
     may prefer. Each pass keeps its ``pool`` best (C, RB) / (C, R) pairs by |error|. Raises
     NothingFeasible (naming the limits and what they excluded) when nothing is left.
-    ``indexes`` may map budget -> (r_index, c_index) to reuse indexes already built."""
+    ``indexes`` may map budget -> (r_index, c_index) to reuse indexes already built;
+    ``c_max_parts`` caps the capacitor networks below ``max_parts`` (e.g. 3-part resistor
+    networks with 1-2-part capacitors)."""
     from selector.core.networks import build_index
     from selector.core.search_kernel import PowerCheck, _Pass, _Physics, capacitor_candidates
 
@@ -322,7 +325,8 @@ def search_timing(r_lines: Sequence, c_lines: Sequence, target: Target, connecti
             r_index, c_index = indexes[budget]
         else:
             r_index = build_index(r_lines, max_parts=budget, boards=boards, kind="resistor")
-            c_index = build_index(c_lines, max_parts=budget, boards=boards, kind="capacitor")
+            c_parts = budget if c_max_parts is None else max(1, min(budget, int(c_max_parts)))
+            c_index = build_index(c_lines, max_parts=c_parts, boards=boards, kind="capacitor")
         counts[budget] = (_size(r_index), _size(c_index))
         per = f" for {boards} boards" if boards > 1 else ""
         if len(r_index) == 0:

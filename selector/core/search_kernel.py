@@ -118,50 +118,109 @@ class PowerCheck:
 # --------------------------------------------------------------------------- the look-up kernel
 
 
+class SortedView:
+    """Faster look-ups for an index of 1- and 2-part networks, which the network module keeps
+    materialised in one array sorted by value with the id = the position there (documented in
+    selector.core.networks). ``nearest_sides`` and ``between`` then become plain searchsorted
+    calls with the same meaning (at-or-below / at-or-above, inclusive ranges). Anything else, and
+    any index with 3-part networks, goes to the index itself."""
+
+    def __init__(self, index):
+        self._index = index
+        cached = getattr(index, "_sorted_view_values", False)
+        if cached is False:
+            cached = None
+            if getattr(index, "max_parts", 3) <= 2 and len(index):
+                v = np.asarray(index.values(np.arange(len(index), dtype=np.int64)), dtype=float)
+                if np.all(np.diff(v) >= 0):
+                    cached = v
+            try:
+                index._sorted_view_values = cached  # built once per index
+            except AttributeError:
+                pass
+        self.sorted_values = cached
+
+    def __getattr__(self, name):
+        return getattr(self._index, name)
+
+    def __len__(self) -> int:
+        return len(self._index)
+
+    def values(self, ids):
+        if self.sorted_values is None:
+            return self._index.values(ids)
+        return self.sorted_values[np.asarray(ids, dtype=np.int64)]
+
+    def nearest_sides(self, targets, k: int = 1):
+        v = self.sorted_values
+        if v is None:
+            return self._index.nearest_sides(targets, k)
+        t = np.asarray(targets, dtype=float)
+        step = np.arange(k, dtype=np.int64)
+        below = np.searchsorted(v, t, side="right")[:, None] - 1 - step
+        above = np.searchsorted(v, t, side="left")[:, None] + step
+        below = np.where(below >= 0, below, -1)
+        above = np.where(above < v.size, above, -1)
+        return below, above
+
+    def between(self, lo, hi):
+        v = self.sorted_values
+        if v is None:
+            return self._index.between(lo, hi)
+        a = np.searchsorted(v, np.asarray(lo, dtype=float), side="left")
+        b = np.maximum(np.searchsorted(v, np.asarray(hi, dtype=float), side="right"), a)
+        counts = b - a
+        offsets = np.concatenate([[0], np.cumsum(counts)]).astype(np.int64)
+        ids = np.arange(int(offsets[-1]), dtype=np.int64) - np.repeat(offsets[:-1] - a, counts)
+        return offsets, ids
+
+
 def _nearest_feasible(index, target, lo, hi, ok_fn, k0: int = 2, kmax: int = 1 << 16):
-    """For each row i: the feasible network nearest in value to clamp(target[i], lo[i], hi[i]) on
-    each side, feasible meaning lo <= value <= hi and ``ok_fn(ids, rows)`` true. Returns
-    (below_ids, above_ids), -1 where a side has none. Widens k until found or proven absent."""
+    """For each row i: the feasible network nearest in value to q = clamp(target[i], lo[i], hi[i])
+    on each side (at or below q, at or above q), feasible meaning lo <= value <= hi and
+    ``ok_fn(ids, rows)`` true. Returns (below_ids, above_ids), -1 where a side has none. One
+    index query per row and round serves both sides; k widens until a feasible network is found
+    or the side is proven empty (it ran out of networks, or its next one is outside [lo, hi])."""
     n = len(target)
     out = [np.full(n, -1, dtype=np.int64), np.full(n, -1, dtype=np.int64)]
     if len(index) == 0:
         return out[0], out[1]
-    target = np.nan_to_num(np.asarray(target, dtype=float), nan=np.nan, neginf=0.0)
-    tb = np.minimum(target, hi)
-    ta = np.maximum(target, lo)
-    good = np.isfinite(target) & (lo <= hi * (1 + _SLACK))
-    rows_side = [np.flatnonzero(good & (tb >= lo * (1 - _SLACK)) & (tb > 0)),
-                 np.flatnonzero(good & (ta <= hi * (1 + _SLACK)) & np.isfinite(ta))]
-    tiny = 1e-30  # below any part value, far from float underflow
-    tgt_side = [tb, np.maximum(ta, tiny)]  # the index takes finite positive targets only
+    target = np.asarray(target, dtype=float)
+    good = ~np.isnan(target) & (lo <= hi * (1 + _SLACK))
+    with np.errstate(invalid="ignore"):
+        q = np.clip(target, lo, hi)
+    q = np.where(np.isfinite(q), np.maximum(q, 1e-30), 1e-30)  # finite positive queries only
+    open_side = [good.copy(), good.copy()]  # rows still looking on each side
     k = k0
-    while (rows_side[0].size or rows_side[1].size) and k <= kmax:
-        for side in (0, 1):
-            rows = rows_side[side]
-            if rows.size == 0:
+    while (open_side[0].any() or open_side[1].any()) and k <= kmax:
+        rows = np.flatnonzero(open_side[0] | open_side[1])
+        below, above = index.nearest_sides(q[rows], k)
+        for side, got in ((0, below), (1, above)):
+            want = open_side[side][rows]
+            if not want.any():
                 continue
-            below, above = index.nearest_sides(tgt_side[side][rows], k)
-            ids = np.asarray(below if side == 0 else above, dtype=np.int64).reshape(rows.size, -1)
+            r = rows[want]
+            ids = np.asarray(got, dtype=np.int64).reshape(rows.size, -1)[want]
             valid = ids >= 0
             vals = np.full(ids.shape, np.nan)
             vals[valid] = index.values(ids[valid])
-            lo_r = (lo[rows] * (1 - _SLACK))[:, None]
-            hi_r = (hi[rows] * (1 + _SLACK))[:, None]
+            lo_r = (lo[r] * (1 - _SLACK))[:, None]
+            hi_r = (hi[r] * (1 + _SLACK))[:, None]
             inrange = valid & (vals >= lo_r) & (vals <= hi_r)
             okm = inrange.copy()
             if inrange.any():
-                rr = np.broadcast_to(rows[:, None], ids.shape)[inrange]
+                rr = np.broadcast_to(r[:, None], ids.shape)[inrange]
                 okm[inrange] = ok_fn(ids[inrange], rr)
-            dist = np.where(okm, np.abs(vals - tgt_side[side][rows][:, None]), np.inf)
+            dist = np.where(okm, np.abs(vals - q[r][:, None]), np.inf)
             j = np.argmin(dist, axis=1)
-            found = np.isfinite(dist[np.arange(rows.size), j])
-            out[side][rows[found]] = ids[found, j[found]]
+            found = np.isfinite(dist[np.arange(r.size), j])
+            out[side][r[found]] = ids[found, j[found]]
             if side == 0:  # going down: once a value is below lo, everything further is too
                 beyond = np.any(valid & (vals < lo_r), axis=1)
             else:
                 beyond = np.any(valid & (vals > hi_r), axis=1)
             more = ~found & valid.all(axis=1) & ~beyond & (ids.shape[1] >= k)
-            rows_side[side] = rows[more]
+            open_side[side][r[~more]] = False
         k *= 4
     return out[0], out[1]
 
@@ -267,13 +326,17 @@ class _Pass:
     def __init__(self, phys: _Physics, r_index, c_index, c_ids, limits, power: PowerCheck,
                  ex, chunk: int = 2048):
         self.p = phys
-        self.r = r_index
+        self.r = SortedView(r_index)
         self.c_ids = c_ids
         self.c_vals = c_index.values(c_ids) if c_ids.size else np.zeros(0)
         self.lim = limits
         self.power = power
         self.ex = ex
         self.chunk = chunk
+        # When every line holds enough for two networks of the largest size on every board, RA
+        # and RB can never overdraw a line together and the pairwise check can be skipped.
+        qty = np.asarray(getattr(r_index, "quantity", np.zeros(0)), dtype=np.int64)
+        self.no_conflict = bool(qty.size) and int((qty // r_index.boards).min()) >= 2 * r_index.max_parts
 
     # ---- two-resistor connections
     def _best_ra(self, cv, rb_id, rb):
@@ -303,7 +366,7 @@ class _Pass:
 
         def ok(ids, rows):
             good = self.power.ok(ids)
-            if good.any():
+            if good.any() and not self.no_conflict:
                 sub = np.flatnonzero(good)
                 good[sub] = self.r.fits_together(ids[sub], rb_id[rows[sub]])
             return good
