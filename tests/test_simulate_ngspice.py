@@ -385,3 +385,27 @@ def test_cli_plot_writes_an_svg_of_the_run(cli, saved_db, tmp_path):
     root = ET.fromstring(svg.read_text(encoding="utf-8"))
     lines = root.findall("{http://www.w3.org/2000/svg}polyline")
     assert len(lines) == 2   # v(C) and v(OUT)
+
+
+def test_cli_find_then_simulate_shows_both_figures(cli, tmp_path):
+    """The issue's finish line: `selector find astable … && selector simulate 1` on a test stock,
+    all through the real command line; ngspice must agree with the saved prediction."""
+    db = tmp_path / "cli.db"
+    (tmp_path / "stock.csv").write_text(_test_stock_csv(), encoding="utf-8")
+    assert cli("stock", "import", str(tmp_path / "stock.csv"), db=db).returncode == 0
+    r = cli("find", "astable", "--freq", "3.3k", "--duty", "62%", "--vcc", "12V", "--top", "2", db=db)
+    assert r.returncode == 0, r.stderr
+    r = cli("simulate", "1", db=db)
+    assert r.returncode == 0, r.stderr
+    assert "frequency" in r.stdout and "duty (high)" in r.stdout and "ngspice" in r.stdout
+    out = json.loads(cli("simulate", "2", "--json", db=db).stdout)
+    assert out["option"] == 2 and out["connection"] in ("standard", "diode")
+    for key, d in out["difference"].items():
+        assert abs(d) <= _margins(out["connection"])[key], (key, d)
+
+
+def test_malformed_netlist_is_a_simulation_failure():
+    from selector.services.simulate import find_ngspice, run_ngspice
+
+    with pytest.raises(SimulationFailed, match="ngspice stopped with exit code"):
+        run_ngspice("* broken\nR1 a\n.tran 1u 1m\n.end\n", find_ngspice())

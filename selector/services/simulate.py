@@ -17,6 +17,7 @@ import time
 from dataclasses import dataclass, field, replace
 from typing import Any, Mapping, Optional
 
+import sqlalchemy as sa
 from sqlalchemy.engine import Engine
 
 from selector.core import spice
@@ -186,7 +187,7 @@ def _load(engine: Engine, rank: int, search_id: Optional[int], discharge_ohms: O
                     ids.add(int(p["line_id"]))
         tolerances = {}
         if ids:
-            for row in session.query(StockLineRow).filter(StockLineRow.id.in_(ids)):
+            for row in session.scalars(sa.select(StockLineRow).where(StockLineRow.id.in_(ids))):
                 tolerances[row.id] = (float(row.tol_minus), float(row.tol_plus))
         mode = search.mode
     title = f"selector: search {saved.search_id}, option {saved.rank} ({mode}, {saved.spec.connection})"
