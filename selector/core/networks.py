@@ -58,6 +58,7 @@ from typing import Iterable, Sequence, Union
 
 import numpy as np
 
+from selector.core.nearest import ThreePartSearch, argsort_stable, join as _join, rank_rows, ranges_concat
 from selector.core.types import KINDS, StockLine
 
 SHAPES: tuple[str, ...] = (
@@ -77,7 +78,6 @@ _SHAPES3: tuple[tuple[str, str, str, bool], ...] = (
     ("parallel+series", "parallel", "series", False),
 )
 _SINGLE, _SERIES, _PARALLEL = 0, 1, 2  # shape codes in the materialised array
-_EPS = 1e-9  # relative value slack around a target when splitting pair arrays (see module doc)
 
 Structure = Union[int, tuple]  # a leaf (index into Network.physical) or (joint, (children...))
 
@@ -88,14 +88,6 @@ def adds(kind: str, joint: str) -> bool:
     if kind not in KINDS:
         raise ValueError(f"unknown part kind {kind!r}")
     return (joint == "series") == (kind == "resistor")
-
-
-def _join(add: Union[bool, np.ndarray], x: np.ndarray, y: np.ndarray) -> np.ndarray:
-    """Combine two values (arrays) by a joint: sum, or reciprocal of the sum of reciprocals."""
-    with np.errstate(divide="ignore", invalid="ignore"):
-        if add is True or add is False:
-            return x + y if add else 1.0 / (1.0 / x + 1.0 / y)
-        return np.where(add, x + y, 1.0 / (1.0 / x + 1.0 / y))
 
 
 @dataclass(frozen=True)
@@ -171,63 +163,6 @@ class Network:
         return tuple(seen)
 
 
-def _ranges_concat(start: np.ndarray, stop: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """Concatenate integer ranges [start[i], stop[i]) without a Python loop.
-    Returns (row of each element, element)."""
-    length = np.maximum(stop - start, 0)
-    total = int(length.sum())
-    rows = np.repeat(np.arange(len(start)), length)
-    if total == 0:
-        return rows, np.zeros(0, dtype=np.int64)
-    first = np.cumsum(length) - length
-    elem = np.arange(total, dtype=np.int64) - np.repeat(first, length) + np.repeat(start, length)
-    return rows, elem
-
-
-def _rank_rows(rows: np.ndarray, ids: np.ndarray, keys: Sequence[np.ndarray], nrows: int,
-               k: int) -> np.ndarray:
-    """Per row, the first k distinct ids ordered by ``keys`` (primary first) then id."""
-    out = np.full((nrows, k), -1, dtype=np.int64)
-    if len(ids) == 0 or k == 0:
-        return out
-    order = np.lexsort((ids,) + tuple(reversed(keys)) + (rows,))
-    r, i = rows[order], ids[order]
-    keep = np.ones(len(i), dtype=bool)
-    keep[1:] = (r[1:] != r[:-1]) | (i[1:] != i[:-1])  # duplicates are adjacent after the sort
-    r, i = r[keep], i[keep]
-    first = np.searchsorted(r, np.arange(nrows), side="left")
-    rank = np.arange(len(r)) - first[r]
-    sel = rank < k
-    out[r[sel], rank[sel]] = i[sel]
-    return out
-
-
-def _argsort_stable(x: np.ndarray) -> np.ndarray:
-    """Same result as a stable argsort, faster on large float arrays: a quicksort, then only the
-    runs of equal values put back in position order."""
-    order = np.argsort(x)
-    sx = x[order]
-    tie = np.zeros(len(x), dtype=bool)
-    if len(x) > 1:
-        eq = sx[1:] == sx[:-1]
-        tie[1:] |= eq
-        tie[:-1] |= eq
-    if tie.any():
-        at = np.flatnonzero(tie)
-        sub = at[np.lexsort((order[at], sx[at]))]
-        order[at] = order[sub]
-    return order
-
-
-def _preimage(add: bool, a: np.ndarray, v: np.ndarray) -> np.ndarray:
-    """The pair value p with join(a, p) == v (elementwise; +inf when no finite p reaches v)."""
-    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
-        if add:
-            return v - a
-        p = 1.0 / (1.0 / v - 1.0 / a)
-        return np.where(v >= a, np.inf, p)
-
-
 class NetworkIndex:
     """All networks of 1..max_parts parts of ONE kind that the stock allows for `boards` boards.
     Build it with :func:`build_index`.  See the module docstring for the id scheme and methods."""
@@ -285,7 +220,7 @@ class NetworkIndex:
         c = {name: np.concatenate(parts) for name, parts in cols.items()}
         # Built in (parts, shape, li, lj) order, so sorting on (value, build position) gives the
         # order (value, parts, shape, li, lj) that ids and tie-breaks rely on.
-        order = _argsort_stable(c["val"])
+        order = argsort_stable(c["val"])
         self._val = c["val"][order]
         self._shape = c["shape"][order]
         self._li = c["li"][order]
@@ -325,25 +260,26 @@ class NetworkIndex:
 
     def _build_pools(self) -> None:
         """For each 3-part shape: the sorted array of allowed inner pairs and the allowed singles."""
-        self._pools: list[tuple[np.ndarray, np.ndarray, np.ndarray]] = []  # (pool_pos, pool_val, a_lines)
         self._outer_add = np.array([adds(self.kind, outer) for _, outer, _, _ in _SHAPES3])
+        self._three: ThreePartSearch | None = None
         if self.max_parts < 3:
             return
-        for _name, outer, inner, _sym in _SHAPES3:
+        shapes = []
+        for _name, outer, inner, sym in _SHAPES3:
             code = _SERIES if inner == "series" else _PARALLEL
             mask = self._shape == code
             a_lines = np.arange(self._L, dtype=np.int64)
             if self._block_polarized(outer):
                 mask &= ~self._mat_polarized(np.arange(self._M))
                 a_lines = a_lines[~self._pol]
-            pool_pos = np.flatnonzero(mask).astype(np.int64)
-            self._pools.append((pool_pos, self._val[pool_pos], a_lines))
+            shapes.append((adds(self.kind, outer), sym, code, np.flatnonzero(mask).astype(np.int64), a_lines))
+        self._three = ThreePartSearch(self, shapes)
 
     # ------------------------------------------------------------ id plumbing
     def _is_triple(self, ids: np.ndarray) -> np.ndarray:
         return ids >= self._M
 
-    def _encode(self, s: int, a: np.ndarray, pos: np.ndarray) -> np.ndarray:
+    def _encode(self, s, a: np.ndarray, pos: np.ndarray) -> np.ndarray:
         return self._M + (s * self._L + a) * self._M + pos
 
     def _decode(self, ids: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
@@ -352,29 +288,13 @@ class NetworkIndex:
         q = t // self._M
         return q // self._L, q % self._L, pos
 
-    def _pair_lookup(self, code: int, i: np.ndarray, j: np.ndarray) -> np.ndarray:
+    def _pair_lookup(self, code, i: np.ndarray, j: np.ndarray) -> np.ndarray:
         keys = (code * self._L + i) * self._L + j
         at = np.searchsorted(self._pair_keys, keys)
         at = np.minimum(at, len(self._pair_keys) - 1)
         if not np.all(self._pair_keys[at] == keys):  # pragma: no cover - would be a bug
             raise AssertionError("pair missing from the materialised array")
         return self._pair_pos[at]
-
-    def _triple_ok(self, a: np.ndarray, pos: np.ndarray, cap: np.ndarray | None = None) -> np.ndarray:
-        """Quantity rule for single ``a`` added to pair ``pos`` (the pair alone is already allowed)."""
-        cap = self._cap() if cap is None else cap
-        count = 1 + (self._li[pos] == a) + (self._lj[pos] == a)
-        return count <= cap[a]
-
-    def _canonical(self, s: int, a: np.ndarray, pos: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-        """Canonical ids and values of 3-part networks given as (shape s, single a, pair pos)."""
-        name, _outer, inner, sym = _SHAPES3[s]
-        if sym and len(a):
-            x = np.sort(np.stack([a, self._li[pos], self._lj[pos]], axis=1), axis=1)
-            a = x[:, 0]
-            pos = self._pair_lookup(_SERIES if inner == "series" else _PARALLEL, x[:, 1], x[:, 2])
-        vals = _join(bool(self._outer_add[s]), self._v[a], self._val[pos])
-        return self._encode(s, a, pos), vals
 
     def _check_ids(self, ids) -> np.ndarray:
         ids = np.asarray(ids, dtype=np.int64)
@@ -514,22 +434,7 @@ class NetworkIndex:
         if self.max_parts >= 2:
             out[2] = int(np.sum(self._np == 2))
         if self.max_parts >= 3:
-            cap, L, n3 = self._cap(), self._L, 0
-            for s, (pool_pos, _pv, a_lines) in enumerate(self._pools):
-                sym = _SHAPES3[s][3]
-                pi, pj = self._li[pool_pos], self._lj[pool_pos]
-                diff = pi != pj
-                other = np.bincount(pi[diff], minlength=L) + np.bincount(pj[diff], minlength=L)
-                own = np.bincount(pi[~diff], minlength=L)
-                if sym:  # canonical: a is the lowest line of the three
-                    ge = len(pi) - np.searchsorted(np.sort(pi), a_lines, side="left")
-                    first_other = np.bincount(pi[diff], minlength=L)
-                    bad = (cap[a_lines] < 2) * first_other[a_lines] + (cap[a_lines] < 3) * own[a_lines]
-                    n3 += int(np.sum(ge - bad))
-                else:
-                    bad = (cap[a_lines] < 2) * other[a_lines] + (cap[a_lines] < 3) * own[a_lines]
-                    n3 += int(len(a_lines) * len(pi) - np.sum(bad))
-            out[3] = n3
+            out[3] = self._three.count()
         return out
 
     # ------------------------------------------------------------ look-ups
@@ -542,118 +447,10 @@ class NetworkIndex:
 
     def _chunks(self, n: int):
         """Target chunks small enough that the 3-part windows stay a few MB."""
-        per = max(1, sum(len(a) for _p, _v, a in self._pools))
-        step = max(1, 200_000 // per) if self._pools else max(1, n)
+        per = self._three.nrows if self._three is not None else 0
+        step = max(1, 200_000 // per) if per else max(1, n)
         for start in range(0, n, step):
             yield slice(start, min(n, start + step))
-
-    def _windows(self, s: int, zl: np.ndarray, zh: np.ndarray, a: np.ndarray, k: int,
-                 below: bool) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-        """For rows (single a, pool slice zone [zl, zh)): every allowed pair in the zone plus the k
-        nearest allowed pairs beyond it on one side (below: indices < zl; above: >= zh).
-        Returns (row, a, pair position) of those entries."""
-        pool_pos = self._pools[s][0]
-        n_pool = len(pool_pos)
-        out_r, out_a, out_p = [], [], []
-        pending = np.arange(len(zl))
-        w = k + 2
-        while pending.size:
-            pl, ph, pa = zl[pending], zh[pending], a[pending]
-            zmax = int(np.max(ph - pl)) if len(pl) else 0
-            if below:
-                idx = ph[:, None] - 1 - np.arange(zmax + w)[None, :]  # from the zone end downwards
-            else:
-                idx = pl[:, None] + np.arange(zmax + w)[None, :]
-            inside = (idx >= 0) & (idx < n_pool)
-            if below:
-                inside &= idx < ph[:, None]
-            else:
-                inside &= idx >= pl[:, None]
-            pos = pool_pos[np.clip(idx, 0, n_pool - 1)]
-            ok = inside & self._triple_ok(pa[:, None], pos)
-            if below:
-                beyond = np.sum(ok & (idx < pl[:, None]), axis=1)
-                more = (beyond < k) & (ph - zmax - w > 0)
-            else:
-                beyond = np.sum(ok & (idx >= ph[:, None]), axis=1)
-                more = (beyond < k) & (pl + zmax + w < n_pool)
-            r, c = np.nonzero(ok & ~more[:, None])
-            out_r.append(pending[r])
-            out_a.append(pa[r])
-            out_p.append(pos[r, c])
-            pending = pending[more]
-            w *= 4
-        return np.concatenate(out_r), np.concatenate(out_a), np.concatenate(out_p)
-
-    def _triple_sides(self, T: np.ndarray, k: int, bounds: tuple[np.ndarray, np.ndarray]):
-        """Candidates among the 3-part networks for the k nearest below and above each target
-        (T ascending: then every single part's pair look-ups come in ascending order, which
-        numpy's searchsorted runs much faster).
-
-        Exactness argument.  For one single part a (a "row"), values rise with the pair's
-        position in the sorted pool, so the entries on the wanted side form a prefix/suffix and
-        the row's best ones are next to the split point.  Phase 1 looks only at the pool entry
-        next to the split: its distance is a lower bound LB for every entry of the row on that
-        side, and when that entry is allowed it is also a real network, an upper bound.  A
-        network can repeat in at most 3 rows (the symmetric shapes), so the (3k)-th smallest
-        row upper bound, and the caller's bound from the 1-2 part networks, are upper bounds U
-        on the k-th best distance.  Rows with LB > U cannot hold any of the k best; phase 2
-        takes the k nearest allowed entries (plus the rounding-slack zone) of the other rows.
-        Returns [(target row, canonical id, value) below, (...) above]."""
-        m = len(T)
-        blocks = []
-        lbs: tuple[list, list] = ([], [])
-        ubs: tuple[list, list] = ([], [])
-        for s, (pool_pos, pool_val, a_lines) in enumerate(self._pools):
-            n_pool, na = len(pool_pos), len(a_lines)
-            if n_pool == 0 or na == 0:
-                continue
-            add = bool(self._outer_add[s])
-            av = self._v[a_lines][:, None]  # rows: a-major, targets ascending within each a
-            zl = np.searchsorted(pool_val, _preimage(add, av, (T * (1.0 - _EPS))[None, :]).ravel(), side="left")
-            zh = np.searchsorted(pool_val, _preimage(add, av, (T * (1.0 + _EPS))[None, :]).ravel(), side="right")
-            a = np.repeat(a_lines, m)
-            tt = np.tile(T, na)
-            for side, probe in ((0, zh - 1), (1, zl)):
-                have = (probe >= 0) & (probe < n_pool)
-                pc = np.clip(probe, 0, n_pool - 1)
-                with np.errstate(divide="ignore", invalid="ignore"):
-                    value = _join(add, self._v[a], pool_val[pc])
-                    dist = np.log(tt / value) if side == 0 else np.log(value / tt)
-                lbs[side].append(np.where(have, np.maximum(dist, 0.0), np.inf).reshape(na, m))
-                ok = have & (dist >= 0) & self._triple_ok(a, pool_pos[pc])
-                ubs[side].append(np.where(ok, dist, np.inf).reshape(na, m))
-            blocks.append((s, zl, zh, a))
-        z = np.zeros(0, dtype=np.int64)
-        result = []
-        for side in (0, 1):
-            if not blocks:
-                result.append((z, z, np.zeros(0)))
-                continue
-            ub_all = np.concatenate(ubs[side], axis=0)
-            u = bounds[side].copy()
-            if ub_all.shape[0] >= 3 * k:
-                u = np.minimum(u, np.partition(ub_all, 3 * k - 1, axis=0)[3 * k - 1])
-            u = u * (1.0 + 1e-9) + 1e-12  # generous slack: more candidates never hurt exactness
-            out_r, out_i, out_v = [], [], []
-            for (s, zl, zh, a), lb in zip(blocks, lbs[side]):
-                keep = np.flatnonzero((lb <= u[None, :]).ravel())
-                if keep.size == 0:
-                    continue
-                r, aa, pos = self._windows(s, zl[keep], zh[keep], a[keep], k, side == 0)
-                ids, vals = self._canonical(s, aa, pos)
-                rows = keep[r] % m
-                with np.errstate(divide="ignore"):
-                    d = np.log(T[rows] / vals) if side == 0 else np.log(vals / T[rows])
-                sel = (d >= 0) & (d <= u[rows])
-                out_r.append(rows[sel])
-                out_i.append(ids[sel])
-                out_v.append(vals[sel])
-            if out_r:
-                result.append((np.concatenate(out_r), np.concatenate(out_i), np.concatenate(out_v)))
-            else:
-                result.append((z, z, np.zeros(0)))
-        return result
 
     def nearest_sides(self, targets, k: int = 1) -> tuple[np.ndarray, np.ndarray]:
         """(below, above): for each target the k nearest networks with value <= target (nearest
@@ -671,22 +468,22 @@ class NetworkIndex:
             t = T[sl]
             n = len(t)
             ib = np.searchsorted(self._val_desc, t, side="right")
-            rb, eb = _ranges_concat(np.maximum(ib - k, 0), ib)
+            rb, eb = ranges_concat(np.maximum(ib - k, 0), ib)
             eb = self._order_desc[eb]
             ia = np.searchsorted(self._val, t, side="left")
-            ra, ea = _ranges_concat(ia, np.minimum(ia + k, self._M))
+            ra, ea = ranges_concat(ia, np.minimum(ia + k, self._M))
             vb, va = self._val[eb], self._val[ea]
-            if self._pools:
+            if self._three is not None:
                 # the k-th best 1-2 part distance bounds the 3-part search (inf if fewer than k)
                 kb = np.where(ib >= k, self._val_desc[np.maximum(ib - k, 0)], 0.0)
                 ka = np.where(ia + k <= self._M, self._val[np.minimum(ia + k - 1, self._M - 1)], np.inf)
                 with np.errstate(divide="ignore"):
                     bounds = (np.log(t / kb), np.log(ka / t))
-                (br, bi, bv), (ar, ai, av) = self._triple_sides(t, k, bounds)
+                (br, bi, bv), (ar, ai, av) = self._three.sides(t, k, bounds)
                 rb, eb, vb = np.concatenate([rb, br]), np.concatenate([eb, bi]), np.concatenate([vb, bv])
                 ra, ea, va = np.concatenate([ra, ar]), np.concatenate([ea, ai]), np.concatenate([va, av])
-            below[order[sl]] = _rank_rows(rb, eb, (-vb, self.nparts(eb)), n, k)
-            above[order[sl]] = _rank_rows(ra, ea, (va, self.nparts(ea)), n, k)
+            below[order[sl]] = rank_rows(rb, eb, (-vb, self.nparts(eb)), n, k)
+            above[order[sl]] = rank_rows(ra, ea, (va, self.nparts(ea)), n, k)
         return below, above
 
     def nearest_few(self, targets, k: int) -> np.ndarray:
@@ -702,7 +499,7 @@ class NetworkIndex:
         rows, ids = rows[m], ids[m]
         with np.errstate(divide="ignore"):
             err = np.abs(np.log(self.values(ids) / T[rows]))
-        return _rank_rows(rows, ids, (err, self.nparts(ids)), len(T), int(k))
+        return rank_rows(rows, ids, (err, self.nparts(ids)), len(T), int(k))
 
     def between(self, lo, hi) -> tuple[np.ndarray, np.ndarray]:
         """Every network with lo[i] <= value <= hi[i], CSR style: (offsets (n+1,), ids), each
@@ -716,35 +513,16 @@ class NetworkIndex:
         if self._M:
             s0 = np.searchsorted(self._val, lo, side="left")
             e0 = np.searchsorted(self._val, hi, side="right")
-            r, e = _ranges_concat(s0, np.maximum(e0, s0))
+            r, e = ranges_concat(s0, np.maximum(e0, s0))
             rows_all.append(r)
             ids_all.append(e)
             vals_all.append(self._val[e])
-        cap = self._cap()
-        for sl in self._chunks(n):
-            l, h = lo[sl], hi[sl]
-            for s, (pool_pos, pool_val, a_lines) in enumerate(self._pools):
-                na = len(a_lines)
-                if len(pool_pos) == 0 or na == 0:
-                    continue
-                add, sym = bool(self._outer_add[s]), _SHAPES3[s][3]
-                av = self._v[a_lines][None, :]
-                plo = _preimage(add, av, (l * (1.0 - _EPS))[:, None]).ravel()
-                phi = _preimage(add, av, (h * (1.0 + _EPS))[:, None]).ravel()
-                zl = np.searchsorted(pool_val, plo, side="left")
-                zh = np.searchsorted(pool_val, phi, side="right")
-                r, e = _ranges_concat(zl, np.maximum(zh, zl))
-                a = a_lines[r % na]
-                pos = pool_pos[e]
-                ok = self._triple_ok(a, pos, cap)
-                if sym:
-                    ok &= a <= self._li[pos]  # canonical copy only: a is the lowest line
-                a, pos, t = a[ok], pos[ok], r[ok] // na
-                vals = _join(add, self._v[a], self._val[pos])
-                inr = (vals >= l[t]) & (vals <= h[t])
-                rows_all.append(t[inr] + sl.start)
-                ids_all.append(self._encode(s, a[inr], pos[inr]))
-                vals_all.append(vals[inr])
+        if self._three is not None:
+            for sl in self._chunks(n):
+                t, ids, vals = self._three.between(lo[sl], hi[sl])
+                rows_all.append(t + sl.start)
+                ids_all.append(ids)
+                vals_all.append(vals)
         if not rows_all:
             return np.zeros(n + 1, dtype=np.int64), np.zeros(0, dtype=np.int64)
         rows, ids, vals = (np.concatenate(x) for x in (rows_all, ids_all, vals_all))

@@ -1,0 +1,315 @@
+"""Meet-in-the-middle look-ups over 3-part networks, and the small vectorised helpers the network
+index shares with it.  Pure numpy; used only through ``selector.core.networks.NetworkIndex``.
+
+A 3-part network is one single part ``a`` joined (outer joint) to a pair ``p`` taken from the
+sorted array of 2-part networks (inner joint).  Four shapes, codes 0-3 in an id:
+    0 series3           a + (b + c)      symmetric: canonical copy has a = the lowest line
+    1 parallel3         a ∥ (b ∥ c)      symmetric
+    2 series+parallel   a + (b ∥ c)
+    3 parallel+series   a ∥ (b + c)
+For each shape there is a "pool" (the sorted positions of the allowed inner pairs) and a list of
+allowed singles; all pools are concatenated into one array and every (shape, single) is a "row".
+For a fixed row the network value is strictly increasing in the pair value (x + p and
+1/(1/x + 1/p) are increasing in p, also after rounding), which is what makes a per-row
+``searchsorted`` on the pool exact.
+"""
+
+from __future__ import annotations
+
+from typing import Sequence, Union
+
+import numpy as np
+
+EPS = 1e-9  # relative value slack around a target when splitting a pool (see ThreePartSearch)
+_CELLS = 2_000_000  # elements per vectorised window block (keeps memory to tens of MB)
+
+
+def join(add: Union[bool, np.ndarray], x: np.ndarray, y: np.ndarray) -> np.ndarray:
+    """Combine two values (arrays) by a joint: the sum, or the reciprocal of the sum of the
+    reciprocals.  ``add`` is a bool or a bool array (broadcast)."""
+    with np.errstate(divide="ignore", invalid="ignore"):
+        if add is True or add is False:
+            return x + y if add else 1.0 / (1.0 / x + 1.0 / y)
+        return np.where(add, x + y, 1.0 / (1.0 / x + 1.0 / y))
+
+
+def preimage(add: bool, a: np.ndarray, v: np.ndarray) -> np.ndarray:
+    """The pair value p with join(a, p) == v (elementwise; +inf when no finite p reaches v)."""
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+        if add:
+            return v - a
+        p = 1.0 / (1.0 / v - 1.0 / a)
+        return np.where(v >= a, np.inf, p)
+
+
+def ranges_concat(start: np.ndarray, stop: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Concatenate integer ranges [start[i], stop[i]) without a Python loop.
+    Returns (row of each element, element)."""
+    length = np.maximum(stop - start, 0)
+    total = int(length.sum())
+    rows = np.repeat(np.arange(len(start)), length)
+    if total == 0:
+        return rows, np.zeros(0, dtype=np.int64)
+    first = np.cumsum(length) - length
+    elem = np.arange(total, dtype=np.int64) - np.repeat(first, length) + np.repeat(start, length)
+    return rows, elem
+
+
+def rank_rows(rows: np.ndarray, ids: np.ndarray, keys: Sequence[np.ndarray], nrows: int,
+              k: int) -> np.ndarray:
+    """Per row, the first k distinct ids ordered by ``keys`` (primary first) then id; -1 pad."""
+    out = np.full((nrows, k), -1, dtype=np.int64)
+    if len(ids) == 0 or k == 0:
+        return out
+    order = np.lexsort((ids,) + tuple(reversed(keys)) + (rows,))
+    r, i = rows[order], ids[order]
+    keep = np.ones(len(i), dtype=bool)
+    keep[1:] = (r[1:] != r[:-1]) | (i[1:] != i[:-1])  # duplicates are adjacent after the sort
+    r, i = r[keep], i[keep]
+    first = np.searchsorted(r, np.arange(nrows), side="left")
+    rank = np.arange(len(r)) - first[r]
+    sel = rank < k
+    out[r[sel], rank[sel]] = i[sel]
+    return out
+
+
+def argsort_stable(x: np.ndarray) -> np.ndarray:
+    """Same result as a stable argsort, faster on large float arrays: a quicksort, then only the
+    runs of equal values put back in position order."""
+    order = np.argsort(x)
+    sx = x[order]
+    tie = np.zeros(len(x), dtype=bool)
+    if len(x) > 1:
+        eq = sx[1:] == sx[:-1]
+        tie[1:] |= eq
+        tie[:-1] |= eq
+    if tie.any():
+        at = np.flatnonzero(tie)
+        sub = at[np.lexsort((order[at], sx[at]))]
+        order[at] = order[sub]
+    return order
+
+
+class ThreePartSearch:
+    """The 3-part side of a NetworkIndex.  ``ix`` is the index it serves (its materialised
+    arrays ``_val, _li, _lj``, line values ``_v``, caps, ids); ``shapes`` lists per 3-part shape
+    (outer adds?, symmetric?, inner shape code, allowed pool positions, allowed single lines)."""
+
+    def __init__(self, ix, shapes: Sequence[tuple[bool, bool, int, np.ndarray, np.ndarray]]):
+        self.ix = ix
+        self.per_shape = []  # (s, pool_pos, pool_val, a_lines, seg_lo, row_lo, row_hi)
+        pools, rows_s, rows_a, seg_lo, seg_hi = [], [], [], [], []
+        start = 0
+        r0 = 0
+        self.outer_add = np.array([sh[0] for sh in shapes], dtype=bool)
+        self.symmetric = np.array([sh[1] for sh in shapes], dtype=bool)
+        self.inner_code = np.array([sh[2] for sh in shapes], dtype=np.int64)
+        for s, (_add, _sym, _code, pool_pos, a_lines) in enumerate(shapes):
+            n = len(pool_pos)
+            self.per_shape.append((s, pool_pos, ix._val[pool_pos], a_lines, start, r0, r0 + len(a_lines)))
+            pools.append(pool_pos)
+            rows_s.append(np.full(len(a_lines), s, dtype=np.int64))
+            rows_a.append(a_lines)
+            seg_lo.append(np.full(len(a_lines), start, dtype=np.int64))
+            seg_hi.append(np.full(len(a_lines), start + n, dtype=np.int64))
+            start += n
+            r0 += len(a_lines)
+        self.pool_pos = np.concatenate(pools) if pools else np.zeros(0, np.int64)
+        self.pool_val = ix._val[self.pool_pos]
+        self.pool_li = ix._li[self.pool_pos]  # pair lines in pool order: one gather, not two
+        self.pool_lj = ix._lj[self.pool_pos]
+        self.row_s = np.concatenate(rows_s) if rows_s else np.zeros(0, np.int64)
+        self.row_a = np.concatenate(rows_a) if rows_a else np.zeros(0, np.int64)
+        self.row_lo = np.concatenate(seg_lo) if seg_lo else np.zeros(0, np.int64)
+        self.row_hi = np.concatenate(seg_hi) if seg_hi else np.zeros(0, np.int64)
+        self.row_add = self.outer_add[self.row_s] if len(self.row_s) else np.zeros(0, bool)
+        self.row_av = ix._v[self.row_a]
+        self.nrows = len(self.row_s)
+
+    # ------------------------------------------------------------------ plumbing
+    def ok(self, a: np.ndarray, pos: np.ndarray, cap: np.ndarray) -> np.ndarray:
+        """Quantity rule for single ``a`` added to pair ``pos`` (the pair alone is allowed)."""
+        ix = self.ix
+        return 1 + (ix._li[pos] == a) + (ix._lj[pos] == a) <= cap[a]
+
+    def ok_at(self, a: np.ndarray, at: np.ndarray, cap: np.ndarray) -> np.ndarray:
+        """The same rule for the pair at pool index ``at``."""
+        return 1 + (self.pool_li[at] == a) + (self.pool_lj[at] == a) <= cap[a]
+
+    def canonical(self, s: np.ndarray, a: np.ndarray, pos: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        """Canonical ids and values of networks given as (shape s, single a, pair pos)."""
+        ix = self.ix
+        sym = self.symmetric[s]
+        if sym.any():
+            x = np.sort(np.stack([a[sym], ix._li[pos[sym]], ix._lj[pos[sym]]], axis=1), axis=1)
+            a = a.copy()
+            pos = pos.copy()
+            a[sym] = x[:, 0]
+            pos[sym] = ix._pair_lookup(self.inner_code[s[sym]], x[:, 1], x[:, 2])
+        vals = join(self.outer_add[s], ix._v[a], ix._val[pos])
+        return ix._encode(s, a, pos), vals
+
+    def zones(self, lo: np.ndarray, hi: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        """(zl, zh), shape (nrows, len(lo)): per row the pool slice [zl, zh) of the pairs whose
+        network value may lie in [lo(1-EPS), hi(1+EPS)] (global indices into the pool)."""
+        m = len(lo)
+        zl = np.empty((self.nrows, m), dtype=np.int64)
+        zh = np.empty((self.nrows, m), dtype=np.int64)
+        for s, _pp, pv, a_lines, seg, r0, r1 in self.per_shape:
+            if r0 == r1:
+                continue
+            add = bool(self.outer_add[s])
+            av = self.ix._v[a_lines][:, None]  # a-major rows, targets in given order within each a
+            left = np.searchsorted(pv, preimage(add, av, (lo * (1.0 - EPS))[None, :]))
+            p_hi = preimage(add, av, (hi * (1.0 + EPS))[None, :])
+            if lo is hi:  # a point query: the zone holds only pairs within the slack, step over them
+                right = left.copy()
+                n = len(pv)
+                for _ in range(8):
+                    step = right < n
+                    step[step] = pv[right[step]] <= p_hi[step]
+                    if not step.any():
+                        break
+                    right += step
+                else:
+                    right = np.searchsorted(pv, p_hi, side="right")
+            else:
+                right = np.searchsorted(pv, p_hi, side="right")
+            zl[r0:r1] = left + seg
+            zh[r0:r1] = right + seg
+        return zl, zh
+
+    def windows(self, rows: np.ndarray, zl: np.ndarray, zh: np.ndarray, k: int, below: bool,
+                cap: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        """For each (row, zone [zl, zh)): every allowed pair in the zone plus the k nearest allowed
+        pairs beyond it on one side (below: indices < zl; above: >= zh), widening until found or
+        the row's pool ends.  Returns (index into the inputs, pair position)."""
+        out_i, out_p = [], []
+        lo_b, hi_b, a = self.row_lo[rows], self.row_hi[rows], self.row_a[rows]
+        pending = np.arange(len(rows))
+        w = k + 2
+        while pending.size:
+            zmax = int(np.max(zh[pending] - zl[pending]))
+            width = zmax + w
+            step = max(1, _CELLS // width)
+            more_all = []
+            for c0 in range(0, len(pending), step):
+                pend = pending[c0:c0 + step]
+                pl, ph, pa, sl, sh = zl[pend], zh[pend], a[pend], lo_b[pend], hi_b[pend]
+                if below:
+                    idx = ph[:, None] - 1 - np.arange(width)[None, :]  # from the zone end downwards
+                    inside = idx >= sl[:, None]
+                else:
+                    idx = pl[:, None] + np.arange(width)[None, :]
+                    inside = idx < sh[:, None]
+                at = np.clip(idx, 0, max(len(self.pool_pos) - 1, 0))
+                good = inside & self.ok_at(pa[:, None], at, cap)
+                pos = self.pool_pos[at]
+                if below:
+                    beyond = np.sum(good & (idx < pl[:, None]), axis=1)
+                    more = (beyond < k) & (ph - width > sl)
+                else:
+                    beyond = np.sum(good & (idx >= ph[:, None]), axis=1)
+                    more = (beyond < k) & (pl + width < sh)
+                r, c = np.nonzero(good & ~more[:, None])
+                out_i.append(pend[r])
+                out_p.append(pos[r, c])
+                more_all.append(pend[more])
+            pending = np.concatenate(more_all)
+            w *= 4
+        return np.concatenate(out_i), np.concatenate(out_p)
+
+    # ------------------------------------------------------------------ look-ups
+    def sides(self, T: np.ndarray, k: int, bounds: tuple[np.ndarray, np.ndarray]):
+        """Candidates among the 3-part networks for the k nearest below and above each target
+        (T ascending, so each row's look-ups come in ascending order).  ``bounds`` are upper
+        bounds on the k-th best distance per side known from the 1-2 part networks.
+
+        Exactness argument.  Along a row the entries on the wanted side of a target are a prefix
+        (below) or suffix (above) of the row's pool, and the row's best ones lie next to the
+        split.  Phase 1 looks only at the pool entry next to the split: its distance is a lower
+        bound LB for every entry of the row on that side, and when that entry is allowed it is a
+        real network, so its distance is an upper bound for the row.  A network occurs in at
+        most 3 rows (the symmetric shapes), so the (3k)-th smallest row upper bound - and the
+        bound from the 1-2 part networks - bound the k-th best distance: U.  A row with LB > U
+        holds none of the k best; phase 2 takes the k nearest allowed entries beyond the
+        rounding-slack zone, and the whole zone, of every other row.  The rounding slack EPS
+        keeps every entry whose side is in doubt inside the zone; the side of each candidate is
+        finally decided on its canonical value.
+        Returns [(target index, canonical id, value) below, (...) above]."""
+        ix = self.ix
+        m = len(T)
+        z = np.zeros(0, dtype=np.int64)
+        empty = (z, z, np.zeros(0))
+        if self.nrows == 0 or len(self.pool_pos) == 0:
+            return [empty, empty]
+        cap = ix._cap()
+        zl, zh = self.zones(T, T)
+        last = len(self.pool_pos) - 1
+        result = []
+        for below in (True, False):
+            probe = zh - 1 if below else zl
+            have = probe >= self.row_lo[:, None] if below else probe < self.row_hi[:, None]
+            pc = np.clip(probe, 0, last)
+            value = np.empty(pc.shape)
+            for s, _pp, _pv, a_lines, _seg, r0, r1 in self.per_shape:  # one joint per shape
+                value[r0:r1] = join(bool(self.outer_add[s]), ix._v[a_lines][:, None], self.pool_val[pc[r0:r1]])
+            # distances as ratios >= 1 (same order as |log|, no logarithms on the big arrays)
+            with np.errstate(divide="ignore", invalid="ignore"):
+                ratio = T[None, :] / value if below else value / T[None, :]
+            lb = np.where(have, np.maximum(ratio, 1.0), np.inf)
+            good = have & (ratio >= 1.0) & self.ok_at(self.row_a[:, None], pc, cap)
+            ub = np.where(good, ratio, np.inf)
+            u = np.exp(bounds[0 if below else 1])
+            if self.nrows >= 3 * k:
+                u = np.minimum(u, np.partition(ub, 3 * k - 1, axis=0)[3 * k - 1])
+            u = u * (1.0 + 1e-9)  # generous: more candidates never hurt exactness
+            keep = np.flatnonzero((lb <= u[None, :]).ravel())
+            if keep.size == 0:
+                result.append(empty)
+                continue
+            rows, cols = keep // m, keep % m
+            at, pos = self.windows(rows, zl.ravel()[keep], zh.ravel()[keep], k, below, cap)
+            ids, vals = self.canonical(self.row_s[rows[at]], self.row_a[rows[at]], pos)
+            t = cols[at]
+            with np.errstate(divide="ignore", invalid="ignore"):
+                d = T[t] / vals if below else vals / T[t]
+            sel = (d >= 1.0) & (d <= u[t])
+            result.append((t[sel], ids[sel], vals[sel]))
+        return result
+
+    def between(self, lo: np.ndarray, hi: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+        """Every 3-part network with lo[i] <= value <= hi[i]: (i, canonical id, value)."""
+        ix = self.ix
+        m = len(lo)
+        z = np.zeros(0, dtype=np.int64)
+        if self.nrows == 0 or len(self.pool_pos) == 0 or m == 0:
+            return z, z, np.zeros(0)
+        cap = ix._cap()
+        zl, zh = self.zones(lo, hi)
+        r, e = ranges_concat(zl.ravel(), np.maximum(zh, zl).ravel())
+        row, t = r // m, r % m
+        s, a, pos = self.row_s[row], self.row_a[row], self.pool_pos[e]
+        good = self.ok(a, pos, cap) & (~self.symmetric[s] | (a <= ix._li[pos]))  # canonical copy only
+        s, a, pos, t = s[good], a[good], pos[good], t[good]
+        vals = join(self.outer_add[s], ix._v[a], ix._val[pos])
+        inr = (vals >= lo[t]) & (vals <= hi[t])
+        return t[inr], ix._encode(s[inr], a[inr], pos[inr]), vals[inr]
+
+    def count(self) -> int:
+        """Exact number of distinct 3-part networks, counted without building them."""
+        ix = self.ix
+        cap, L, n3 = ix._cap(), ix._L, 0
+        for s, pool_pos, _pv, a_lines, _seg, _r0, _r1 in self.per_shape:
+            pi, pj = ix._li[pool_pos], ix._lj[pool_pos]
+            diff = pi != pj
+            first_other = np.bincount(pi[diff], minlength=L)
+            other = first_other + np.bincount(pj[diff], minlength=L)
+            own = np.bincount(pi[~diff], minlength=L)
+            short2, short3 = cap[a_lines] < 2, cap[a_lines] < 3
+            if self.symmetric[s]:  # canonical copy: a is the lowest line of the three
+                ge = len(pi) - np.searchsorted(np.sort(pi), a_lines, side="left")
+                n3 += int(np.sum(ge - short2 * first_other[a_lines] - short3 * own[a_lines]))
+            else:
+                n3 += int(len(a_lines) * len(pi) - np.sum(short2 * other[a_lines] + short3 * own[a_lines]))
+        return n3
