@@ -20,6 +20,17 @@ Public API (the timing search and ``find value`` build on it)::
         fits_together(ids_a, ids_b, boards=None) -> bool (n,)
         network(id) -> Network;  networks(ids) -> list[Network]
         size_by_parts() -> {1: n1, 2: n2, 3: n3}   (exact counts, 3-part ones never materialised)
+        len(index) = total count; line_ids, quantity: arrays by line position
+
+    Network (frozen): kind, value, vmin, vmax, shape, parts ((StockLine, count), ...), physical
+        (one StockLine per part, in combine() order), structure (nested (joint, children) with
+        leaves = indices into physical); combine(part_values (nphys, n)) -> (n,); usage
+        {line_id: count}; nparts; in_series() per part; polarized_in_series; dielectrics.
+
+Cost notes: with max_parts=3 a look-up costs about (number of lines x 4 shapes) small steps per
+target (a few hundred µs per target in batches on an E96 decade set); keep k small there (tens,
+not thousands) and use ``between`` for wide certified slices.  With max_parts <= 2 every look-up
+is a plain ``searchsorted`` on the sorted array.
 
 Ids are opaque int64.  1- and 2-part networks are materialised in one array sorted by value (an id
 is a position there); a 3-part network is one part ``a`` joined to a pair ``p`` from that array,
@@ -35,7 +46,8 @@ Shapes (our own names; ``+`` = in series, ``∥`` = in parallel):
     "parallel+series"  (B + C) ∥ A      one part in parallel with a series pair
 Resistors in series add, capacitors in parallel add; the other joint adds reciprocals.
 
-How the 3-part look-up stays exact without materialising ~10^8 networks (meet in the middle): for a
+How the 3-part look-up stays exact without materialising ~10^8 networks (meet in the middle; the
+code is in ``selector.core.nearest``, with the full argument in ``ThreePartSearch.sides``): for a
 fixed single part ``a`` and outer joint, the network value is strictly increasing in the pair value
 (x + p and 1/(1/x + 1/p) are both increasing in p, also after floating-point rounding).  So for
 each ``a`` the pair value that would hit the target exactly is computed, found in the sorted pair
@@ -462,6 +474,13 @@ class NetworkIndex:
         above = np.full((len(T_in), k), -1, dtype=np.int64)
         if k <= 0 or self._M == 0:
             return below, above
+        if self._three is None:  # only materialised networks: both sides are plain slices
+            step = np.arange(k)
+            ib = np.searchsorted(self._val_desc, T_in, side="right")[:, None] - 1 - step
+            ia = np.searchsorted(self._val, T_in, side="left")[:, None] + step
+            below = np.where(ib >= 0, self._order_desc[np.maximum(ib, 0)], -1)
+            above = np.where(ia < self._M, np.minimum(ia, self._M - 1), -1)
+            return below.astype(np.int64), above.astype(np.int64)
         order = np.argsort(T_in, kind="stable")
         T = T_in[order]
         for sl in self._chunks(len(T)):
