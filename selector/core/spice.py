@@ -69,7 +69,7 @@ RC_FRACTION = 1.0 - math.exp(-1.0)          # 63.212 % of the step: reached afte
 MINUS_3DB = 20.0 * math.log10(1.0 / math.sqrt(2.0))  # −3.0103 dB: the corner of a first-order RC
 STEPS_PER_SEGMENT = 1000   # timestep limit: the shortest half-period / this (ecosystem §6: ≤ 0.1 %)
 STEPS_PER_PULSE = 5000     # monostable and RC runs are one segment, so they can afford a finer step
-MAX_STEPS = 400_000        # cap on points per run, so a very lopsided duty stays a few seconds
+MAX_STEPS = 200_000        # cap on points per run, so a very lopsided duty (1 %) stays near 4 s
 
 CONNECTIONS_555 = ("standard", "diode", "output-fed", "monostable")
 CONNECTIONS = CONNECTIONS_555 + ("rc",)
@@ -350,8 +350,7 @@ def build_netlist(c: Circuit, cycles: int = 5, waveform: bool = False) -> Netlis
          f"* {c.connection} connection, {chip.family} 555 model, VCC {vcc:g} V"
          if c.connection != "rc" else f"* RC low-pass, step of {vcc:g} V",
          "* Written by selector; run with: ngspice -b <this file>",
-         "* Caution: a real circuit's capacitors can stay charged after power is removed.",
-         ".options numdgt=10"]
+         "* Caution: a real circuit's capacitors can stay charged after power is removed."]
     meas: list[str] = []
     if c.connection == "rc":
         return _rc_netlist(c, L, cycles, waveform)
