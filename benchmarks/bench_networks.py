@@ -75,6 +75,38 @@ def exhaustive_best(values: np.ndarray, kind: str, max_parts: int, target: float
     return float(np.min(np.abs(np.log(every / target))))
 
 
+def exhaustive_large_ms(values: np.ndarray, target: float, max_parts: int, rep: int) -> tuple[float, str]:
+    """Per-query time of a plain numpy exhaustive enumeration on the large stock: measured for
+    N = 2; for N = 3 measured on the combinations whose first line is one of a block of lines
+    and scaled by the share of combinations that block holds (holding all ~1.5e8 values at
+    once would need gigabytes)."""
+    if max_parts == 2:
+        ms, _ = timed(lambda: exhaustive_best(values, "resistor", 2, target), rep)
+        return ms, "measured"
+    n = len(values)
+    total = n * (n + 1) * (n + 2) // 6
+
+    def block(first: range) -> tuple[float, int]:
+        t0 = time.perf_counter()
+        done = 0
+        best = np.inf
+        for i in first:
+            j, k = np.triu_indices(n - i)
+            j, k = j + i, k + i
+            x = np.full(len(j), values[i])
+            y, z = values[j], values[k]
+            vals = [x + y + z, 1 / (1 / x + 1 / y + 1 / z)]
+            for s_, p, q in ((x, y, z), (y, x, z), (z, x, y)):
+                vals += [s_ + p * q / (p + q), 1 / (1 / s_ + 1 / (p + q))]
+            best = min(best, float(np.min(np.abs(np.log(np.concatenate(vals) / target)))))
+            done += len(j)
+        return (time.perf_counter() - t0) * 1e3, done
+
+    ms, done = block(range(0, n, 24))  # every 24th first line: a fair mix of long and short blocks
+    two_ms, _ = timed(lambda: exhaustive_best(values, "resistor", 2, target), 1)
+    return ms * total / done + two_ms, f"extrapolated from {done:,} of {total:,} combinations"
+
+
 def section(title: str) -> None:
     print(f"\n== {title}")
 
@@ -85,7 +117,8 @@ def main() -> None:
     args = ap.parse_args()
     rep = 3 if args.quick else 7
     rng = np.random.default_rng(20261202)
-    print(f"python {sys.version.split()[0]}, numpy {np.__version__}, {os.cpu_count()} CPUs")
+    print(f"python {sys.version.split()[0]}, numpy {np.__version__}, {os.cpu_count()} CPUs, "
+          f"load average {os.getloadavg()[0]:.1f} (figures are wall-clock medians)")
 
     big = {"resistor": (stock("resistor", "E96", 10, 1e6), 10.0, 1e6),
            "capacitor": (stock("capacitor", "E12", 100e-12, 100e-6, tol=0.1), 100e-12, 100e-6)}
@@ -106,6 +139,13 @@ def main() -> None:
             mid = float(np.sqrt(lo * hi))
             w_ms, (off, ids) = timed(lambda: index.between([mid * 0.999], [mid * 1.001]), rep)
             mem = peak_mb(lambda: build_index(lines, max_parts=n).nearest_few(batch, 5))
+            if kind == "resistor":
+                values = np.array([ln.value for ln in lines])
+                ex_ms, how = exhaustive_large_ms(values, float(targets[0]), n, max(1, rep // 3))
+                ex_line = (f"     plain numpy exhaustive enumeration: {ex_ms:,.0f} ms per query ({how}); "
+                           f"index query is {ex_ms / q_ms:,.0f}x faster, build + query {ex_ms / (build_ms + q_ms):,.0f}x")
+            else:
+                ex_line = ""
             counts = ", ".join(f"{k}-part {v:,}" for k, v in sizes.items())
             print(f"N={n}: networks {sum(sizes.values()):,} ({counts})")
             print(f"     build {build_ms:.1f} ms; one query (k=10) {q_ms:.2f} ms median; "
@@ -114,6 +154,8 @@ def main() -> None:
                   f"nearest_sides k=2 {s_ms:.0f} ms")
             print(f"     between ±0.1 % around {mid:.3g}: {len(ids):,} networks in {w_ms:.2f} ms")
             print(f"     traced peak memory (build + 1000-target query) {mem:.0f} MB")
+            if ex_line:
+                print(ex_line)
 
     section("small stock: E24 1 kΩ-100 kΩ, 10 each — index vs plain numpy exhaustive enumeration")
     small = stock("resistor", "E24", 1e3, 100e3)

@@ -85,8 +85,10 @@ def argsort_stable(x: np.ndarray) -> np.ndarray:
         tie[:-1] |= eq
     if tie.any():
         at = np.flatnonzero(tie)
-        sub = at[np.lexsort((order[at], sx[at]))]
-        order[at] = order[sub]
+        # runs of equal values among the tied entries; inside each run put positions in order
+        run = np.cumsum(np.concatenate(([True], sx[at[1:]] != sx[at[:-1]]))) - 1
+        sub = np.argsort(run * len(x) + order[at])
+        order[at] = order[at][sub]
     return order
 
 
