@@ -12,7 +12,7 @@ from pathlib import Path
 import pytest
 import sqlalchemy as sa
 
-from bom_fixtures import BENCH_STOCK, add_search, add_stock, bench_db, ledger_sums, quantities, rc_series_pair
+from bom_fixtures import BENCH_STOCK, bench_db, ledger_sums, quantities, rc_series_pair
 from selector.store.models import MovementRow, PullRow
 
 PROCESSES = 8

@@ -6,7 +6,6 @@ from __future__ import annotations
 
 import csv
 import io
-import re
 from typing import TYPE_CHECKING, Any, Optional, Sequence
 
 if TYPE_CHECKING:  # only for annotations: selector.core.bom imports this module at its end
