@@ -400,3 +400,30 @@ def test_absurd_quantity_is_refused(memory_engine, tmp_path):
     p = _write(tmp_path, "kind,value,quantity\nR,1k,99999999999999999999999\n")
     assert _problems(memory_engine, p) == [
         'row 2, column quantity: "99999999999999999999999": expected at most 1000000000 parts on one line']
+
+
+# --------------------------------------------------------------------------- lossless export, as a property
+
+from hypothesis import given, settings, strategies as st  # noqa: E402
+
+from selector.store.csvio import RawRow  # noqa: E402
+
+_fractions = st.floats(min_value=0.0, max_value=0.95, allow_nan=False).map(svc.clean)
+
+
+@settings(max_examples=300, deadline=None)
+@given(kind=st.sampled_from(["resistor", "capacitor"]),
+       mantissa=st.floats(min_value=1.0, max_value=9.999999, allow_nan=False),
+       exponent=st.integers(min_value=-13, max_value=7),
+       minus=_fractions, plus=_fractions,
+       rating=st.none() | st.floats(min_value=0.01, max_value=1000.0).map(svc.clean),
+       dielectric=st.sampled_from(["", "C0G", "X7R", "film-PP", "electrolytic"]))
+def test_exported_cells_read_back_to_the_same_line(kind, mantissa, exponent, minus, plus, rating, dielectric):
+    value = svc.clean(mantissa * 10.0 ** exponent)
+    if kind == "resistor":
+        dielectric = ""
+    line = StockLine(1, kind, value, minus, plus, 3, "A1", "0805", rating, dielectric, False, "n")
+    cells = svc.export_cells(line)
+    (row,) = svc.validate_rows([RawRow(2, cells)])
+    assert (row.spec.kind, row.spec.value, row.spec.tol_minus, row.spec.tol_plus, row.spec.rating,
+            row.spec.dielectric, row.quantity) == (kind, value, minus, plus, rating, dielectric, 3)

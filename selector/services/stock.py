@@ -15,6 +15,7 @@ from __future__ import annotations
 
 import io
 import re
+from decimal import Decimal
 from dataclasses import dataclass
 from pathlib import Path
 from typing import Iterable, Optional, Sequence
@@ -461,10 +462,17 @@ def export_cells(line: StockLine) -> dict[str, str]:
          lambda: _minimal_exp(line.value)),
         lambda t: clean(n.parse_value(t, line.kind, unit)), line.value)
     tol = (line.tol_minus, line.tol_plus)
-    pct = lambda x: repr(clean(x * 100))  # noqa: E731
+
+    def pct(x: float) -> str:  # percent in plain decimal digits, never an exponent
+        return format(Decimal(repr(clean(x * 100))), "f")
+
+    def frac(x: float) -> str:
+        return format(Decimal(repr(x)), "f")
+
     tolerance = _first_exact(
         (lambda: n.format_tolerance(*tol), lambda: f"±{pct(tol[0])}%" if tol[0] == tol[1] else "",
-         lambda: f"-{pct(tol[0])}/+{pct(tol[1])}%"),
+         lambda: f"-{pct(tol[0])}/+{pct(tol[1])}%", lambda: frac(tol[0]) if tol[0] == tol[1] else "",
+         lambda: f"-{frac(tol[0])}/+{frac(tol[1])}"),
         lambda t: tuple(clean(x) for x in n.parse_tolerance(t, line.kind, line.value)), tol)
     rating = ""
     if line.rating is not None:
