@@ -4,6 +4,7 @@ ledgered quantity change (including concurrent writers)."""
 from __future__ import annotations
 
 import multiprocessing as mp
+import os
 import sqlite3
 import threading
 import time
@@ -274,3 +275,43 @@ def test_describe_hides_passwords():
 
 def test_migrations_dir_has_the_environment():
     assert (Path(db.migrations_dir()) / "env.py").is_file()
+
+
+# --------------------------------------------------------------------------- PostgreSQL (optional)
+
+PG_URL = os.environ.get("SELECTOR_TEST_PG_URL")
+
+
+@pytest.mark.skipif(not PG_URL, reason="set SELECTOR_TEST_PG_URL to an empty PostgreSQL database to run")
+def test_postgresql_schema_ledger_and_guard():
+    """The same engine code on PostgreSQL: schema at head through the migrations, models equal to
+    it, the guarded change refusing to go below zero. Leaves the database empty again."""
+    from alembic import command
+    from alembic.autogenerate import compare_metadata
+    from alembic.config import Config
+    from alembic.migration import MigrationContext
+
+    from selector.store.models import Base
+
+    engine = db.open_engine(PG_URL)
+    try:
+        with engine.connect() as conn:
+            assert conn.exec_driver_sql("SELECT version_num FROM alembic_version").scalar() == db.SCHEMA_HEAD
+            assert compare_metadata(MigrationContext.configure(conn, opts={"compare_type": True}), Base.metadata) == []
+        with db.transaction(engine) as s:
+            line = _add_line(s, quantity=3)
+        with pytest.raises(InsufficientStock):
+            with db.transaction(engine) as s:
+                db.apply_movement(s, line, -4, "adjust")
+        with db.transaction(engine) as s:
+            assert db.apply_movement(s, line, -3, "adjust") == 0
+    finally:
+        with engine.connect() as conn:
+            conn.begin()
+            cfg = Config()
+            cfg.set_main_option("script_location", str(db.migrations_dir()))
+            cfg.attributes["connection"] = conn
+            command.downgrade(cfg, "base")
+            conn.exec_driver_sql("DROP TABLE IF EXISTS alembic_version")
+            conn.commit()
+        engine.dispose()
