@@ -70,9 +70,9 @@ def run_migrations_online() -> None:
     # Developer use: an engine with foreign keys OFF (a batch rebuild with FKs on would cascade).
     from sqlalchemy.engine import make_url
 
-    from selector.store.db import _make_engine
+    from selector.store.db import make_engine
 
-    engine = _make_engine(make_url(_url()), foreign_keys=False, pooled=False)
+    engine = make_engine(make_url(_url()), foreign_keys=False, pooled=False)
     try:
         with engine.connect() as conn:
             _configure(conn)

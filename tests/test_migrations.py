@@ -32,7 +32,7 @@ def _migrate_raw(db_path: Path, revision: str, direction: str = "upgrade") -> No
     """Run alembic directly (not through open_engine) on an engine with foreign keys OFF."""
     from alembic import command
 
-    engine = db._make_engine(sa.engine.make_url(f"sqlite:///{db_path}"), foreign_keys=False, pooled=False)
+    engine = db.make_engine(sa.engine.make_url(f"sqlite:///{db_path}"), foreign_keys=False, pooled=False)
     try:
         with engine.connect() as conn:
             getattr(command, direction)(_alembic_config(conn), revision)

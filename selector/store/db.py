@@ -78,15 +78,23 @@ def describe(url: str) -> str:
     return u.render_as_string(hide_password=True)
 
 
+def _is_sqlite(u: sa.URL) -> bool:
+    return u.get_backend_name() == "sqlite"
+
+
 def _is_memory(u: sa.URL) -> bool:
     return not u.database or u.database == ":memory:" or u.query.get("mode") == "memory"
 
 
 # --------------------------------------------------------------------------- engines
 
-def _make_engine(url: sa.URL, *, foreign_keys: bool, pooled: bool = True,
+def make_engine(url: sa.URL | str, *, foreign_keys: bool = True, pooled: bool = True,
                  busy_timeout_ms: int = BUSY_TIMEOUT_MS) -> Engine:
-    if u_is_sqlite(url):
+    """A bare engine with the connection settings described at the top of this module, without
+    any schema check (open_engine is what the program uses; this is for migrations and tests)."""
+    if isinstance(url, str):
+        url = make_url(url)
+    if _is_sqlite(url):
         memory = _is_memory(url)
         kwargs: dict = {}
         if memory:
@@ -115,8 +123,7 @@ def _make_engine(url: sa.URL, *, foreign_keys: bool, pooled: bool = True,
     return sa.create_engine(url, pool_pre_ping=True, **({} if pooled else {"poolclass": NullPool}))
 
 
-def u_is_sqlite(u: sa.URL) -> bool:
-    return u.get_backend_name() == "sqlite"
+
 
 
 def _first_line(err: BaseException) -> str:
@@ -187,10 +194,10 @@ def open_engine(url: str, *, busy_timeout_ms: int = BUSY_TIMEOUT_MS) -> Engine:
     except sa_exc.ArgumentError:
         raise DatabaseProblem(f"{url!r} is neither a file path nor a database URL")
     name = describe(url)
-    if u_is_sqlite(u) and not _is_memory(u):
+    if _is_sqlite(u) and not _is_memory(u):
         _check_file_path(u, name)
     try:
-        engine = _make_engine(u, foreign_keys=True, busy_timeout_ms=busy_timeout_ms)
+        engine = make_engine(u, foreign_keys=True, busy_timeout_ms=busy_timeout_ms)
     except (sa_exc.ArgumentError, sa_exc.NoSuchModuleError, ImportError) as err:
         raise DatabaseProblem(f"cannot use the database URL {name} ({_first_line(err)})")
     try:
@@ -235,9 +242,9 @@ def _migrate(engine: Engine, u: sa.URL, name: str) -> None:
     from alembic import command
     from alembic.config import Config
 
-    memory = u_is_sqlite(u) and _is_memory(u)
+    memory = _is_sqlite(u) and _is_memory(u)
     # In memory there is only the one shared connection: switch its FKs off for the migration.
-    mig_engine = engine if memory or not u_is_sqlite(u) else _make_engine(u, foreign_keys=False, pooled=False)
+    mig_engine = engine if memory or not _is_sqlite(u) else make_engine(u, foreign_keys=False, pooled=False)
     try:
         with mig_engine.connect() as conn:
             if memory:
@@ -250,7 +257,7 @@ def _migrate(engine: Engine, u: sa.URL, name: str) -> None:
                 cfg.set_main_option("script_location", str(migrations_dir()))
                 cfg.attributes["connection"] = conn
                 command.upgrade(cfg, "head")
-                if u_is_sqlite(u):
+                if _is_sqlite(u):
                     bad = conn.exec_driver_sql("PRAGMA foreign_key_check").fetchall()
                     if bad:
                         conn.rollback()
