@@ -315,3 +315,32 @@ def test_postgresql_schema_ledger_and_guard():
             conn.exec_driver_sql("DROP TABLE IF EXISTS alembic_version")
             conn.commit()
         engine.dispose()
+
+
+def _open_worker(url: str, out) -> None:
+    from selector.store.db import load_stock, open_engine, transaction
+
+    try:
+        engine = open_engine(url)
+        with transaction(engine) as s:
+            load_stock(s)
+        engine.dispose()
+        out.put("ok")
+    except Exception as exc:
+        out.put(f"{type(exc).__name__}: {exc}")
+
+
+def test_several_programs_creating_the_same_new_database_at_once(db_url, db_path):
+    """Four processes open a database file that does not exist yet, at the same moment: each
+    one succeeds (one creates the schema, the others wait and find it at head)."""
+    ctx = mp.get_context("spawn")
+    out = ctx.Queue()
+    procs = [ctx.Process(target=_open_worker, args=(db_url, out)) for _ in range(4)]
+    for p in procs:
+        p.start()
+    results = [out.get(timeout=240) for _ in procs]
+    for p in procs:
+        p.join(timeout=60)
+    assert results == ["ok"] * 4
+    with sqlite3.connect(db_path) as c:
+        assert c.execute("SELECT version_num FROM alembic_version").fetchall() == [(db.SCHEMA_HEAD,)]

@@ -108,10 +108,12 @@ def make_engine(url: sa.URL | str, *, foreign_keys: bool = True, pooled: bool = 
             dbapi_conn.isolation_level = None  # SQLAlchemy, not the sqlite3 module, emits BEGIN
             cur = dbapi_conn.cursor()
             try:
+                # busy_timeout first: switching a new file to WAL needs a lock another process
+                # opening the same new file may hold for a moment.
+                cur.execute(f"PRAGMA busy_timeout={int(busy_timeout_ms)}")
                 if not memory:
                     cur.execute("PRAGMA journal_mode=WAL")
                 cur.execute(f"PRAGMA foreign_keys={'ON' if foreign_keys else 'OFF'}")
-                cur.execute(f"PRAGMA busy_timeout={int(busy_timeout_ms)}")
             finally:
                 cur.close()
 
