@@ -175,11 +175,12 @@ def write_stock_csv(out: io.TextIOBase, rows: Iterable[Mapping[str, str]]) -> in
 
 
 def write_stock_file(path: str | Path, rows: Iterable[Mapping[str, str]]) -> int:
-    """write_stock_csv to a file (UTF-8, no byte-order mark), written whole or not at all."""
+    """write_stock_csv to a file, written whole or not at all. UTF-8 with a byte-order mark: that
+    is how spreadsheet programs recognise UTF-8 (Ω, µ) in a CSV; read_stock_csv accepts it."""
     p = Path(path)
     tmp = p.with_name(p.name + ".tmp")
     try:
-        with open(tmp, "w", encoding="utf-8", newline="") as fh:
+        with open(tmp, "w", encoding="utf-8-sig", newline="") as fh:
             n = write_stock_csv(fh, rows)
         tmp.replace(p)
     except OSError as err:
