@@ -270,3 +270,11 @@ def test_numbers_beyond_any_stock_are_refused_in_one_line(cli, db_path):
         assert r.returncode == 1, r.stderr
         assert r.stderr.strip() == message
     assert _dump(db_path) == before
+
+
+def test_export_to_an_impossible_place_is_one_line(cli, db_path, tmp_path):
+    target = tmp_path / "no" / "such" / "dir" / "out.csv"
+    r = cli("stock", "export", str(target), db=db_path)
+    assert r.returncode == 1
+    assert r.stderr.strip() == f"Error: cannot write {target}: No such file or directory"
+    assert not target.parent.exists()
