@@ -42,11 +42,6 @@ _CLASS2 = frozenset({"X7R", "X5R", "Y5V", "Z5U"})
 RESISTOR_POWER_DERATING = 0.5
 """Run a resistor at no more than this fraction of its power rating (common practice, facts §7)."""
 
-DEFAULT_RESISTOR_RATING_W = 0.25
-"""Not applied to stock: documented here only as the usual through-hole size (facts §7 [S17]).
-A stock line without a rating keeps rating None, and the limits treat it as unknown."""
-
-
 def normalize_dielectric(text: str) -> str:
     """The canonical dielectric name for ``text`` (case, spaces and dashes ignored); "" for none.
     Raises UnparseableValue listing the accepted names for anything else."""
