@@ -332,3 +332,19 @@ def test_pool_holds_the_k_best_pairs():
     expected = sorted(per_pair.values())[:5]
     got = sorted(o.abs_error for o in res.options if o.budget == 1)[:5]
     assert np.allclose(got, expected, rtol=1e-12, atol=0)
+
+
+@settings(**_SETTINGS)
+@given(cases("standard", max_parts_max=3), st.sampled_from(["standard", "diode"]))
+def test_sampled_provisional_bound_is_still_exact(case, connection):
+    """The 3-part search first bounds the error on a sample of the capacitor networks; force that
+    path on small stocks (sample of 1) and compare with the exhaustive reference again."""
+    import selector.core.search_kernel as sk
+
+    old = sk.PHASE1_SAMPLE
+    sk.PHASE1_SAMPLE = 2
+    try:
+        r_lines, c_lines, target, lim, max_parts, boards, pool = case
+        _check((r_lines, c_lines, target, lim, 3, boards, min(pool, 2)), connection)
+    finally:
+        sk.PHASE1_SAMPLE = old

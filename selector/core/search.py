@@ -29,7 +29,10 @@ networks, or the next network is already outside [lo, hi]).
    gives finite errors; let B be the K-th smallest (K = pool size).
 2. Certificate: an option with error <= B has e_low <= B, so its RB lies in the contiguous slice
    [RB*(c)·(1 - B), RB*(c)·(1 + B)] of the sorted network values. ``index.between`` returns that
-   slice exactly (also for 3-part networks) and every RB in it is paired with its best RA.
+   slice exactly (also for 3-part networks). Likewise its high-time error is <= B, and since
+   t_high grows with RA that confines RA to the window [RA(T_high·(1 − B)), RA(T_high·(1 + B))]
+   (intersected with [lo, hi]); ``between`` lists that window exactly, and the best feasible RA
+   in it is the pair's best whenever the pair can reach B at all.
 3. So every pair (c, RB) whose best option has error <= B is evaluated, which contains the pair of
    the globally best option; the minimum over the evaluated options is the exact minimum, and the
    K best pair-options are the exact K best (each pair counted once, with its best RA).

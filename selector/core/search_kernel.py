@@ -12,6 +12,10 @@ import numpy as np
 INF = float("inf")
 _SLACK = 1e-9  # relative widening of certified slices and intervals against rounding
 
+PHASE1_SAMPLE = 400
+"""Capacitor networks sampled for the provisional bound when 3-part resistor networks are searched
+(see ``_Pass.run2``); tests lower it to exercise that path on small stocks."""
+
 MAX_ERROR = 1.0
 """Options more than 100 % off target (a factor of two on a time) are never offered; exactness is
 over the options within this bound (the exhaustive reference in the tests applies it too)."""
@@ -339,8 +343,11 @@ class _Pass:
         self.no_conflict = bool(qty.size) and int((qty // r_index.boards).min()) >= 2 * r_index.max_parts
 
     # ---- two-resistor connections
-    def _best_ra(self, cv, rb_id, rb):
-        """Best RA for each (c, RB) pair: (ra_id, signed error, t_high, t_low); ra_id -1 = none."""
+    def _best_ra(self, cv, rb_id, rb, bound: Optional[float] = None):
+        """Best RA for each (c, RB) pair: (ra_id, signed error, t_high, t_low); ra_id -1 = none.
+        With ``bound`` (phase 2) only RA whose high-time error is within the bound are looked at:
+        t_high grows with RA, so they form the window [RA(T_high·(1 − B)), RA(T_high·(1 + B))]
+        and ``between`` lists it exactly; a pair with no feasible RA there cannot reach B."""
         lim, p, tg = self.lim, self.p, self.p.target
         n = len(cv)
         t_low = p.t_low(rb, cv)
@@ -360,9 +367,10 @@ class _Pass:
             freq_bound = np.zeros(n, dtype=bool)
         hi = lim.max_total_r_ohm - rb
         empty = lo > hi * (1 + _SLACK)
-        self.ex.add("RA/RB pairs over the total timing resistance limit", (empty & ~freq_bound).sum())
-        self.ex.add(f"combinations above the {_fmt(lim.max_freq_hz, 'Hz')} maximum frequency",
-                    (empty & freq_bound).sum())
+        if bound is None:
+            self.ex.add("RA/RB pairs over the total timing resistance limit", (empty & ~freq_bound).sum())
+            self.ex.add(f"combinations above the {_fmt(lim.max_freq_hz, 'Hz')} maximum frequency",
+                        (empty & freq_bound).sum())
 
         def ok(ids, rows):
             good = self.power.ok(ids)
@@ -370,6 +378,9 @@ class _Pass:
                 sub = np.flatnonzero(good)
                 good[sub] = self.r.fits_together(ids[sub], rb_id[rows[sub]])
             return good
+
+        if bound is not None:
+            return self._best_ra_window(cv, rb, lo, hi, empty, bound, ok)
 
         below, above = _nearest_feasible(self.r, ra_star, lo, hi, ok)
         best_id = np.full(n, -1, dtype=np.int64)
@@ -394,11 +405,44 @@ class _Pass:
         self.ex.add("RA/RB pairs with no RA in range (over its power rating or sharing stock with RB)", nothing.sum())
         return best_id, best_err, th_out, tl_out
 
-    def _eval_pairs(self, ci, rb_id):
+    def _best_ra_window(self, cv, rb, lo, hi, empty, bound, ok):
+        p, tg = self.p, self.p.target
+        n = len(cv)
+        best_id = np.full(n, -1, dtype=np.int64)
+        best_err = np.full(n, np.nan)
+        th_out = np.full(n, np.nan)
+        tl_out = np.full(n, np.nan)
+        w_lo = p.ra_for_high(np.full(n, tg.t_high * (1 - bound)), rb, cv)
+        w_hi = p.ra_for_high(np.full(n, tg.t_high * (1 + bound)), rb, cv)
+        # nan from the inverse means "no positive RA gives that time": no bound on that side
+        a = np.maximum(lo, np.nan_to_num(w_lo, nan=0.0)) * (1 - _SLACK)
+        b = np.minimum(hi, np.nan_to_num(w_hi, nan=np.inf)) * (1 + _SLACK)
+        live = ~empty & (a <= b) & (b > 0)
+        rows_live = np.flatnonzero(live)
+        if rows_live.size == 0:
+            return best_id, best_err, th_out, tl_out
+        offsets, ids = self.r.between(np.maximum(a[rows_live], 0.0), b[rows_live])
+        ids = np.asarray(ids, dtype=np.int64)
+        if ids.size == 0:
+            return best_id, best_err, th_out, tl_out
+        rows = np.repeat(rows_live, np.diff(offsets))
+        good = ok(ids, rows)
+        ids, rows = ids[good], rows[good]
+        if ids.size == 0:
+            return best_id, best_err, th_out, tl_out
+        th, tl = p.times2(self.r.values(ids), rb[rows], cv[rows])
+        e = _signed_max(th / tg.t_high - 1, tl / tg.t_low - 1)
+        order = np.lexsort((np.abs(e), rows))
+        first = order[np.r_[True, rows[order][1:] != rows[order][:-1]]]
+        r = rows[first]
+        best_id[r], best_err[r], th_out[r], tl_out[r] = ids[first], e[first], th[first], tl[first]
+        return best_id, best_err, th_out, tl_out
+
+    def _eval_pairs(self, ci, rb_id, bound: Optional[float] = None):
         """Evaluate pairs given by positions ``ci`` into c_ids and RB ids; returns rows kept."""
         cv = self.c_vals[ci]
         rb = self.r.values(rb_id)
-        ra_id, err, th, tl = self._best_ra(cv, rb_id, rb)
+        ra_id, err, th, tl = self._best_ra(cv, rb_id, rb, bound)
         keep = (ra_id >= 0) & (np.abs(err) <= MAX_ERROR)
         return (ci[keep], rb_id[keep], ra_id[keep], err[keep], th[keep], tl[keep])
 
@@ -414,17 +458,52 @@ class _Pass:
                 return False
         return True
 
-    def run2(self, pool: int, progress: Optional[Callable[[], None]] = None) -> list[tuple]:
+    def run2(self, pool: int, progress: Optional[Callable[[], None]] = None,
+             sample: Optional[int] = None) -> list[tuple]:
+        """Phase 1 gives the bound B; phase 2 evaluates every pair that can reach B. With 3-part
+        resistor networks each nearest look-up is costly, so phase 1 first runs on an evenly
+        spread sample of ``sample`` capacitor networks: their options are options too, so the
+        K-th best of them is still a valid bound (dense 3-part networks make it tight); only
+        when the sample holds fewer than K options does phase 1 run on every C."""
         lim, p = self.lim, self.p
         nc = self.c_ids.size
         if nc == 0 or not self._resistors_usable():
             return []
         rb_star = p.rb_ideal(self.c_vals)
         rb_hi_all = np.full(nc, lim.max_total_r_ohm - lim.min_r_ohm)
-        found: list[tuple] = []
-        # Phase 1: provisional bound from the nearest RB on each side of RB*(c).
+        found, bound = [], MAX_ERROR
+        sample = PHASE1_SAMPLE if sample is None else int(sample)
+        if getattr(self.r, "max_parts", 1) >= 3 and nc > 2 * sample:
+            subset = np.unique(np.linspace(0, nc - 1, sample).astype(np.int64))
+            found, bound, enough = self._phase1(pool, progress, subset)
+            if not enough:
+                found, bound = [], MAX_ERROR
+        if not found:
+            found, bound, _enough = self._phase1(pool, progress)
+        # Phase 2: every RB in the certified slice, each with its best RA.
         for sl in _chunks(nc, self.chunk):
-            ci = np.arange(sl.start, sl.stop)
+            lo = rb_star[sl] * (1 - bound)
+            hi = np.minimum(rb_star[sl] * (1 + bound), rb_hi_all[sl])
+            offsets, ids = self.r.between(lo, np.maximum(hi, lo))
+            counts = np.diff(offsets)
+            ci = np.repeat(np.arange(sl.start, sl.stop), counts)
+            ids = np.asarray(ids, dtype=np.int64)
+            for sub in _chunks(ids.size, 200_000):
+                found.append(self._eval_pairs(ci[sub], ids[sub], bound))
+            if progress:
+                progress()
+        return self._collect(found, pool, two=True)
+
+    def _phase1(self, pool: int, progress=None, subset=None) -> tuple[list, float, bool]:
+        """Provisional bound: the nearest RB on each side of RB*(c), each with its best RA; B is
+        the pool-th smallest error (MAX_ERROR when fewer options exist, ``enough`` False)."""
+        lim, p = self.lim, self.p
+        pos = np.arange(self.c_ids.size) if subset is None else np.asarray(subset, dtype=np.int64)
+        rb_star = p.rb_ideal(self.c_vals[pos])
+        rb_hi_all = np.full(pos.size, lim.max_total_r_ohm - lim.min_r_ohm)
+        found: list[tuple] = []
+        for sl in _chunks(pos.size, self.chunk):
+            ci = pos[sl]
             below, above = _nearest_feasible(self.r, rb_star[sl], np.zeros(ci.size), rb_hi_all[sl],
                                              lambda ids, rows: np.ones(ids.shape, dtype=bool))
             above = np.where(above == below, -1, above)  # an exact hit is found on both sides
@@ -441,19 +520,7 @@ class _Pass:
         else:
             bound = MAX_ERROR  # too few options yet: certify the whole allowed range
         bound = min(bound, MAX_ERROR) * (1 + _SLACK) + 1e-15
-        # Phase 2: every RB in the certified slice, each with its best RA.
-        for sl in _chunks(nc, self.chunk):
-            lo = rb_star[sl] * (1 - bound)
-            hi = np.minimum(rb_star[sl] * (1 + bound), rb_hi_all[sl])
-            offsets, ids = self.r.between(lo, np.maximum(hi, lo))
-            counts = np.diff(offsets)
-            ci = np.repeat(np.arange(sl.start, sl.stop), counts)
-            ids = np.asarray(ids, dtype=np.int64)
-            for sub in _chunks(ids.size, 200_000):
-                found.append(self._eval_pairs(ci[sub], ids[sub]))
-            if progress:
-                progress()
-        return self._collect(found, pool, two=True)
+        return found, bound, errs.size >= pool
 
     # ---- one-resistor connections
     def run1(self, pool: int, progress: Optional[Callable[[], None]] = None) -> list[tuple]:
