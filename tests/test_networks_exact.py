@@ -215,3 +215,37 @@ def test_empty_and_padding():
         index.nearest_few([0.0], 1)
     with pytest.raises(ValueError):
         build_index([StockLine(1, "resistor", 1e3, 0.05, 0.05, 1)], max_parts=4)
+
+
+@seed(20261207)
+@SETTINGS
+@given(stocks(), st.data(), st.integers(min_value=1, max_value=5))
+def test_target_on_a_network_value_wide_range(case, data, k):
+    # values spread over seven decades so pair and 3-part values crowd each other at 1e-12
+    kind, lines, max_parts, boards, allow = case
+    spread = data.draw(st.lists(st.sampled_from([1.0, 1e3, 1e6, 1e7]), min_size=len(lines), max_size=len(lines)))
+    lines = [StockLine(ln.id, ln.kind, ln.value * f, ln.tol_minus, ln.tol_plus, ln.quantity,
+                       polarized=ln.polarized) for ln, f in zip(lines, spread)]
+    ref = enumerate_all(lines, max_parts, boards, allow_polarized_series=allow)
+    assume(ref)
+    t = data.draw(st.sampled_from(ref)).value
+    index = build_index(lines, max_parts=max_parts, boards=boards, allow_polarized_series=allow)
+    best = index.values(index.nearest_few([t], k)[0, :1])[0]
+    assert best == pytest.approx(t, rel=1e-14)
+    below, above = index.nearest_sides([t], k)
+    got_b = index.values(below[0][below[0] >= 0]).tolist()
+    got_a = index.values(above[0][above[0] >= 0]).tolist()
+
+    def near(v):  # the two formulas round differently by a few ulps: treat these as "on" t
+        return abs(v / t - 1) <= 1e-14
+
+    # the network on the target is the nearest on both sides
+    assert near(got_b[0]) and near(got_a[0])
+    n_on = sum(1 for r in ref if near(r.value))
+    for got, clear in ((got_b, sorted((r.value for r in ref if r.value < t and not near(r.value)), reverse=True)),
+                       (got_a, sorted(r.value for r in ref if r.value > t and not near(r.value)))):
+        on = [v for v in got if near(v)]
+        off = [v for v in got if not near(v)]
+        assert 1 <= len(on) <= n_on
+        assert off == pytest.approx(clear[:len(off)], rel=1e-12)
+        assert len(got) == min(k, len(on) + len(clear)) or len(on) < min(k, n_on)
