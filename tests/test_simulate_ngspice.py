@@ -256,7 +256,8 @@ def test_cli_netlist_writes_a_file_ngspice_runs(cli, saved_db, tmp_path):
 def test_cli_unknown_option_is_one_line(cli, saved_db):
     r = cli("simulate", "7", db=saved_db)
     assert r.returncode == 1
-    assert r.stderr.strip().splitlines() == ["Error: search 1 has no option 7 (it has options 1-1)"]
+    lines = r.stderr.strip().splitlines()
+    assert len(lines) == 1 and lines[0].startswith("Error: search 1 has no option 7")
 
 
 def test_cli_without_ngspice_says_how_to_install(cli, saved_db, tmp_path):
