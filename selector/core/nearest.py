@@ -108,6 +108,8 @@ class ThreePartSearch:
         self.inner_code = np.array([sh[2] for sh in shapes], dtype=np.int64)
         for s, (_add, _sym, _code, pool_pos, a_lines) in enumerate(shapes):
             n = len(pool_pos)
+            if n == 0 or len(a_lines) == 0:
+                continue  # no network of this shape
             self.per_shape.append((s, pool_pos, ix._val[pool_pos], a_lines, start, r0, r0 + len(a_lines)))
             pools.append(pool_pos)
             rows_s.append(np.full(len(a_lines), s, dtype=np.int64))
@@ -127,6 +129,14 @@ class ThreePartSearch:
         self.row_add = self.outer_add[self.row_s] if len(self.row_s) else np.zeros(0, bool)
         self.row_av = ix._v[self.row_a]
         self.nrows = len(self.row_s)
+        # each row's value range (first and last pair of its pool) and whether those two
+        # networks are allowed: rows whose range misses a target need no search for it
+        cap = ix._cap()
+        self.row_vmin = join(self.row_add, self.row_av, self.pool_val[self.row_lo]) if self.nrows else np.zeros(0)
+        self.row_vmax = join(self.row_add, self.row_av, self.pool_val[self.row_hi - 1]) if self.nrows else np.zeros(0)
+        self.row_ok_first = self.ok_at(self.row_a, self.row_lo, cap) if self.nrows else np.zeros(0, bool)
+        self.row_ok_last = self.ok_at(self.row_a, self.row_hi - 1, cap) if self.nrows else np.zeros(0, bool)
+        self.shape_rows = np.array([r0 for *_x, r0, _r1 in self.per_shape] + [self.nrows], dtype=np.int64)
 
     # ------------------------------------------------------------------ plumbing
     def ok(self, a: np.ndarray, pos: np.ndarray, cap: np.ndarray) -> np.ndarray:
@@ -179,6 +189,34 @@ class ThreePartSearch:
                 right = np.searchsorted(pv, p_hi, side="right")
             zl[r0:r1] = left + seg
             zh[r0:r1] = right + seg
+        return zl, zh
+
+    def point_zones(self, rows: np.ndarray, t: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        """(zl, zh) for (row, target) entries given flat, rows ascending: the pool slice of the
+        pairs whose value may lie within the slack around t (global pool indices)."""
+        zl = np.empty(len(rows), dtype=np.int64)
+        zh = np.empty(len(rows), dtype=np.int64)
+        cut = np.searchsorted(rows, self.shape_rows)
+        for (s, _pp, pv, _a, seg, _r0, _r1), c0, c1 in zip(self.per_shape, cut[:-1], cut[1:]):
+            if c0 == c1:
+                continue
+            add = bool(self.outer_add[s])
+            av = self.row_av[rows[c0:c1]]
+            tt = t[c0:c1]
+            left = np.searchsorted(pv, preimage(add, av, tt * (1.0 - EPS)))
+            p_hi = preimage(add, av, tt * (1.0 + EPS))
+            right = left.copy()
+            n = len(pv)
+            for _ in range(8):  # the zone holds only pairs within the slack: step over them
+                step = right < n
+                step[step] = pv[right[step]] <= p_hi[step]
+                if not step.any():
+                    break
+                right += step
+            else:
+                right = np.searchsorted(pv, p_hi, side="right")
+            zl[c0:c1] = left + seg
+            zh[c0:c1] = right + seg
         return zl, zh
 
     def windows(self, rows: np.ndarray, zl: np.ndarray, zh: np.ndarray, k: int, below: bool,
@@ -246,22 +284,42 @@ class ThreePartSearch:
         if self.nrows == 0 or len(self.pool_pos) == 0:
             return [empty, empty]
         cap = ix._cap()
-        zl, zh = self.zones(T, T)
+        # Rows whose whole value range lies above (below) the target's slack need no search:
+        # their split is at the row start (end).  Only the other entries are searched.
+        above_all = (T * (1.0 + EPS))[None, :] < self.row_vmin[:, None]
+        below_all = (T * (1.0 - EPS))[None, :] > self.row_vmax[:, None]
+        act = np.flatnonzero(~(above_all | below_all).ravel())
+        ar, at_t = act // m, act % m
+        zl_a, zh_a = self.point_zones(ar, T[at_t])
+        zl = np.where(above_all, self.row_lo[:, None], self.row_hi[:, None])
+        zl.ravel()[act] = zl_a
+        zh = zl.copy()
+        zh.ravel()[act] = zh_a
         last = len(self.pool_pos) - 1
+        cut = np.searchsorted(ar, self.shape_rows)
         result = []
         for below in (True, False):
-            probe = zh - 1 if below else zl
-            have = probe >= self.row_lo[:, None] if below else probe < self.row_hi[:, None]
+            # phase 1 on the searched entries: the pool entry next to the split
+            probe = zh_a - 1 if below else zl_a
+            have = probe >= self.row_lo[ar] if below else probe < self.row_hi[ar]
             pc = np.clip(probe, 0, last)
-            value = np.empty(pc.shape)
-            for s, _pp, _pv, a_lines, _seg, r0, r1 in self.per_shape:  # one joint per shape
-                value[r0:r1] = join(bool(self.outer_add[s]), ix._v[a_lines][:, None], self.pool_val[pc[r0:r1]])
+            value = np.empty(len(pc))
+            for (s, *_x), c0, c1 in zip(self.per_shape, cut[:-1], cut[1:]):  # one joint per shape
+                value[c0:c1] = join(bool(self.outer_add[s]), self.row_av[ar[c0:c1]], self.pool_val[pc[c0:c1]])
             # distances as ratios >= 1 (same order as |log|, no logarithms on the big arrays)
             with np.errstate(divide="ignore", invalid="ignore"):
-                ratio = T[None, :] / value if below else value / T[None, :]
-            lb = np.where(have, np.maximum(ratio, 1.0), np.inf)
-            good = have & (ratio >= 1.0) & self.ok_at(self.row_a[:, None], pc, cap)
-            ub = np.where(good, ratio, np.inf)
+                ratio = T[at_t] / value if below else value / T[at_t]
+                if below:  # clamped rows: the row's last pair is its best below the target
+                    edge = T[None, :] / self.row_vmax[:, None]
+                    lb = np.where(below_all, edge, np.inf)
+                    ub = np.where(below_all & self.row_ok_last[:, None], edge, np.inf)
+                else:
+                    edge = self.row_vmin[:, None] / T[None, :]
+                    lb = np.where(above_all, edge, np.inf)
+                    ub = np.where(above_all & self.row_ok_first[:, None], edge, np.inf)
+            lb.ravel()[act] = np.where(have, np.maximum(ratio, 1.0), np.inf)
+            good = have & (ratio >= 1.0) & self.ok_at(self.row_a[ar], pc, cap)
+            ub.ravel()[act] = np.where(good, ratio, np.inf)
             u = np.exp(bounds[0 if below else 1])
             if self.nrows >= 3 * k:
                 u = np.minimum(u, np.partition(ub, 3 * k - 1, axis=0)[3 * k - 1])
