@@ -14,11 +14,17 @@ For each option found by :mod:`selector.core.search`:
   not included, and the footer says so.
 
 Ranking rule (what a technician should pick first):
+    yield band = floor(20 · yield): builds in spec, in 5-point bands - the share of builds that
+             meet the target is what the bench cares about, and it already weighs the error
+             against the tolerance spread;
     score  = max(|error|, spread / 4), where spread is the full relative width of the worst-case
              range of the main quantity (frequency, width, τ or corner), (max − min)/nominal;
-             an error far below the option's own tolerance spread is worth nothing.
+             an error far below the option's own tolerance spread is worth nothing;
     bucket = floor(log(score) / log(1.25)) (bands 25 % wide; scores below 1e-6 share one band);
-    order  = bucket, then fewer physical parts, then higher yield, then smaller |error|.
+    order  = higher yield band, then bucket, then fewer physical parts, then smaller |error|,
+             then higher yield.
+So among builds equally likely to meet the target and equally close within their spread, the
+one with fewer parts comes first (when every yield is low, the score decides).
 The option with the exact smallest error is always among those returned: if the rule would push
 it below the cut, it takes the last place shown (its true error is in every option's JSON).
 """
@@ -61,10 +67,13 @@ class RankedOption:
     def nparts(self) -> int:
         return self.found.nparts
 
+    @property
+    def bucket(self) -> int:
+        return math.floor(math.log(max(self.score, SCORE_FLOOR)) / math.log(BAND))
+
     def sort_key(self) -> tuple:
-        bucket = math.floor(math.log(max(self.score, SCORE_FLOOR)) / math.log(BAND))
         y = 0.0 if math.isnan(self.yield_fraction) else self.yield_fraction
-        return (bucket, self.nparts, -round(y, 6), abs(self.error))
+        return (-math.floor(20 * y + 1e-9), self.bucket, self.nparts, abs(self.error), -y)
 
 
 def _order(found) -> list:
@@ -193,17 +202,19 @@ def evaluate_and_rank(found_options: Sequence, target, limits_by_connection: dic
                       top: int, distribution: str = "uniform", samples: int = 10_000,
                       seed: int = 0) -> list:
     """Evaluate a pool and rank it. The Monte Carlo (the costly part) runs only for the first
-    ``top + 5`` options by the other keys (bucket, parts, |error|) and for the exact best; yield
-    therefore breaks ties among those."""
+    ``top + 5`` options by (bucket, parts, |error|), the first ``top + 5`` by (bucket, |error|)
+    and the exact best; the ranking is over those."""
     if not found_options:
         return []
     first = [evaluate(o, target, limits_by_connection[o.connection], accept, distribution, samples,
                       seed, monte_carlo=False) for o in found_options]
     best = min(first, key=lambda o: (abs(o.error), o.nparts))
-    pre = sorted(first, key=lambda o: o.sort_key()[:2] + (abs(o.error),))
-    chosen = pre[: int(top) + 5]
-    if best not in chosen:
-        chosen.append(best)
+    by_parts = sorted(first, key=lambda o: (o.bucket, o.nparts, abs(o.error)))
+    by_score = sorted(first, key=lambda o: (o.bucket, abs(o.error)))
+    chosen: list = []
+    for o in by_parts[: int(top) + 5] + by_score[: int(top) + 5] + [best]:
+        if o not in chosen:
+            chosen.append(o)
     full = [evaluate(o.found, target, limits_by_connection[o.connection], accept, distribution,
                      samples, seed) for o in chosen]
     return rank(full, top)

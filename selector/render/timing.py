@@ -188,8 +188,8 @@ def footer_lines(report) -> list[str]:
     else:
         out.append(f"Ratings checked at {req.vcc:g} V across the parts (resistor power ≤ 50 % of "
                    "rating, capacitor rating × derating ≥ the voltage).")
-    out.append("Ranking: score = max(|error|, worst-case spread/4) in bands 25 % wide, then "
-               "fewer parts, then higher yield.")
+    out.append("Ranking: yield first (5-point bands), then score = max(|error|, worst-case "
+               "spread/4) in bands 25 % wide, then fewer parts, then |error|.")
     keys: list[str] = []
     for o in report.ranked:
         for k in o.cautions:
