@@ -348,3 +348,30 @@ def test_sampled_provisional_bound_is_still_exact(case, connection):
         _check((r_lines, c_lines, target, lim, 3, boards, min(pool, 2)), connection)
     finally:
         sk.PHASE1_SAMPLE = old
+
+
+@settings(max_examples=60, deadline=None, derandomize=True,
+          suppress_health_check=[HealthCheck.too_slow, HealthCheck.data_too_large])
+@given(cases("standard", max_parts_max=2), st.integers(1, 3), st.sampled_from(["standard", "diode"]))
+def test_ranked_options_keep_the_exact_best(case, top, connection):
+    """Whatever the ranking puts first, the options shown (even with --top 1) include one with
+    the smallest error the stock and the chip limits allow (exhaustive reference)."""
+    from selector.core.search import resolve_limits
+    from selector.services.find_timing import TimingRequest, plan_timing
+
+    r_lines, c_lines, target, _lim, max_parts, boards, _pool = case
+    freq, duty = target.frequency, target.duty
+    if connection == "standard" and duty <= 0.5:
+        duty = 1 - duty
+    req = TimingRequest(mode="astable", freq_hz=freq, duty=duty, connection=connection, vcc=9.0,
+                        max_parts=max_parts, boards=boards, top=top)
+    lim = resolve_limits(connection, "bipolar", 9.0, req.vf)
+    expected = reference_best(r_lines, c_lines, Target.astable(freq, duty), connection, lim, max_parts, boards)
+    try:
+        rep = plan_timing(r_lines, c_lines, req)
+    except NothingFeasible:
+        assert expected is None
+        return
+    assert expected is not None and len(rep.options) <= top
+    got = min(abs(o["error"]) for o in rep.options)
+    assert abs(got - expected) <= 1e-12 + 1e-9 * expected
