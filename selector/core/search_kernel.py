@@ -34,6 +34,8 @@ def _line_arrays(index, attr: str, default: float = math.nan) -> np.ndarray:
 
 
 def _all_ids(index) -> np.ndarray:
+    if getattr(index, "max_parts", 3) <= 2:  # materialised: the ids are the positions 0..n-1
+        return np.arange(len(index), dtype=np.int64)
     _, ids = index.between(np.array([0.0]), np.array([INF]))
     return np.asarray(ids, dtype=np.int64)
 
@@ -131,6 +133,7 @@ class SortedView:
 
     def __init__(self, index):
         self._index = index
+        self._len = len(index)
         cached = getattr(index, "_sorted_view_values", False)
         if cached is False:
             cached = None
@@ -148,7 +151,7 @@ class SortedView:
         return getattr(self._index, name)
 
     def __len__(self) -> int:
-        return len(self._index)
+        return self._len
 
     def values(self, ids):
         if self.sorted_values is None:
