@@ -111,7 +111,9 @@ def make_engine(url: sa.URL | str, *, foreign_keys: bool = True, pooled: bool = 
                 # busy_timeout first: switching a new file to WAL needs a lock another process
                 # opening the same new file may hold for a moment.
                 cur.execute(f"PRAGMA busy_timeout={int(busy_timeout_ms)}")
-                if not memory:
+                # WAL is a lasting property of the file: never switch another program's database
+                # (tables but no alembic_version); open_engine then refuses it, unchanged.
+                if not memory and _ours_or_empty(cur):
                     cur.execute("PRAGMA journal_mode=WAL")
                 cur.execute(f"PRAGMA foreign_keys={'ON' if foreign_keys else 'OFF'}")
             finally:
@@ -126,6 +128,13 @@ def make_engine(url: sa.URL | str, *, foreign_keys: bool = True, pooled: bool = 
 
 
 
+
+
+def _ours_or_empty(cur) -> bool:
+    """True when the SQLite file holds no tables yet or holds our schema (alembic_version)."""
+    names = {r[0] for r in cur.execute("SELECT name FROM sqlite_master WHERE type = 'table'").fetchall()}
+    names = {n for n in names if not n.startswith("sqlite_")}
+    return not names or "alembic_version" in names
 
 
 def _first_line(err: BaseException) -> str:
