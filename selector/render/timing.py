@@ -169,7 +169,8 @@ def footer_lines(report) -> list[str]:
     if req.mode == "astable":
         yl = f"frequency within {acc} of target and duty within {acc} of the target duty (relative)"
     else:
-        yl = f"within {acc} of target"
+        what = "width" if req.mode == "monostable" else ("corner" if "corner_hz" in report.target else "time constant")
+        yl = f"the {what} within {acc} of target"
     out.append(f"Worst case: corners of every part's tolerance band. Yield: share of "
                f"{req.samples:,} simulated builds ({req.distribution} within tolerance, seed {req.seed}) "
                f"with {yl}; part tolerances only.")
@@ -208,7 +209,7 @@ def print_report(report, console: Optional[Console] = None) -> None:
     console = console or Console()
     console.print(options_table(report))
     for line in footer_lines(report):
-        console.print(line, highlight=False, soft_wrap=True)
+        console.print(line, highlight=False)  # wrapped at the terminal width, like the table
     if report.search_id is not None:
         console.print(f"Saved as search {report.search_id}; `selector bom N` lists the parts of option N.",
                       highlight=False)
