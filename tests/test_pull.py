@@ -214,7 +214,7 @@ def test_cli_search_bom_pull_undo_on_the_sample_stock(cli, db_path, tmp_path):
     from conftest import SAMPLE
 
     assert cli("stock", "import", str(SAMPLE), db=db_path).returncode == 0
-    r = cli("find", "astable", "--freq", "1.2k", "--duty", "65%", "--json", db=db_path)
+    r = cli("find", "astable", "--freq", "1.2k", "--duty", "65%", "--boards", "2", "--json", db=db_path)
     assert r.returncode == 0, r.stderr
     option = json.loads(r.stdout)["options"][0]
     timing: dict[int, int] = {}
