@@ -92,6 +92,21 @@ def argsort_stable(x: np.ndarray) -> np.ndarray:
     return order
 
 
+
+def _zone_end(pv: np.ndarray, left: np.ndarray, p_hi: np.ndarray) -> np.ndarray:
+    """End of each zone that starts at ``left``: the first index whose pair value exceeds
+    ``p_hi``. A point zone holds only the few pairs within the slack, so step over them a few
+    times before falling back to a full ``searchsorted``."""
+    right = left.copy()
+    n = len(pv)
+    for _ in range(8):
+        step = right < n
+        step[step] = pv[right[step]] <= p_hi[step]
+        if not step.any():
+            return right
+        right += step
+    return np.searchsorted(pv, p_hi, side="right")
+
 class ThreePartSearch:
     """The 3-part side of a NetworkIndex.  ``ix`` is the index it serves (its materialised
     arrays ``_val, _li, _lj``, line values ``_v``, caps, ids); ``shapes`` lists per 3-part shape
@@ -175,16 +190,7 @@ class ThreePartSearch:
             left = np.searchsorted(pv, preimage(add, av, (lo * (1.0 - EPS))[None, :]))
             p_hi = preimage(add, av, (hi * (1.0 + EPS))[None, :])
             if lo is hi:  # a point query: the zone holds only pairs within the slack, step over them
-                right = left.copy()
-                n = len(pv)
-                for _ in range(8):
-                    step = right < n
-                    step[step] = pv[right[step]] <= p_hi[step]
-                    if not step.any():
-                        break
-                    right += step
-                else:
-                    right = np.searchsorted(pv, p_hi, side="right")
+                right = _zone_end(pv, left, p_hi)
             else:
                 right = np.searchsorted(pv, p_hi, side="right")
             zl[r0:r1] = left + seg
@@ -205,16 +211,7 @@ class ThreePartSearch:
             tt = t[c0:c1]
             left = np.searchsorted(pv, preimage(add, av, tt * (1.0 - EPS)))
             p_hi = preimage(add, av, tt * (1.0 + EPS))
-            right = left.copy()
-            n = len(pv)
-            for _ in range(8):  # the zone holds only pairs within the slack: step over them
-                step = right < n
-                step[step] = pv[right[step]] <= p_hi[step]
-                if not step.any():
-                    break
-                right += step
-            else:
-                right = np.searchsorted(pv, p_hi, side="right")
+            right = _zone_end(pv, left, p_hi)  # only pairs within the slack: step over them
             zl[c0:c1] = left + seg
             zh[c0:c1] = right + seg
         return zl, zh

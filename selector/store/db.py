@@ -127,9 +127,6 @@ def make_engine(url: sa.URL | str, *, foreign_keys: bool = True, pooled: bool = 
     return sa.create_engine(url, pool_pre_ping=True, **({} if pooled else {"poolclass": NullPool}))
 
 
-
-
-
 def _ours_or_empty(cur) -> bool:
     """True when the SQLite file holds no tables yet or holds our schema (alembic_version)."""
     names = {r[0] for r in cur.execute("SELECT name FROM sqlite_master WHERE type = 'table'").fetchall()}
