@@ -1,4 +1,4 @@
-"""``selector find astable|monostable|rc`` end to end on sample_stock.csv (real subprocess)."""
+"""``selector find astable|monostable|rc`` end to end on sample_stock.csv (run in-process, see conftest.run_cli)."""
 
 from __future__ import annotations
 

@@ -1,4 +1,4 @@
-"""`selector find value` end to end on the sample stock (the real program in a subprocess)."""
+"""`selector find value` end to end on the sample stock (the command run in-process, see conftest.run_cli)."""
 
 from __future__ import annotations
 

@@ -1,5 +1,6 @@
-"""Robustness of the real program (subprocess CLI): damaged, foreign, misplaced and busy databases,
-a process killed in the middle of an import, and bad command-line input for every command.
+"""Robustness of the program (the CLI in-process; real processes where they are the point):
+damaged, foreign, misplaced and busy databases, a process killed in the middle of an import, and
+bad command-line input for every command.
 The quality bar (notes): bad input gives one line ``Error: …`` (or typer's usage error, exit 2),
 never a traceback, never "database is locked", and the database is left unchanged."""
 

@@ -1,5 +1,5 @@
-"""The stock commands end to end (a real `python -m selector` process and a file database per
-test): output shapes, ledgered changes, and refusals with one clear line and no change."""
+"""The stock commands end to end (the command run in-process, see conftest.run_cli, and a file
+database per test): output shapes, ledgered changes, and refusals with one clear line and no change."""
 
 from __future__ import annotations
 
@@ -40,8 +40,9 @@ def _sample_rows() -> int:
         return sum(1 for row in csv.DictReader(fh) if any(v.strip() for v in row.values()))
 
 
-def test_help_lists_every_stock_command(cli):
-    r = cli("stock", "--help", env={"TYPER_USE_RICH": "0"})
+def test_help_lists_every_stock_command(cli_process):
+    # A real process: typer reads TYPER_USE_RICH once, at import (this also runs `python -m selector`).
+    r = cli_process("stock", "--help", env={"TYPER_USE_RICH": "0"})
     assert r.returncode == 0
     for name in ("import", "list", "export", "adjust", "set", "kit"):
         assert name in r.stdout
