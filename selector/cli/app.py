@@ -8,8 +8,11 @@ from typing import Optional
 
 import typer
 
+from selector.cli._params import Group
+
 app = typer.Typer(
     name="selector",
+    cls=Group,  # option values converted without importing pydantic where the result is certain
     help="Choose resistor and capacitor networks for 555 and RC timing circuits from the parts in stock.",
     no_args_is_help=True,
     add_completion=False,
