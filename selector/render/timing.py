@@ -6,10 +6,11 @@ from __future__ import annotations
 
 import math
 import time
-from typing import Optional
+from typing import TYPE_CHECKING, Optional
 
-from rich.console import Console
-from rich.table import Table
+if TYPE_CHECKING:  # rich is imported where it draws, so `find ... --json` never loads it
+    from rich.console import Console
+    from rich.table import Table
 
 _SHAPE_JOINT = {"series": " + ", "parallel": " ∥ ", "series3": " + ", "parallel3": " ∥ "}
 
@@ -124,6 +125,8 @@ def _title(report) -> str:
 
 
 def options_table(report) -> Table:
+    from rich.table import Table
+
     mode = report.request.mode
     table = Table(title=_title(report), title_justify="left", show_lines=False)
     table.add_column("#", justify="right")
@@ -206,7 +209,10 @@ def footer_lines(report) -> list[str]:
 
 
 def print_report(report, console: Optional[Console] = None) -> None:
-    console = console or Console()
+    if console is None:
+        from rich.console import Console
+
+        console = Console()
     console.print(options_table(report))
     for line in footer_lines(report):
         console.print(line, highlight=False)  # wrapped at the terminal width, like the table
@@ -230,6 +236,7 @@ class LazyProgress:
         if self._progress is None:
             if time.monotonic() - self.start < self.delay or fraction >= 1.0:
                 return
+            from rich.console import Console
             from rich.progress import Progress
 
             self._progress = Progress(console=Console(stderr=True), transient=True)
