@@ -11,17 +11,7 @@ from typing import TYPE_CHECKING, Any, Optional, Sequence
 if TYPE_CHECKING:  # only for annotations: selector.core.bom imports this module at its end
     from selector.core.bom import Bom, BomLine, PickStop
 
-#: A spreadsheet treats a cell starting with one of these as a formula (or strips it into one).
-_FORMULA_START = ("=", "+", "-", "@", "\t", "\r", "\n")
-
-
-def neutralize_cell(text: str) -> str:
-    """Make a text cell safe to open in a spreadsheet: a cell that begins with =, +, -, @, a tab,
-    CR or LF is prefixed with a single quote so it is shown as text, never evaluated. Numbers this
-    module writes are positive and never pass through here."""
-    if text and text.startswith(_FORMULA_START):
-        return "'" + text
-    return text
+from selector.core.cells import neutralize_cell  # noqa: E402,F401  (one implementation, shared with the stock export)
 
 
 def _unit(kind: str) -> str:

@@ -1,0 +1,29 @@
+"""Text from users (notes, locations, references, the text quoted in an error) made safe for a
+terminal, in one place: every table cell and every error line goes through here.
+
+Control characters are removed: C0 (ESC, BEL, CR, LF, NUL, ...), DEL and C1 (U+0080-U+009F). An
+ESC sequence in a note could otherwise recolour, retitle or clear a technician's terminal; a CR
+could overwrite what a line says. A tab becomes one space. Cells are rich ``Text`` objects, so a
+bracket in a note (``[red]``, ``[/x]``) is shown as written, never read as rich markup.
+"""
+
+from __future__ import annotations
+
+import re
+from typing import Any
+
+_CONTROL = re.compile(r"[\x00-\x08\x0a-\x1f\x7f-\x9f]")
+
+
+def printable(text: str) -> str:
+    """``text`` without control characters (a tab becomes a space)."""
+    return _CONTROL.sub("", str(text).replace("\t", " "))
+
+
+def cell(value: Any, style: str = "") -> Any:
+    """A table cell for any value: its text made printable, as a rich Text (never markup)."""
+    from rich.text import Text
+
+    if isinstance(value, Text):
+        return Text(printable(value.plain), style=value.style or style)
+    return Text(printable("" if value is None else str(value)), style=style)
