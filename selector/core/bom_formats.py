@@ -11,7 +11,7 @@ from typing import TYPE_CHECKING, Any, Optional, Sequence
 if TYPE_CHECKING:  # only for annotations: selector.core.bom imports this module at its end
     from selector.core.bom import Bom, BomLine, PickStop
 
-from selector.core.cells import neutralize_cell  # noqa: E402,F401  (one implementation, shared with the stock export)
+from selector.core.cells import neutralize_cell, without_controls  # noqa: E402,F401  (shared with the stock export)
 
 
 def _unit(kind: str) -> str:
@@ -87,7 +87,7 @@ def to_csv(bom: Bom) -> str:
 def md_cell(text: str) -> str:
     """A Markdown table cell: every line boundary (``str.splitlines``: LF, CR, FF, VT, U+2028 …)
     becomes one space, outer blanks are trimmed, backslashes and pipes are escaped."""
-    text = " ".join(text.splitlines()).strip()
+    text = without_controls(" ".join(text.splitlines()).strip())
     return text.replace("\\", "\\\\").replace("|", "\\|")
 
 

@@ -23,6 +23,7 @@ FORMULA_START = ("=", "+", "-", "@", "\t", "\r", "\n")
 #: The mark that tells a spreadsheet "text, not a formula" (not shown in the cell).
 TEXT_MARK = "'"
 
+_CONTROL = re.compile(r"[\x00-\x08\x0a-\x1f\x7f-\x9f]")  # C0 except tab, DEL, C1
 _PLAIN_NUMBER = re.compile(r"[+-]?(?:[0-9]+(?:\.[0-9]*)?|\.[0-9]+)(?:[eE][+-]?[0-9]+)?")
 _AFTER_MARK = FORMULA_START + (TEXT_MARK,)
 
@@ -49,3 +50,9 @@ def restore_cell(text: str) -> str:
     """The text a neutralised cell stands for: the leading quote removed when it is followed by
     =, +, -, @, a tab, CR, LF or another quote; any other text unchanged."""
     return text[1:] if _marked(text) else text
+
+
+def without_controls(text: str) -> str:
+    """``text`` with every control character removed (C0, DEL, C1; a tab becomes a space): what
+    may be shown to a person. ESC sequences could recolour, retitle or clear a terminal."""
+    return _CONTROL.sub("", text.replace("\t", " "))

@@ -87,13 +87,18 @@ _RKM_RE = re.compile(r"([0-9]*)([LRKkMGpnumF])([0-9]+)(.*)", re.S)
 QUOTE_LIMIT = 40
 
 
+_CONTROL_RE = re.compile(r"[\x00-\x1f\x7f-\x9f]")
+
+
 def quoted(text: str) -> str:
     """User text in double quotes for a one-line message; text longer than QUOTE_LIMIT characters
-    is cut (a 5000-digit cell is named by its start and its length, not printed whole)."""
+    is cut (a 5000-digit cell is named by its start and its length, not printed whole), and a
+    control character is shown as its escape (\\x1b), so the message stays one printable line."""
     text = str(text)
-    if len(text) <= QUOTE_LIMIT:
-        return f'"{text}"'
-    return f'"{text[:QUOTE_LIMIT - 8]}…" ({len(text)} characters)'
+    if len(text) > QUOTE_LIMIT:
+        head = _CONTROL_RE.sub(lambda m: f"\\x{ord(m.group()):02x}", text[:QUOTE_LIMIT - 8])
+        return f'"{head}…" ({len(text)} characters)'
+    return '"' + _CONTROL_RE.sub(lambda m: f"\\x{ord(m.group()):02x}", text) + '"'
 
 
 class _Refused(Exception):
@@ -513,7 +518,7 @@ def parse_fraction(text: str) -> float:
     elif number >= 1:
         raise UnparseableValue(
             f'cannot read {quoted(text)} as a fraction: a bare number must be below 1; write '
-            f'"{m.group(1)}%" for percent, or e.g. 0.65'
+            f'{quoted(m.group(1) + "%")} for percent, or e.g. 0.65'
         )
     if number > 1:
         raise UnparseableValue(f'cannot read {quoted(text)} as a fraction: it is above 100 %; expected e.g. {examples}')

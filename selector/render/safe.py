@@ -9,15 +9,14 @@ bracket in a note (``[red]``, ``[/x]``) is shown as written, never read as rich 
 
 from __future__ import annotations
 
-import re
 from typing import Any
 
-_CONTROL = re.compile(r"[\x00-\x08\x0a-\x1f\x7f-\x9f]")
+from selector.core.cells import without_controls
 
 
-def printable(text: str) -> str:
+def printable(text: Any) -> str:
     """``text`` without control characters (a tab becomes a space)."""
-    return _CONTROL.sub("", str(text).replace("\t", " "))
+    return without_controls(str(text))
 
 
 def cell(value: Any, style: str = "") -> Any:

@@ -44,7 +44,7 @@ def parse_kind(text: str) -> str:
     try:
         return _KIND_WORDS[text.strip().lower()]
     except KeyError:
-        raise UnparseableValue(f'"{text.strip()}": expected resistor or capacitor (or R / C)') from None
+        raise UnparseableValue(f"{quoted(text.strip())}: expected resistor or capacitor (or R / C)") from None
 
 
 def parse_quantity(text: str) -> int:
@@ -180,12 +180,12 @@ def validate_rows(raw_rows: Iterable) -> list[ImportRow]:
         except UnparseableValue as e:
             bad("dielectric", str(e))
         if kind == "resistor" and dielectric:
-            bad("dielectric", f'"{c["dielectric"]}": a resistor has no dielectric; leave it empty')
+            bad("dielectric", f'{quoted(c["dielectric"])}: a resistor has no dielectric; leave it empty')
         if kind and need("value"):
             try:
                 value = parse_value(c["value"], kind, OHM if kind == "resistor" else FARAD)
                 if not value > 0:
-                    bad("value", f'"{c["value"]}": expected a value above zero')
+                    bad("value", f'{quoted(c["value"])}: expected a value above zero')
                     value = None
             except UnparseableValue as e:
                 bad("value", str(e))
@@ -196,7 +196,7 @@ def validate_rows(raw_rows: Iterable) -> list[ImportRow]:
                     try:
                         tol = parse_tolerance(c["tolerance"], kind, value)
                         if not (0 <= tol[0] < 1 and tol[1] >= 0):
-                            bad("tolerance", f'"{c["tolerance"]}": expected less than 100 % below nominal')
+                            bad("tolerance", f'{quoted(c["tolerance"])}: expected less than 100 % below nominal')
                             tol = None
                     except UnparseableValue as e:
                         bad("tolerance", str(e))
@@ -207,7 +207,7 @@ def validate_rows(raw_rows: Iterable) -> list[ImportRow]:
             try:
                 rating = parse_rating(c["rating"], kind)
                 if not rating > 0:
-                    bad("rating", f'"{c["rating"]}": expected a rating above zero')
+                    bad("rating", f'{quoted(c["rating"])}: expected a rating above zero')
             except UnparseableValue as e:
                 bad("rating", str(e))
         quantity = None
