@@ -262,7 +262,8 @@ def plan_import(rows: Sequence[ImportRow], current: Sequence[StockLine], *, repl
         else:
             changes.append(LineChange(line, target, tuple(rownums)))
     if over:
-        raise TooManyParts(f"{'; '.join(over)}; at most {MAX_QUANTITY} parts fit on one stock line; "
+        more = f"; and {len(over) - 3} more line{'s' if len(over) > 4 else ''}" if len(over) > 3 else ""
+        raise TooManyParts(f"{'; '.join(over[:3])}{more}; at most {MAX_QUANTITY} parts fit on one stock line; "
                            "nothing was changed")
     changes.sort(key=lambda ch: ch.line.id)
     unchanged.sort(key=lambda ln: ln.id)
@@ -335,7 +336,9 @@ def import_stock(engine, path: str | Path, *, replace: bool = False, dry_run: bo
     from selector.store.db import load_stock, run_in_transaction
 
     rows = validate_rows(read_stock_file(path))
-    name = Path(path).name
+    from selector.core.cells import without_controls
+
+    name = without_controls(Path(path).name)  # the ledger reference: stored text has no control characters
 
     def unit(session) -> ImportPlan:
         plan = plan_import(rows, load_stock(session), replace=replace, source=name)

@@ -288,3 +288,19 @@ def test_every_csv_column_refuses_extreme_text(worked, tmp_path, kind, column, d
     out = invoke("stock", "import", str(p), db=worked)
     _assert_refused(out, worked, before)
     assert out.error_lines()[1].startswith(f"  row 2, column {column}: "), out.stderr
+
+
+def test_many_lines_over_the_limit_are_named_in_one_short_line(tmp_path):
+    db = tmp_path / "s.db"
+    rows = "".join(f"R,{v}k,600000000\nR,{v}k,600000000\n" for v in (1, 2, 3, 4, 5))
+    line = _one_line(_import_text(tmp_path, db, "kind,value,quantity\n" + rows), 1)
+    assert line.count("would hold") == 3 and "; and 2 more lines; at most 1000000000 parts" in line
+
+
+def test_a_file_name_with_control_characters_is_ledgered_without_them(tmp_path):
+    db = tmp_path / "s.db"
+    p = tmp_path / "drawer\x1b[2J.csv"
+    p.write_text("kind,value,quantity\nR,1k,5\n", encoding="utf-8")
+    assert invoke("stock", "import", str(p), db=db).code == 0
+    (entry,) = json.loads(invoke("ledger", "--json", db=db).stdout)
+    assert entry["reference"] == "drawer[2J.csv"
