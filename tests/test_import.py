@@ -419,6 +419,9 @@ _fractions = st.floats(min_value=0.0, max_value=0.95, allow_nan=False).map(svc.c
        rating=st.none() | st.floats(min_value=0.01, max_value=1000.0).map(svc.clean),
        dielectric=st.sampled_from(["", "C0G", "X7R", "film-PP", "electrolytic"]))
 def test_exported_cells_read_back_to_the_same_line(kind, mantissa, exponent, minus, plus, rating, dielectric):
+    # inside the documented part ranges (README "Accepted ranges"): 1 mΩ-1 TΩ, 1 fF-10000 F
+    exponent = exponent + 10 if kind == "resistor" and exponent < -3 else exponent
+    exponent = exponent - 10 if kind == "capacitor" and exponent > 3 else exponent
     value = svc.clean(mantissa * 10.0 ** exponent)
     if kind == "resistor":
         dielectric = ""

@@ -3,14 +3,14 @@ render. Heavy imports happen inside the commands so ``selector --help`` stays qu
 
 from __future__ import annotations
 
-import json
 from enum import Enum
 from pathlib import Path
 from typing import Optional
 
 import typer
 
-from selector.cli._common import db_arg, fail, handles_errors
+from selector.cli._common import db_arg, fail, handles_errors, json_text, whole
+from selector.core.limits import MAX_BOARDS, MAX_ID
 
 class Format(str, Enum):
     table = "table"
@@ -46,10 +46,10 @@ def _emit(text: str, output: Optional[Path], encoding: str = "utf-8") -> None:
 @handles_errors
 def bom_command(
     ctx: typer.Context,
-    option: int = typer.Argument(..., min=1, help="Option number of the search (1 = the first listed)."),
-    search: Optional[int] = typer.Option(None, "--search", min=1, help="Search id (default: the latest search)."),
+    option: int = typer.Argument(..., parser=whole("OPTION", 1, MAX_ID), metavar="OPTION", help="Option number of the search (1 = the first listed)."),
+    search: Optional[int] = typer.Option(None, "--search", parser=whole("--search", 1, MAX_ID), metavar="ID", help="Search id (default: the latest search)."),
     boards: Optional[int] = typer.Option(
-        None, "--boards", min=1, help="Number of boards to build (default: the count the search was run for)."
+        None, "--boards", parser=whole("--boards", 1, MAX_BOARDS), metavar="B", help="Number of boards to build (default: the count the search was run for)."
     ),
     fmt: Format = typer.Option(Format.table, "--format", help="Output form: table, csv, markdown or json."),
     output: Optional[Path] = typer.Option(
@@ -71,7 +71,7 @@ def bom_command(
         engine.dispose()
     fmt = Format(fmt).value
     if fmt == "json":
-        _emit(json.dumps(core_bom.to_json(report.bom), indent=2, ensure_ascii=False) + "\n", output)
+        _emit(json_text(core_bom.to_json(report.bom), indent=2, ensure_ascii=False) + "\n", output)
     elif fmt == "csv":
         # Spreadsheets detect UTF-8 (Ω, µ) by the byte-order mark; on the screen it would be noise.
         _emit(core_bom.to_csv(report.bom), output, encoding="utf-8-sig")
@@ -100,10 +100,10 @@ def _print_bom(console, report) -> None:
 @handles_errors
 def pull_command(
     ctx: typer.Context,
-    option: int = typer.Argument(..., min=1, help="Option number of the search."),
-    search: Optional[int] = typer.Option(None, "--search", min=1, help="Search id (default: the latest search)."),
+    option: int = typer.Argument(..., parser=whole("OPTION", 1, MAX_ID), metavar="OPTION", help="Option number of the search."),
+    search: Optional[int] = typer.Option(None, "--search", parser=whole("--search", 1, MAX_ID), metavar="ID", help="Search id (default: the latest search)."),
     boards: Optional[int] = typer.Option(
-        None, "--boards", min=1, help="Number of boards (default: the count the search was run for)."
+        None, "--boards", parser=whole("--boards", 1, MAX_BOARDS), metavar="B", help="Number of boards (default: the count the search was run for)."
     ),
     dry_run: bool = typer.Option(False, "--dry-run", help="Check the stock and show what would be taken; change nothing."),
     as_json: bool = typer.Option(False, "--json", help="Print {\"pull_id\", \"lines\": [{\"line_id\", \"taken\"}]}."),
@@ -121,7 +121,7 @@ def pull_command(
     finally:
         engine.dispose()
     if as_json:
-        typer.echo(json.dumps(result.to_json()))
+        typer.echo(json_text(result.to_json()))
         return
     from selector.render.bom import print_pull
 
@@ -131,9 +131,9 @@ def pull_command(
 @handles_errors
 def ledger_command(
     ctx: typer.Context,
-    limit: int = typer.Option(50, "--limit", "-n", min=1, help="Show at most this many movements."),
-    line: Optional[int] = typer.Option(None, "--line", min=1, help="Only movements of this stock line."),
-    pull: Optional[int] = typer.Option(None, "--pull", min=1, help="Only movements of this pull."),
+    limit: int = typer.Option(50, "--limit", "-n", parser=whole("--limit", 1, MAX_ID), metavar="N", help="Show at most this many movements."),
+    line: Optional[int] = typer.Option(None, "--line", parser=whole("--line", 1, MAX_ID), metavar="LINE_ID", help="Only movements of this stock line."),
+    pull: Optional[int] = typer.Option(None, "--pull", parser=whole("--pull", 1, MAX_ID), metavar="PULL_ID", help="Only movements of this pull."),
     as_json: bool = typer.Option(False, "--json", help="Print the movements as a JSON list."),
 ) -> None:
     """List stock movements (the ledger), newest first."""
@@ -145,7 +145,7 @@ def ledger_command(
     finally:
         engine.dispose()
     if as_json:
-        typer.echo(json.dumps([e.to_json() for e in entries], ensure_ascii=False))
+        typer.echo(json_text([e.to_json() for e in entries], ensure_ascii=False))
         return
     from selector.render.bom import ledger_table
 
@@ -159,7 +159,7 @@ def ledger_command(
 @handles_errors
 def undo_command(
     ctx: typer.Context,
-    pull_id: int = typer.Argument(..., min=1, help="The pull to undo (its id is shown by `pull` and `ledger`)."),
+    pull_id: int = typer.Argument(..., parser=whole("PULL_ID", 1, MAX_ID), metavar="PULL_ID", help="The pull to undo (its id is shown by `pull` and `ledger`)."),
     as_json: bool = typer.Option(False, "--json", help="Print {\"pull_id\", \"lines\": [{\"line_id\", \"restored\"}]}."),
 ) -> None:
     """Put back exactly what a pull took; a pull can be undone once."""
@@ -171,7 +171,7 @@ def undo_command(
     finally:
         engine.dispose()
     if as_json:
-        typer.echo(json.dumps(result.to_json()))
+        typer.echo(json_text(result.to_json()))
         return
     from selector.render.bom import print_undo
 

@@ -8,7 +8,8 @@ from typing import Optional
 
 import typer
 
-from selector.cli._common import db_arg, handles_errors
+from selector.cli._common import db_arg, handles_errors, json_text, whole
+from selector.core.limits import MAX_BOARDS, MAX_SAMPLES, MAX_SEED, MAX_TOP
 
 
 class ConnectionChoice(str, Enum):
@@ -49,7 +50,6 @@ def _fraction(text: str, option: str) -> float:
 
 
 def _run(ctx: typer.Context, as_json: bool, **fields) -> None:
-    import json
 
     from selector.core.notation import VOLT
     from selector.render.timing import LazyProgress, print_report
@@ -70,7 +70,7 @@ def _run(ctx: typer.Context, as_json: bool, **fields) -> None:
         progress.close()
         engine.dispose()
     if as_json:
-        typer.echo(json.dumps(report.json, indent=2))
+        typer.echo(json_text(report.json, indent=2))
     else:
         print_report(report)
 
@@ -102,13 +102,13 @@ def register(find_app: typer.Typer) -> None:
         chip: ChipChoice = typer.Option(ChipChoice.bipolar, "--chip", help=_COMMON_HELP["chip"]),
         vcc: str = typer.Option("9V", "--vcc", metavar="V", help=_COMMON_HELP["vcc"]),
         diode_vf: Optional[str] = typer.Option(None, "--diode-vf", metavar="V", help="Forward drop of the steering diode (default 0.65 V, small-signal silicon)."),
-        max_parts: int = typer.Option(2, "--max-parts", metavar="N", help=_COMMON_HELP["max_parts"]),
-        top: int = typer.Option(10, "--top", metavar="K", help=_COMMON_HELP["top"]),
-        boards: int = typer.Option(1, "--boards", metavar="B", help=_COMMON_HELP["boards"]),
+        max_parts: int = typer.Option(2, "--max-parts", parser=whole("--max-parts", 1, 3), metavar="N", help=_COMMON_HELP["max_parts"]),
+        top: int = typer.Option(10, "--top", parser=whole("--top", 1, MAX_TOP), metavar="K", help=_COMMON_HELP["top"]),
+        boards: int = typer.Option(1, "--boards", parser=whole("--boards", 1, MAX_BOARDS), metavar="B", help=_COMMON_HELP["boards"]),
         accept: str = typer.Option("5%", "--accept", metavar="PCT", help=_COMMON_HELP["accept"]),
         distribution: DistributionChoice = typer.Option(DistributionChoice.uniform, "--distribution", help=_COMMON_HELP["distribution"]),
-        seed: int = typer.Option(0, "--seed", help=_COMMON_HELP["seed"]),
-        samples: int = typer.Option(10_000, "--samples", metavar="N", help=_COMMON_HELP["samples"]),
+        seed: int = typer.Option(0, "--seed", parser=whole("--seed", 0, MAX_SEED), metavar="N", help=_COMMON_HELP["seed"]),
+        samples: int = typer.Option(10_000, "--samples", parser=whole("--samples", 1, MAX_SAMPLES), metavar="N", help=_COMMON_HELP["samples"]),
         as_json: bool = typer.Option(False, "--json", help=_COMMON_HELP["json"]),
     ) -> None:
         """Find RA, RB and C networks in stock for an astable (free-running) 555 at a frequency and duty."""
@@ -124,13 +124,13 @@ def register(find_app: typer.Typer) -> None:
         width: str = typer.Option(..., "--width", metavar="T", help="Pulse width, e.g. 150ms, 2.5s, 0.1."),
         chip: ChipChoice = typer.Option(ChipChoice.bipolar, "--chip", help=_COMMON_HELP["chip"]),
         vcc: str = typer.Option("9V", "--vcc", metavar="V", help=_COMMON_HELP["vcc"]),
-        max_parts: int = typer.Option(2, "--max-parts", metavar="N", help=_COMMON_HELP["max_parts"]),
-        top: int = typer.Option(10, "--top", metavar="K", help=_COMMON_HELP["top"]),
-        boards: int = typer.Option(1, "--boards", metavar="B", help=_COMMON_HELP["boards"]),
+        max_parts: int = typer.Option(2, "--max-parts", parser=whole("--max-parts", 1, 3), metavar="N", help=_COMMON_HELP["max_parts"]),
+        top: int = typer.Option(10, "--top", parser=whole("--top", 1, MAX_TOP), metavar="K", help=_COMMON_HELP["top"]),
+        boards: int = typer.Option(1, "--boards", parser=whole("--boards", 1, MAX_BOARDS), metavar="B", help=_COMMON_HELP["boards"]),
         accept: str = typer.Option("5%", "--accept", metavar="PCT", help=_COMMON_HELP["accept"]),
         distribution: DistributionChoice = typer.Option(DistributionChoice.uniform, "--distribution", help=_COMMON_HELP["distribution"]),
-        seed: int = typer.Option(0, "--seed", help=_COMMON_HELP["seed"]),
-        samples: int = typer.Option(10_000, "--samples", metavar="N", help=_COMMON_HELP["samples"]),
+        seed: int = typer.Option(0, "--seed", parser=whole("--seed", 0, MAX_SEED), metavar="N", help=_COMMON_HELP["seed"]),
+        samples: int = typer.Option(10_000, "--samples", parser=whole("--samples", 1, MAX_SAMPLES), metavar="N", help=_COMMON_HELP["samples"]),
         as_json: bool = typer.Option(False, "--json", help=_COMMON_HELP["json"]),
     ) -> None:
         """Find R and C networks in stock for a monostable (one-shot) 555 pulse width."""
@@ -145,13 +145,13 @@ def register(find_app: typer.Typer) -> None:
         tau: Optional[str] = typer.Option(None, "--tau", metavar="T", help="Time constant R·C, e.g. 10ms."),
         corner: Optional[str] = typer.Option(None, "--corner", metavar="F", help="Corner frequency 1/(2π·R·C), e.g. 1kHz."),
         vcc: str = typer.Option("9V", "--vcc", metavar="V", help="Working voltage across the parts (for their ratings)."),
-        max_parts: int = typer.Option(2, "--max-parts", metavar="N", help=_COMMON_HELP["max_parts"]),
-        top: int = typer.Option(10, "--top", metavar="K", help=_COMMON_HELP["top"]),
-        boards: int = typer.Option(1, "--boards", metavar="B", help=_COMMON_HELP["boards"]),
+        max_parts: int = typer.Option(2, "--max-parts", parser=whole("--max-parts", 1, 3), metavar="N", help=_COMMON_HELP["max_parts"]),
+        top: int = typer.Option(10, "--top", parser=whole("--top", 1, MAX_TOP), metavar="K", help=_COMMON_HELP["top"]),
+        boards: int = typer.Option(1, "--boards", parser=whole("--boards", 1, MAX_BOARDS), metavar="B", help=_COMMON_HELP["boards"]),
         accept: str = typer.Option("5%", "--accept", metavar="PCT", help=_COMMON_HELP["accept"]),
         distribution: DistributionChoice = typer.Option(DistributionChoice.uniform, "--distribution", help=_COMMON_HELP["distribution"]),
-        seed: int = typer.Option(0, "--seed", help=_COMMON_HELP["seed"]),
-        samples: int = typer.Option(10_000, "--samples", metavar="N", help=_COMMON_HELP["samples"]),
+        seed: int = typer.Option(0, "--seed", parser=whole("--seed", 0, MAX_SEED), metavar="N", help=_COMMON_HELP["seed"]),
+        samples: int = typer.Option(10_000, "--samples", parser=whole("--samples", 1, MAX_SAMPLES), metavar="N", help=_COMMON_HELP["samples"]),
         as_json: bool = typer.Option(False, "--json", help=_COMMON_HELP["json"]),
     ) -> None:
         """Find R and C networks in stock for an RC time constant or corner frequency (give one)."""

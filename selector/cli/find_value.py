@@ -8,7 +8,8 @@ from typing import Optional
 
 import typer
 
-from selector.cli._common import db_arg, handles_errors
+from selector.cli._common import db_arg, handles_errors, json_text, whole
+from selector.core.limits import MAX_BOARDS, MAX_TOP
 
 
 class KindChoice(str, Enum):
@@ -41,9 +42,9 @@ def register(find_app: typer.Typer) -> None:
         ctx: typer.Context,
         value: str = typer.Argument(..., metavar="VALUE", help="The value you need, e.g. 5k1, 3.3k, 4k7, 150nF, 2u2, 33p."),
         kind: Optional[KindChoice] = typer.Option(None, "--kind", help="resistor or capacitor (default: from the unit; a bare number or 47k is a resistor)."),
-        max_parts: int = typer.Option(2, "--max-parts", min=1, max=3, help="Largest network: 1 (single parts), 2 or 3 parts in series/parallel."),
-        top: int = typer.Option(10, "--top", min=1, max=1000, help="How many options to show."),
-        boards: int = typer.Option(1, "--boards", min=1, help="Boards to build: every part is needed this many times."),
+        max_parts: int = typer.Option(2, "--max-parts", parser=whole("--max-parts", 1, 3), metavar="N", help="Largest network: 1 (single parts), 2 or 3 parts in series/parallel."),
+        top: int = typer.Option(10, "--top", parser=whole("--top", 1, MAX_TOP), metavar="K", help="How many options to show."),
+        boards: int = typer.Option(1, "--boards", parser=whole("--boards", 1, MAX_BOARDS), metavar="B", help="Boards to build: every part is needed this many times."),
         allow_polarized_series: bool = typer.Option(False, "--allow-polarized-series", help="Also offer networks with polarized capacitors in series (shown with a caution)."),
         as_json: bool = typer.Option(False, "--json", help='Print only JSON: {"target", "options": [{"rank", "value", "error", "min", "max", "shape", "parts"}]}.'),
     ) -> None:
@@ -54,8 +55,6 @@ def register(find_app: typer.Typer) -> None:
         lists the parts of option 1. Shapes in --json: single, series, parallel, series3,
         parallel3, series+parallel = (B ∥ C) + A, parallel+series = (B + C) ∥ A.
         """
-        import json
-
         from selector.services.find_value import ValueRequest, find_value
         from selector.store.db import open_engine, resolve_url
 
@@ -69,7 +68,7 @@ def register(find_app: typer.Typer) -> None:
         finally:
             engine.dispose()
         if as_json:
-            typer.echo(json.dumps(report.to_json(), indent=2, ensure_ascii=False))
+            typer.echo(json_text(report.to_json(), indent=2, ensure_ascii=False))
             return
         from rich.console import Console
 

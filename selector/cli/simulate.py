@@ -4,19 +4,35 @@ Heavy imports happen inside the commands so ``selector --help`` stays quick."""
 
 from __future__ import annotations
 
-import json
 from pathlib import Path
 from typing import Optional
 
 import typer
 
-from selector.cli._common import db_arg, fail, handles_errors
+from selector.cli._common import db_arg, fail, handles_errors, json_text, whole
+from selector.core.limits import MAX_ID
 
 
 def _engine(ctx: typer.Context):
     from selector.store.db import open_engine, resolve_url
 
     return open_engine(resolve_url(db_arg(ctx)))
+
+
+def _ohms(text: Optional[str]) -> Optional[float]:
+    """--discharge-ohms read like any resistance (12, 12R, 0.5k), above zero."""
+    if text is None:
+        return None
+    from selector.core.errors import UnparseableValue
+    from selector.core.notation import OHM, parse_value
+
+    try:
+        value = parse_value(text, "resistor", OHM)
+    except UnparseableValue as e:
+        raise UnparseableValue(f"--discharge-ohms: {e}") from None
+    if not value > 0:
+        raise UnparseableValue(f'--discharge-ohms: "{text}" must be above zero')
+    return value
 
 
 _OPTION_HELP = "Option number of the search (1 = the first listed)."
@@ -29,12 +45,12 @@ _RD_HELP = ("On-resistance of the 555's discharge switch in ohms (default 1, nea
 @handles_errors
 def netlist_command(
     ctx: typer.Context,
-    option: int = typer.Argument(..., min=1, help=_OPTION_HELP),
-    search: Optional[int] = typer.Option(None, "--search", min=1, help=_SEARCH_HELP),
+    option: int = typer.Argument(..., parser=whole("OPTION", 1, MAX_ID), metavar="OPTION", help=_OPTION_HELP),
+    search: Optional[int] = typer.Option(None, "--search", parser=whole("--search", 1, MAX_ID), metavar="ID", help=_SEARCH_HELP),
     output: Optional[Path] = typer.Option(None, "--output", "-o", dir_okay=False,
                                           help="Write the netlist to this file instead of the screen."),
-    cycles: int = typer.Option(5, "--cycles", min=1, max=200, help=_CYCLES_HELP),
-    discharge_ohms: Optional[float] = typer.Option(None, "--discharge-ohms", min=0.001, help=_RD_HELP),
+    cycles: int = typer.Option(5, "--cycles", parser=whole("--cycles", 1, 200), metavar="N", help=_CYCLES_HELP),
+    discharge_ohms: Optional[str] = typer.Option(None, "--discharge-ohms", metavar="OHMS", help=_RD_HELP),
 ) -> None:
     """Write a SPICE netlist of one saved option (run it with `ngspice -b FILE`).
 
@@ -43,9 +59,10 @@ def netlist_command(
     """
     from selector.services.simulate import option_netlist
 
+    rd = _ohms(discharge_ohms)
     engine = _engine(ctx)
     try:
-        text = option_netlist(engine, option, search, cycles=cycles, discharge_ohms=discharge_ohms)
+        text = option_netlist(engine, option, search, cycles=cycles, discharge_ohms=rd)
     finally:
         engine.dispose()
     if output is None:
@@ -61,12 +78,12 @@ def netlist_command(
 @handles_errors
 def simulate_command(
     ctx: typer.Context,
-    option: int = typer.Argument(..., min=1, help=_OPTION_HELP),
-    search: Optional[int] = typer.Option(None, "--search", min=1, help=_SEARCH_HELP),
-    cycles: int = typer.Option(5, "--cycles", min=1, max=200, help=_CYCLES_HELP),
+    option: int = typer.Argument(..., parser=whole("OPTION", 1, MAX_ID), metavar="OPTION", help=_OPTION_HELP),
+    search: Optional[int] = typer.Option(None, "--search", parser=whole("--search", 1, MAX_ID), metavar="ID", help=_SEARCH_HELP),
+    cycles: int = typer.Option(5, "--cycles", parser=whole("--cycles", 1, 200), metavar="N", help=_CYCLES_HELP),
     corners: bool = typer.Option(False, "--corners", help="Also simulate the worst-case tolerance corners."),
     as_json: bool = typer.Option(False, "--json", help="Print JSON: predicted, simulated, difference (and corners)."),
-    discharge_ohms: Optional[float] = typer.Option(None, "--discharge-ohms", min=0.001, help=_RD_HELP),
+    discharge_ohms: Optional[str] = typer.Option(None, "--discharge-ohms", metavar="OHMS", help=_RD_HELP),
     plot: Optional[Path] = typer.Option(None, "--plot", dir_okay=False,
                                         help="Also write an SVG plot of the capacitor and output voltages."),
 ) -> None:
@@ -76,10 +93,11 @@ def simulate_command(
     """
     from selector.services.simulate import simulate_option
 
+    rd = _ohms(discharge_ohms)
     engine = _engine(ctx)
     try:
         report = simulate_option(engine, option, search, cycles=cycles, corners=corners,
-                                 discharge_ohms=discharge_ohms, waveform=plot is not None)
+                                 discharge_ohms=rd, waveform=plot is not None)
     finally:
         engine.dispose()
     if plot is not None:
@@ -92,7 +110,7 @@ def simulate_command(
             fail(f"cannot write {plot}: {err.strerror or err}")
         typer.echo(f"Wrote {plot}", err=True)
     if as_json:
-        typer.echo(json.dumps(report.to_json(), indent=2))
+        typer.echo(json_text(report.to_json(), indent=2))
         return
     from rich.console import Console
 

@@ -3,15 +3,14 @@ service in selector/services/stock.py, render with selector/render/stock.py."""
 
 from __future__ import annotations
 
-import json
-import re
 from enum import Enum
 from pathlib import Path
 from typing import Optional
 
 import typer
 
-from selector.cli._common import db_arg, fail, handles_errors
+from selector.cli._common import db_arg, fail, handles_errors, json_text, read_whole, whole
+from selector.core.limits import MAX_ID, MAX_QUANTITY
 
 stock_app = typer.Typer(
     help="The parts on hand: import a spreadsheet, list, export, adjust counts, add E-series kits.",
@@ -96,7 +95,7 @@ def list_command(
     finally:
         engine.dispose()
     if as_json:
-        typer.echo(json.dumps(stock_json(lines), indent=2, ensure_ascii=False))
+        typer.echo(json_text(stock_json(lines), indent=2, ensure_ascii=False))
     else:
         print_stock(_console(), lines)
 
@@ -121,21 +120,11 @@ def export_command(
     typer.echo(f"Wrote {n} stock line{'s' if n != 1 else ''} to {file}", err=True)
 
 
-_SIGNED = re.compile(r"[+-]?\d+")
-
-
-def _int_arg(text: str, name: str) -> int:
-    t = text.strip()
-    if not _SIGNED.fullmatch(t):
-        fail(f'{name} "{text}": expected a whole number such as 5, +5 or -3', code=2)
-    return int(t)
-
-
 @stock_app.command("adjust", context_settings={"ignore_unknown_options": True})
 @handles_errors
 def adjust_command(
     ctx: typer.Context,
-    line_id: int = typer.Argument(..., metavar="LINE_ID", min=1, help="Stock line id (see `stock list`)."),
+    line_id: int = typer.Argument(..., metavar="LINE_ID", parser=whole("LINE_ID", 1, MAX_ID), help="Stock line id (see `stock list`)."),
     delta: str = typer.Argument(..., metavar="DELTA", help="Signed change, e.g. 10 or -3."),
     reference: str = typer.Option("", "--reference", help="Why, for the ledger (e.g. 'counted drawer')."),
 ) -> None:
@@ -143,7 +132,7 @@ def adjust_command(
     from selector.render.stock import print_change
     from selector.services.stock import adjust_line
 
-    d = _int_arg(delta, "DELTA")
+    d = read_whole(delta, "DELTA", -MAX_QUANTITY, MAX_QUANTITY)
     engine = _engine(ctx)
     try:
         before, after = adjust_line(engine, line_id, d, reference)
@@ -156,8 +145,8 @@ def adjust_command(
 @handles_errors
 def set_command(
     ctx: typer.Context,
-    line_id: int = typer.Argument(..., metavar="LINE_ID", min=1, help="Stock line id (see `stock list`)."),
-    quantity: int = typer.Argument(..., metavar="QTY", min=0, help="The counted quantity."),
+    line_id: int = typer.Argument(..., metavar="LINE_ID", parser=whole("LINE_ID", 1, MAX_ID), help="Stock line id (see `stock list`)."),
+    quantity: int = typer.Argument(..., metavar="QTY", parser=whole("QTY", 0, MAX_QUANTITY), help="The counted quantity."),
     reference: str = typer.Option("", "--reference", help="Why, for the ledger (e.g. 'stocktake')."),
 ) -> None:
     """Set a line's quantity after counting it; the difference goes into the ledger."""
@@ -180,7 +169,7 @@ def kit_command(
     kind: KindChoice = typer.Option(..., "--kind", help="resistor or capacitor."),
     low: str = typer.Option(..., "--from", metavar="VALUE", help="Lowest value, e.g. 10 or 1n."),
     high: str = typer.Option(..., "--to", metavar="VALUE", help="Highest value, e.g. 1M or 1u."),
-    qty: int = typer.Option(..., "--qty", min=0, help="Parts of each value."),
+    qty: int = typer.Option(..., "--qty", parser=whole("--qty", 0, MAX_QUANTITY), metavar="N", help="Parts of each value."),
     location: str = typer.Option(..., "--location", help="Where the kit is kept."),
     tolerance: Optional[str] = typer.Option(None, "--tolerance", help="e.g. 1%, J, ±5 % (default: the series' own for resistors, the dielectric's for capacitors)."),
     dielectric: str = typer.Option("", "--dielectric", help="Capacitors: C0G, X7R, film-PP, electrolytic, ..."),

@@ -11,17 +11,7 @@ from typing import TYPE_CHECKING, Any, Optional, Sequence
 if TYPE_CHECKING:  # only for annotations: selector.core.bom imports this module at its end
     from selector.core.bom import Bom, BomLine, PickStop
 
-#: A spreadsheet treats a cell starting with one of these as a formula (or strips it into one).
-_FORMULA_START = ("=", "+", "-", "@", "\t", "\r", "\n")
-
-
-def neutralize_cell(text: str) -> str:
-    """Make a text cell safe to open in a spreadsheet: a cell that begins with =, +, -, @, a tab,
-    CR or LF is prefixed with a single quote so it is shown as text, never evaluated. Numbers this
-    module writes are positive and never pass through here."""
-    if text and text.startswith(_FORMULA_START):
-        return "'" + text
-    return text
+from selector.core.cells import neutralize_cell, without_controls  # noqa: E402,F401  (shared with the stock export)
 
 
 def _unit(kind: str) -> str:
@@ -97,7 +87,7 @@ def to_csv(bom: Bom) -> str:
 def md_cell(text: str) -> str:
     """A Markdown table cell: every line boundary (``str.splitlines``: LF, CR, FF, VT, U+2028 …)
     becomes one space, outer blanks are trimmed, backslashes and pipes are escaped."""
-    text = " ".join(text.splitlines()).strip()
+    text = without_controls(" ".join(text.splitlines()).strip())
     return text.replace("\\", "\\\\").replace("|", "\\|")
 
 

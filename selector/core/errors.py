@@ -32,6 +32,10 @@ class InsufficientStock(SelectorError):
     """A pull or adjustment would take more parts than a stock line holds."""
 
 
+class TooManyParts(SelectorError):
+    """A merge, adjustment or undo would leave a stock line above the documented quantity limit."""
+
+
 class NothingFeasible(SelectorError):
     """A search found no option inside the limits; the message says which limit excluded what."""
 

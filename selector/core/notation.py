@@ -28,7 +28,7 @@ from __future__ import annotations
 import math
 import re
 from dataclasses import dataclass
-from decimal import Decimal, InvalidOperation
+from decimal import Decimal
 
 from selector.core.errors import UnparseableValue
 
@@ -77,9 +77,28 @@ _RKM_LETTER = {
     "p": (-12, FARAD), "n": (-9, FARAD), "u": (-6, FARAD), "m": (-3, FARAD), "F": (0, FARAD),
 }
 
-_NUMBER = r"[+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?"
+# Digits are ASCII only: a regex "\d" also matches the digits of other scripts ("٣", "３"),
+# which a spreadsheet shows but which nobody types as a part value; they are refused.
+_NUMBER = r"[+-]?(?:[0-9]+(?:\.[0-9]*)?|\.[0-9]+)(?:[eE][+-]?[0-9]+)?"
 _NUMBER_RE = re.compile(rf"({_NUMBER})\s*(.*)", re.S)
-_RKM_RE = re.compile(r"(\d*)([LRKkMGpnumF])(\d+)(.*)", re.S)
+_RKM_RE = re.compile(r"([0-9]*)([LRKkMGpnumF])([0-9]+)(.*)", re.S)
+
+
+QUOTE_LIMIT = 40
+
+
+_CONTROL_RE = re.compile(r"[\x00-\x1f\x7f-\x9f]")
+
+
+def quoted(text: str) -> str:
+    """User text in double quotes for a one-line message; text longer than QUOTE_LIMIT characters
+    is cut (a 5000-digit cell is named by its start and its length, not printed whole), and a
+    control character is shown as its escape (\\x1b), so the message stays one printable line."""
+    text = str(text)
+    if len(text) > QUOTE_LIMIT:
+        head = _CONTROL_RE.sub(lambda m: f"\\x{ord(m.group()):02x}", text[:QUOTE_LIMIT - 8])
+        return f'"{head}…" ({len(text)} characters)'
+    return '"' + _CONTROL_RE.sub(lambda m: f"\\x{ord(m.group()):02x}", text) + '"'
 
 
 class _Refused(Exception):
@@ -194,12 +213,12 @@ def _fail(
     article = "an" if what[0] in "aeiou" else "a"
     expected = f"expected e.g. {examples or _EXAMPLES[q]}"
     tail = f"{reason}; {expected}" if reason else expected
-    return UnparseableValue(f'cannot read "{text}" as {article} {what}: {tail}')
+    return UnparseableValue(f'cannot read {quoted(text)} as {article} {what}: {tail}')
 
 
 def _capacitor_bare(reading: _Reading, raw: str) -> Decimal:
     """The bare-number rules for a capacitor (see module docstring and README)."""
-    if re.fullmatch(r"\d{3}", raw):
+    if re.fullmatch(r"[0-9]{3}", raw):
         # Two significant digits then a multiplier digit, in pF (facts.md 8.3 [S11]); 8 and 9
         # mean x0.01 and x0.1 (the trade's rule, from memory); 7 is used on tantalum parts
         # (107 = 100 µF, from memory).
@@ -208,7 +227,7 @@ def _capacitor_bare(reading: _Reading, raw: str) -> Decimal:
         digits, multiplier = int(raw[:2]), int(raw[2])
         scale = {8: Decimal("0.01"), 9: Decimal("0.1")}.get(multiplier, Decimal(10) ** multiplier)
         return Decimal(digits) * scale * Decimal("1e-12")
-    if re.fullmatch(r"\d{2}", raw):
+    if re.fullmatch(r"[0-9]{2}", raw):
         return Decimal(raw) * Decimal("1e-12")
     if "e" in raw.lower():
         return reading.number
@@ -231,8 +250,9 @@ def _parse(
         reading = _scan(raw)
     except _Refused as exc:
         raise _fail(text, q, str(exc), what, examples) from None
-    except (ValueError, InvalidOperation):
+    except (ValueError, ArithmeticError):  # decimal.InvalidOperation is an ArithmeticError
         raise _fail(text, q, None, what, examples) from None
+    exact: Decimal | None = None
     try:
         if reading.number < 0:
             raise _Refused("it is negative")
@@ -245,8 +265,8 @@ def _parse(
             if reading.prefix == "R" and target == FARAD:
                 # Below 10 pF capacitors are marked with R as the decimal point in pF: 4R7 =
                 # 4.7 pF (facts.md 8.3, from memory).
-                return float(reading.number * Decimal("1e-12"))
-            if reading.prefix == "m":
+                exact = reading.number * Decimal("1e-12")
+            elif reading.prefix == "m":
                 pass  # milli is milli for either quantity
             elif target is not None and reading.letter_unit != target:
                 letter = reading.prefix
@@ -262,15 +282,47 @@ def _parse(
                     raise _Refused('"M" is ambiguous for a capacitance; write u, µ or m')
                 raise _Refused(f'the prefix "{reading.prefix}" belongs to a resistance')
         elif kind == "capacitor" and q == FARAD:
-            return float(_capacitor_bare(reading, raw))
-        value = float(reading.value)
+            exact = _capacitor_bare(reading, raw)
+        if exact is None:
+            exact = reading.value
     except _Refused as exc:
         raise _fail(text, q, str(exc), what, examples) from None
-    if not math.isfinite(value):
-        raise _fail(text, q, "it is too large", what, examples)
-    if value == 0 and reading.number != 0:
-        raise _fail(text, q, "it is too small", what, examples)
-    return value + 0.0  # -0 -> 0
+    except ArithmeticError:  # decimal.Overflow: an exponent far beyond any part ("1e999999k")
+        exact = Decimal("Infinity")
+    return _in_range(float(exact), reading.number != 0, reading.unit or q, text, q, what, examples)
+
+
+# The range every quantity read must lie in (README "Accepted ranges"). Part values get ranges
+# wide enough for any resistor or capacitor a shop stocks; every other quantity gets 1e-15 to 1e12
+# of its unit (f to T). Both keep the products, sums and reciprocals the searches form far from
+# float overflow and underflow (1e308 ohms made every later search warn). Zero passes (callers
+# that need a positive value say so in their own words); anything else outside is refused.
+_GENERAL = (1e-15, 1e12, "1e-15 to 1e12")
+RANGES: dict[str | None, tuple[float, float, str]] = {
+    OHM: (1e-3, 1e12, "1 mΩ to 1 TΩ (1e-3 to 1e12 Ω)"),
+    FARAD: (1e-15, 1e4, "1 fF to 10000 F (1e-15 to 1e4 F)"),
+    SECOND: (*_GENERAL[:2], "1e-15 to 1e12 s"),
+    HERTZ: (*_GENERAL[:2], "1e-15 to 1e12 Hz"),
+    VOLT: (*_GENERAL[:2], "1e-15 to 1e12 V"),
+    WATT: (*_GENERAL[:2], "1e-15 to 1e12 W"),
+    None: _GENERAL,
+}
+
+
+def _in_range(
+    value: float, nonzero: bool, unit: str | None, text: str, q: str | None,
+    what: str | None, examples: str | None,
+) -> float:
+    """`value` (-0 -> 0) if it is zero (and written as zero) or inside RANGES[unit]; else the one
+    line that names the text, the quantity and the accepted range."""
+    low, high, span = RANGES[unit if unit in RANGES else None]
+    if value == 0 and not nonzero:
+        return 0.0
+    if not (low <= value <= high):  # also NaN and ±inf
+        noun = what or _QUANTITY[unit if unit in _QUANTITY else q]
+        article = "an" if noun[0] in "aeiou" else "a"
+        raise UnparseableValue(f'{quoted(text)} is out of range for {article} {noun}: expected {span}')
+    return value + 0.0
 
 
 def parse_value(text: str, kind: str | None = None, unit: str | None = None) -> float:
@@ -287,7 +339,7 @@ def infer_kind(text: str) -> str | None:
     None for a bare number, a milli-only form, another unit, or text that cannot be read."""
     try:
         reading = _scan(_normalise(text))
-    except (_Refused, ValueError, InvalidOperation):
+    except (_Refused, ValueError, ArithmeticError):
         return None
     written = reading.unit or reading.letter_unit
     if reading.form == "rkm" and reading.prefix == "m" and reading.unit is None:
@@ -316,7 +368,7 @@ def parse_marked_value(text: str, kind: str) -> tuple[float, tuple[float, float]
         try:
             return value, parse_tolerance(body[-1], kind, value)
         except UnparseableValue as exc:  # quote the whole marking, not just its letter
-            raise UnparseableValue(str(exc).replace(f'"{body[-1]}"', f'"{text}"', 1)) from None
+            raise UnparseableValue(str(exc).replace(f'"{body[-1]}"', quoted(text), 1)) from None
 
 
 # --- tolerances -----------------------------------------------------------------------------
@@ -340,7 +392,7 @@ _TOL_AMBIGUOUS = {
     "A": "+20/-10 % or ±0.05 pF",
 }
 _TOL_EXAMPLES = "5%, ±5 %, 0.05, J, -20/+80%"
-_TOL_NUMBER = r"(?:\d+(?:\.\d*)?|\.\d+)"
+_TOL_NUMBER = r"(?:[0-9]+(?:\.[0-9]*)?|\.[0-9]+)"
 _TOL_SYM_RE = re.compile(rf"±?({_TOL_NUMBER})(%?)")
 _TOL_ASYM_RE = re.compile(rf"([+-])({_TOL_NUMBER})(%?)[/,;]?([+-])({_TOL_NUMBER})(%?)")
 _TOL_PF_RE = re.compile(rf"±?({_TOL_NUMBER})(pF|pf|p)")
@@ -350,7 +402,7 @@ def _tol_fail(text: str, kind: str | None, reason: str) -> UnparseableValue:
     what = {"resistor": "a resistor tolerance", "capacitor": "a capacitor tolerance"}.get(
         kind or "", "a tolerance"
     )
-    return UnparseableValue(f'cannot read "{text}" as {what}: {reason}; expected e.g. {_TOL_EXAMPLES}')
+    return UnparseableValue(f'cannot read {quoted(text)} as {what}: {reason}; expected e.g. {_TOL_EXAMPLES}')
 
 
 def _tol_result(text: str, kind: str | None, minus: Decimal, plus: Decimal) -> tuple[float, float]:
@@ -459,17 +511,17 @@ def parse_fraction(text: str) -> float:
     m = _FRACTION_RE.fullmatch(s)
     examples = "65%, 0.65"
     if not m:
-        raise UnparseableValue(f'cannot read "{text}" as a fraction: expected e.g. {examples}')
+        raise UnparseableValue(f'cannot read {quoted(text)} as a fraction: expected e.g. {examples}')
     number = Decimal(m.group(1))
     if m.group(2):
         number = number / 100
     elif number >= 1:
         raise UnparseableValue(
-            f'cannot read "{text}" as a fraction: a bare number must be below 1; write '
-            f'"{m.group(1)}%" for percent, or e.g. 0.65'
+            f'cannot read {quoted(text)} as a fraction: a bare number must be below 1; write '
+            f'{quoted(m.group(1) + "%")} for percent, or e.g. 0.65'
         )
     if number > 1:
-        raise UnparseableValue(f'cannot read "{text}" as a fraction: it is above 100 %; expected e.g. {examples}')
+        raise UnparseableValue(f'cannot read {quoted(text)} as a fraction: it is above 100 %; expected e.g. {examples}')
     return float(number)
 
 
@@ -486,17 +538,19 @@ def parse_rating(text: str, kind: str) -> float:
     rating: float | None = None
     if kind == "resistor":
         what, q, examples = "resistor power rating", WATT, _WATT_EXAMPLES
-        m = re.fullmatch(r"(\d+)/(\d+)([Ww]?)", s)
+        m = re.fullmatch(r"([0-9]+)/([0-9]+)([Ww]?)", s)
         if m:  # 1/4W: the way through-hole power classes are written
-            if int(m.group(2)) == 0:
+            if Decimal(m.group(2)) == 0:
                 raise _fail(text, q, "division by zero", what, examples)
             rating = float(Decimal(m.group(1)) / Decimal(m.group(2)))
+            rating = _in_range(rating, Decimal(m.group(1)) != 0, q, text, q, what, examples)
     elif kind == "capacitor":
         what, q, examples = "capacitor voltage rating", VOLT, _VOLT_EXAMPLES
-        m = re.fullmatch(r"(\d+)[Vv](\d+)", s)
+        m = re.fullmatch(r"([0-9]+)[Vv]([0-9]+)", s)
         if m:  # 6V3: the letter V as the decimal point, as printed on electrolytics
-            rating = float(Decimal(f"{m.group(1)}.{m.group(2)}"))
-        elif re.search(r"(?i)\d[kmu]?v?ac$", s):
+            number = Decimal(f"{m.group(1)}.{m.group(2)}")
+            rating = _in_range(float(number), number != 0, q, text, q, what, examples)
+        elif re.search(r"(?i)[0-9][kmu]?v?ac$", s):
             raise _fail(text, q, "an AC rating is not a DC working voltage", what, examples)
         s = re.sub(r"(?i)(?<=v)dc$", "", s)
         s = re.sub(r"(?i)wv$", "V", s)

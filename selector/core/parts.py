@@ -45,12 +45,14 @@ RESISTOR_POWER_DERATING = 0.5
 def normalize_dielectric(text: str) -> str:
     """The canonical dielectric name for ``text`` (case, spaces and dashes ignored); "" for none.
     Raises UnparseableValue listing the accepted names for anything else."""
+    from selector.core.notation import quoted
+
     key = (text or "").strip().lower().replace(" ", "").replace("-", "").replace("_", "")
     try:
         return _ALIASES[key]
     except KeyError:
         raise UnparseableValue(
-            f'unknown dielectric "{text.strip()}": expected one of {", ".join(DIELECTRICS)} '
+            f'unknown dielectric {quoted(text.strip())}: expected one of {", ".join(DIELECTRICS)} '
             "(also NP0, MKP/PP, MKT/PET/polyester, elko/alu, tant) or empty"
         ) from None
 

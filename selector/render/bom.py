@@ -10,11 +10,13 @@ from rich.table import Table
 from rich.text import Text
 
 from selector.core import bom as core_bom
+from selector.render.safe import cell, printable
 
 
 def _cells(*values) -> list[Text]:
-    """Table cells as plain Text, so a bracket in a location or note is never read as markup."""
-    return [v if isinstance(v, Text) else Text(str(v)) for v in values]
+    """Table cells as plain, printable Text (render/safe.py): a bracket in a location or note is
+    never read as markup, a control character never reaches the terminal."""
+    return [cell(v) for v in values]
 
 
 def _unit(kind: str) -> str:
@@ -94,7 +96,7 @@ def print_bom(console: Console, report) -> None:
         console.print("Not in stock (obtain before building):", highlight=False, markup=False)
         for bl in missing:
             what = bl.description if bl.value is None else _value(bl.kind, bl.value)
-            console.print(f"  {bl.ref} {bl.role}: {what} x{bl.total}" + (f" ({bl.note})" if bl.note else ""),
+            console.print(printable(f"  {bl.ref} {bl.role}: {what} x{bl.total}" + (f" ({bl.note})" if bl.note else "")),
                           highlight=False, markup=False)
     for s in report.shortages:
         console.print(f"Short: stock line {s.line_id} holds {s.on_hand}, the BOM needs {s.needed} "

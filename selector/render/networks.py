@@ -93,10 +93,12 @@ def value_table(kind: str, target: float, options: Sequence["Network"],
             pick += "; or " + "; or ".join(pick_text(a) for a in alts[:2])
             if len(alts) > 2:
                 pick += f" (+{len(alts) - 2} more)"
-        table.add_row(str(rank), network_text(net), value_text(kind, net.value),
-                      percent_text(net.value / target - 1.0),
-                      f"{value_text(kind, net.vmin)} … {value_text(kind, net.vmax)}",
-                      str(net.nparts), pick)
+        from selector.render.safe import cell
+
+        table.add_row(*map(cell, (rank, network_text(net), value_text(kind, net.value),
+                                  percent_text(net.value / target - 1.0),
+                                  f"{value_text(kind, net.vmin)} … {value_text(kind, net.vmax)}",
+                                  net.nparts, pick)))
     return table
 
 

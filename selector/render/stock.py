@@ -8,6 +8,7 @@ from rich.console import Console
 from rich.table import Table
 
 from selector.core.types import StockLine
+from selector.render.safe import cell, printable
 
 POLARITY_CAUTION = (
     "Caution: electrolytic and tantalum capacitors are polarised; fit them the right way round and "
@@ -50,9 +51,10 @@ def stock_table(lines: Sequence[StockLine], title: str | None = None) -> Table:
                           ("dielectric", "left"), ("note", "left")):
         table.add_column(name, justify=justify, overflow="fold")
     for ln in lines:
-        table.add_row(str(ln.id), ln.kind, value_text(ln.kind, ln.value), tolerance_text(ln.tol_minus, ln.tol_plus),
-                      str(ln.quantity), ln.location, ln.package, rating_text(ln.kind, ln.rating),
-                      ln.dielectric + (" (polarised)" if ln.polarized else ""), ln.note)
+        table.add_row(*map(cell, (
+            ln.id, ln.kind, value_text(ln.kind, ln.value), tolerance_text(ln.tol_minus, ln.tol_plus),
+            ln.quantity, ln.location, ln.package, rating_text(ln.kind, ln.rating),
+            ln.dielectric + (" (polarised)" if ln.polarized else ""), ln.note)))
     return table
 
 
@@ -89,18 +91,18 @@ def plan_table(plan, limit: int = PLAN_ROWS_SHOWN) -> Table:
             break
         shown += 1
         s = n.spec
-        table.add_row("new", "", *_spec_cells(s.kind, s.value, s.tol_minus, s.tol_plus, s.location, s.package,
-                                             s.rating, s.dielectric),
-                      str(n.quantity), f"+{n.quantity}", _rows(n.rows))
+        table.add_row(*map(cell, ("new", "", *_spec_cells(s.kind, s.value, s.tol_minus, s.tol_plus, s.location,
+                                                          s.package, s.rating, s.dielectric),
+                                  n.quantity, f"+{n.quantity}", _rows(n.rows))))
     for ch in plan.changes:
         if shown == limit:
             break
         shown += 1
         ln = ch.line
-        table.add_row("set" if plan.replace else "add", str(ln.id),
-                      *_spec_cells(ln.kind, ln.value, ln.tol_minus, ln.tol_plus, ln.location, ln.package, ln.rating,
-                                   ln.dielectric),
-                      f"{ln.quantity} → {ch.new_quantity}", f"{ch.delta:+d}", _rows(ch.rows))
+        table.add_row(*map(cell, ("set" if plan.replace else "add", ln.id,
+                                  *_spec_cells(ln.kind, ln.value, ln.tol_minus, ln.tol_plus, ln.location, ln.package,
+                                               ln.rating, ln.dielectric),
+                                  f"{ln.quantity} → {ch.new_quantity}", f"{ch.delta:+d}", _rows(ch.rows))))
     return table
 
 
@@ -130,8 +132,8 @@ def print_change(console: Console, before: StockLine, after: StockLine) -> None:
     """One line: which stock line changed and how."""
     delta = after.quantity - before.quantity
     where = f" in {after.location}" if after.location else ""
-    console.print(
+    console.print(printable(
         f"Stock line {after.id} ({after.kind} {value_text(after.kind, after.value)}"
         f" {tolerance_text(after.tol_minus, after.tol_plus)}{where}): {before.quantity} → {after.quantity}"
         f" ({delta:+d})"
-    )
+    ), markup=False, highlight=False)

@@ -12,6 +12,8 @@ if TYPE_CHECKING:  # rich is imported where it draws, so `find ... --json` never
     from rich.console import Console
     from rich.table import Table
 
+from selector.render.safe import cell
+
 _SHAPE_JOINT = {"series": " + ", "parallel": " ∥ ", "series3": " + ", "parallel3": " ∥ "}
 
 
@@ -149,7 +151,7 @@ def options_table(report) -> Table:
         mark = " *" if o.is_best_error else ""
         cells += [_predicted_text(mode, o), _pct(o.error, 3) + mark, _range_text(mode, o),
                   f"{o.yield_fraction * 100:.1f} %", str(o.nparts), _locations(o)]
-        table.add_row(*cells)
+        table.add_row(*map(cell, cells))
     return table
 
 

@@ -125,7 +125,7 @@ def pull_option(
 
 
 def _undo_in_session(session: Session, pull_id: int) -> UndoResult:
-    from selector.store.db import apply_movement
+    from selector.services.stock import move_within_limit
 
     pull = session.get(PullRow, pull_id)
     if pull is None:
@@ -149,7 +149,7 @@ def _undo_in_session(session: Session, pull_id: int) -> UndoResult:
     reference = f"undo of pull {pull_id}"
     for line_id, qty in sorted(back.items()):
         if qty:
-            apply_movement(session, line_id, qty, "undo", reference, pull_id=pull_id)
+            move_within_limit(session, line_id, qty, "undo", reference, pull_id=pull_id)
     return UndoResult(pull_id, tuple(sorted(back.items())))
 
 

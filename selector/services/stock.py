@@ -20,14 +20,17 @@ from dataclasses import dataclass
 from pathlib import Path
 from typing import Iterable, Optional, Sequence
 
-from selector.core.errors import InvalidStockFile, UnknownStockLine, UnparseableValue
+from selector.core.errors import (
+    DatabaseProblem, InvalidStockFile, TooManyParts, UnknownStockLine, UnparseableValue,
+)
+from selector.core.limits import MAX_QUANTITY
+from selector.core.notation import quoted
 from selector.core.parts import default_tolerance, is_polarized, normalize_dielectric
 from selector.core.types import StockLine
-from selector.store.db import MAX_QUANTITY
 
 _KIND_WORDS = {"resistor": "resistor", "r": "resistor", "capacitor": "capacitor", "c": "capacitor"}
-_QTY_RE = re.compile(r"\+?\d+(?:\.0*)?")
-MAX_TEXT = 64  # location and package columns (models.py: String(64))
+_QTY_RE = re.compile(r"\+?([0-9]+)(?:\.0*)?")  # ASCII digits only
+_TEXT_COLUMNS = ("location", "package", "note")  # free text stored as written (textrules.py)
 
 
 def clean(x: float) -> float:
@@ -41,18 +44,19 @@ def parse_kind(text: str) -> str:
     try:
         return _KIND_WORDS[text.strip().lower()]
     except KeyError:
-        raise UnparseableValue(f'"{text.strip()}": expected resistor or capacitor (or R / C)') from None
+        raise UnparseableValue(f"{quoted(text.strip())}: expected resistor or capacitor (or R / C)") from None
 
 
 def parse_quantity(text: str) -> int:
     """A whole number of parts, 0 or more ("3", "+3", "3.0"), at most MAX_QUANTITY."""
     t = text.strip()
-    if not _QTY_RE.fullmatch(t):
-        raise UnparseableValue(f'"{t}": expected a whole number of parts, 0 or more')
-    q = int(t.split(".")[0])
-    if q > MAX_QUANTITY:
-        raise UnparseableValue(f'"{t}": expected at most {MAX_QUANTITY} parts on one line')
-    return q
+    m = _QTY_RE.fullmatch(t)
+    if not m:
+        raise UnparseableValue(f"{quoted(t)}: expected a whole number of parts, 0 or more")
+    digits = m.group(1).lstrip("0") or "0"
+    if len(digits) > len(str(MAX_QUANTITY)) or int(digits) > MAX_QUANTITY:  # no int() of 5000 digits
+        raise UnparseableValue(f"{quoted(t)}: expected at most {MAX_QUANTITY} parts on one line")
+    return int(digits)
 
 
 # --------------------------------------------------------------------------- specs and plans
@@ -145,7 +149,10 @@ def validate_rows(raw_rows: Iterable) -> list[ImportRow]:
     """Turn csvio.RawRow text cells into ImportRows. Every problem of every row is collected; any
     problem raises InvalidStockFile (nothing is half-read)."""
     from selector.core.notation import FARAD, OHM, parse_rating, parse_tolerance, parse_value
+    from selector.store.models import StockLineRow
+    from selector.store.textrules import text_problem
 
+    lines = StockLineRow.__table__
     problems: list[str] = []
     out: list[ImportRow] = []
     for raw in raw_rows:
@@ -173,12 +180,12 @@ def validate_rows(raw_rows: Iterable) -> list[ImportRow]:
         except UnparseableValue as e:
             bad("dielectric", str(e))
         if kind == "resistor" and dielectric:
-            bad("dielectric", f'"{c["dielectric"]}": a resistor has no dielectric; leave it empty')
+            bad("dielectric", f'{quoted(c["dielectric"])}: a resistor has no dielectric; leave it empty')
         if kind and need("value"):
             try:
                 value = parse_value(c["value"], kind, OHM if kind == "resistor" else FARAD)
                 if not value > 0:
-                    bad("value", f'"{c["value"]}": expected a value above zero')
+                    bad("value", f'{quoted(c["value"])}: expected a value above zero')
                     value = None
             except UnparseableValue as e:
                 bad("value", str(e))
@@ -189,7 +196,7 @@ def validate_rows(raw_rows: Iterable) -> list[ImportRow]:
                     try:
                         tol = parse_tolerance(c["tolerance"], kind, value)
                         if not (0 <= tol[0] < 1 and tol[1] >= 0):
-                            bad("tolerance", f'"{c["tolerance"]}": expected less than 100 % below nominal')
+                            bad("tolerance", f'{quoted(c["tolerance"])}: expected less than 100 % below nominal')
                             tol = None
                     except UnparseableValue as e:
                         bad("tolerance", str(e))
@@ -200,7 +207,7 @@ def validate_rows(raw_rows: Iterable) -> list[ImportRow]:
             try:
                 rating = parse_rating(c["rating"], kind)
                 if not rating > 0:
-                    bad("rating", f'"{c["rating"]}": expected a rating above zero')
+                    bad("rating", f'{quoted(c["rating"])}: expected a rating above zero')
             except UnparseableValue as e:
                 bad("rating", str(e))
         quantity = None
@@ -209,9 +216,10 @@ def validate_rows(raw_rows: Iterable) -> list[ImportRow]:
                 quantity = parse_quantity(c["quantity"])
             except UnparseableValue as e:
                 bad("quantity", str(e))
-        for column in ("location", "package"):
-            if len(c[column]) > MAX_TEXT:
-                bad(column, f'"{c[column][:20]}…": expected at most {MAX_TEXT} characters')
+        for column in _TEXT_COLUMNS:
+            problem = text_problem(c[column], lines.c[column])
+            if problem:
+                bad(column, problem)
         if errs:
             problems.extend(errs)
             continue
@@ -239,19 +247,56 @@ def plan_import(rows: Sequence[ImportRow], current: Sequence[StockLine], *, repl
     for line in sorted(current, key=lambda ln: ln.id):
         existing.setdefault(line_key(line), line)
     new_lines, changes, unchanged = [], [], []
+    over: list[str] = []
     for key, (spec, qty, rownums) in totals.items():
         line = existing.get(key)
+        target = qty if replace or line is None else line.quantity + qty
+        if target > MAX_QUANTITY:
+            over.append(_over_limit(spec, line, target, rownums, replace))
+            continue
         if line is None:
             new_lines.append(NewLine(spec, qty, tuple(rownums)))
             continue
-        target = qty if replace else line.quantity + qty
         if target == line.quantity:
             unchanged.append(line)
         else:
             changes.append(LineChange(line, target, tuple(rownums)))
+    if over:
+        more = f"; and {len(over) - 3} more line{'s' if len(over) > 4 else ''}" if len(over) > 3 else ""
+        raise TooManyParts(f"{'; '.join(over[:3])}{more}; at most {MAX_QUANTITY} parts fit on one stock line; "
+                           "nothing was changed")
     changes.sort(key=lambda ch: ch.line.id)
     unchanged.sort(key=lambda ln: ln.id)
     return ImportPlan(replace, tuple(new_lines), tuple(changes), tuple(unchanged), source)
+
+
+def _over_limit(spec: PartSpec, line: Optional[StockLine], target: int, rownums: Sequence[int],
+                replace: bool) -> str:
+    """The part of a TooManyParts message naming one line that would go over the limit."""
+    from selector.core.notation import FARAD, OHM, format_value
+
+    rows = [r for r in rownums if r]
+    where = f" (row{'s' if len(rows) != 1 else ''} {', '.join(map(str, rows))})" if rows else ""
+    if line is None:
+        what = f"{spec.kind} {format_value(spec.value, OHM if spec.kind == 'resistor' else FARAD)}"
+        return f"the new line for {what}{where} would hold {target}"
+    if replace:
+        return f"stock line {line.id}{where} would be set to {target}"
+    return f"stock line {line.id} holds {line.quantity}; adding{where} would make {target}"
+
+
+def move_within_limit(session, line_id: int, delta: int, reason: str, reference: str = "",
+                      pull_id: Optional[int] = None) -> int:
+    """apply_movement (store/db.py), then the upper limit re-checked inside the same transaction:
+    a line that would hold more than MAX_QUANTITY parts raises TooManyParts, which rolls the whole
+    unit back. Checking the quantity the UPDATE itself produced holds under concurrent writers."""
+    from selector.store.db import apply_movement
+
+    new_qty = apply_movement(session, line_id, delta, reason, reference, pull_id=pull_id)
+    if new_qty > MAX_QUANTITY:
+        raise TooManyParts(f"stock line {line_id} would hold {new_qty} parts after a change of {delta:+d}; "
+                           f"at most {MAX_QUANTITY} fit on one stock line; nothing was changed")
+    return new_qty
 
 
 def apply_plan(session, plan: ImportPlan, reason: str, reference: str) -> list[int]:
@@ -260,7 +305,6 @@ def apply_plan(session, plan: ImportPlan, reason: str, reference: str) -> list[i
     one guarded movement. Returns the ids of the new lines, in plan order."""
     import sqlalchemy as sa
 
-    from selector.store.db import apply_movement
     from selector.store.models import MovementRow, StockLineRow, utcnow
 
     lines, moves = StockLineRow.__table__, MovementRow.__table__
@@ -281,7 +325,7 @@ def apply_plan(session, plan: ImportPlan, reason: str, reference: str) -> list[i
     if ledger:
         session.execute(sa.insert(moves), ledger)
     for ch in plan.changes:
-        apply_movement(session, ch.line.id, ch.delta, reason, reference)
+        move_within_limit(session, ch.line.id, ch.delta, reason, reference)
     return new_ids
 
 
@@ -292,7 +336,9 @@ def import_stock(engine, path: str | Path, *, replace: bool = False, dry_run: bo
     from selector.store.db import load_stock, run_in_transaction
 
     rows = validate_rows(read_stock_file(path))
-    name = Path(path).name
+    from selector.core.cells import without_controls
+
+    name = without_controls(Path(path).name)  # the ledger reference: stored text has no control characters
 
     def unit(session) -> ImportPlan:
         plan = plan_import(rows, load_stock(session), replace=replace, source=name)
@@ -313,6 +359,15 @@ def kit_rows(series: str, kind: str, low: float, high: float, quantity: int, loc
     of its dielectric (core/parts.py)."""
     from selector.core.eseries import SERIES_TOLERANCE, series_key, series_values
 
+    from selector.store.models import StockLineRow
+    from selector.store.textrules import check_text
+
+    lines = StockLineRow.__table__
+    check_text(location, lines.c.location, "--location")
+    check_text(package, lines.c.package, "--package")
+    check_text(note, lines.c.note, "note")
+    if not 0 <= quantity <= MAX_QUANTITY:
+        raise UnparseableValue(f"--qty {quantity}: expected 0 to {MAX_QUANTITY} parts of each value")
     kind = parse_kind(kind)
     dielectric = normalize_dielectric(dielectric)
     if kind == "resistor" and dielectric:
@@ -402,13 +457,25 @@ def _get_line(session, line_id: int) -> StockLine:
     return to_stock_line(row)
 
 
+def _check_reference(reference: str) -> None:
+    from selector.store.models import MovementRow
+    from selector.store.textrules import check_text
+
+    check_text(reference, MovementRow.__table__.c.reference, "--reference")
+
+
 def adjust_line(engine, line_id: int, delta: int, reference: str = "") -> tuple[StockLine, StockLine]:
-    """Change a line's quantity by ``delta`` (reason "adjust"); returns (before, after)."""
-    from selector.store.db import apply_movement, run_in_transaction
+    """Change a line's quantity by ``delta`` (reason "adjust"); returns (before, after). The line
+    may hold at most MAX_QUANTITY parts afterwards (TooManyParts, nothing changed)."""
+    from selector.store.db import run_in_transaction
+
+    _check_reference(reference)
+    if abs(delta) > MAX_QUANTITY:
+        raise UnparseableValue(f"DELTA {delta:+d}: expected a change of -{MAX_QUANTITY} to +{MAX_QUANTITY} parts")
 
     def unit(session):
         before = _get_line(session, line_id)
-        apply_movement(session, line_id, delta, "adjust", reference)
+        move_within_limit(session, line_id, delta, "adjust", reference)
         return before, _get_line(session, line_id)
 
     return run_in_transaction(engine, unit)
@@ -418,8 +485,9 @@ def set_line(engine, line_id: int, quantity: int, reference: str = "") -> tuple[
     """Set a line's quantity (reason "set", the difference goes into the ledger)."""
     from selector.store.db import apply_movement, run_in_transaction
 
+    _check_reference(reference)
     if not 0 <= quantity <= MAX_QUANTITY:
-        raise UnparseableValue(f"{quantity}: expected a quantity from 0 to {MAX_QUANTITY}")
+        raise UnparseableValue(f"QTY {quantity}: expected a quantity from 0 to {MAX_QUANTITY}")
 
     def unit(session):
         before = _get_line(session, line_id)
@@ -448,12 +516,22 @@ def _first_exact(candidates: Iterable, parse, target) -> str:
                 return text
         except (UnparseableValue, ValueError, ImportError, ArithmeticError):
             continue
-    raise AssertionError(f"no lossless text for {target!r}")  # a notation bug; caught by tests
+    raise ValueError(f"no lossless text for {target!r}")
 
 
 def export_cells(line: StockLine) -> dict[str, str]:
     """The CSV cells of a line, each written so that importing it gives back exactly this line:
     the readable notation when it reads back exactly, else a full-precision number."""
+    try:
+        return _export_cells(line)
+    except ValueError as err:  # only a line stored by an older version (an infinite rating, say)
+        raise DatabaseProblem(
+            f"stock line {line.id} cannot be exported ({err}: outside the accepted ranges, see the README); "
+            "nothing was written"
+        ) from None
+
+
+def _export_cells(line: StockLine) -> dict[str, str]:
     from selector.core import notation as n
 
     unit = n.OHM if line.kind == "resistor" else n.FARAD

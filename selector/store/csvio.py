@@ -7,6 +7,9 @@ from the header line; headers case-insensitive with spaces around them ignored; 
 skipped; the header is row 1 when the file starts with it (rows are counted the way a spreadsheet
 numbers them, blank rows included). Every structural problem is collected and raised together as
 InvalidStockFile, so the user sees all of them at once.
+
+Spreadsheet safety: every cell written is neutralised against formula evaluation, and every cell
+read has that neutralisation undone (selector/core/cells.py), so export -> import is identical.
 """
 
 from __future__ import annotations
@@ -17,6 +20,7 @@ from dataclasses import dataclass
 from pathlib import Path
 from typing import Iterable, Mapping
 
+from selector.core.cells import neutralize_cell, restore_cell
 from selector.core.errors import InvalidStockFile, UnreadableFile
 
 COLUMNS: tuple[str, ...] = (
@@ -91,7 +95,7 @@ def read_stock_csv(data: bytes) -> list[RawRow]:
                 header, header_row = record, rownum
                 names = _check_header(record, rownum, problems)
                 continue
-            cells = [c.strip() for c in record]
+            cells = [restore_cell(c.strip()) for c in record]
             if len(cells) > len(names) and any(cells[len(names):]):
                 problems.append(
                     f"row {rownum}: {len(cells)} cells but the header (row {header_row}) names "
@@ -164,12 +168,13 @@ def read_stock_file(path: str | Path) -> list[RawRow]:
 
 
 def write_stock_csv(out: io.TextIOBase, rows: Iterable[Mapping[str, str]]) -> int:
-    """Write the header and one line per row (text cells keyed by column); returns the row count."""
+    """Write the header and one line per row (text cells keyed by column, each neutralised against
+    spreadsheet formulas); returns the row count."""
     writer = csv.DictWriter(out, fieldnames=list(COLUMNS), lineterminator="\n")
     writer.writeheader()
     n = 0
     for row in rows:
-        writer.writerow({c: row.get(c, "") for c in COLUMNS})
+        writer.writerow({c: neutralize_cell(row.get(c, "")) for c in COLUMNS})
         n += 1
     return n
 
