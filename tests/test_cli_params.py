@@ -51,6 +51,8 @@ def _outcome(runtime, value, param, ctx):
         return ("value", runtime._coerce_value(value, param=param, ctx=ctx))
     except typer._click.exceptions.BadParameter as exc:
         return ("refused", exc.format_message())
+    except typer.Exit as exc:  # our own whole-number parsers print one usage line and exit 2
+        return ("exit", exc.exit_code)
 
 
 def _check(value):
@@ -99,7 +101,7 @@ def test_a_timing_search_with_json_does_not_import_pydantic(tmp_path):
         "        print('exit', e.code)\n"
         "    print('pydantic' in sys.modules)\n"
         "run('--json')\n"
-        "run('--top', 'abc')\n"
+        "run('--distribution', 'bogus')\n"
     )
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, cwd=REPO, timeout=120)
     assert out.returncode == 0, out.stderr

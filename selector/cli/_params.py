@@ -28,10 +28,18 @@ except ImportError:  # pragma: no cover - another typer: use its own conversion 
 
 def _plain_result(annotation: Any, info: Any, value: Any, ctx: Any) -> tuple[bool, Any]:
     """(True, result) when typer's conversion of ``value`` is certain to give ``result``."""
+    if info.parser is not None:
+        # typer calls the parser inside a pydantic validator: whatever it returns is the value, and
+        # an exception other than ValueError/AssertionError (our parsers exit with one usage line)
+        # passes through pydantic unchanged, so calling it here is the same.
+        try:
+            return True, info.parser(value)
+        except (ValueError, AssertionError):  # pydantic would word these: let typer do it
+            return False, None
     if annotation is str:
         return (True, value) if type(value) is str else (False, None)
     if annotation is int:
-        if info.clamp or info.parser is not None:
+        if info.clamp:
             return False, None
         if type(value) is int:
             number = value
@@ -42,7 +50,7 @@ def _plain_result(annotation: Any, info: Any, value: Any, ctx: Any) -> tuple[boo
         if (info.min is not None and number < info.min) or (info.max is not None and number > info.max):
             return False, None
         return True, number
-    if isinstance(annotation, type) and issubclass(annotation, Enum) and info.parser is None:
+    if isinstance(annotation, type) and issubclass(annotation, Enum):
         try:
             return True, coerce_cli_choice(value, choices=tuple(annotation),
                                            case_sensitive=info.case_sensitive, ctx=ctx)
