@@ -88,7 +88,7 @@ def test_same_result_as_typer_for_any_text(value):
 
 def test_a_timing_search_with_json_does_not_import_pydantic(tmp_path):
     # In a fresh interpreter: whether the command loads pydantic (the reason this module exists);
-    # then a refused value, which goes to typer's own conversion: the negative control.
+    # then an unknown choice, which goes to typer's own conversion: the negative control.
     db = tmp_path / "s.db"
     assert run_cli("stock", "import", str(SAMPLE), db=db).returncode == 0
     code = (
