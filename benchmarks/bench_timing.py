@@ -29,7 +29,7 @@ sys.path.insert(0, str(REPO))
 from selector.core.eseries import series_values  # noqa: E402
 from selector.core.networks import build_index  # noqa: E402
 from selector.core.search import Exclusions, Target, resolve_limits, search_timing  # noqa: E402
-from selector.core.search_kernel import PowerCheck, _Pass, _Physics, capacitor_candidates  # noqa: E402
+from selector.core.search.kernels import PowerCheck, _Pass, _Physics, capacitor_candidates  # noqa: E402
 from selector.core.types import StockLine  # noqa: E402
 
 LN2 = math.log(2.0)

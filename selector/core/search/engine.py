@@ -315,7 +315,7 @@ def search_timing(r_lines: Sequence, c_lines: Sequence, target: Target, connecti
     ``c_max_parts`` caps the capacitor networks below ``max_parts`` (e.g. 3-part resistor
     networks with 1-2-part capacitors)."""
     from selector.core.networks import build_index
-    from selector.core.search_kernel import PowerCheck, _Pass, _Physics, capacitor_candidates
+    from selector.core.search.kernels import PowerCheck, _Pass, _Physics, capacitor_candidates
 
     ex = Exclusions()
     found: dict[tuple, FoundOption] = {}
