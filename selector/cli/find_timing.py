@@ -3,19 +3,23 @@ selector.services.find_timing.find_timing once, render with selector.render.timi
 
 from __future__ import annotations
 
+import inspect
 from enum import Enum
 from typing import Optional
 
 import typer
 
 from selector.cli._common import db_arg, handles_errors
+from selector.core import circuits  # the registry: light, no numpy
 
+_ASTABLES = circuits.for_mode("astable")
 
-class ConnectionChoice(str, Enum):
-    auto = "auto"
-    standard = "standard"
-    diode = "diode"
-    output_fed = "output-fed"
+ConnectionChoice = Enum("ConnectionChoice", {"auto": "auto", **{k.key.replace("-", "_"): k.key for k in _ASTABLES}},
+                        type=str)
+"""--connection choices: auto and every astable circuit kind in the registry."""
+
+_CONNECTION_HELP = ("Wiring: " + ", ".join(k.help for k in _ASTABLES if getattr(k, "help", ""))
+                    + ", or auto.")
 
 
 class ChipChoice(str, Enum):
@@ -46,6 +50,50 @@ def _fraction(text: str, option: str) -> float:
         return parse_fraction(text)
     except UnparseableValue as e:
         raise UnparseableValue(f"{option}: {e}") from None
+
+
+def _circuit_options(connection: str, given: dict) -> dict:
+    """Parse the circuit options given on the command line; an option of another circuit kind
+    than the one searched is a usage error (exit 2)."""
+    from selector.cli._common import fail
+
+    kind = circuits.REGISTRY.get(connection)
+    own = {o.field for o in kind.options} if kind is not None else set()
+    out = {}
+    for kind_ in _ASTABLES:
+        for opt in kind_.options:
+            raw = given.get(opt.field)
+            if raw is None:
+                continue
+            if opt.field not in own:
+                fail(f"--{opt.name} applies only to --connection {kind_.key}", 2)
+            raw = raw.value if isinstance(raw, Enum) else raw
+            out[opt.field] = _value(raw, opt.unit, f"--{opt.name}") if opt.unit else raw
+    return out
+
+
+def _with_circuit_options(fn):
+    """Give a command every option the astable circuit kinds declare (``CliOption``), in place
+    of its ``**circuit`` parameter; typer reads the signature."""
+    sig = inspect.signature(fn)
+    params = [p for p in sig.parameters.values() if p.kind is not inspect.Parameter.VAR_KEYWORD]
+    seen = set()
+    for kind in _ASTABLES:
+        for opt in kind.options:
+            if opt.field in seen:
+                continue
+            seen.add(opt.field)
+            if opt.choices:
+                choice = Enum(opt.field + "Choice", {c: c for c in opt.choices}, type=str)
+                annotation = Optional[choice]
+            else:
+                annotation = Optional[str]
+            default = typer.Option(None, f"--{opt.name}", help=opt.help,
+                                   **({"metavar": opt.metavar} if not opt.choices else {}))
+            params.append(inspect.Parameter(opt.field, inspect.Parameter.KEYWORD_ONLY, default=default,
+                                            annotation=annotation))
+    fn.__signature__ = sig.replace(parameters=params)
+    return fn
 
 
 def _run(ctx: typer.Context, as_json: bool, **fields) -> None:
@@ -92,13 +140,11 @@ _COMMON_HELP = {
 def register(find_app: typer.Typer) -> None:
     """Attach this module's commands to the find group."""
 
-    @find_app.command("astable")
-    @handles_errors
     def astable(
         ctx: typer.Context,
         freq: str = typer.Option(..., "--freq", metavar="F", help="Target frequency, e.g. 1.2k, 1.2kHz, 440."),
-        duty: str = typer.Option(..., "--duty", metavar="D", help="Fraction of the period the output is HIGH, e.g. 65% or 0.65."),
-        connection: ConnectionChoice = typer.Option(ConnectionChoice.auto, "--connection", help="Wiring: standard (duty above 50 %), diode (diode across RB, any duty), output-fed (CMOS, about 50 %), or auto."),
+        duty: Optional[str] = typer.Option(None, "--duty", metavar="D", help="Fraction of the period the output is HIGH, e.g. 65% or 0.65 (optional where the circuit fixes the duty: output-fed, schmitt-inverter)."),
+        connection: ConnectionChoice = typer.Option(ConnectionChoice.auto, "--connection", help=_CONNECTION_HELP),
         chip: ChipChoice = typer.Option(ChipChoice.bipolar, "--chip", help=_COMMON_HELP["chip"]),
         vcc: str = typer.Option("9V", "--vcc", metavar="V", help=_COMMON_HELP["vcc"]),
         diode_vf: Optional[str] = typer.Option(None, "--diode-vf", metavar="V", help="Forward drop of the steering diode (default 0.65 V, small-signal silicon)."),
@@ -110,12 +156,23 @@ def register(find_app: typer.Typer) -> None:
         seed: int = typer.Option(0, "--seed", help=_COMMON_HELP["seed"]),
         samples: int = typer.Option(10_000, "--samples", metavar="N", help=_COMMON_HELP["samples"]),
         as_json: bool = typer.Option(False, "--json", help=_COMMON_HELP["json"]),
+        **circuit,
     ) -> None:
         """Find RA, RB and C networks in stock for an astable (free-running) 555 at a frequency and duty."""
-        _run(ctx, as_json, mode="astable", freq_hz=_value(freq, "Hz", "--freq"), duty=_fraction(duty, "--duty"),
+        from selector.cli._common import fail
+
+        kind = circuits.REGISTRY.get(connection.value)
+        if duty is None and not (kind is not None and kind.duty_fixed):
+            fail(f"--duty is required for --connection {connection.value} (only a circuit that fixes its "
+                 "own duty can do without)", 2)
+        options = _circuit_options(connection.value, circuit)
+        _run(ctx, as_json, mode="astable", freq_hz=_value(freq, "Hz", "--freq"),
+             duty=_fraction(duty, "--duty") if duty is not None else None,
              connection=connection.value, chip=chip.value, vcc_text=vcc, vf_text=diode_vf,
              max_parts=max_parts, top=top, boards=boards, accept_text=accept,
-             distribution=distribution.value, seed=seed, samples=samples)
+             distribution=distribution.value, seed=seed, samples=samples, options=options)
+
+    find_app.command("astable")(handles_errors(_with_circuit_options(astable)))
 
     @find_app.command("monostable")
     @handles_errors

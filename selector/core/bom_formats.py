@@ -9,7 +9,7 @@ import io
 from typing import TYPE_CHECKING, Any, Optional, Sequence
 
 if TYPE_CHECKING:  # only for annotations: selector.core.bom imports this module at its end
-    from selector.core.bom import Bom, BomLine, PickStop
+    from selector.core.bom_records import Bom, BomLine, PickStop
 
 #: A spreadsheet treats a cell starting with one of these as a formula (or strips it into one).
 _FORMULA_START = ("=", "+", "-", "@", "\t", "\r", "\n")

@@ -11,6 +11,7 @@ a test can insist that no number goes uncited.
 from __future__ import annotations
 
 from dataclasses import dataclass, field
+from typing import Optional
 
 import numpy as np
 
@@ -41,6 +42,12 @@ class ChipFamily:
     output_fed_ok: bool              # offer the output-fed astable
     astable_initial_error: float     # chip-only timing error, typical, fraction
     monostable_initial_error: float
+    part_text: str                   # how the BOM names the IC: "555 timer, <part_text>"
+    spice_divider_ohms: float        # each of the three divider resistors in the SPICE model
+    datasheet_discharge_ohms: float  # DIS saturation as a resistance (--discharge-ohms)
+    control_pin_cap_f: Optional[float]   # CV (pin 5) capacitor fitted by the BOM; None: left open
+    reservoir_f: Optional[tuple]     # (lo, hi) supply reservoir range; None: not listed
+    bom_notes: tuple = ()            # notes the BOM adds for this family
     sources: dict = field(default_factory=dict, compare=False, hash=False, repr=False)
 
     def voh(self, vcc) -> float:
@@ -89,6 +96,11 @@ BIPOLAR = ChipFamily(
     output_fed_ok=False,              # facts §3: bipolar VOH depends on load and VCC (derived)
     astable_initial_error=0.0225,     # [S1] astable 2.25 % typ (RA, RB 1–100 kΩ, C 0.1 µF)
     monostable_initial_error=0.01,    # [S1] monostable 1 % typ / 3 % max
+    part_text="bipolar",
+    spice_divider_ohms=5e3,           # [S12] bipolar 555 model netlists show 3 × 5 kΩ; [S14]
+    datasheet_discharge_ohms=12.0,    # [S1] DIS saturation 180 mV typ at 15 mA (VCC 15 V) → 12 Ω
+    control_pin_cap_f=10e-9,          # [S14] bypass CV with 10 nF when it is not used (facts §5)
+    reservoir_f=(10e-6, 100e-6),      # [S3] 10–100 µF close to the IC: output current spikes
     sources={
         "vcc_min": "[S1] bipolar 555 data sheet, supply 4.5–16 V",
         "vcc_max": "[S1] bipolar 555 data sheet, supply 4.5–16 V",
@@ -102,6 +114,9 @@ BIPOLAR = ChipFamily(
         "max_r_cap_ohm": "[S1] bipolar 555 data sheet note, 20 MΩ at 15 V",
         "astable_initial_error": "[S1] bipolar 555 data sheet, astable 2.25 % typ",
         "monostable_initial_error": "[S1] bipolar 555 data sheet, monostable 1 % typ",
+        "spice_divider_ohms": "[S12] bipolar 555 model netlists, 3 × 5 kΩ; [S14] tutorial",
+        "datasheet_discharge_ohms": "[S1] bipolar 555 data sheet, DIS 180 mV typ at 15 mA",
+        "control_pin_cap_f": "[S14] bypass CV with 10 nF when it is not used",
     },
 )
 
@@ -122,6 +137,13 @@ CMOS = ChipFamily(
     output_fed_ok=True,               # [S4], [S7] 50 % output-fed connection for CMOS parts
     astable_initial_error=0.01,       # [S6] about 1 % typ astable (stored table garbled)
     monostable_initial_error=0.01,    # from memory, not confirmed (about 1 % like the bipolar)
+    part_text="CMOS",
+    spice_divider_ohms=100e3,         # from memory, not confirmed: "near 100 kΩ each" (facts §5)
+    datasheet_discharge_ohms=40.0,    # [S6] DIS ≤ 0.4 V at 10 mA, 5 V → at most 40 Ω
+    control_pin_cap_f=None,           # [S6] CV "need not be decoupled"
+    reservoir_f=None,                 # [S6] "no crowbarring": no reservoir listed
+    bom_notes=("CMOS timer: the control pin is left open (one CMOS 555 data sheet says it need not be "
+               "decoupled); fit 10 nF to ground if your part's data sheet asks for it.",),
     sources={
         "vcc_min": "[S5] CMOS 555 data sheet B, 2–15 V (data sheet C [S6]: 3–16 V)",
         "vcc_max": "[S5] CMOS 555 data sheet B, 2–15 V",
@@ -135,6 +157,9 @@ CMOS = ChipFamily(
         "max_r_cap_ohm": "common practice (leakage of boards and capacitors limits R)",
         "astable_initial_error": "[S6] CMOS 555 data sheet C, about 1 % typ",
         "monostable_initial_error": "from memory, not confirmed (about 1 %)",
+        "spice_divider_ohms": "from memory, not confirmed (near 100 kΩ each, differs by maker)",
+        "datasheet_discharge_ohms": "[S6] CMOS 555 data sheet C, DIS at most 0.4 V at 10 mA",
+        "control_pin_cap_f": "[S6] CMOS 555 data sheet C, CV need not be decoupled",
     },
 )
 
@@ -202,6 +227,14 @@ CAUTIONS: dict[str, str] = {
     "bipolar_output_fed": (
         "The output-fed connection depends on the output levels; a bipolar 555 output is not "
         "rail-to-rail, so the duty is well above 50 % and it may not oscillate at 5 V."
+    ),
+    "class2": (
+        "Class-2 ceramic (X7R, X5R, Y5V, Z5U) in the timing position: its value moves with "
+        "voltage, temperature and age; prefer C0G or film for timing."
+    ),
+    "cap_rating_unknown": (
+        "A timing capacitor has no voltage rating in stock: check it is rated well above VCC "
+        "before fitting it."
     ),
     "decoupling": (
         "Decouple VCC close to a bipolar 555 (10–100 µF): its output draws current spikes at "

@@ -64,7 +64,6 @@ Polarized capacitors: by default no polarized part sits in a series joint (anywh
 
 from __future__ import annotations
 
-import math
 from dataclasses import dataclass, field
 from typing import Iterable, Sequence, Union
 

@@ -15,9 +15,10 @@ import math
 from dataclasses import dataclass, field
 from typing import Callable, Optional
 
+from selector.core import circuits
 from selector.core.errors import OutOfRange
 
-CONNECTIONS = ("auto", "standard", "diode", "output-fed")
+CONNECTIONS = ("auto",) + tuple(c.key for c in circuits.for_mode("astable"))
 
 
 @dataclass(frozen=True)
@@ -41,6 +42,19 @@ class TimingRequest:
     distribution: str = "uniform"
     seed: int = 0
     samples: int = 10_000
+    options: dict = field(default_factory=dict)  # the circuit's own options (e.g. logic family)
+
+    @property
+    def kind(self):
+        """The circuit kind searched (None for ``--connection auto``)."""
+        key = self.connection if self.mode == "astable" else self.mode
+        return circuits.REGISTRY.get(key)
+
+    @property
+    def settings(self):
+        from selector.core.circuits.base import Settings
+
+        return Settings(self.chip, self.vcc, self.vf, {k: v for k, v in self.options.items() if v is not None})
 
     def check(self) -> None:
         """Raise OutOfRange (one line, naming the option) for values outside what we accept."""
@@ -52,10 +66,11 @@ class TimingRequest:
 
         if self.mode == "astable":
             positive("--freq", self.freq_hz)
-            if self.duty is None or not (0.0 < self.duty < 1.0):
-                raise OutOfRange(f"--duty must be between 0 and 100 % (exclusive), not {self.duty!r}")
             if self.connection not in CONNECTIONS:
                 raise OutOfRange(f"--connection must be one of {', '.join(CONNECTIONS)}, not {self.connection!r}")
+            duty_free = self.duty is None and self.kind is not None and self.kind.duty_fixed
+            if not duty_free and (self.duty is None or not (0.0 < self.duty < 1.0)):
+                raise OutOfRange(f"--duty must be between 0 and 100 % (exclusive), not {self.duty!r}")
         elif self.mode == "monostable":
             positive("--width", self.width_s)
         elif self.mode == "rc":
@@ -66,7 +81,10 @@ class TimingRequest:
         else:
             raise OutOfRange(f"unknown search mode {self.mode!r}")
         positive("--vcc", self.vcc)
-        if self.mode != "rc":
+        kind = self.kind
+        if kind is not None and kind.options:
+            kind.check_options(self.settings)
+        elif self.mode != "rc":
             chips.family(self.chip).check_vcc(self.vcc)
         if self.diode_vf is not None and not (0.0 <= self.diode_vf < self.vcc / 3.0):
             raise OutOfRange(f"--diode-vf {self.diode_vf:g} V must be at least 0 V and below VCC/3 "
@@ -115,6 +133,11 @@ def _target(req: TimingRequest):
     from selector.core.search import Target
 
     if req.mode == "astable":
+        if req.duty is None:  # a circuit whose duty the thresholds or levels fix: that duty
+            duty = req.kind.natural_duty(req.kind.limits(req.settings))
+            if duty is None:
+                raise OutOfRange(f"the {req.kind.name} connection cannot oscillate with these levels")
+            return Target.astable(req.freq_hz, duty, duty_given=False)
         return Target.astable(req.freq_hz, req.duty)
     if req.mode == "monostable":
         return Target("monostable", width=req.width_s)
@@ -135,10 +158,14 @@ def target_json(req: TimingRequest, target) -> dict:
 
 
 def params_json(req: TimingRequest) -> dict:
-    return {"chip": req.chip, "vcc": req.vcc, "diode_vf": req.vf if req.mode == "astable" else None,
-            "boards": req.boards, "max_parts": req.max_parts, "accept": req.accept,
-            "distribution": req.distribution, "seed": req.seed,
-            "connection": req.connection if req.mode == "astable" else req.mode, "top": req.top}
+    out = {"chip": req.chip, "vcc": req.vcc, "diode_vf": req.vf if req.mode == "astable" else None,
+           "boards": req.boards, "max_parts": req.max_parts, "accept": req.accept,
+           "distribution": req.distribution, "seed": req.seed,
+           "connection": req.connection if req.mode == "astable" else req.mode, "top": req.top}
+    options = dict(req.settings.options)
+    if options:  # a circuit's own options (only circuits that have them add this key)
+        out["options"] = options
+    return out
 
 
 def network_json(net) -> dict:
@@ -149,7 +176,8 @@ def network_json(net) -> dict:
 
 def option_json(opt) -> dict:
     """One option in the documented shape (SI units, signed error, yield as a fraction)."""
-    order = ("RA", "RB", "R", "C")
+    from selector.core.ranking import ROLE_ORDER as order
+
     nets = opt.found.networks
     return {
         "rank": opt.rank,
@@ -170,11 +198,13 @@ def plan_timing(r_lines, c_lines, req: TimingRequest,
 
     req.check()
     target = _target(req)
+    options = dict(req.settings.options)
     if req.mode == "astable":
-        connections = choose_connections(target, req.connection, req.chip, req.vcc, req.vf, req.accept)
+        connections = choose_connections(target, req.connection, req.chip, req.vcc, req.vf, req.accept,
+                                         options)
     else:
         connections = (req.mode,)
-    limits = {c: resolve_limits(c, req.chip, req.vcc, req.vf) for c in connections}
+    limits = {c: resolve_limits(c, req.chip, req.vcc, req.vf, options) for c in connections}
     result = search_timing(r_lines, c_lines, target, connections, limits, max_parts=req.max_parts,
                            boards=req.boards, pool=2 * max(req.top, 5), progress=progress)
     ranked = evaluate_and_rank(result.options, target, limits, req.accept, req.top,

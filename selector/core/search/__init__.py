@@ -6,3 +6,6 @@ from selector.core.search.engine import (  # noqa: F401
     ASTABLE_CONNECTIONS, Exclusions, FoundOption, Limits, SearchResult, Target, choose_connections,
     output_fed_best_error, resolve_limits, search_timing,
 )
+
+__all__ = ["ASTABLE_CONNECTIONS", "Exclusions", "FoundOption", "Limits", "SearchResult", "Target",
+           "choose_connections", "output_fed_best_error", "resolve_limits", "search_timing"]

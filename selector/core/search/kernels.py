@@ -5,7 +5,7 @@ in the form the search needs, and one search pass over one pair of network index
 from __future__ import annotations
 
 import math
-from typing import Callable, Optional
+from typing import Callable, NamedTuple, Optional
 
 import numpy as np
 
@@ -233,90 +233,61 @@ def _nearest_feasible(index, target, lo, hi, ok_fn, k0: int = 2, kmax: int = 1 <
 
 
 def _fmt(v: float, unit: str) -> str:
-    try:
-        from selector.core.notation import format_value
+    from selector.core.notation import format_value
 
-        return format_value(v, unit)
-    except Exception:  # notation module missing or unit unknown: plain SI
-        return f"{v:g} {unit}"
+    return format_value(v, unit)
 
 
 def _signed_max(e1: np.ndarray, e2: np.ndarray) -> np.ndarray:
-    return np.where(np.abs(e1) >= np.abs(e2), e1, e2)
+    from selector.core.circuits.base import signed_max
+
+    return signed_max(e1, e2)
 
 
-# --------------------------------------------------------------------------- connections (physics)
+# --------------------------------------------------------------------------- the circuit, bound
 
 
-class _Physics:
-    """The timing laws of one connection in the form the search needs (all from core.timing)."""
+class _Bound:
+    """A circuit kind with the target and limits of one pass: the methods the kernels call,
+    each the circuit's own (see ``selector.core.circuits``: two-resistor kinds supply t_low,
+    rb_ideal, ra_for_high, times2; one-resistor kinds r_ideal, error1, r_bounds1)."""
 
-    def __init__(self, connection: str, target, limits):
-        from selector.core import timing
+    def __init__(self, kind, target, limits):
+        self.kind, self.target, self.limits = kind, target, limits
 
-        self.t = timing
-        self.connection = connection
-        self.target = target
-        self.limits = limits
-        if connection == "output-fed":
-            kh, kl = timing.output_fed_factors(limits.voh, limits.vol, limits.vcc)
-            self.kh, self.kl = float(kh), float(kl)
-
-    # --- two-resistor connections (standard, diode): t_low = ln2·RB·C in both
     def t_low(self, rb, c):
-        return self.t.standard_times(0.0, rb, c)[1]
+        return self.kind.t_low(rb, c)
 
     def rb_ideal(self, c):
-        return self.t.standard_ideal(self.target.t_high, self.target.t_low, c)[1]
+        return self.kind.rb_ideal(self.target, c)
 
     def ra_for_high(self, t_high, rb, c):
-        """RA giving exactly ``t_high`` with this RB and C (may be <= 0 or nan: none)."""
-        if self.connection == "standard":
-            ra0, rb0 = self.t.standard_ideal(t_high, 0.0, c)  # rb0 = 0 → ra0 = t_high/(ln2 c) if > 0
-            return np.nan_to_num(ra0, nan=-np.inf) - rb
-        lim = self.limits
-        return self.t.diode_ideal_ra(t_high, rb, c, lim.vcc, lim.diode_vf)
+        return self.kind.ra_for_high(t_high, rb, c, self.limits)
 
     def times2(self, ra, rb, c):
-        if self.connection == "standard":
-            return self.t.standard_times(ra, rb, c)
-        return self.t.diode_times(ra, rb, c, self.limits.vcc, self.limits.diode_vf)
+        return self.kind.times2(ra, rb, c, self.limits)
 
-    # --- one-resistor connections
     def r_ideal(self, c):
-        tg = self.target
-        if self.connection == "output-fed":
-            a_h = self.kh * c / tg.t_high
-            a_l = self.kl * c / tg.t_low
-            return 2.0 / (a_h + a_l)
-        if self.connection == "monostable":
-            return self.t.monostable_ideal_r(tg.width, c)
-        if not math.isnan(tg.corner_hz):
-            return self.t.rc_corner(1.0, c) / tg.corner_hz
-        return tg.tau / self.t.rc_tau(1.0, c)
+        return self.kind.r_ideal(self.target, c, self.limits)
 
     def error1(self, r, c):
-        """(signed error, t_high, t_low, time) for one-resistor connections."""
-        tg = self.target
-        nan = np.full(np.shape(r), np.nan)
-        if self.connection == "output-fed":
-            th, tl = self.t.output_fed_times(r, c, self.limits.voh, self.limits.vol, self.limits.vcc)
-            return _signed_max(th / tg.t_high - 1, tl / tg.t_low - 1), th, tl, nan
-        if self.connection == "monostable":
-            w = self.t.monostable_width(r, c)
-            return w / tg.width - 1, nan, nan, w
-        tau = self.t.rc_tau(r, c)
-        if not math.isnan(tg.corner_hz):
-            return self.t.rc_corner(r, c) / tg.corner_hz - 1, nan, nan, tau
-        return tau / tg.tau - 1, nan, nan, tau
+        """(signed error, t_high, t_low, time) for one-resistor circuits."""
+        return self.kind.error1(r, c, self.target, self.limits)
 
     def r_bounds1(self, c):
-        lim = self.limits
-        lo = np.full(np.shape(c), lim.min_r_ohm, dtype=float)
-        if self.connection == "output-fed" and math.isfinite(lim.max_freq_hz):
-            lo = np.maximum(lo, (1.0 / lim.max_freq_hz) / ((self.kh + self.kl) * c))
-        hi = np.full(np.shape(c), lim.max_total_r_ohm, dtype=float)
-        return lo, hi
+        return self.kind.r_bounds1(c, self.limits)
+
+
+class Hit(NamedTuple):
+    """One pair-option a kernel found: capacitor network id, resistor network ids in the
+    circuit's role order, signed error and the predicted times (nan where not defined)."""
+
+    c_id: int
+    r_ids: tuple
+    error: float
+    t_high: float
+    t_low: float
+    time: float
 
 
 # --------------------------------------------------------------------------- the searches
@@ -330,9 +301,9 @@ def _chunks(n: int, size: int):
 class _Pass:
     """One search over one pair of indexes (one parts budget) for one connection."""
 
-    def __init__(self, phys: _Physics, r_index, c_index, c_ids, limits, power: PowerCheck,
+    def __init__(self, kind, target, r_index, c_index, c_ids, limits, power: PowerCheck,
                  ex, chunk: int = 2048):
-        self.p = phys
+        self.p = _Bound(kind, target, limits)
         self.r = SortedView(r_index)
         self.c_ids = c_ids
         self.c_vals = c_index.values(c_ids) if c_ids.size else np.zeros(0)
@@ -526,7 +497,7 @@ class _Pass:
         return found, bound, errs.size >= pool
 
     # ---- one-resistor connections
-    def run1(self, pool: int, progress: Optional[Callable[[], None]] = None) -> list[tuple]:
+    def run1(self, pool: int, progress: Optional[Callable[[], None]] = None) -> list[Hit]:
         p = self.p
         nc = self.c_ids.size
         if nc == 0 or not self._resistors_usable():
@@ -570,9 +541,9 @@ class _Pass:
         out = []
         for j in order:
             if two:
-                out.append((int(self.c_ids[ci[j]]), (int(ra[j]), int(rb[j])), float(err[j]),
-                            float(th[j]), float(tl[j]), math.nan))
+                out.append(Hit(int(self.c_ids[ci[j]]), (int(ra[j]), int(rb[j])), float(err[j]),
+                               float(th[j]), float(tl[j]), math.nan))
             else:
-                out.append((int(self.c_ids[ci[j]]), (int(r[j]),), float(err[j]),
-                            float(th[j]), float(tl[j]), float(tt[j])))
+                out.append(Hit(int(self.c_ids[ci[j]]), (int(r[j]),), float(err[j]),
+                               float(th[j]), float(tl[j]), float(tt[j])))
         return out

@@ -44,19 +44,13 @@ from typing import Mapping, Optional, Sequence, Union
 from selector.core.errors import SimulationFailed
 
 # ----------------------------------------------------------------------------- model constants
-DIVIDER_OHMS: dict[str, float] = {
-    "bipolar": 5e3,   # [S12] bipolar 555 model netlists show 3 × 5 kΩ; [S14] tutorial
-    "cmos": 100e3,    # from memory, not confirmed: "near 100 kΩ each", differs by maker (facts §5)
-}
+# Per-family figures (divider resistors, the discharge switch's data-sheet saturation) are
+# ``selector.core.chips`` data: ChipFamily.spice_divider_ohms, .datasheet_discharge_ohms.
 DISCHARGE_OHMS = 1.0
 """Default on-resistance of the discharge switch: near-ideal, as the published timing formulas
 assume (they ignore the switch, which is fair "only if RB ≫ RD" [S2]); 1 Ω rather than 0 so the
-switch never shorts a node outright. Use :data:`DATASHEET_DISCHARGE_OHMS` (``--discharge-ohms``)
-to see what a real part's saturation does: it stops C short of 0 V and lengthens t_low."""
-DATASHEET_DISCHARGE_OHMS: dict[str, float] = {
-    "bipolar": 12.0,  # [S1] DIS saturation 180 mV typ at 15 mA (VCC 15 V) → 12 Ω
-    "cmos": 40.0,     # [S6] DIS ≤ 0.4 V at 10 mA, 5 V → at most 40 Ω (stored table garbled)
-}
+switch never shorts a node outright. Use ``--discharge-ohms``
+to see what a real part's saturation does (``ChipFamily.datasheet_discharge_ohms``): it stops C short of 0 V and lengthens t_low."""
 DISCHARGE_OFF_OHMS = 1e12
 """Off-resistance of the discharge switch: near-ideal too. A real bipolar DIS leaks 20 nA typ
 [S1] (about 1 GΩ at 9 V), which with a 1.8 MΩ timing resistor already lengthens a monostable
@@ -70,10 +64,6 @@ MINUS_3DB = 20.0 * math.log10(1.0 / math.sqrt(2.0))  # −3.0103 dB: the corner 
 STEPS_PER_SEGMENT = 1000   # timestep limit: the shortest half-period / this (ecosystem §6: ≤ 0.1 %)
 STEPS_PER_PULSE = 5000     # monostable and RC runs are one segment, so they can afford a finer step
 MAX_STEPS = 200_000        # cap on points per run, so a very lopsided duty (1 %) stays near 4 s
-
-CONNECTIONS_555 = ("standard", "diode", "output-fed", "monostable")
-CONNECTIONS = CONNECTIONS_555 + ("rc",)
-
 
 # ----------------------------------------------------------------------------- plain records
 @dataclass(frozen=True)
@@ -120,6 +110,7 @@ class Circuit:
     diode_vf: float = 0.65
     expected: Mapping[str, float] = field(default_factory=dict)
     title: str = ""
+    extra: Mapping[str, float] = field(default_factory=dict)   # a circuit's own figures (Limits.extra)
 
 
 @dataclass(frozen=True)
@@ -131,16 +122,18 @@ class Netlist:
 
 def chip_model(family_key: str, vcc: float, voh: float, vol: float,
                discharge_ohms: Optional[float] = None) -> ChipModel:
-    """A :class:`ChipModel` with this module's divider value for the family and the discharge
+    """A :class:`ChipModel` with the family's divider value (``chips``) and the discharge
     switch's on-resistance (default :data:`DISCHARGE_OHMS`)."""
+    from selector.core import chips
+
     key = family_key.strip().lower()
-    if key not in DIVIDER_OHMS:
+    if key not in chips.FAMILIES:
         raise SimulationFailed(f"no SPICE 555 model for chip family {family_key!r}; expected one of: "
-                               + ", ".join(DIVIDER_OHMS))
+                               + ", ".join(chips.FAMILIES))
     rd = DISCHARGE_OHMS if discharge_ohms is None else float(discharge_ohms)
     if not (rd > 0 and math.isfinite(rd)):
         raise SimulationFailed(f"discharge on-resistance {discharge_ohms!r} must be a positive number of ohms")
-    return ChipModel(key, float(vcc), float(voh), float(vol), DIVIDER_OHMS[key], rd)
+    return ChipModel(key, float(vcc), float(voh), float(vol), chips.FAMILIES[key].spice_divider_ohms, rd)
 
 
 # ----------------------------------------------------------------------------- shapes → wiring
@@ -304,17 +297,6 @@ def diode_reference_current(vcc: float, vf: float, ra: float, rb: float) -> floa
 
 
 # ----------------------------------------------------------------------------- netlists
-def _times(c: Circuit) -> tuple[float, float]:
-    e = c.expected
-    th, tl = e.get("t_high_s"), e.get("t_low_s")
-    if th and tl and math.isfinite(th) and math.isfinite(tl):
-        return float(th), float(tl)
-    f, d = e.get("frequency_hz"), e.get("duty")
-    if f and d and 0 < d < 1:
-        return d / f, (1 - d) / f
-    raise SimulationFailed("the option has no predicted t_high/t_low or frequency/duty to size the run")
-
-
 def _net(c: Circuit, label: str) -> Network:
     try:
         return c.networks[label]
@@ -333,111 +315,6 @@ WAVE_FILE = "waveform.txt"
 def _wave_block(nodes: str) -> list[str]:
     # an ngspice control block: run the analysis above, then dump the waveforms as columns
     return [".control", "run", "set wr_singlescale", f"wrdata {WAVE_FILE} {nodes}", "quit", ".endc"]
-
-
-def build_netlist(c: Circuit, cycles: int = 5, waveform: bool = False) -> Netlist:
-    """The complete netlist for ``c`` with its ``.meas`` lines; ``cycles`` full astable cycles
-    are measured after the first one. With ``waveform`` the run also writes :data:`WAVE_FILE`
-    (time and the plotted node voltages, see :func:`parse_waveform`)."""
-    if c.connection not in CONNECTIONS:
-        raise SimulationFailed(f"unknown connection {c.connection!r}; expected one of: " + ", ".join(CONNECTIONS))
-    if cycles < 1:
-        raise SimulationFailed(f"--cycles must be at least 1, got {cycles}")
-    chip = c.chip
-    vcc = chip.vcc
-    title = c.title or f"selector {c.connection} option"
-    L = [f"* {title}",
-         f"* {c.connection} connection, {chip.family} 555 model, VCC {vcc:g} V"
-         if c.connection != "rc" else f"* RC low-pass, step of {vcc:g} V",
-         "* Written by selector; run with: ngspice -b <this file>",
-         "* Caution: a real circuit's capacitors can stay charged after power is removed."]
-    meas: list[str] = []
-    if c.connection == "rc":
-        return _rc_netlist(c, L, cycles, waveform)
-    L.append(f"VCC vcc 0 DC {_num(vcc)}")
-    mid = _num((chip.voh + chip.vol) / 2.0)
-    cn = _net(c, "C")
-    if c.connection in ("standard", "diode"):
-        ra, rb = _net(c, "RA"), _net(c, "RB")
-        L += network_lines(ra, "vcc", "dis")
-        L += network_lines(rb, "dis", "cap")
-        if c.connection == "diode":
-            ra_v = tree_value(shape_tree(ra.shape, len(ra.parts)), [p.value for p in ra.parts], "R")
-            rb_v = tree_value(shape_tree(rb.shape, len(rb.parts)), [p.value for p in rb.parts], "R")
-            i_ref = diode_reference_current(vcc, c.diode_vf, ra_v, rb_v)
-            isat = diode_saturation_current(c.diode_vf, i_ref)
-            L += [f"* steering diode across RB (anode DIS, cathode C): drops {c.diode_vf:g} V at "
-                  f"{i_ref * 1e3:.4g} mA, the mean charging current",
-                  "DSTEER dis cap SELDIODE",
-                  f".model SELDIODE D(IS={isat:.6g} N={_num(DIODE_N)} RS=0 CJO=0)"]
-        L += network_lines(cn, "cap", "0", ic=0.0)
-        L.append("X555 0 cap out vcc ctl cap dis vcc SEL555_" + chip.family.upper())
-    elif c.connection == "output-fed":
-        L += network_lines(_net(c, "R"), "out", "cap")
-        L += network_lines(cn, "cap", "0", ic=0.0)
-        L.append("* DIS is not used in the output-fed connection")
-        L.append("X555 0 cap out vcc ctl cap dis vcc SEL555_" + chip.family.upper())
-    else:  # monostable
-        tw = float(c.expected.get("width_s") or 0)
-        if not (tw > 0 and math.isfinite(tw)):
-            raise SimulationFailed("the monostable option has no predicted width_s to size the run")
-        td, pw, edge = tw / 10.0, tw / 10.0, tw / 1e4
-        L += network_lines(_net(c, "R"), "vcc", "cap")
-        L += network_lines(cn, "cap", "0", ic=0.0)
-        L += [f"* trigger: TRIG rests at VCC, pulled to 0 V for {_eng(pw, 's')} (shorter than the width)",
-              f"VTRIG trig 0 PULSE({_num(vcc)} 0 {_num(td)} {_num(edge)} {_num(edge)} {_num(pw)} {_num(1e3 * tw)})",
-              "X555 0 trig out vcc ctl cap cap vcc SEL555_" + chip.family.upper()]
-        L += subckt_555(chip)
-        L += [".save v(cap) v(out) v(trig)", _tran(tw / STEPS_PER_PULSE, td + 3.0 * tw)]
-        for name, edge_kind in (("m_r1", "RISE=1"), ("m_f1", "FALL=1")):
-            meas.append(name)
-            L.append(f".meas tran {name} WHEN v(out)={mid} {edge_kind}")
-        if waveform:
-            L += _wave_block("v(cap) v(out) v(trig)")
-        L.append(".end")
-        return Netlist("\n".join(L) + "\n", tuple(meas), 1)
-    L += subckt_555(chip)
-    th, tl = _times(c)
-    period = th + tl
-    # the first high lasts longer (C starts at 0 V); 3× the expected span leaves room for a
-    # prediction that is off, so the measurement says so instead of running out of time.
-    tstop = 1.5 * (2.0 * th + (cycles + 1) * period)
-    L += [".save v(cap) v(out)", _tran(min(th, tl) / STEPS_PER_SEGMENT, tstop)]
-    for k in range(1, cycles + 2):
-        meas.append(f"m_f{k}")
-        L.append(f".meas tran m_f{k} WHEN v(out)={mid} FALL={k}")
-    for k in range(1, cycles + 3):
-        meas.append(f"m_r{k}")
-        L.append(f".meas tran m_r{k} WHEN v(out)={mid} RISE={k}")
-    if waveform:
-        L += _wave_block("v(cap) v(out)")
-    L.append(".end")
-    return Netlist("\n".join(L) + "\n", tuple(meas), cycles)
-
-
-def _rc_netlist(c: Circuit, L: list[str], cycles: int, waveform: bool = False) -> Netlist:
-    tau = float(c.expected.get("tau_s") or 0)
-    if not (tau > 0 and math.isfinite(tau)):
-        raise SimulationFailed("the RC option has no predicted tau_s to size the run")
-    v = c.chip.vcc
-    td, edge = tau / 10.0, tau / 1e4
-    fc = 1.0 / (2.0 * math.pi * tau)
-    L += [f"* step of {v:g} V at {_eng(td, 's')} (edge {_eng(edge, 's')}), AC 1 V for the corner",
-          f"VIN in 0 DC 0 AC 1 PULSE(0 {_num(v)} {_num(td)} {_num(edge)} {_num(edge)} {_num(100 * tau)} {_num(1e3 * tau)})"]
-    L += network_lines(_net(c, "R"), "in", "cap")
-    L += network_lines(_net(c, "C"), "cap", "0", ic=0.0)
-    # ngspice runs one analysis per .meas set in batch mode, so the two run from a control block
-    tmax = max(tau / STEPS_PER_PULSE, (td + 3.0 * tau) / MAX_STEPS)
-    L += [".control",
-          f"tran {_num(tmax)} {_num(td + 3.0 * tau)} 0 {_num(tmax)} UIC",
-          f"meas tran m_t63 WHEN v(cap)={_num(RC_FRACTION * v)} RISE=1",
-          *(["set wr_singlescale", f"wrdata {WAVE_FILE} v(in) v(cap)"] if waveform else []),
-          f"ac dec 200 {_num(fc / 100)} {_num(fc * 100)}",
-          f"meas ac m_fc WHEN vdb(cap)={MINUS_3DB:.8f} FALL=1",
-          "quit",
-          ".endc",
-          ".end"]
-    return Netlist("\n".join(L) + "\n", ("m_t63", "m_fc"), cycles)
 
 
 # ----------------------------------------------------------------------------- reading results
@@ -493,28 +370,6 @@ def parse_waveform(text: str) -> tuple[list[float], list[list[float]]]:
     return times, cols
 
 
-def reduce_measurements(c: Circuit, found: Mapping[str, float], cycles: int) -> dict[str, float]:
-    """Turn crossing times into the option's keys (same keys as the search's ``predicted``)."""
-    if c.connection == "rc":
-        t63 = _need(found, "m_t63", "the 63.2 % time")
-        tau = t63 - (float(c.expected["tau_s"]) / 10.0 + float(c.expected["tau_s"]) / 2e4)
-        return {"tau_s": tau, "corner_hz": _need(found, "m_fc", "the -3 dB corner")}
-    if c.connection == "monostable":
-        r1 = _need(found, "m_r1", "the output rising at the trigger")
-        f1 = _need(found, "m_f1", "the output falling at the end of the pulse")
-        return {"width_s": f1 - r1}
-    falls = [_need(found, f"m_f{k}", f"output fall {k}") for k in range(1, cycles + 2)]
-    rises = sorted(v for k, v in found.items() if k.startswith("m_r") and v > falls[0])
-    if len(rises) < cycles or any(not (falls[k] < rises[k] < falls[k + 1]) for k in range(cycles)):
-        raise SimulationFailed(f"ngspice could not measure {cycles} whole cycles after the first: "
-                               "the output did not switch as an astable should")
-    highs = [falls[k + 1] - rises[k] for k in range(cycles)]
-    lows = [rises[k] - falls[k] for k in range(cycles)]
-    t_high, t_low = sum(highs) / cycles, sum(lows) / cycles
-    period = (falls[cycles] - falls[0]) / cycles
-    return {"frequency_hz": 1.0 / period, "duty": t_high / period, "t_high_s": t_high, "t_low_s": t_low}
-
-
 def difference(predicted: Mapping[str, float], simulated: Mapping[str, float]) -> dict[str, float]:
     """Signed relative differences (simulated − predicted)/predicted for every shared key."""
     out = {}
@@ -539,18 +394,3 @@ def _scaled(net: Network, direction: int) -> Network:
     return replace(net, parts=tuple(parts), value=None)
 
 
-def corner_circuits(c: Circuit) -> list[tuple[str, str, Circuit]]:
-    """Worst-case tolerance corners: ``(name, description, circuit)``. Every connection gets
-    "all -tol" and "all +tol" (the extremes of frequency, width or τ: each is monotonic in
-    every part, facts §10); astables with RA and RB also get the two duty corners."""
-    def at(directions: Mapping[str, int], name: str, desc: str) -> tuple[str, str, Circuit]:
-        nets = {k: _scaled(n, directions.get(k, 0)) for k, n in c.networks.items()}
-        return name, desc, replace(c, networks=nets)
-
-    labels = list(c.networks)
-    out = [at({k: -1 for k in labels}, "all -tol", "every part at its lower tolerance limit"),
-           at({k: +1 for k in labels}, "all +tol", "every part at its upper tolerance limit")]
-    if c.connection in ("standard", "diode"):
-        out.append(at({"RA": +1, "RB": -1}, "duty max", "RA at +tol, RB at -tol, C nominal"))
-        out.append(at({"RA": -1, "RB": +1}, "duty min", "RA at -tol, RB at +tol, C nominal"))
-    return out
