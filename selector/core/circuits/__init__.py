@@ -11,13 +11,14 @@ Importing this package is cheap (no numpy): the CLI reads its choices from it at
 
 from __future__ import annotations
 
-from selector.core.circuits import diode, monostable, output_fed, rc, standard
+from selector.core.circuits import diode, monostable, output_fed, rc, schmitt, standard
 from selector.core.circuits.base import CircuitKind
 
 REGISTRY: dict[str, CircuitKind] = {m.CIRCUIT.key: m.CIRCUIT for m in (
     standard,
     diode,
     output_fed,
+    schmitt,
     monostable,
     rc,
 )}
