@@ -69,7 +69,7 @@ from typing import Iterable, Sequence, Union
 
 import numpy as np
 
-from selector.core.nearest import ThreePartSearch, argsort_stable, join as _join, rank_rows, ranges_concat
+from selector.core.networks.nearest import ThreePartSearch, argsort_stable, join as _join, rank_rows, ranges_concat
 from selector.core.types import KINDS, StockLine
 
 SHAPES: tuple[str, ...] = (
