@@ -104,40 +104,27 @@ def _role_for(key: str, mode: str) -> str:
 # Wiring of a network
 # ---------------------------------------------------------------------------------------------
 
-#: How each shape is wired, pair first for the mixed 3-part shapes ("+" series, "∥" parallel);
-#: the shape names are the network engine's (selector/core/networks.py).
-_TEMPLATES = {
-    "single": "{0}", "series": "{0} + {1}", "parallel": "{0} ∥ {1}",
-    "series3": "{0} + {1} + {2}", "parallel3": "{0} ∥ {1} ∥ {2}",
-    "series+parallel": "({0} ∥ {1}) + {2}", "parallel+series": "({0} + {1}) ∥ {2}",
-}
-
-
-def _join(kind: str, joint: str, values: Sequence[float]) -> float:
-    adds = (joint == "series") == (kind == "resistor")  # R in series and C in parallel add
-    return sum(values) if adds else 1.0 / sum(1.0 / v for v in values)
-
-
 def wiring(shape: str, physical: Sequence[StockLine], value: Optional[float]) -> tuple[list[StockLine], str]:
     """Order the physical parts of a network as its formula reads and return the formula
-    template. The saved JSON lists parts by stock line with counts, which loses which part is
-    the lone one in a mixed 3-part shape; it is recovered as the choice that reproduces the
-    network's saved value (else the last part, the network engine's order)."""
+    template (the shape's written form, ``networks.shapes``). The saved JSON lists parts by
+    stock line with counts, which loses which part is the lone one in a mixed 3-part shape; it is
+    recovered as the choice that reproduces the network's saved value (else the last part, the
+    network engine's order)."""
+    from selector.core.networks.shapes import SHAPES, value as shape_value
+
     parts = list(physical)
-    template = _TEMPLATES.get(shape)
-    if template is None or template.count("{") != len(parts):
+    entry = SHAPES.get(shape)
+    if entry is None or entry.parts != len(parts):
         joint = " ∥ " if shape.startswith("parallel") else " + "
         return parts, joint.join("{%d}" % i for i in range(len(parts)))
-    if shape in ("series+parallel", "parallel+series") and value is not None:
-        outer, inner = ("series", "parallel") if shape == "series+parallel" else ("parallel", "series")
+    if not entry.symmetric and value is not None:
         kind = parts[0].kind
         for lone in (2, 1, 0):
-            pair = [parts[i].value for i in range(3) if i != lone]
-            got = _join(kind, outer, [_join(kind, inner, pair), parts[lone].value])
-            if math.isclose(got, value, rel_tol=1e-6):
-                parts = [parts[i] for i in range(3) if i != lone] + [parts[lone]]
+            order = [parts[i] for i in range(3) if i != lone] + [parts[lone]]
+            if math.isclose(shape_value(entry.structure, [p.value for p in order], kind), value, rel_tol=1e-6):
+                parts = order
                 break
-    return parts, template
+    return parts, entry.template
 
 
 # ---------------------------------------------------------------------------------------------

@@ -14,8 +14,7 @@ if TYPE_CHECKING:  # pragma: no cover
 
     from selector.core.networks import Network
 
-SERIES_SIGN = "+"
-PARALLEL_SIGN = "∥"
+
 LEGEND = "+ = in series, ∥ = in parallel"
 
 
@@ -33,17 +32,10 @@ def value_text(kind: str, value: float) -> str:
 
 def network_text(net: "Network") -> str:
     """The network written readably, following its structure: parts in physical order, a
-    nested pair in parentheses."""
+    nested pair in parentheses (``networks.shapes.write``)."""
+    from selector.core.networks.shapes import write
 
-    def walk(node, top: bool) -> str:
-        if isinstance(node, int):
-            return value_text(net.kind, net.physical[node].value)
-        joint, children = node
-        sign = SERIES_SIGN if joint == "series" else PARALLEL_SIGN
-        text = f" {sign} ".join(walk(c, False) for c in children)
-        return text if top else f"({text})"
-
-    return walk(net.structure, True)
+    return write(net.structure, [value_text(net.kind, p.value) for p in net.physical])
 
 
 def parts_json(net: "Network") -> list[dict[str, Any]]:

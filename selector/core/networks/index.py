@@ -65,40 +65,22 @@ Polarized capacitors: by default no polarized part sits in a series joint (anywh
 from __future__ import annotations
 
 from dataclasses import dataclass, field
-from typing import Iterable, Sequence, Union
+from typing import Iterable, Sequence
 
 import numpy as np
 
+from selector.core.networks import shapes as _shapes
 from selector.core.networks.nearest import ThreePartSearch, argsort_stable, join as _join, rank_rows, ranges_concat
 from selector.core.types import KINDS, StockLine
 
-SHAPES: tuple[str, ...] = (
-    "single",
-    "series",
-    "parallel",
-    "series3",
-    "parallel3",
-    "series+parallel",
-    "parallel+series",
-)
+SHAPES: tuple[str, ...] = tuple(_shapes.SHAPES)  # the names; their meaning is in networks.shapes
 # 3-part shapes, in the order of their code in an id: (name, outer joint, inner joint, symmetric)
-_SHAPES3: tuple[tuple[str, str, str, bool], ...] = (
-    ("series3", "series", "series", True),
-    ("parallel3", "parallel", "parallel", True),
-    ("series+parallel", "series", "parallel", False),
-    ("parallel+series", "parallel", "series", False),
-)
+_SHAPES3: tuple[tuple[str, str, str, bool], ...] = tuple(
+    (s.name, s.outer, s.inner, s.symmetric) for s in _shapes.SHAPES3)
 _SINGLE, _SERIES, _PARALLEL = 0, 1, 2  # shape codes in the materialised array
 
-Structure = Union[int, tuple]  # a leaf (index into Network.physical) or (joint, (children...))
-
-
-def adds(kind: str, joint: str) -> bool:
-    """True when this joint adds the values themselves (resistors in series, capacitors in
-    parallel); False when it adds reciprocals."""
-    if kind not in KINDS:
-        raise ValueError(f"unknown part kind {kind!r}")
-    return (joint == "series") == (kind == "resistor")
+Structure = _shapes.Structure  # a leaf (index into Network.physical) or (joint, (children...))
+adds = _shapes.adds
 
 
 @dataclass(frozen=True)
@@ -412,19 +394,16 @@ class NetworkIndex:
         ln = self.lines
         if i < self._M:
             code = int(self._shape[i])
-            if code == _SINGLE:
-                shape, physical, structure = "single", (ln[raw[0]],), 0
-            else:
-                joint = "series" if code == _SERIES else "parallel"
-                shape, physical, structure = joint, (ln[raw[0]], ln[raw[1]]), (joint, (0, 1))
+            shape = "single" if code == _SINGLE else ("series" if code == _SERIES else "parallel")
+            physical = (ln[raw[0]],) if code == _SINGLE else (ln[raw[0]], ln[raw[1]])
         else:
             s = int(self._decode(np.array([i]))[0][0])
-            shape, outer, inner, sym = _SHAPES3[s]
+            shape, _outer, _inner, sym = _SHAPES3[s]
             if sym:
-                physical, structure = (ln[raw[0]], ln[raw[1]], ln[raw[2]]), (outer, (0, 1, 2))
+                physical = (ln[raw[0]], ln[raw[1]], ln[raw[2]])
             else:  # pair first, as written: (B ∥ C) + A
                 physical = (ln[raw[1]], ln[raw[2]], ln[raw[0]])
-                structure = (outer, ((inner, (0, 1)), 2))
+        structure = _shapes.SHAPES[shape].structure
         counts: dict[int, int] = {}
         for line in physical:
             counts[line.id] = counts.get(line.id, 0) + 1

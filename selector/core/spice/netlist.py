@@ -139,26 +139,18 @@ def chip_model(family_key: str, vcc: float, voh: float, vol: float,
 # ----------------------------------------------------------------------------- shapes → wiring
 Tree = Union[int, tuple]   # a part index, or ("s"|"p", child, child, ...)
 
-SHAPE_TREES: dict[str, Tree] = {
-    # the shape names of selector.core.networks; part order as its ``physical`` tuple
-    "single": 0,
-    "series3": ("s", 0, 1, 2),
-    "parallel3": ("p", 0, 1, 2),
-    "series+parallel": ("s", ("p", 0, 1), 2),    # (B ∥ C) + A, pair first
-    "parallel+series": ("p", ("s", 0, 1), 2),    # (B + C) ∥ A, pair first
-}
-
 
 def shape_tree(shape: str, n: int) -> Tree:
-    """Wiring of ``n`` parts for ``shape``: a part index or ("s"|"p", children...)."""
-    if shape == "series" and n >= 2:
-        return ("s",) + tuple(range(n))
-    if shape == "parallel" and n >= 2:
-        return ("p",) + tuple(range(n))
-    tree = SHAPE_TREES.get(shape)
-    if tree is None or _tree_size(tree) != n:
+    """Wiring of ``n`` parts for ``shape`` (the SPICE sub-tree of ``networks.shapes.SHAPES``):
+    a part index or ("s"|"p", children...). One joint takes any number of parts."""
+    from selector.core.networks.shapes import SHAPES, spice_tree
+
+    if shape in ("series", "parallel") and n >= 2:
+        return spice_tree((shape, tuple(range(n))))
+    entry = SHAPES.get(shape)
+    if entry is None or entry.parts != n:
         raise SimulationFailed(f"cannot wire a network of shape {shape!r} with {n} part(s)")
-    return tree
+    return entry.spice_tree
 
 
 def physical_order(shape: str, kind: str, parts: Sequence[Part], value: Optional[float]) -> tuple[Part, ...]:
@@ -180,17 +172,17 @@ def physical_order(shape: str, kind: str, parts: Sequence[Part], value: Optional
                            "run the search again")
 
 
-def _tree_size(tree: Tree) -> int:
-    return 1 if isinstance(tree, int) else sum(_tree_size(t) for t in tree[1:])
+def _structure(tree: Tree):
+    if isinstance(tree, int):
+        return tree
+    return ("series" if tree[0] == "s" else "parallel", tuple(_structure(t) for t in tree[1:]))
 
 
 def tree_value(tree: Tree, values: Sequence[float], kind: str) -> float:
-    """Effective value of a wired network (used by tests and for comments)."""
-    if isinstance(tree, int):
-        return float(values[tree])
-    parts = [tree_value(t, values, kind) for t in tree[1:]]
-    adds = (tree[0] == "s") == (kind == "R")   # resistors add in series, capacitors in parallel
-    return sum(parts) if adds else 1.0 / sum(1.0 / p for p in parts)
+    """Effective value of a wired network (the value law of ``networks.shapes``; kind "R"/"C")."""
+    from selector.core.networks.shapes import value
+
+    return value(_structure(tree), values, "resistor" if kind == "R" else "capacitor")
 
 
 def _wire(tree: Tree, a: str, b: str, label: str, values: Sequence[float], out: list[str],
