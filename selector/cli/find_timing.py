@@ -11,6 +11,7 @@ import typer
 
 from selector.cli._common import db_arg, handles_errors
 from selector.core import circuits  # the registry: light, no numpy
+from selector.core.parts import DIODE_VF_DEFAULT
 
 _ASTABLES = circuits.for_mode("astable")
 
@@ -147,7 +148,7 @@ def register(find_app: typer.Typer) -> None:
         connection: ConnectionChoice = typer.Option(ConnectionChoice.auto, "--connection", help=_CONNECTION_HELP),
         chip: ChipChoice = typer.Option(ChipChoice.bipolar, "--chip", help=_COMMON_HELP["chip"]),
         vcc: str = typer.Option("9V", "--vcc", metavar="V", help=_COMMON_HELP["vcc"]),
-        diode_vf: Optional[str] = typer.Option(None, "--diode-vf", metavar="V", help="Forward drop of the steering diode (default 0.65 V, small-signal silicon)."),
+        diode_vf: Optional[str] = typer.Option(None, "--diode-vf", metavar="V", help=f"Forward drop of the steering diode (default {DIODE_VF_DEFAULT:g} V, small-signal silicon)."),
         max_parts: int = typer.Option(2, "--max-parts", metavar="N", help=_COMMON_HELP["max_parts"]),
         top: int = typer.Option(10, "--top", metavar="K", help=_COMMON_HELP["top"]),
         boards: int = typer.Option(1, "--boards", metavar="B", help=_COMMON_HELP["boards"]),

@@ -38,6 +38,11 @@ import re
 from dataclasses import replace
 from typing import Any, Callable, Iterable, Mapping, Optional, Sequence
 
+from selector.core.bom_formats import (  # noqa: F401  (the output forms; same public names here)
+    CSV_COLUMNS, MD_COLUMNS, md_cell, neutralize_cell, rating_text, to_csv, to_json, to_markdown, to_rows,
+    tolerance_text, value_text,
+)
+from selector.core.cautions import CAUTIONS as CAUTION_TEXTS
 from selector.core.bom_records import Bom, BomLine, CircuitSpec, PickItem, PickStop, Shortage
 from selector.core.types import StockLine
 
@@ -45,13 +50,9 @@ from selector.core.types import StockLine
 # Roles and fixed extra parts
 # ---------------------------------------------------------------------------------------------
 
-ROLE_TIMING_C = "timing capacitor"
-ROLE_IC = "timer IC"
-ROLE_DIODE = "steering diode"
-ROLE_CV = "control-pin capacitor"
-ROLE_DECOUPLE = "supply decoupling capacitor"
-ROLE_RESERVOIR = "supply reservoir capacitor"
-ROLE_NETWORK = "network"
+from selector.core.bom_records import (  # noqa: E402,F401  (re-exported)
+    ROLE_CV, ROLE_DECOUPLE, ROLE_DIODE, ROLE_IC, ROLE_NETWORK, ROLE_RESERVOIR, ROLE_TIMING_C,
+)
 
 # Which extra capacitors a circuit needs (control pin, decoupling, reservoir) and their values
 # are the circuit kind's and the chip family's data (selector.core.circuits, selector.core.chips).
@@ -63,12 +64,7 @@ NETWORK_ORDER = ("RA", "RB", "R", "C")
 # Relative tolerance for "this stock line holds the value the search used" (floats from JSON).
 _SAME_VALUE = 1e-9
 
-CAUTIONS = (
-    "Caution: capacitors can hold a charge after power is removed; discharge electrolytics "
-    "through a resistor before handling them.",
-    "Caution: when the circuit goes into mains-powered equipment under repair, follow your local "
-    "electrical codes and qualified practice; isolate and discharge the equipment first.",
-)
+CAUTIONS = (CAUTION_TEXTS["bom_charged_capacitor"], CAUTION_TEXTS["bom_mains"])
 
 
 # ---------------------------------------------------------------------------------------------
@@ -405,12 +401,6 @@ def shortages(bom: Bom, stock: Sequence[StockLine]) -> list[Shortage]:
             out.append(Shortage(line_id, s.kind, s.value, s.location, qty, s.quantity))
     return out
 
-
-# The output forms live in their own module to keep this one short; same public names here.
-from selector.core.bom_formats import (  # noqa: E402  (after the types they format)
-    CSV_COLUMNS, MD_COLUMNS, md_cell, neutralize_cell, rating_text, to_csv, to_json, to_markdown, to_rows,
-    tolerance_text, value_text,
-)
 
 __all__ = [
     "Bom", "BomLine", "CircuitSpec", "PickItem", "PickStop", "Shortage", "OptionOutdatedError",

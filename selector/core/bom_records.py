@@ -7,6 +7,15 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 from typing import Any, Mapping, Optional
 
+# Roles of BOM lines (what each part is for); circuit kinds name their extra parts with these.
+ROLE_TIMING_C = "timing capacitor"
+ROLE_IC = "timer IC"
+ROLE_DIODE = "steering diode"
+ROLE_CV = "control-pin capacitor"
+ROLE_DECOUPLE = "supply decoupling capacitor"
+ROLE_RESERVOIR = "supply reservoir capacitor"
+ROLE_NETWORK = "network"
+
 
 @dataclass(frozen=True)
 class CircuitSpec:

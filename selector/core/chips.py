@@ -205,39 +205,6 @@ def leakage_ok(r, c_farad, vcc, v_rated) -> np.ndarray:
     return leakage_margin(r, c_farad, vcc, v_rated) >= LEAKAGE_MARGIN_MIN
 
 
-# --------------------------------------------------------------------------- cautions (text data)
-CAUTIONS: dict[str, str] = {
-    "charged_capacitor": (
-        "Capacitors can hold a charge after power is removed: discharge electrolytics through a "
-        "resistor before handling them."
-    ),
-    "mains": (
-        "Mains-powered equipment under repair can kill: follow local codes and qualified practice, "
-        "work unpowered where you can, and use an isolating transformer."
-    ),
-    "electrolytic_leakage": (
-        "Electrolytic timing capacitor: its leakage (up to 0.01·C·V µA or 3 µA) makes long timings "
-        "drift; keep the charging current VCC/(3R) at least 10× the leakage, or use a film "
-        "capacitor with a larger R on a CMOS 555."
-    ),
-    "high_frequency": (
-        "Above about 100 kHz propagation delays and the discharge switch resistance make the real "
-        "frequency lower than the formula."
-    ),
-    "bipolar_output_fed": (
-        "The output-fed connection depends on the output levels; a bipolar 555 output is not "
-        "rail-to-rail, so the duty is well above 50 % and it may not oscillate at 5 V."
-    ),
-    "class2": (
-        "Class-2 ceramic (X7R, X5R, Y5V, Z5U) in the timing position: its value moves with "
-        "voltage, temperature and age; prefer C0G or film for timing."
-    ),
-    "cap_rating_unknown": (
-        "A timing capacitor has no voltage rating in stock: check it is rated well above VCC "
-        "before fitting it."
-    ),
-    "decoupling": (
-        "Decouple VCC close to a bipolar 555 (10–100 µF): its output draws current spikes at "
-        "every transition."
-    ),
-}
+# --------------------------------------------------------------------------- cautions
+# The caution texts live in one table, selector.core.cautions; re-exported here (older name).
+from selector.core.cautions import CAUTIONS  # noqa: E402,F401

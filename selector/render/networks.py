@@ -1,12 +1,12 @@
 """Writing networks for people: ``10 kΩ + 2.2 kΩ`` (in series), ``22 kΩ ∥ 47 kΩ`` (in parallel),
-``(10 kΩ ∥ 10 kΩ) + 1 kΩ``; the JSON form of a network option; the ``find value`` table.
+``(10 kΩ ∥ 10 kΩ) + 1 kΩ``; the ``find value`` table (its JSON form is the service's).
 
 ``+`` always means "in series" and ``∥`` "in parallel", for capacitors too (two 100 nF in series
 are written ``100 nF + 100 nF`` and make 50 nF); the table says so under it."""
 
 from __future__ import annotations
 
-from typing import TYPE_CHECKING, Any, Sequence
+from typing import TYPE_CHECKING, Sequence
 
 if TYPE_CHECKING:  # pragma: no cover
     from rich.console import Console
@@ -36,18 +36,6 @@ def network_text(net: "Network") -> str:
     from selector.core.networks.shapes import write
 
     return write(net.structure, [value_text(net.kind, p.value) for p in net.physical])
-
-
-def parts_json(net: "Network") -> list[dict[str, Any]]:
-    """[{"line_id", "value", "count", "location"}] for the distinct stock lines of a network."""
-    return [{"line_id": line.id, "value": line.value, "count": count, "location": line.location}
-            for line, count in net.parts]
-
-
-def option_json(rank: int, net: "Network", target: float) -> dict[str, Any]:
-    """One ``find value`` option exactly as --json prints it (SI units; error = value/target - 1)."""
-    return {"rank": rank, "value": net.value, "error": net.value / target - 1.0, "min": net.vmin,
-            "max": net.vmax, "shape": net.shape, "parts": parts_json(net)}
 
 
 def pick_text(net: "Network") -> str:

@@ -6,6 +6,7 @@ from rich import box
 from rich.console import Group
 from rich.table import Table
 from rich.text import Text
+from selector.core.cautions import CAUTIONS as CAUTION_TEXTS
 
 # (key, label, unit for format_value or "%" for a fraction)
 _ROWS = (
@@ -22,10 +23,7 @@ MODEL_NOTE = (
     "ngspice runs selector's own behavioural 555 (3-resistor divider, two comparators, SR latch, "
     "discharge switch, output at the chip family's levels); figures are taken after the first cycle."
 )
-CAUTION = (
-    "Caution: a built timer's capacitors can stay charged after power is off; discharge large ones "
-    "through a resistor, and on mains-powered equipment follow local codes and qualified practice."
-)
+CAUTION = CAUTION_TEXTS["simulate"]
 
 
 def _fmt(value: float, unit: str) -> str:

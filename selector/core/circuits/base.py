@@ -13,6 +13,8 @@ import math
 from dataclasses import dataclass, field
 from typing import Any, Callable, Mapping, Optional, Sequence
 
+from selector.core.parts import DIODE_VF_DEFAULT
+
 INF = float("inf")
 
 ONE_RESISTOR = "one-resistor"
@@ -80,7 +82,7 @@ class Limits:
     r_power_derating: float = 0.5  # allowed fraction of the rated power
     cap_volts: float = 0.0  # working voltage across the timing capacitor (0: no rating check)
     cap_derating: Callable[[str], float] = field(default=lambda dielectric: 1.0)
-    diode_vf: float = 0.65
+    diode_vf: float = DIODE_VF_DEFAULT
     voh: float = math.nan  # output levels for the output-fed connection
     vol: float = math.nan
     extra: Mapping[str, Any] = field(default_factory=dict, compare=False, hash=False)
@@ -93,7 +95,7 @@ class Settings:
 
     chip: str = "bipolar"
     vcc: float = 9.0
-    diode_vf: Optional[float] = 0.65
+    diode_vf: Optional[float] = DIODE_VF_DEFAULT
     options: Mapping[str, Any] = field(default_factory=dict)
 
 

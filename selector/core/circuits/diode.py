@@ -4,6 +4,7 @@ facts.md §2, [S8])."""
 
 from __future__ import annotations
 
+from selector.core.bom_records import ROLE_DIODE
 from selector.core.circuits.base import TWO_RESISTOR, Limits, Obtain, Settings, Target
 from selector.core.circuits.modes import AstableKind, Timer555
 from selector.core.spice import netlist as sp
@@ -71,7 +72,7 @@ class Diode(Timer555, AstableKind):
         what = "small-signal Schottky diode" if schottky else "small-signal silicon diode, 1N4148 class"
         vf = f"; Vf about {vf_v:g} V as searched" if vf_v is not None else ""
         return super().bom_obtain(settings) + (Obtain(
-            "D1", "steering diode", "diode", what, f"across RB, anode at DIS, cathode at THR/TRIG{vf}"),)
+            "D1", ROLE_DIODE, "diode", what, f"across RB, anode at DIS, cathode at THR/TRIG{vf}"),)
 
     # ---- SPICE
     def spice_body(self, c) -> list[str]:

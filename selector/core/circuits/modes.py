@@ -6,6 +6,7 @@ from __future__ import annotations
 import math
 from typing import Mapping, Optional, Sequence
 
+from selector.core.bom_records import ROLE_CV, ROLE_DECOUPLE, ROLE_IC, ROLE_RESERVOIR
 from selector.core.circuits.base import ModeBase, Settings, Target
 from selector.core.spice import netlist as sp
 
@@ -142,7 +143,7 @@ class Timer555:
         from selector.core.circuits.base import Obtain
 
         fam = chips.family(settings.chip)
-        return (Obtain("U1", "timer IC", "ic", f"555 timer, {fam.part_text}"),)
+        return (Obtain("U1", ROLE_IC, "ic", f"555 timer, {fam.part_text}"),)
 
     def bom_extra_caps(self, settings: Settings):
         """Control-pin capacitor and reservoir as the family's data say, decoupling always
@@ -153,13 +154,13 @@ class Timer555:
         fam = chips.family(settings.chip)
         out = []
         if fam.control_pin_cap_f is not None:
-            out.append(ExtraCap("control-pin capacitor", fam.control_pin_cap_f, is_value(fam.control_pin_cap_f),
+            out.append(ExtraCap(ROLE_CV, fam.control_pin_cap_f, is_value(fam.control_pin_cap_f),
                                 CERAMIC + FILM, POLARIZED, "CV (pin 5) to ground"))
-        out.append(ExtraCap("supply decoupling capacitor", 100e-9, is_value(100e-9), CERAMIC + FILM,
+        out.append(ExtraCap(ROLE_DECOUPLE, 100e-9, is_value(100e-9), CERAMIC + FILM,
                             POLARIZED, "VCC to ground, close to the IC"))
         if fam.reservoir_f is not None:
             lo, hi = fam.reservoir_f
-            out.append(ExtraCap("supply reservoir capacitor", lo, within(lo, hi), POLARIZED + CERAMIC, (),
+            out.append(ExtraCap(ROLE_RESERVOIR, lo, within(lo, hi), POLARIZED + CERAMIC, (),
                                 "VCC to ground, close to the IC; 10-100 µF", "electrolytic"))
         return tuple(out)
 

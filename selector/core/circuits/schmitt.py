@@ -22,6 +22,7 @@ import math
 from dataclasses import dataclass
 from typing import Optional
 
+from selector.core.bom_records import ROLE_DECOUPLE
 from selector.core.circuits.base import (
     CERAMIC, FILM, POLARIZED, CliOption, ExtraCap, Limits, Obtain, Settings, Uncertain, is_value,
 )
@@ -199,7 +200,7 @@ class SchmittInverter(FixedRatioAstable):
         return (Obtain("U1", "inverter IC", "ic", fam.part, "one of its six inverters"),)
 
     def bom_extra_caps(self, settings: Settings):
-        return (ExtraCap("supply decoupling capacitor", 100e-9, is_value(100e-9), CERAMIC + FILM, POLARIZED,
+        return (ExtraCap(ROLE_DECOUPLE, 100e-9, is_value(100e-9), CERAMIC + FILM, POLARIZED,
                          "VDD to ground, close to the IC"),)
 
     def bom_notes(self, settings: Settings) -> list[str]:

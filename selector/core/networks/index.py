@@ -269,9 +269,6 @@ class NetworkIndex:
         self._three = ThreePartSearch(self, shapes)
 
     # ------------------------------------------------------------ id plumbing
-    def _is_triple(self, ids: np.ndarray) -> np.ndarray:
-        return ids >= self._M
-
     def _encode(self, s, a: np.ndarray, pos: np.ndarray) -> np.ndarray:
         return self._M + (s * self._L + a) * self._M + pos
 
@@ -296,6 +293,45 @@ class NetworkIndex:
         if np.any(bad):
             raise ValueError(f"unknown network id {int(ids[bad].flat[0])}")
         return ids
+
+    # ------------------------------------------------------------ views for the searches
+    # Read-only arrays and helpers the 3-part search (networks.nearest) and the timing kernels
+    # use; callers must not write to them.
+    @property
+    def entry_values(self) -> np.ndarray:
+        """Values of the materialised 1-2 part networks, ascending (the id of one is its position)."""
+        return self._val
+
+    @property
+    def entry_lines(self) -> tuple[np.ndarray, np.ndarray]:
+        """(first line, second line) positions of each materialised network (-1: none)."""
+        return self._li, self._lj
+
+    @property
+    def line_values(self) -> np.ndarray:
+        """Nominal value of each stock line, by line position."""
+        return self._v
+
+    @property
+    def line_count(self) -> int:
+        return self._L
+
+    def capacity(self) -> np.ndarray:
+        """Parts per board each line can give: quantity // boards."""
+        return self._cap()
+
+    def pair_position(self, code, i: np.ndarray, j: np.ndarray) -> np.ndarray:
+        """Position of the pair of lines (i, j), i <= j, joined as shape code 1 (series) or 2."""
+        return self._pair_lookup(code, i, j)
+
+    def triple_ids(self, s, a: np.ndarray, pos: np.ndarray) -> np.ndarray:
+        """Ids of 3-part networks: shape code ``s``, single line ``a``, pair at ``pos``."""
+        return self._encode(s, a, pos)
+
+    def sorted_values(self) -> np.ndarray | None:
+        """Every network's value indexed by id, when ids are positions in ascending order (an
+        index of 1-2 part networks); None when 3-part networks are in it."""
+        return self._val if self._three is None and self.max_parts <= 2 else None
 
     # ------------------------------------------------------------ per-id data
     def __len__(self) -> int:

@@ -34,7 +34,7 @@ def _line_arrays(index, attr: str, default: float = math.nan) -> np.ndarray:
 
 
 def _all_ids(index) -> np.ndarray:
-    if getattr(index, "max_parts", 3) <= 2:  # materialised: the ids are the positions 0..n-1
+    if index.max_parts <= 2:  # materialised: the ids are the positions 0..n-1
         return np.arange(len(index), dtype=np.int64)
     _, ids = index.between(np.array([0.0]), np.array([INF]))
     return np.asarray(ids, dtype=np.int64)
@@ -134,18 +134,7 @@ class SortedView:
     def __init__(self, index):
         self._index = index
         self._len = len(index)
-        cached = getattr(index, "_sorted_view_values", False)
-        if cached is False:
-            cached = None
-            if getattr(index, "max_parts", 3) <= 2 and len(index):
-                v = np.asarray(index.values(np.arange(len(index), dtype=np.int64)), dtype=float)
-                if np.all(np.diff(v) >= 0):
-                    cached = v
-            try:
-                index._sorted_view_values = cached  # built once per index
-            except AttributeError:
-                pass
-        self.sorted_values = cached
+        self.sorted_values = index.sorted_values() if self._len else None
 
     def __getattr__(self, name):
         return getattr(self._index, name)
@@ -313,7 +302,7 @@ class _Pass:
         self.chunk = chunk
         # When every line holds enough for two networks of the largest size on every board, RA
         # and RB can never overdraw a line together and the pairwise check can be skipped.
-        qty = np.asarray(getattr(r_index, "quantity", np.zeros(0)), dtype=np.int64)
+        qty = np.asarray(r_index.quantity, dtype=np.int64)
         self.no_conflict = bool(qty.size) and int((qty // r_index.boards).min()) >= 2 * r_index.max_parts
 
     # ---- two-resistor connections
@@ -447,7 +436,7 @@ class _Pass:
         rb_hi_all = np.full(nc, lim.max_total_r_ohm - lim.min_r_ohm)
         found, bound = [], MAX_ERROR
         sample = PHASE1_SAMPLE if sample is None else int(sample)
-        if getattr(self.r, "max_parts", 1) >= 3 and nc > 2 * sample:
+        if self.r.max_parts >= 3 and nc > 2 * sample:
             subset = np.unique(np.linspace(0, nc - 1, sample).astype(np.int64))
             found, bound, enough = self._phase1(pool, progress, subset)
             if not enough:

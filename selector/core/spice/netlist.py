@@ -42,6 +42,7 @@ from dataclasses import dataclass, field, replace
 from typing import Mapping, Optional, Sequence, Union
 
 from selector.core.errors import SimulationFailed
+from selector.core.parts import DIODE_VF_DEFAULT
 
 # ----------------------------------------------------------------------------- model constants
 # Per-family figures (divider resistors, the discharge switch's data-sheet saturation) are
@@ -107,7 +108,7 @@ class Circuit:
     connection: str
     networks: Mapping[str, Network]
     chip: ChipModel
-    diode_vf: float = 0.65
+    diode_vf: float = DIODE_VF_DEFAULT
     expected: Mapping[str, float] = field(default_factory=dict)
     title: str = ""
     extra: Mapping[str, float] = field(default_factory=dict)   # a circuit's own figures (Limits.extra)
