@@ -138,86 +138,87 @@ _COMMON_HELP = {
 }
 
 
+
+def astable(
+    ctx: typer.Context,
+    freq: str = typer.Option(..., "--freq", metavar="F", help="Target frequency, e.g. 1.2k, 1.2kHz, 440."),
+    duty: Optional[str] = typer.Option(None, "--duty", metavar="D", help="Fraction of the period the output is HIGH, e.g. 65% or 0.65 (optional where the circuit fixes the duty: output-fed, schmitt-inverter)."),
+    connection: ConnectionChoice = typer.Option(ConnectionChoice.auto, "--connection", help=_CONNECTION_HELP),
+    chip: ChipChoice = typer.Option(ChipChoice.bipolar, "--chip", help=_COMMON_HELP["chip"]),
+    vcc: str = typer.Option("9V", "--vcc", metavar="V", help=_COMMON_HELP["vcc"]),
+    diode_vf: Optional[str] = typer.Option(None, "--diode-vf", metavar="V", help=f"Forward drop of the steering diode (default {DIODE_VF_DEFAULT:g} V, small-signal silicon)."),
+    max_parts: int = typer.Option(2, "--max-parts", metavar="N", help=_COMMON_HELP["max_parts"]),
+    top: int = typer.Option(10, "--top", metavar="K", help=_COMMON_HELP["top"]),
+    boards: int = typer.Option(1, "--boards", metavar="B", help=_COMMON_HELP["boards"]),
+    accept: str = typer.Option("5%", "--accept", metavar="PCT", help=_COMMON_HELP["accept"]),
+    distribution: DistributionChoice = typer.Option(DistributionChoice.uniform, "--distribution", help=_COMMON_HELP["distribution"]),
+    seed: int = typer.Option(0, "--seed", help=_COMMON_HELP["seed"]),
+    samples: int = typer.Option(10_000, "--samples", metavar="N", help=_COMMON_HELP["samples"]),
+    as_json: bool = typer.Option(False, "--json", help=_COMMON_HELP["json"]),
+    **circuit,
+) -> None:
+    """Find RA, RB and C networks in stock for an astable (free-running) 555 at a frequency and duty."""
+    from selector.cli._common import fail
+
+    kind = circuits.REGISTRY.get(connection.value)
+    if duty is None and not (kind is not None and kind.duty_fixed):
+        fail(f"--duty is required for --connection {connection.value} (only a circuit that fixes its "
+             "own duty can do without)", 2)
+    options = _circuit_options(connection.value, circuit)
+    _run(ctx, as_json, mode="astable", freq_hz=_value(freq, "Hz", "--freq"),
+         duty=_fraction(duty, "--duty") if duty is not None else None,
+         connection=connection.value, chip=chip.value, vcc_text=vcc, vf_text=diode_vf,
+         max_parts=max_parts, top=top, boards=boards, accept_text=accept,
+         distribution=distribution.value, seed=seed, samples=samples, options=options)
+
+
+def monostable(
+    ctx: typer.Context,
+    width: str = typer.Option(..., "--width", metavar="T", help="Pulse width, e.g. 150ms, 2.5s, 0.1."),
+    chip: ChipChoice = typer.Option(ChipChoice.bipolar, "--chip", help=_COMMON_HELP["chip"]),
+    vcc: str = typer.Option("9V", "--vcc", metavar="V", help=_COMMON_HELP["vcc"]),
+    max_parts: int = typer.Option(2, "--max-parts", metavar="N", help=_COMMON_HELP["max_parts"]),
+    top: int = typer.Option(10, "--top", metavar="K", help=_COMMON_HELP["top"]),
+    boards: int = typer.Option(1, "--boards", metavar="B", help=_COMMON_HELP["boards"]),
+    accept: str = typer.Option("5%", "--accept", metavar="PCT", help=_COMMON_HELP["accept"]),
+    distribution: DistributionChoice = typer.Option(DistributionChoice.uniform, "--distribution", help=_COMMON_HELP["distribution"]),
+    seed: int = typer.Option(0, "--seed", help=_COMMON_HELP["seed"]),
+    samples: int = typer.Option(10_000, "--samples", metavar="N", help=_COMMON_HELP["samples"]),
+    as_json: bool = typer.Option(False, "--json", help=_COMMON_HELP["json"]),
+) -> None:
+    """Find R and C networks in stock for a monostable (one-shot) 555 pulse width."""
+    _run(ctx, as_json, mode="monostable", width_s=_value(width, "s", "--width"), chip=chip.value,
+         vcc_text=vcc, max_parts=max_parts, top=top, boards=boards, accept_text=accept,
+         distribution=distribution.value, seed=seed, samples=samples)
+
+def rc(
+    ctx: typer.Context,
+    tau: Optional[str] = typer.Option(None, "--tau", metavar="T", help="Time constant R·C, e.g. 10ms."),
+    corner: Optional[str] = typer.Option(None, "--corner", metavar="F", help="Corner frequency 1/(2π·R·C), e.g. 1kHz."),
+    vcc: str = typer.Option("9V", "--vcc", metavar="V", help="Working voltage across the parts (for their ratings)."),
+    max_parts: int = typer.Option(2, "--max-parts", metavar="N", help=_COMMON_HELP["max_parts"]),
+    top: int = typer.Option(10, "--top", metavar="K", help=_COMMON_HELP["top"]),
+    boards: int = typer.Option(1, "--boards", metavar="B", help=_COMMON_HELP["boards"]),
+    accept: str = typer.Option("5%", "--accept", metavar="PCT", help=_COMMON_HELP["accept"]),
+    distribution: DistributionChoice = typer.Option(DistributionChoice.uniform, "--distribution", help=_COMMON_HELP["distribution"]),
+    seed: int = typer.Option(0, "--seed", help=_COMMON_HELP["seed"]),
+    samples: int = typer.Option(10_000, "--samples", metavar="N", help=_COMMON_HELP["samples"]),
+    as_json: bool = typer.Option(False, "--json", help=_COMMON_HELP["json"]),
+) -> None:
+    """Find R and C networks in stock for an RC time constant or corner frequency (give one)."""
+    if (tau is None) == (corner is None):
+        typer.echo("Error: give exactly one of --tau or --corner", err=True)
+        raise typer.Exit(2)
+    _run(ctx, as_json, mode="rc",
+         tau_s=_value(tau, "s", "--tau") if tau is not None else None,
+         corner_hz=_value(corner, "Hz", "--corner") if corner is not None else None,
+         vcc_text=vcc, max_parts=max_parts, top=top, boards=boards, accept_text=accept,
+         distribution=distribution.value, seed=seed, samples=samples)
+
+
 def register(find_app: typer.Typer) -> None:
-    """Attach this module's commands to the find group."""
-
-    def astable(
-        ctx: typer.Context,
-        freq: str = typer.Option(..., "--freq", metavar="F", help="Target frequency, e.g. 1.2k, 1.2kHz, 440."),
-        duty: Optional[str] = typer.Option(None, "--duty", metavar="D", help="Fraction of the period the output is HIGH, e.g. 65% or 0.65 (optional where the circuit fixes the duty: output-fed, schmitt-inverter)."),
-        connection: ConnectionChoice = typer.Option(ConnectionChoice.auto, "--connection", help=_CONNECTION_HELP),
-        chip: ChipChoice = typer.Option(ChipChoice.bipolar, "--chip", help=_COMMON_HELP["chip"]),
-        vcc: str = typer.Option("9V", "--vcc", metavar="V", help=_COMMON_HELP["vcc"]),
-        diode_vf: Optional[str] = typer.Option(None, "--diode-vf", metavar="V", help=f"Forward drop of the steering diode (default {DIODE_VF_DEFAULT:g} V, small-signal silicon)."),
-        max_parts: int = typer.Option(2, "--max-parts", metavar="N", help=_COMMON_HELP["max_parts"]),
-        top: int = typer.Option(10, "--top", metavar="K", help=_COMMON_HELP["top"]),
-        boards: int = typer.Option(1, "--boards", metavar="B", help=_COMMON_HELP["boards"]),
-        accept: str = typer.Option("5%", "--accept", metavar="PCT", help=_COMMON_HELP["accept"]),
-        distribution: DistributionChoice = typer.Option(DistributionChoice.uniform, "--distribution", help=_COMMON_HELP["distribution"]),
-        seed: int = typer.Option(0, "--seed", help=_COMMON_HELP["seed"]),
-        samples: int = typer.Option(10_000, "--samples", metavar="N", help=_COMMON_HELP["samples"]),
-        as_json: bool = typer.Option(False, "--json", help=_COMMON_HELP["json"]),
-        **circuit,
-    ) -> None:
-        """Find RA, RB and C networks in stock for an astable (free-running) 555 at a frequency and duty."""
-        from selector.cli._common import fail
-
-        kind = circuits.REGISTRY.get(connection.value)
-        if duty is None and not (kind is not None and kind.duty_fixed):
-            fail(f"--duty is required for --connection {connection.value} (only a circuit that fixes its "
-                 "own duty can do without)", 2)
-        options = _circuit_options(connection.value, circuit)
-        _run(ctx, as_json, mode="astable", freq_hz=_value(freq, "Hz", "--freq"),
-             duty=_fraction(duty, "--duty") if duty is not None else None,
-             connection=connection.value, chip=chip.value, vcc_text=vcc, vf_text=diode_vf,
-             max_parts=max_parts, top=top, boards=boards, accept_text=accept,
-             distribution=distribution.value, seed=seed, samples=samples, options=options)
-
+    """Attach this module's commands to the find group (astable with every circuit kind's own
+    options added from the registry)."""
     find_app.command("astable")(handles_errors(_with_circuit_options(astable)))
-
-    @find_app.command("monostable")
-    @handles_errors
-    def monostable(
-        ctx: typer.Context,
-        width: str = typer.Option(..., "--width", metavar="T", help="Pulse width, e.g. 150ms, 2.5s, 0.1."),
-        chip: ChipChoice = typer.Option(ChipChoice.bipolar, "--chip", help=_COMMON_HELP["chip"]),
-        vcc: str = typer.Option("9V", "--vcc", metavar="V", help=_COMMON_HELP["vcc"]),
-        max_parts: int = typer.Option(2, "--max-parts", metavar="N", help=_COMMON_HELP["max_parts"]),
-        top: int = typer.Option(10, "--top", metavar="K", help=_COMMON_HELP["top"]),
-        boards: int = typer.Option(1, "--boards", metavar="B", help=_COMMON_HELP["boards"]),
-        accept: str = typer.Option("5%", "--accept", metavar="PCT", help=_COMMON_HELP["accept"]),
-        distribution: DistributionChoice = typer.Option(DistributionChoice.uniform, "--distribution", help=_COMMON_HELP["distribution"]),
-        seed: int = typer.Option(0, "--seed", help=_COMMON_HELP["seed"]),
-        samples: int = typer.Option(10_000, "--samples", metavar="N", help=_COMMON_HELP["samples"]),
-        as_json: bool = typer.Option(False, "--json", help=_COMMON_HELP["json"]),
-    ) -> None:
-        """Find R and C networks in stock for a monostable (one-shot) 555 pulse width."""
-        _run(ctx, as_json, mode="monostable", width_s=_value(width, "s", "--width"), chip=chip.value,
-             vcc_text=vcc, max_parts=max_parts, top=top, boards=boards, accept_text=accept,
-             distribution=distribution.value, seed=seed, samples=samples)
-
-    @find_app.command("rc")
-    @handles_errors
-    def rc(
-        ctx: typer.Context,
-        tau: Optional[str] = typer.Option(None, "--tau", metavar="T", help="Time constant R·C, e.g. 10ms."),
-        corner: Optional[str] = typer.Option(None, "--corner", metavar="F", help="Corner frequency 1/(2π·R·C), e.g. 1kHz."),
-        vcc: str = typer.Option("9V", "--vcc", metavar="V", help="Working voltage across the parts (for their ratings)."),
-        max_parts: int = typer.Option(2, "--max-parts", metavar="N", help=_COMMON_HELP["max_parts"]),
-        top: int = typer.Option(10, "--top", metavar="K", help=_COMMON_HELP["top"]),
-        boards: int = typer.Option(1, "--boards", metavar="B", help=_COMMON_HELP["boards"]),
-        accept: str = typer.Option("5%", "--accept", metavar="PCT", help=_COMMON_HELP["accept"]),
-        distribution: DistributionChoice = typer.Option(DistributionChoice.uniform, "--distribution", help=_COMMON_HELP["distribution"]),
-        seed: int = typer.Option(0, "--seed", help=_COMMON_HELP["seed"]),
-        samples: int = typer.Option(10_000, "--samples", metavar="N", help=_COMMON_HELP["samples"]),
-        as_json: bool = typer.Option(False, "--json", help=_COMMON_HELP["json"]),
-    ) -> None:
-        """Find R and C networks in stock for an RC time constant or corner frequency (give one)."""
-        if (tau is None) == (corner is None):
-            typer.echo("Error: give exactly one of --tau or --corner", err=True)
-            raise typer.Exit(2)
-        _run(ctx, as_json, mode="rc",
-             tau_s=_value(tau, "s", "--tau") if tau is not None else None,
-             corner_hz=_value(corner, "Hz", "--corner") if corner is not None else None,
-             vcc_text=vcc, max_parts=max_parts, top=top, boards=boards, accept_text=accept,
-             distribution=distribution.value, seed=seed, samples=samples)
+    find_app.command("monostable")(handles_errors(monostable))
+    find_app.command("rc")(handles_errors(rc))

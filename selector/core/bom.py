@@ -210,33 +210,7 @@ def assemble_bom(
         return f"{letter}{counters[letter]}"
 
     for key, net in option_networks(spec.mode, option):
-        parts = list(net.get("parts") or [])
-        if not parts:
-            raise OptionShapeError(f"network {key} has no parts")
-        physical: list[StockLine] = []
-        for p in parts:
-            line_id = int(p["line_id"])
-            line = by_id.get(line_id)
-            value = float(p["value"])
-            if line is None:
-                raise OptionOutdatedError(line_id, None, value)
-            if not math.isclose(line.value, value, rel_tol=_SAME_VALUE):
-                raise OptionOutdatedError(line_id, line.value, value)
-            physical.extend([line] * int(p["count"]))
-        shape = str(net.get("shape") or ("single" if len(physical) == 1 else "series"))
-        net_value = net.get("value")
-        physical, template = wiring(shape, physical, None if net_value is None else float(net_value))
-        role = _role_for(key, spec.mode)
-        refs = [next_ref(line.kind) for line in physical]
-        formula = template.format(*refs)
-        for ref, line in zip(refs, physical):
-            lines.append(BomLine(
-                ref=ref, role=role, kind=line.kind, value=line.value,
-                per_board=1, total=boards, in_stock=True, line_id=line.id,
-                tol_minus=line.tol_minus, tol_plus=line.tol_plus, location=line.location,
-                package=line.package, rating=line.rating, dielectric=line.dielectric,
-                note=line.note, network=f"{shape}: {formula}" if len(physical) > 1 else "",
-            ))
+        lines.extend(_network_lines(key, net, spec, by_id, boards, next_ref))
 
     if spec.uses_timer:
         lines.extend(_extras(spec, stock, boards, derating, lines, next_ref, notes))
@@ -258,6 +232,40 @@ def assemble_bom(
         notes.extend(CAUTIONS)
     return Bom(search_id=search_id, option=option_rank, boards=boards, spec=spec,
                lines=tuple(lines), notes=tuple(notes))
+
+
+def _network_lines(key: str, net: Mapping[str, Any], spec: CircuitSpec, by_id: Mapping[int, StockLine],
+                   boards: int, next_ref: Callable[[str], str]) -> list[BomLine]:
+    """One BOM line per physical part of one saved network, in the order its formula reads."""
+    parts = list(net.get("parts") or [])
+    if not parts:
+        raise OptionShapeError(f"network {key} has no parts")
+    physical: list[StockLine] = []
+    for p in parts:
+        line_id = int(p["line_id"])
+        line = by_id.get(line_id)
+        value = float(p["value"])
+        if line is None:
+            raise OptionOutdatedError(line_id, None, value)
+        if not math.isclose(line.value, value, rel_tol=_SAME_VALUE):
+            raise OptionOutdatedError(line_id, line.value, value)
+        physical.extend([line] * int(p["count"]))
+    shape = str(net.get("shape") or ("single" if len(physical) == 1 else "series"))
+    net_value = net.get("value")
+    physical, template = wiring(shape, physical, None if net_value is None else float(net_value))
+    role = _role_for(key, spec.mode)
+    out: list[BomLine] = []
+    refs = [next_ref(line.kind) for line in physical]
+    formula = template.format(*refs)
+    for ref, line in zip(refs, physical):
+        out.append(BomLine(
+            ref=ref, role=role, kind=line.kind, value=line.value,
+            per_board=1, total=boards, in_stock=True, line_id=line.id,
+            tol_minus=line.tol_minus, tol_plus=line.tol_plus, location=line.location,
+            package=line.package, rating=line.rating, dielectric=line.dielectric,
+            note=line.note, network=f"{shape}: {formula}" if len(physical) > 1 else "",
+        ))
+    return out
 
 
 def _kind(spec: CircuitSpec):

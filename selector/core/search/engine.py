@@ -198,9 +198,6 @@ def search_timing(r_lines: Sequence, c_lines: Sequence, target: Target, connecti
     ``indexes`` may map budget -> (r_index, c_index) to reuse indexes already built;
     ``c_max_parts`` caps the capacitor networks below ``max_parts`` (e.g. 3-part resistor
     networks with 1-2-part capacitors)."""
-    from selector.core.networks import build_index
-    from selector.core.search.kernels import PowerCheck, _Pass, capacitor_candidates
-
     ex = Exclusions()
     found: dict[tuple, FoundOption] = {}
     weights = {p: 10.0 ** (p - 1) for p in range(1, max_parts + 1)}
@@ -208,45 +205,19 @@ def search_timing(r_lines: Sequence, c_lines: Sequence, target: Target, connecti
     done_w = 0.0
     counts = {}
     for budget in range(1, max_parts + 1):
-        if indexes and budget in indexes:
-            r_index, c_index = indexes[budget]
-        else:
-            r_index = build_index(r_lines, max_parts=budget, boards=boards, kind="resistor")
-            c_parts = budget if c_max_parts is None else max(1, min(budget, int(c_max_parts)))
-            c_index = build_index(c_lines, max_parts=c_parts, boards=boards, kind="capacitor")
+        r_index, c_index = _indexes(r_lines, c_lines, budget, boards, indexes, c_max_parts, ex)
         counts[budget] = (_size(r_index), _size(c_index))
-        per = f" for {boards} boards" if boards > 1 else ""
-        if len(r_index) == 0:
-            ex.note(f"no resistor in stock{per}")
-        if len(c_index) == 0:
-            ex.note(f"no capacitor in stock{per}")
         for conn in connections:
-            lim = limits[conn]
             pex = ex if budget == max_parts else Exclusions()  # count each exclusion once
-            c_ids = capacitor_candidates(c_index, lim, pex)
-            kind = circuits.get(conn)
-            power = PowerCheck(r_index, lim.r_power_volts, lim.r_power_derating)
-            ps = _Pass(kind, target, r_index, c_index, c_ids, lim, power, pex)
-            two = kind.kernel == TWO_RESISTOR
-            steps = max(1, -(-c_ids.size // ps.chunk)) * (2 if two else 1)
-            state = {"n": 0}
-            w = weights[budget]
 
-            def tick(state=state, steps=steps, w=w, base=done_w):
-                state["n"] += 1
+            def tick(frac, w=weights[budget], base=done_w):
                 if progress:
-                    progress(min(1.0, (base + w * state["n"] / steps) / total_w))
+                    progress(min(1.0, (base + w * frac) / total_w))
 
-            raw = ps.run2(pool, tick) if two else ps.run1(pool, tick)
-            done_w += w
-            for hit in raw:
-                nets = {"C": c_index.network(hit.c_id)}
-                for role, r_id in zip(kind.resistor_roles, hit.r_ids):
-                    nets[role] = r_index.network(r_id)
-                opt = FoundOption(conn, nets, hit.error, hit.t_high, hit.t_low, hit.time, budget)
-                k = opt.key()
-                if k not in found:
-                    found[k] = opt
+            for opt in _one_pass(circuits.get(conn), target, limits[conn], r_index, c_index, pool,
+                                 budget, pex, tick):
+                found.setdefault(opt.key(), opt)
+            done_w += weights[budget]
     if progress:
         progress(1.0)
     options, seen = [], set()
@@ -259,6 +230,53 @@ def search_timing(r_lines: Sequence, c_lines: Sequence, target: Target, connecti
         what = target.mode if target.mode != "astable" else "astable (" + ", ".join(connections) + ")"
         raise NothingFeasible(ex.message(what))
     return SearchResult(options, ex, tuple(connections), counts)
+
+
+def _indexes(r_lines, c_lines, budget: int, boards: int, indexes: Optional[dict],
+             c_max_parts: Optional[int], ex: Exclusions):
+    """The resistor and capacitor indexes of one parts budget (reused when given); an empty one
+    is noted for the NothingFeasible message."""
+    from selector.core.networks import build_index
+
+    if indexes and budget in indexes:
+        r_index, c_index = indexes[budget]
+    else:
+        r_index = build_index(r_lines, max_parts=budget, boards=boards, kind="resistor")
+        c_parts = budget if c_max_parts is None else max(1, min(budget, int(c_max_parts)))
+        c_index = build_index(c_lines, max_parts=c_parts, boards=boards, kind="capacitor")
+    per = f" for {boards} boards" if boards > 1 else ""
+    if len(r_index) == 0:
+        ex.note(f"no resistor in stock{per}")
+    if len(c_index) == 0:
+        ex.note(f"no capacitor in stock{per}")
+    return r_index, c_index
+
+
+def _one_pass(kind, target: Target, lim: Limits, r_index, c_index, pool: int, budget: int,
+              ex: Exclusions, tick: Callable[[float], None]) -> list[FoundOption]:
+    """Run the kernel the circuit kind names over one pair of indexes; options in pass order."""
+    from selector.core.search.kernels import _Pass
+    from selector.core.search.lookup import PowerCheck, capacitor_candidates
+
+    c_ids = capacitor_candidates(c_index, lim, ex)
+    power = PowerCheck(r_index, lim.r_power_volts, lim.r_power_derating)
+    ps = _Pass(kind, target, r_index, c_index, c_ids, lim, power, ex)
+    two = kind.kernel == TWO_RESISTOR
+    steps = max(1, -(-c_ids.size // ps.chunk)) * (2 if two else 1)
+    state = {"n": 0}
+
+    def step():
+        state["n"] += 1
+        tick(state["n"] / steps)
+
+    raw = ps.run2(pool, step) if two else ps.run1(pool, step)
+    out = []
+    for hit in raw:
+        nets = {"C": c_index.network(hit.c_id)}
+        for role, r_id in zip(kind.resistor_roles, hit.r_ids):
+            nets[role] = r_index.network(r_id)
+        out.append(FoundOption(kind.key, nets, hit.error, hit.t_high, hit.t_low, hit.time, budget))
+    return out
 
 
 def _size(index) -> int:
