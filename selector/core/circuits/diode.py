@@ -7,7 +7,7 @@ from __future__ import annotations
 from selector.core.bom_records import ROLE_DIODE
 from selector.core.circuits.base import TWO_RESISTOR, Limits, Obtain, Settings, Target
 from selector.core.circuits.modes import AstableKind, Timer555
-from selector.core.spice import netlist as sp
+from selector.core import netlist as sp
 
 
 class Diode(Timer555, AstableKind):

@@ -8,7 +8,7 @@ from typing import Mapping, Optional, Sequence
 
 from selector.core.bom_records import ROLE_CV, ROLE_DECOUPLE, ROLE_IC, ROLE_RESERVOIR
 from selector.core.circuits.base import ModeBase, Settings, Target
-from selector.core.spice import netlist as sp
+from selector.core import netlist as sp
 
 
 class AstableKind(ModeBase):

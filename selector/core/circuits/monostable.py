@@ -7,7 +7,7 @@ import math
 
 from selector.core.circuits.base import ONE_RESISTOR, Limits, Settings, Target
 from selector.core.circuits.modes import MonostableKind, Timer555, plain_r_bounds
-from selector.core.spice import netlist as sp
+from selector.core import netlist as sp
 
 
 class Monostable(Timer555, MonostableKind):

@@ -8,7 +8,7 @@ import math
 
 from selector.core.circuits.base import Limits, Settings, Target
 from selector.core.circuits.modes import FixedRatioAstable, Timer555
-from selector.core.spice import netlist as sp
+from selector.core import netlist as sp
 
 
 class OutputFed(Timer555, FixedRatioAstable):

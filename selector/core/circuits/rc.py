@@ -8,7 +8,7 @@ from typing import Optional
 
 from selector.core.circuits.base import ONE_RESISTOR, Limits, Settings, Target
 from selector.core.circuits.modes import RCKind, plain_r_bounds
-from selector.core.spice import netlist as sp
+from selector.core import netlist as sp
 
 
 class RC(RCKind):

@@ -27,7 +27,7 @@ from selector.core.circuits.base import (
     CERAMIC, FILM, POLARIZED, CliOption, ExtraCap, Limits, Obtain, Settings, Uncertain, is_value,
 )
 from selector.core.circuits.modes import FixedRatioAstable
-from selector.core.spice import netlist as sp
+from selector.core import netlist as sp
 
 
 @dataclass(frozen=True)

@@ -7,7 +7,7 @@ from __future__ import annotations
 
 from selector.core.circuits.base import TWO_RESISTOR, Limits, Settings, Target
 from selector.core.circuits.modes import AstableKind, Timer555
-from selector.core.spice import netlist as sp
+from selector.core import netlist as sp
 
 
 class Standard(Timer555, AstableKind):

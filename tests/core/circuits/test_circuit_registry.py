@@ -10,7 +10,7 @@ import pytest
 
 from selector.core import circuits
 from selector.core.circuits.base import KERNELS, ONE_RESISTOR, TWO_RESISTOR, Limits, Settings, Target
-from selector.core.spice import netlist as sp
+from selector.core import netlist as sp
 from selector.core.spice import build_netlist
 
 KINDS = list(circuits.REGISTRY.values())

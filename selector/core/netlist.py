@@ -1,4 +1,5 @@
-"""SPICE netlists of an option, and reading ngspice's printed measurements back (pure; stdlib only).
+"""The pieces of an option's SPICE netlist, and reading ngspice's printed measurements back (pure).
+The circuit kinds assemble netlists from these; ``selector.core.spice`` runs them.
 
 The netlist is the open SPICE text format that ngspice reads in batch mode. It holds
 

@@ -1,5 +1,7 @@
-"""Build, read back and vary the SPICE run of an option: each step asks the option's circuit
-kind (``selector.core.circuits``) for its part; the shared pieces are in ``spice.netlist``."""
+"""SPICE runs of an option (pure): build the netlist, read ngspice's measurements back, vary the
+parts to their tolerance corners. Each step asks the option's circuit kind
+(``selector.core.circuits``) for its part; the shared pieces (records, network wiring, our
+behavioural 555, measurement parsing) are in ``selector.core.netlist`` and re-exported here."""
 
 from __future__ import annotations
 
@@ -7,7 +9,8 @@ from dataclasses import replace
 from typing import Mapping
 
 from selector.core.errors import SimulationFailed
-from selector.core.spice.netlist import Circuit, Netlist, _scaled
+from selector.core.netlist import *  # noqa: F401,F403  (the public names of the netlist pieces)
+from selector.core.netlist import Circuit, Netlist, _scaled
 
 
 def _kind(c: Circuit):
