@@ -10,7 +10,7 @@ from typing import Optional
 import typer
 
 from selector.cli._common import db_arg, handles_errors
-from selector.core import circuits  # the registry: light, no numpy
+from selector.core import chips, circuits  # the family table and the registry: light, no numpy
 from selector.core.parts import DIODE_VF_DEFAULT
 
 _ASTABLES = circuits.for_mode("astable")
@@ -23,9 +23,8 @@ _CONNECTION_HELP = ("Wiring: " + ", ".join(k.help for k in _ASTABLES if getattr(
                     + ", or auto.")
 
 
-class ChipChoice(str, Enum):
-    bipolar = "bipolar"
-    cmos = "cmos"
+ChipChoice = Enum("ChipChoice", {key: key for key in chips.FAMILIES}, type=str)
+"""--chip choices: every 555 family in core.chips (a new family is one entry there)."""
 
 
 class DistributionChoice(str, Enum):

@@ -11,15 +11,18 @@ a test can insist that no number goes uncited.
 from __future__ import annotations
 
 from dataclasses import dataclass, field
-from typing import Optional
+from typing import TYPE_CHECKING, Optional
 
-import numpy as np
+if TYPE_CHECKING:  # numpy is imported inside the functions: the CLI reads FAMILIES at start-up
+    import numpy as np
 
 from selector.core.errors import OutOfRange, UnknownChipFamily
 
 
 def _plain(x: np.ndarray):
     """A Python float for scalar input, the array otherwise."""
+    import numpy as np
+
     return float(x) if np.ndim(x) == 0 else x
 
 
@@ -52,10 +55,14 @@ class ChipFamily:
 
     def voh(self, vcc) -> float:
         """Output HIGH level at light load."""
+        import numpy as np
+
         return _plain(np.asarray(vcc, dtype=float) - self.voh_drop_v)
 
     def vol(self, vcc) -> float:
         """Output LOW level at light load (independent of VCC in this model)."""
+        import numpy as np
+
         return _plain(np.zeros_like(np.asarray(vcc, dtype=float)) + self.vol_v)
 
     def max_timing_r_ohm(self, vcc) -> float:
@@ -65,6 +72,8 @@ class ChipFamily:
         threshold input current: R ≤ VCC/(3·I_th) [S1 note: 20 MΩ at 15 V]. The result is also
         capped at ``max_r_cap_ohm`` (leakage of boards and capacitors dominates for CMOS parts).
         """
+        import numpy as np
+
         vcc = np.asarray(vcc, dtype=float)
         return _plain(np.minimum(vcc / (3.0 * self.threshold_current_a), self.max_r_cap_ohm))
 
@@ -185,6 +194,8 @@ def electrolytic_leakage_a(c_farad, v_rated) -> np.ndarray:
 
     Leakage rises with temperature [S15]; this is the room-temperature rating.
     """
+    import numpy as np
+
     c_uf = np.asarray(c_farad, dtype=float) * 1e6
     i_ua = np.maximum(0.01 * c_uf * np.asarray(v_rated, dtype=float), 3.0)
     return i_ua * 1e-6
@@ -196,6 +207,8 @@ def leakage_margin(r, c_farad, vcc, v_rated) -> np.ndarray:
     Below :data:`LEAKAGE_MARGIN_MIN` the timing is unreliable (common practice, facts §6). When
     the capacitor's rating is unknown, pass ``vcc``: the part must be rated at least that.
     """
+    import numpy as np
+
     i_charge = np.asarray(vcc, dtype=float) / (3.0 * np.asarray(r, dtype=float))
     return i_charge / electrolytic_leakage_a(c_farad, v_rated)
 
