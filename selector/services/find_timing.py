@@ -11,7 +11,6 @@ snapshot, and ``pull`` re-checks quantities inside its own transaction.
 from __future__ import annotations
 
 import json
-import math
 from dataclasses import dataclass, field
 from typing import Callable, Optional
 
@@ -19,6 +18,7 @@ from selector.core import circuits
 from selector.core.errors import OutOfRange
 
 CONNECTIONS = ("auto",) + tuple(c.key for c in circuits.for_mode("astable"))
+MODES = tuple(dict.fromkeys(c.mode for c in circuits.REGISTRY.values()))
 
 
 @dataclass(frozen=True)
@@ -51,6 +51,14 @@ class TimingRequest:
         return circuits.REGISTRY.get(key)
 
     @property
+    def kinds(self) -> tuple:
+        """The circuit kinds this request may search: the named one, or for ``auto`` every
+        astable kind that takes part in auto."""
+        if self.kind is not None:
+            return (self.kind,)
+        return tuple(k for k in circuits.for_mode(self.mode) if k.in_auto)
+
+    @property
     def settings(self):
         from selector.core.circuits.base import Settings
 
@@ -58,34 +66,18 @@ class TimingRequest:
 
     def check(self) -> None:
         """Raise OutOfRange (one line, naming the option) for values outside what we accept."""
-        from selector.core import chips, tolerance
+        from selector.core import tolerance
+        from selector.core.circuits.base import check_positive
 
-        def positive(name, v):
-            if v is None or not (v > 0) or not math.isfinite(v):
-                raise OutOfRange(f"{name} must be a positive finite value, not {v!r}")
-
-        if self.mode == "astable":
-            positive("--freq", self.freq_hz)
-            if self.connection not in CONNECTIONS:
-                raise OutOfRange(f"--connection must be one of {', '.join(CONNECTIONS)}, not {self.connection!r}")
-            duty_free = self.duty is None and self.kind is not None and self.kind.duty_fixed
-            if not duty_free and (self.duty is None or not (0.0 < self.duty < 1.0)):
-                raise OutOfRange(f"--duty must be between 0 and 100 % (exclusive), not {self.duty!r}")
-        elif self.mode == "monostable":
-            positive("--width", self.width_s)
-        elif self.mode == "rc":
-            if (self.tau_s is None) == (self.corner_hz is None):
-                raise OutOfRange("give exactly one of --tau or --corner")
-            positive("--tau" if self.tau_s is not None else "--corner",
-                     self.tau_s if self.tau_s is not None else self.corner_hz)
-        else:
+        if self.mode not in MODES:
             raise OutOfRange(f"unknown search mode {self.mode!r}")
-        positive("--vcc", self.vcc)
-        kind = self.kind
-        if kind is not None and kind.options:
-            kind.check_options(self.settings)
-        elif self.mode != "rc":
-            chips.family(self.chip).check_vcc(self.vcc)
+        if self.mode == "astable" and self.connection not in CONNECTIONS:
+            raise OutOfRange(f"--connection must be one of {', '.join(CONNECTIONS)}, not {self.connection!r}")
+        kinds = self.kinds
+        kinds[0].check_target(self, duty_optional=all(k.duty_fixed for k in kinds))
+        check_positive("--vcc", self.vcc)
+        for kind in kinds:
+            kind.check_supply(self.settings)
         if self.diode_vf is not None and not (0.0 <= self.diode_vf < self.vcc / 3.0):
             raise OutOfRange(f"--diode-vf {self.diode_vf:g} V must be at least 0 V and below VCC/3 "
                              f"({self.vcc / 3.0:.3g} V)")
@@ -130,31 +122,11 @@ class TimingReport:
 
 
 def _target(req: TimingRequest):
-    from selector.core.search import Target
-
-    if req.mode == "astable":
-        if req.duty is None:  # a circuit whose duty the thresholds or levels fix: that duty
-            duty = req.kind.natural_duty(req.kind.limits(req.settings))
-            if duty is None:
-                raise OutOfRange(f"the {req.kind.name} connection cannot oscillate with these levels")
-            return Target.astable(req.freq_hz, duty, duty_given=False)
-        return Target.astable(req.freq_hz, req.duty)
-    if req.mode == "monostable":
-        return Target("monostable", width=req.width_s)
-    if req.tau_s is not None:
-        return Target("rc", tau=req.tau_s)
-    return Target("rc", tau=1.0 / (2.0 * math.pi * req.corner_hz), corner_hz=req.corner_hz)
+    return req.kinds[0].make_target(req, req.settings)
 
 
 def target_json(req: TimingRequest, target) -> dict:
-    if req.mode == "astable":
-        return {"mode": "astable", "frequency_hz": req.freq_hz, "duty": req.duty,
-                "t_high_s": target.t_high, "t_low_s": target.t_low}
-    if req.mode == "monostable":
-        return {"mode": "monostable", "width_s": req.width_s}
-    if req.corner_hz is not None:
-        return {"mode": "rc", "corner_hz": req.corner_hz, "tau_s": target.tau}
-    return {"mode": "rc", "tau_s": req.tau_s}
+    return req.kinds[0].target_json(req, target)
 
 
 def params_json(req: TimingRequest) -> dict:

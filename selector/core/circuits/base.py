@@ -180,6 +180,23 @@ class CircuitKind:
         return tuple(r for r in self.roles if r != "C")
 
     # ---- target and choice
+    def check_target(self, req, duty_optional: bool = False) -> None:
+        """Raise OutOfRange (naming the option) for a bad target in a request (mode base)."""
+        raise NotImplementedError
+
+    def make_target(self, req, settings: Settings) -> Target:
+        """The request's target in SI units (mode base)."""
+        raise NotImplementedError
+
+    def target_json(self, req, target: Target) -> dict:
+        """The target exactly as ``--json`` prints it (mode base)."""
+        raise NotImplementedError
+
+    def check_supply(self, settings: Settings) -> None:
+        """Raise OutOfRange for a supply or option the device does not take (default: the
+        circuit's own options)."""
+        self.check_options(settings)
+
     def check_options(self, settings: Settings) -> None:
         """Raise OutOfRange for a bad circuit option (default: none to check)."""
 
@@ -255,6 +272,14 @@ class ModeBase(CircuitKind):
 
     def in_spec(self, outs: Sequence, target: Target, accept: float):
         raise NotImplementedError
+
+
+def check_positive(name: str, v) -> None:
+    """Raise OutOfRange naming the option unless ``v`` is a positive finite number."""
+    from selector.core.errors import OutOfRange
+
+    if v is None or not (v > 0) or not math.isfinite(v):
+        raise OutOfRange(f"{name} must be a positive finite value, not {v!r}")
 
 
 def signed_max(e1, e2):

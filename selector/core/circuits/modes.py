@@ -7,7 +7,7 @@ import math
 from typing import Mapping, Optional, Sequence
 
 from selector.core.bom_records import ROLE_CV, ROLE_DECOUPLE, ROLE_IC, ROLE_RESERVOIR
-from selector.core.circuits.base import ModeBase, Settings, Target
+from selector.core.circuits.base import ModeBase, Settings, Target, check_positive
 from selector.core import netlist as sp
 
 
@@ -31,8 +31,27 @@ class AstableKind(ModeBase):
             ok = ok & (np.abs(outs[1] / target.duty - 1) <= accept)
         return ok
 
-    def check_target(self, freq_hz, duty) -> None:
-        """Astable targets: a frequency and (unless the circuit fixes it) a duty."""
+    def check_target(self, req, duty_optional: bool = False) -> None:
+        """A frequency and, unless every circuit searched fixes its own duty, a duty."""
+        from selector.core.errors import OutOfRange
+
+        check_positive("--freq", req.freq_hz)
+        if not (req.duty is None and duty_optional) and (req.duty is None or not (0.0 < req.duty < 1.0)):
+            raise OutOfRange(f"--duty must be between 0 and 100 % (exclusive), not {req.duty!r}")
+
+    def make_target(self, req, settings: Settings) -> Target:
+        from selector.core.errors import OutOfRange
+
+        if req.duty is None:  # a circuit whose duty the thresholds or levels fix: that duty
+            duty = self.natural_duty(self.limits(settings))
+            if duty is None:
+                raise OutOfRange(f"the {self.name} connection cannot oscillate with these levels")
+            return Target.astable(req.freq_hz, duty, duty_given=False)
+        return Target.astable(req.freq_hz, req.duty)
+
+    def target_json(self, req, target: Target) -> dict:
+        return {"mode": "astable", "frequency_hz": req.freq_hz, "duty": req.duty,
+                "t_high_s": target.t_high, "t_low_s": target.t_low}
 
     def times(self, v, limits, extra) -> tuple:
         """(t_high, t_low) arrays from role values (circuit)."""
@@ -107,7 +126,7 @@ class Timer555:
     def spice_device_name(self, c) -> str:
         return f"{c.chip.family} 555"
 
-    def check_available_chip(self, settings: Settings) -> None:
+    def check_supply(self, settings: Settings) -> None:
         from selector.core import chips
 
         chips.family(settings.chip).check_vcc(settings.vcc)
@@ -194,6 +213,15 @@ class MonostableKind(ModeBase):
     def main_output(self, target: Target) -> str:
         return "width_s"
 
+    def check_target(self, req, duty_optional: bool = False) -> None:
+        check_positive("--width", req.width_s)
+
+    def make_target(self, req, settings: Settings) -> Target:
+        return Target("monostable", width=req.width_s)
+
+    def target_json(self, req, target: Target) -> dict:
+        return {"mode": "monostable", "width_s": req.width_s}
+
     def in_spec(self, outs, target: Target, accept: float):
         import numpy as np
 
@@ -223,6 +251,24 @@ class RCKind(ModeBase):
 
     def main_output(self, target: Target) -> str:
         return "tau_s" if math.isnan(target.corner_hz) else "corner_hz"
+
+    def check_target(self, req, duty_optional: bool = False) -> None:
+        from selector.core.errors import OutOfRange
+
+        if (req.tau_s is None) == (req.corner_hz is None):
+            raise OutOfRange("give exactly one of --tau or --corner")
+        check_positive("--tau" if req.tau_s is not None else "--corner",
+                       req.tau_s if req.tau_s is not None else req.corner_hz)
+
+    def make_target(self, req, settings: Settings) -> Target:
+        if req.tau_s is not None:
+            return Target("rc", tau=req.tau_s)
+        return Target("rc", tau=1.0 / (2.0 * math.pi * req.corner_hz), corner_hz=req.corner_hz)
+
+    def target_json(self, req, target: Target) -> dict:
+        if req.corner_hz is not None:
+            return {"mode": "rc", "corner_hz": req.corner_hz, "tau_s": target.tau}
+        return {"mode": "rc", "tau_s": req.tau_s}
 
     def in_spec(self, outs, target: Target, accept: float):
         import numpy as np

@@ -123,3 +123,21 @@ def test_registry_import_stays_light():
     code = "import sys, selector.core.circuits; print('numpy' in sys.modules)"
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
     assert out.stdout.strip() == "False"
+
+
+@pytest.mark.parametrize("kind", KINDS, ids=lambda k: k.key)
+def test_target_fields_are_checked_and_written(kind):
+    """Each kind validates its target fields, builds the Target and writes its JSON form."""
+    from selector.core.errors import OutOfRange
+    from selector.services.find_timing import TimingRequest
+
+    fields = {"astable": dict(freq_hz=1e3, duty=0.6, connection=kind.key),
+              "monostable": dict(width_s=1e-3), "rc": dict(tau_s=1e-3)}[kind.mode]
+    req = TimingRequest(mode=kind.mode, vcc=5.0, chip="cmos", **fields)
+    kind.check_target(req)
+    target = kind.make_target(req, req.settings)
+    doc = kind.target_json(req, target)
+    assert doc["mode"] == kind.mode
+    bad = {k: (-1.0 if isinstance(v, float) else v) for k, v in fields.items()}
+    with pytest.raises(OutOfRange):
+        kind.check_target(TimingRequest(mode=kind.mode, vcc=5.0, **bad))
