@@ -20,14 +20,14 @@ from typing import Any, Mapping, Optional
 import sqlalchemy as sa
 from sqlalchemy.engine import Engine
 
-from selector.core import spice
+from selector.core import circuits, spice
 from selector.core.errors import SimulationFailed, SimulatorMissing, UnknownSearch
 from selector.store.db import transaction
 from selector.store.models import StockLineRow
 
 INSTALL_HINT = "install it (Debian/Ubuntu: apt-get install ngspice) or put it on PATH"
 NGSPICE_TIMEOUT_S = 120.0
-SIMULATED_MODES = ("astable", "monostable", "rc")
+SIMULATED_MODES = tuple(dict.fromkeys(k.mode for k in circuits.REGISTRY.values()))  # every mode of a circuit kind
 
 
 @dataclass(frozen=True)
@@ -126,7 +126,7 @@ def circuit_from_saved(mode: str, connection: str, params: Mapping[str, Any], da
                        tolerances: Mapping[int, tuple[float, float]], *, discharge_ohms: Optional[float] = None,
                        title: str = "") -> spice.Circuit:
     """A :class:`spice.Circuit` from a saved search's mode, settings and option record."""
-    from selector.core import circuits, timing
+    from selector.core import timing
     from selector.core.circuits.base import Settings
 
     if mode not in SIMULATED_MODES:
@@ -154,7 +154,6 @@ def circuit_from_saved(mode: str, connection: str, params: Mapping[str, Any], da
 
 def predict(c: spice.Circuit) -> dict[str, float]:
     """The formulas' figures (the circuit kind's model) for a circuit, e.g. a tolerance corner."""
-    from selector.core import circuits
     from selector.core.circuits.base import Limits
 
     def val(label: str) -> float:
@@ -247,8 +246,6 @@ def simulate_circuit(c: spice.Circuit, exe: str, cycles: int = 5) -> dict[str, f
 
 
 def _waveform(c: spice.Circuit, text: Optional[str]) -> Waveform:
-    from selector.core import circuits
-
     if text is None:
         raise SimulationFailed("ngspice wrote no waveform file")
     times, cols = spice.parse_waveform(text)
@@ -277,8 +274,6 @@ def simulate_option(engine: Engine, rank: int, search_id: Optional[int] = None, 
             cc = replace(cc, expected=pred)
             sim = simulate_circuit(cc, exe, cycles)
             results.append(CornerResult(name, desc, pred, sim, spice.difference(pred, sim)))
-    from selector.core import circuits
-
     kind = circuits.get(circuit.connection)
     warnings = kind.spice_warnings(circuit)
     return SimulationReport(
