@@ -29,7 +29,8 @@ sys.path.insert(0, str(REPO))
 from selector.core.eseries import series_values  # noqa: E402
 from selector.core.networks import build_index  # noqa: E402
 from selector.core.search import Exclusions, Target, resolve_limits, search_timing  # noqa: E402
-from selector.core.search_kernel import PowerCheck, _Pass, _Physics, capacitor_candidates  # noqa: E402
+from selector.core import circuits  # noqa: E402
+from selector.core.search.kernels import PowerCheck, _Pass, capacitor_candidates  # noqa: E402
 from selector.core.types import StockLine  # noqa: E402
 
 LN2 = math.log(2.0)
@@ -63,7 +64,7 @@ def exact_pass(rl, cl, lim, r_parts, c_parts):
     c = build_index(cl, max_parts=c_parts, kind="capacitor")
     ex = Exclusions()
     ids = capacitor_candidates(c, lim, ex)
-    ps = _Pass(_Physics("standard", TARGET, lim), r, c, ids, lim,
+    ps = _Pass(circuits.get("standard"), TARGET, r, c, ids, lim,
                PowerCheck(r, lim.r_power_volts, lim.r_power_derating), ex)
     raw = ps.run2(20)
     return min(abs(x[2]) for x in raw), len(r), len(c)

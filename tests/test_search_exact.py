@@ -339,7 +339,7 @@ def test_pool_holds_the_k_best_pairs():
 def test_sampled_provisional_bound_is_still_exact(case, connection):
     """The 3-part search first bounds the error on a sample of the capacitor networks; force that
     path on small stocks (sample of 1) and compare with the exhaustive reference again."""
-    import selector.core.search_kernel as sk
+    import selector.core.search.kernels as sk
 
     old = sk.PHASE1_SAMPLE
     sk.PHASE1_SAMPLE = 2

@@ -13,7 +13,7 @@ import pytest
 from selector.core.errors import NothingFeasible, OutOfRange
 from selector.core.networks import build_index
 from selector.core.search import Limits, Target, choose_connections, search_timing
-from selector.core.search_kernel import PowerCheck
+from selector.core.search.kernels import PowerCheck
 from selector.core.types import StockLine
 from selector.services.find_timing import TimingRequest, plan_timing
 

@@ -3,25 +3,29 @@ selector.services.find_timing.find_timing once, render with selector.render.timi
 
 from __future__ import annotations
 
+import inspect
 from enum import Enum
 from typing import Optional
 
 import typer
 
 from selector.cli._common import db_arg, handles_errors, json_text, whole
+from selector.core import chips, circuits  # the family table and the registry: light, no numpy
 from selector.core.limits import MAX_BOARDS, MAX_SAMPLES, MAX_SEED, MAX_TOP
+from selector.core.parts import DIODE_VF_DEFAULT
+
+_ASTABLES = circuits.for_mode("astable")
+
+ConnectionChoice = Enum("ConnectionChoice", {"auto": "auto", **{k.key.replace("-", "_"): k.key for k in _ASTABLES}},
+                        type=str)
+"""--connection choices: auto and every astable circuit kind in the registry."""
+
+_CONNECTION_HELP = ("Wiring: " + ", ".join(k.help for k in _ASTABLES if getattr(k, "help", ""))
+                    + ", or auto.")
 
 
-class ConnectionChoice(str, Enum):
-    auto = "auto"
-    standard = "standard"
-    diode = "diode"
-    output_fed = "output-fed"
-
-
-class ChipChoice(str, Enum):
-    bipolar = "bipolar"
-    cmos = "cmos"
+ChipChoice = Enum("ChipChoice", {key: key for key in chips.FAMILIES}, type=str)
+"""--chip choices: every 555 family in core.chips (a new family is one entry there)."""
 
 
 class DistributionChoice(str, Enum):
@@ -49,8 +53,51 @@ def _fraction(text: str, option: str) -> float:
         raise UnparseableValue(f"{option}: {e}") from None
 
 
-def _run(ctx: typer.Context, as_json: bool, **fields) -> None:
+def _circuit_options(connection: str, given: dict) -> dict:
+    """Parse the circuit options given on the command line; an option of another circuit kind
+    than the one searched is a usage error (exit 2)."""
+    from selector.cli._common import fail
 
+    kind = circuits.REGISTRY.get(connection)
+    own = {o.field for o in kind.options} if kind is not None else set()
+    out = {}
+    for kind_ in _ASTABLES:
+        for opt in kind_.options:
+            raw = given.get(opt.field)
+            if raw is None:
+                continue
+            if opt.field not in own:
+                fail(f"--{opt.name} applies only to --connection {kind_.key}", 2)
+            raw = raw.value if isinstance(raw, Enum) else raw
+            out[opt.field] = _value(raw, opt.unit, f"--{opt.name}") if opt.unit else raw
+    return out
+
+
+def _with_circuit_options(fn):
+    """Give a command every option the astable circuit kinds declare (``CliOption``), in place
+    of its ``**circuit`` parameter; typer reads the signature."""
+    sig = inspect.signature(fn)
+    params = [p for p in sig.parameters.values() if p.kind is not inspect.Parameter.VAR_KEYWORD]
+    seen = set()
+    for kind in _ASTABLES:
+        for opt in kind.options:
+            if opt.field in seen:
+                continue
+            seen.add(opt.field)
+            if opt.choices:
+                choice = Enum(opt.field + "Choice", {c: c for c in opt.choices}, type=str)
+                annotation = Optional[choice]
+            else:
+                annotation = Optional[str]
+            default = typer.Option(None, f"--{opt.name}", help=opt.help,
+                                   **({"metavar": opt.metavar} if not opt.choices else {}))
+            params.append(inspect.Parameter(opt.field, inspect.Parameter.KEYWORD_ONLY, default=default,
+                                            annotation=annotation))
+    fn.__signature__ = sig.replace(parameters=params)
+    return fn
+
+
+def _run(ctx: typer.Context, as_json: bool, **fields) -> None:
     from selector.core.notation import VOLT
     from selector.render.timing import LazyProgress, print_report
     from selector.services.find_timing import TimingRequest, find_timing
@@ -89,77 +136,87 @@ _COMMON_HELP = {
 }
 
 
+
+def astable(
+    ctx: typer.Context,
+    freq: str = typer.Option(..., "--freq", metavar="F", help="Target frequency, e.g. 1.2k, 1.2kHz, 440."),
+    duty: Optional[str] = typer.Option(None, "--duty", metavar="D", help="Fraction of the period the output is HIGH, e.g. 65% or 0.65 (optional where the circuit fixes the duty: output-fed, schmitt-inverter)."),
+    connection: ConnectionChoice = typer.Option(ConnectionChoice.auto, "--connection", help=_CONNECTION_HELP),
+    chip: ChipChoice = typer.Option(ChipChoice.bipolar, "--chip", help=_COMMON_HELP["chip"]),
+    vcc: str = typer.Option("9V", "--vcc", metavar="V", help=_COMMON_HELP["vcc"]),
+    diode_vf: Optional[str] = typer.Option(None, "--diode-vf", metavar="V", help=f"Forward drop of the steering diode (default {DIODE_VF_DEFAULT:g} V, small-signal silicon)."),
+    max_parts: int = typer.Option(2, "--max-parts", parser=whole("--max-parts", 1, 3), metavar="N", help=_COMMON_HELP["max_parts"]),
+    top: int = typer.Option(10, "--top", parser=whole("--top", 1, MAX_TOP), metavar="K", help=_COMMON_HELP["top"]),
+    boards: int = typer.Option(1, "--boards", parser=whole("--boards", 1, MAX_BOARDS), metavar="B", help=_COMMON_HELP["boards"]),
+    accept: str = typer.Option("5%", "--accept", metavar="PCT", help=_COMMON_HELP["accept"]),
+    distribution: DistributionChoice = typer.Option(DistributionChoice.uniform, "--distribution", help=_COMMON_HELP["distribution"]),
+    seed: int = typer.Option(0, "--seed", parser=whole("--seed", 0, MAX_SEED), metavar="N", help=_COMMON_HELP["seed"]),
+    samples: int = typer.Option(10_000, "--samples", parser=whole("--samples", 1, MAX_SAMPLES), metavar="N", help=_COMMON_HELP["samples"]),
+    as_json: bool = typer.Option(False, "--json", help=_COMMON_HELP["json"]),
+    **circuit,
+) -> None:
+    """Find RA, RB and C networks in stock for an astable (free-running) 555 at a frequency and duty."""
+    from selector.cli._common import fail
+
+    kind = circuits.REGISTRY.get(connection.value)
+    if duty is None and not (kind is not None and kind.duty_fixed):
+        fail(f"--duty is required for --connection {connection.value} (only a circuit that fixes its "
+             "own duty can do without)", 2)
+    options = _circuit_options(connection.value, circuit)
+    _run(ctx, as_json, mode="astable", freq_hz=_value(freq, "Hz", "--freq"),
+         duty=_fraction(duty, "--duty") if duty is not None else None,
+         connection=connection.value, chip=chip.value, vcc_text=vcc, vf_text=diode_vf,
+         max_parts=max_parts, top=top, boards=boards, accept_text=accept,
+         distribution=distribution.value, seed=seed, samples=samples, options=options)
+
+
+def monostable(
+    ctx: typer.Context,
+    width: str = typer.Option(..., "--width", metavar="T", help="Pulse width, e.g. 150ms, 2.5s, 0.1."),
+    chip: ChipChoice = typer.Option(ChipChoice.bipolar, "--chip", help=_COMMON_HELP["chip"]),
+    vcc: str = typer.Option("9V", "--vcc", metavar="V", help=_COMMON_HELP["vcc"]),
+    max_parts: int = typer.Option(2, "--max-parts", parser=whole("--max-parts", 1, 3), metavar="N", help=_COMMON_HELP["max_parts"]),
+    top: int = typer.Option(10, "--top", parser=whole("--top", 1, MAX_TOP), metavar="K", help=_COMMON_HELP["top"]),
+    boards: int = typer.Option(1, "--boards", parser=whole("--boards", 1, MAX_BOARDS), metavar="B", help=_COMMON_HELP["boards"]),
+    accept: str = typer.Option("5%", "--accept", metavar="PCT", help=_COMMON_HELP["accept"]),
+    distribution: DistributionChoice = typer.Option(DistributionChoice.uniform, "--distribution", help=_COMMON_HELP["distribution"]),
+    seed: int = typer.Option(0, "--seed", parser=whole("--seed", 0, MAX_SEED), metavar="N", help=_COMMON_HELP["seed"]),
+    samples: int = typer.Option(10_000, "--samples", parser=whole("--samples", 1, MAX_SAMPLES), metavar="N", help=_COMMON_HELP["samples"]),
+    as_json: bool = typer.Option(False, "--json", help=_COMMON_HELP["json"]),
+) -> None:
+    """Find R and C networks in stock for a monostable (one-shot) 555 pulse width."""
+    _run(ctx, as_json, mode="monostable", width_s=_value(width, "s", "--width"), chip=chip.value,
+         vcc_text=vcc, max_parts=max_parts, top=top, boards=boards, accept_text=accept,
+         distribution=distribution.value, seed=seed, samples=samples)
+
+def rc(
+    ctx: typer.Context,
+    tau: Optional[str] = typer.Option(None, "--tau", metavar="T", help="Time constant R·C, e.g. 10ms."),
+    corner: Optional[str] = typer.Option(None, "--corner", metavar="F", help="Corner frequency 1/(2π·R·C), e.g. 1kHz."),
+    vcc: str = typer.Option("9V", "--vcc", metavar="V", help="Working voltage across the parts (for their ratings)."),
+    max_parts: int = typer.Option(2, "--max-parts", parser=whole("--max-parts", 1, 3), metavar="N", help=_COMMON_HELP["max_parts"]),
+    top: int = typer.Option(10, "--top", parser=whole("--top", 1, MAX_TOP), metavar="K", help=_COMMON_HELP["top"]),
+    boards: int = typer.Option(1, "--boards", parser=whole("--boards", 1, MAX_BOARDS), metavar="B", help=_COMMON_HELP["boards"]),
+    accept: str = typer.Option("5%", "--accept", metavar="PCT", help=_COMMON_HELP["accept"]),
+    distribution: DistributionChoice = typer.Option(DistributionChoice.uniform, "--distribution", help=_COMMON_HELP["distribution"]),
+    seed: int = typer.Option(0, "--seed", parser=whole("--seed", 0, MAX_SEED), metavar="N", help=_COMMON_HELP["seed"]),
+    samples: int = typer.Option(10_000, "--samples", parser=whole("--samples", 1, MAX_SAMPLES), metavar="N", help=_COMMON_HELP["samples"]),
+    as_json: bool = typer.Option(False, "--json", help=_COMMON_HELP["json"]),
+) -> None:
+    """Find R and C networks in stock for an RC time constant or corner frequency (give one)."""
+    if (tau is None) == (corner is None):
+        typer.echo("Error: give exactly one of --tau or --corner", err=True)
+        raise typer.Exit(2)
+    _run(ctx, as_json, mode="rc",
+         tau_s=_value(tau, "s", "--tau") if tau is not None else None,
+         corner_hz=_value(corner, "Hz", "--corner") if corner is not None else None,
+         vcc_text=vcc, max_parts=max_parts, top=top, boards=boards, accept_text=accept,
+         distribution=distribution.value, seed=seed, samples=samples)
+
+
 def register(find_app: typer.Typer) -> None:
-    """Attach this module's commands to the find group."""
-
-    @find_app.command("astable")
-    @handles_errors
-    def astable(
-        ctx: typer.Context,
-        freq: str = typer.Option(..., "--freq", metavar="F", help="Target frequency, e.g. 1.2k, 1.2kHz, 440."),
-        duty: str = typer.Option(..., "--duty", metavar="D", help="Fraction of the period the output is HIGH, e.g. 65% or 0.65."),
-        connection: ConnectionChoice = typer.Option(ConnectionChoice.auto, "--connection", help="Wiring: standard (duty above 50 %), diode (diode across RB, any duty), output-fed (CMOS, about 50 %), or auto."),
-        chip: ChipChoice = typer.Option(ChipChoice.bipolar, "--chip", help=_COMMON_HELP["chip"]),
-        vcc: str = typer.Option("9V", "--vcc", metavar="V", help=_COMMON_HELP["vcc"]),
-        diode_vf: Optional[str] = typer.Option(None, "--diode-vf", metavar="V", help="Forward drop of the steering diode (default 0.65 V, small-signal silicon)."),
-        max_parts: int = typer.Option(2, "--max-parts", parser=whole("--max-parts", 1, 3), metavar="N", help=_COMMON_HELP["max_parts"]),
-        top: int = typer.Option(10, "--top", parser=whole("--top", 1, MAX_TOP), metavar="K", help=_COMMON_HELP["top"]),
-        boards: int = typer.Option(1, "--boards", parser=whole("--boards", 1, MAX_BOARDS), metavar="B", help=_COMMON_HELP["boards"]),
-        accept: str = typer.Option("5%", "--accept", metavar="PCT", help=_COMMON_HELP["accept"]),
-        distribution: DistributionChoice = typer.Option(DistributionChoice.uniform, "--distribution", help=_COMMON_HELP["distribution"]),
-        seed: int = typer.Option(0, "--seed", parser=whole("--seed", 0, MAX_SEED), metavar="N", help=_COMMON_HELP["seed"]),
-        samples: int = typer.Option(10_000, "--samples", parser=whole("--samples", 1, MAX_SAMPLES), metavar="N", help=_COMMON_HELP["samples"]),
-        as_json: bool = typer.Option(False, "--json", help=_COMMON_HELP["json"]),
-    ) -> None:
-        """Find RA, RB and C networks in stock for an astable (free-running) 555 at a frequency and duty."""
-        _run(ctx, as_json, mode="astable", freq_hz=_value(freq, "Hz", "--freq"), duty=_fraction(duty, "--duty"),
-             connection=connection.value, chip=chip.value, vcc_text=vcc, vf_text=diode_vf,
-             max_parts=max_parts, top=top, boards=boards, accept_text=accept,
-             distribution=distribution.value, seed=seed, samples=samples)
-
-    @find_app.command("monostable")
-    @handles_errors
-    def monostable(
-        ctx: typer.Context,
-        width: str = typer.Option(..., "--width", metavar="T", help="Pulse width, e.g. 150ms, 2.5s, 0.1."),
-        chip: ChipChoice = typer.Option(ChipChoice.bipolar, "--chip", help=_COMMON_HELP["chip"]),
-        vcc: str = typer.Option("9V", "--vcc", metavar="V", help=_COMMON_HELP["vcc"]),
-        max_parts: int = typer.Option(2, "--max-parts", parser=whole("--max-parts", 1, 3), metavar="N", help=_COMMON_HELP["max_parts"]),
-        top: int = typer.Option(10, "--top", parser=whole("--top", 1, MAX_TOP), metavar="K", help=_COMMON_HELP["top"]),
-        boards: int = typer.Option(1, "--boards", parser=whole("--boards", 1, MAX_BOARDS), metavar="B", help=_COMMON_HELP["boards"]),
-        accept: str = typer.Option("5%", "--accept", metavar="PCT", help=_COMMON_HELP["accept"]),
-        distribution: DistributionChoice = typer.Option(DistributionChoice.uniform, "--distribution", help=_COMMON_HELP["distribution"]),
-        seed: int = typer.Option(0, "--seed", parser=whole("--seed", 0, MAX_SEED), metavar="N", help=_COMMON_HELP["seed"]),
-        samples: int = typer.Option(10_000, "--samples", parser=whole("--samples", 1, MAX_SAMPLES), metavar="N", help=_COMMON_HELP["samples"]),
-        as_json: bool = typer.Option(False, "--json", help=_COMMON_HELP["json"]),
-    ) -> None:
-        """Find R and C networks in stock for a monostable (one-shot) 555 pulse width."""
-        _run(ctx, as_json, mode="monostable", width_s=_value(width, "s", "--width"), chip=chip.value,
-             vcc_text=vcc, max_parts=max_parts, top=top, boards=boards, accept_text=accept,
-             distribution=distribution.value, seed=seed, samples=samples)
-
-    @find_app.command("rc")
-    @handles_errors
-    def rc(
-        ctx: typer.Context,
-        tau: Optional[str] = typer.Option(None, "--tau", metavar="T", help="Time constant R·C, e.g. 10ms."),
-        corner: Optional[str] = typer.Option(None, "--corner", metavar="F", help="Corner frequency 1/(2π·R·C), e.g. 1kHz."),
-        vcc: str = typer.Option("9V", "--vcc", metavar="V", help="Working voltage across the parts (for their ratings)."),
-        max_parts: int = typer.Option(2, "--max-parts", parser=whole("--max-parts", 1, 3), metavar="N", help=_COMMON_HELP["max_parts"]),
-        top: int = typer.Option(10, "--top", parser=whole("--top", 1, MAX_TOP), metavar="K", help=_COMMON_HELP["top"]),
-        boards: int = typer.Option(1, "--boards", parser=whole("--boards", 1, MAX_BOARDS), metavar="B", help=_COMMON_HELP["boards"]),
-        accept: str = typer.Option("5%", "--accept", metavar="PCT", help=_COMMON_HELP["accept"]),
-        distribution: DistributionChoice = typer.Option(DistributionChoice.uniform, "--distribution", help=_COMMON_HELP["distribution"]),
-        seed: int = typer.Option(0, "--seed", parser=whole("--seed", 0, MAX_SEED), metavar="N", help=_COMMON_HELP["seed"]),
-        samples: int = typer.Option(10_000, "--samples", parser=whole("--samples", 1, MAX_SAMPLES), metavar="N", help=_COMMON_HELP["samples"]),
-        as_json: bool = typer.Option(False, "--json", help=_COMMON_HELP["json"]),
-    ) -> None:
-        """Find R and C networks in stock for an RC time constant or corner frequency (give one)."""
-        if (tau is None) == (corner is None):
-            typer.echo("Error: give exactly one of --tau or --corner", err=True)
-            raise typer.Exit(2)
-        _run(ctx, as_json, mode="rc",
-             tau_s=_value(tau, "s", "--tau") if tau is not None else None,
-             corner_hz=_value(corner, "Hz", "--corner") if corner is not None else None,
-             vcc_text=vcc, max_parts=max_parts, top=top, boards=boards, accept_text=accept,
-             distribution=distribution.value, seed=seed, samples=samples)
+    """Attach this module's commands to the find group (astable with every circuit kind's own
+    options added from the registry)."""
+    find_app.command("astable")(handles_errors(_with_circuit_options(astable)))
+    find_app.command("monostable")(handles_errors(monostable))
+    find_app.command("rc")(handles_errors(rc))

@@ -35,33 +35,28 @@ from __future__ import annotations
 
 import math
 import re
-from dataclasses import dataclass, replace
+from dataclasses import replace
 from typing import Any, Callable, Iterable, Mapping, Optional, Sequence
 
+from selector.core.bom_formats import (  # noqa: F401  (the output forms; same public names here)
+    CSV_COLUMNS, MD_COLUMNS, md_cell, neutralize_cell, rating_text, to_csv, to_json, to_markdown, to_rows,
+    tolerance_text, value_text,
+)
+from selector.core.cautions import CAUTIONS as CAUTION_TEXTS
+from selector.core.bom_records import Bom, BomLine, CircuitSpec, PickItem, PickStop, Shortage
 from selector.core.types import StockLine
 
 # ---------------------------------------------------------------------------------------------
 # Roles and fixed extra parts
 # ---------------------------------------------------------------------------------------------
 
-ROLE_TIMING_C = "timing capacitor"
-ROLE_IC = "timer IC"
-ROLE_DIODE = "steering diode"
-ROLE_CV = "control-pin capacitor"
-ROLE_DECOUPLE = "supply decoupling capacitor"
-ROLE_RESERVOIR = "supply reservoir capacitor"
-ROLE_NETWORK = "network"
+from selector.core.bom_records import (  # noqa: E402,F401  (re-exported)
+    ROLE_CV, ROLE_DECOUPLE, ROLE_DIODE, ROLE_IC, ROLE_NETWORK, ROLE_RESERVOIR, ROLE_TIMING_C,
+)
 
-#: Control-pin bypass for the bipolar family: 10 nF CV to ground [facts §5, S14].
-CV_CAPACITOR_F = 10e-9
-#: Supply decoupling close to the IC, both families (common practice, no source).
-DECOUPLING_F = 100e-9
-#: Bipolar reservoir: 10-100 uF close to the IC [facts §6, S3]; 10 uF is listed when none fits.
-RESERVOIR_RANGE_F = (10e-6, 100e-6)
-
-CERAMIC = ("C0G", "X7R", "X5R", "Y5V", "Z5U")
-FILM = ("film-PP", "film-PET", "film")
-POLARIZED = ("electrolytic", "tantalum")
+# Which extra capacitors a circuit needs (control pin, decoupling, reservoir) and their values
+# are the circuit kind's and the chip family's data (selector.core.circuits, selector.core.chips).
+from selector.core.circuits.base import POLARIZED  # noqa: E402
 
 #: Order of the networks of an option in the BOM, and the role each network key plays.
 NETWORK_ORDER = ("RA", "RB", "R", "C")
@@ -69,107 +64,7 @@ NETWORK_ORDER = ("RA", "RB", "R", "C")
 # Relative tolerance for "this stock line holds the value the search used" (floats from JSON).
 _SAME_VALUE = 1e-9
 
-CAUTIONS = (
-    "Caution: capacitors can hold a charge after power is removed; discharge electrolytics "
-    "through a resistor before handling them.",
-    "Caution: when the circuit goes into mains-powered equipment under repair, follow your local "
-    "electrical codes and qualified practice; isolate and discharge the equipment first.",
-)
-
-
-@dataclass(frozen=True)
-class CircuitSpec:
-    """What the saved search says about the circuit the option belongs to."""
-
-    mode: str  # "astable" | "monostable" | "rc" | "value"
-    connection: str = ""  # "standard" | "diode" | "output-fed" | "monostable" | "rc" | ""
-    chip: str = "bipolar"  # "bipolar" | "cmos"
-    vcc: Optional[float] = None  # volts
-    diode_vf: Optional[float] = None  # volts
-
-    @property
-    def uses_timer(self) -> bool:
-        return self.mode in ("astable", "monostable")
-
-
-@dataclass(frozen=True)
-class BomLine:
-    """One physical part of the BOM (SI values; ``value`` None for the IC and the diode)."""
-
-    ref: str
-    role: str
-    kind: str  # "resistor" | "capacitor" | "ic" | "diode"
-    value: Optional[float]
-    per_board: int
-    total: int
-    in_stock: bool
-    line_id: Optional[int] = None
-    tol_minus: Optional[float] = None
-    tol_plus: Optional[float] = None
-    location: str = ""
-    package: str = ""
-    rating: Optional[float] = None
-    dielectric: str = ""
-    note: str = ""
-    network: str = ""  # e.g. "series, part 1 of 2"; "" for a single part or an extra
-    description: str = ""  # what to obtain, for parts without a value
-
-    @property
-    def tolerance(self) -> Optional[dict[str, float]]:
-        if self.tol_minus is None or self.tol_plus is None:
-            return None
-        return {"minus": self.tol_minus, "plus": self.tol_plus}
-
-
-@dataclass(frozen=True)
-class Bom:
-    """A whole BOM: every physical part, for ``boards`` boards."""
-
-    search_id: int
-    option: int
-    boards: int
-    spec: CircuitSpec
-    lines: tuple[BomLine, ...]
-    notes: tuple[str, ...] = ()
-
-
-@dataclass(frozen=True)
-class PickItem:
-    line_id: int
-    kind: str
-    value: float
-    tol_minus: float
-    tol_plus: float
-    package: str
-    quantity: int  # to take, all boards
-    on_hand: int
-    refs: tuple[str, ...]
-
-    @property
-    def missing(self) -> int:
-        return max(0, self.quantity - self.on_hand)
-
-
-@dataclass(frozen=True)
-class PickStop:
-    """One drawer visited once, with everything to take from it."""
-
-    location: str
-    items: tuple[PickItem, ...]
-
-
-@dataclass(frozen=True)
-class Shortage:
-    line_id: int
-    kind: str
-    value: float
-    location: str
-    needed: int
-    on_hand: int
-
-    @property
-    def missing(self) -> int:
-        return self.needed - self.on_hand
+CAUTIONS = (CAUTION_TEXTS["bom_charged_capacitor"], CAUTION_TEXTS["bom_mains"])
 
 
 # ---------------------------------------------------------------------------------------------
@@ -205,40 +100,27 @@ def _role_for(key: str, mode: str) -> str:
 # Wiring of a network
 # ---------------------------------------------------------------------------------------------
 
-#: How each shape is wired, pair first for the mixed 3-part shapes ("+" series, "∥" parallel);
-#: the shape names are the network engine's (selector/core/networks.py).
-_TEMPLATES = {
-    "single": "{0}", "series": "{0} + {1}", "parallel": "{0} ∥ {1}",
-    "series3": "{0} + {1} + {2}", "parallel3": "{0} ∥ {1} ∥ {2}",
-    "series+parallel": "({0} ∥ {1}) + {2}", "parallel+series": "({0} + {1}) ∥ {2}",
-}
-
-
-def _join(kind: str, joint: str, values: Sequence[float]) -> float:
-    adds = (joint == "series") == (kind == "resistor")  # R in series and C in parallel add
-    return sum(values) if adds else 1.0 / sum(1.0 / v for v in values)
-
-
 def wiring(shape: str, physical: Sequence[StockLine], value: Optional[float]) -> tuple[list[StockLine], str]:
     """Order the physical parts of a network as its formula reads and return the formula
-    template. The saved JSON lists parts by stock line with counts, which loses which part is
-    the lone one in a mixed 3-part shape; it is recovered as the choice that reproduces the
-    network's saved value (else the last part, the network engine's order)."""
+    template (the shape's written form, ``networks.shapes``). The saved JSON lists parts by
+    stock line with counts, which loses which part is the lone one in a mixed 3-part shape; it is
+    recovered as the choice that reproduces the network's saved value (else the last part, the
+    network engine's order)."""
+    from selector.core.networks.shapes import SHAPES, value as shape_value
+
     parts = list(physical)
-    template = _TEMPLATES.get(shape)
-    if template is None or template.count("{") != len(parts):
+    entry = SHAPES.get(shape)
+    if entry is None or entry.parts != len(parts):
         joint = " ∥ " if shape.startswith("parallel") else " + "
         return parts, joint.join("{%d}" % i for i in range(len(parts)))
-    if shape in ("series+parallel", "parallel+series") and value is not None:
-        outer, inner = ("series", "parallel") if shape == "series+parallel" else ("parallel", "series")
+    if not entry.symmetric and value is not None:
         kind = parts[0].kind
         for lone in (2, 1, 0):
-            pair = [parts[i].value for i in range(3) if i != lone]
-            got = _join(kind, outer, [_join(kind, inner, pair), parts[lone].value])
-            if math.isclose(got, value, rel_tol=1e-6):
-                parts = [parts[i] for i in range(3) if i != lone] + [parts[lone]]
+            order = [parts[i] for i in range(3) if i != lone] + [parts[lone]]
+            if math.isclose(shape_value(entry.structure, [p.value for p in order], kind), value, rel_tol=1e-6):
+                parts = order
                 break
-    return parts, template
+    return parts, entry.template
 
 
 # ---------------------------------------------------------------------------------------------
@@ -300,14 +182,6 @@ def _pick_extra(
     return best, best is not None and best.rating is None
 
 
-def _is(value: float) -> Callable[[float], bool]:
-    return lambda v: math.isclose(v, value, rel_tol=1e-6)
-
-
-def _within(lo: float, hi: float) -> Callable[[float], bool]:
-    return lambda v: lo * (1 - 1e-9) <= v <= hi * (1 + 1e-9)
-
-
 def assemble_bom(
     search_id: int,
     option_rank: int,
@@ -336,33 +210,7 @@ def assemble_bom(
         return f"{letter}{counters[letter]}"
 
     for key, net in option_networks(spec.mode, option):
-        parts = list(net.get("parts") or [])
-        if not parts:
-            raise OptionShapeError(f"network {key} has no parts")
-        physical: list[StockLine] = []
-        for p in parts:
-            line_id = int(p["line_id"])
-            line = by_id.get(line_id)
-            value = float(p["value"])
-            if line is None:
-                raise OptionOutdatedError(line_id, None, value)
-            if not math.isclose(line.value, value, rel_tol=_SAME_VALUE):
-                raise OptionOutdatedError(line_id, line.value, value)
-            physical.extend([line] * int(p["count"]))
-        shape = str(net.get("shape") or ("single" if len(physical) == 1 else "series"))
-        net_value = net.get("value")
-        physical, template = wiring(shape, physical, None if net_value is None else float(net_value))
-        role = _role_for(key, spec.mode)
-        refs = [next_ref(line.kind) for line in physical]
-        formula = template.format(*refs)
-        for ref, line in zip(refs, physical):
-            lines.append(BomLine(
-                ref=ref, role=role, kind=line.kind, value=line.value,
-                per_board=1, total=boards, in_stock=True, line_id=line.id,
-                tol_minus=line.tol_minus, tol_plus=line.tol_plus, location=line.location,
-                package=line.package, rating=line.rating, dielectric=line.dielectric,
-                note=line.note, network=f"{shape}: {formula}" if len(physical) > 1 else "",
-            ))
+        lines.extend(_network_lines(key, net, spec, by_id, boards, next_ref))
 
     if spec.uses_timer:
         lines.extend(_extras(spec, stock, boards, derating, lines, next_ref, notes))
@@ -375,11 +223,9 @@ def assemble_bom(
         for bl in lines
     ]
     notes[:0] = connection_notes(spec)
-    if spec.uses_timer and spec.chip == "cmos":
-        notes.append(
-            "CMOS timer: the control pin is left open (one CMOS 555 data sheet says it need not be "
-            "decoupled); fit 10 nF to ground if your part's data sheet asks for it."
-        )
+    kind = _kind(spec)
+    if kind is not None:
+        notes.extend(kind.bom_chip_notes(_settings(spec)))
     if any(bl.dielectric in POLARIZED for bl in lines if bl.kind == "capacitor"):
         notes.append("Polarized capacitors: fit the + lead towards the more positive node.")
     if spec.uses_timer or any(bl.kind == "capacitor" for bl in lines):
@@ -388,27 +234,62 @@ def assemble_bom(
                lines=tuple(lines), notes=tuple(notes))
 
 
-#: Where each timing network goes, by connection (facts.md §1 standard, §2 diode-steered [S8],
-#: §3 output-fed, §4 monostable); RESET tied to VCC when unused [facts §4, S1/S3].
-_CONNECTIONS = {
-    "standard": "Connections: RA from VCC to DIS; RB from DIS to THR and TRIG; timing capacitor from "
-                "THR/TRIG to GND.",
-    "diode": "Connections: RA from VCC to DIS; RB from DIS to THR and TRIG with the steering diode across "
-             "it (anode at DIS, cathode at THR/TRIG); timing capacitor from THR/TRIG to GND.",
-    "output-fed": "Connections: R from OUT to THR and TRIG; timing capacitor from THR/TRIG to GND; DIS "
-                  "left unconnected.",
-    "monostable": "Connections: R from VCC to DIS and THR; timing capacitor from THR to GND; the trigger "
-                  "pulse goes to TRIG (take it close to 0 V and keep it shorter than the pulse width).",
-}
+def _network_lines(key: str, net: Mapping[str, Any], spec: CircuitSpec, by_id: Mapping[int, StockLine],
+                   boards: int, next_ref: Callable[[str], str]) -> list[BomLine]:
+    """One BOM line per physical part of one saved network, in the order its formula reads."""
+    parts = list(net.get("parts") or [])
+    if not parts:
+        raise OptionShapeError(f"network {key} has no parts")
+    physical: list[StockLine] = []
+    for p in parts:
+        line_id = int(p["line_id"])
+        line = by_id.get(line_id)
+        value = float(p["value"])
+        if line is None:
+            raise OptionOutdatedError(line_id, None, value)
+        if not math.isclose(line.value, value, rel_tol=_SAME_VALUE):
+            raise OptionOutdatedError(line_id, line.value, value)
+        physical.extend([line] * int(p["count"]))
+    shape = str(net.get("shape") or ("single" if len(physical) == 1 else "series"))
+    net_value = net.get("value")
+    physical, template = wiring(shape, physical, None if net_value is None else float(net_value))
+    role = _role_for(key, spec.mode)
+    out: list[BomLine] = []
+    refs = [next_ref(line.kind) for line in physical]
+    formula = template.format(*refs)
+    for ref, line in zip(refs, physical):
+        out.append(BomLine(
+            ref=ref, role=role, kind=line.kind, value=line.value,
+            per_board=1, total=boards, in_stock=True, line_id=line.id,
+            tol_minus=line.tol_minus, tol_plus=line.tol_plus, location=line.location,
+            package=line.package, rating=line.rating, dielectric=line.dielectric,
+            note=line.note, network=f"{shape}: {formula}" if len(physical) > 1 else "",
+        ))
+    return out
+
+
+def _kind(spec: CircuitSpec):
+    """The circuit kind of a 555/oscillator option (None for an RC or a plain value option)."""
+    from selector.core import circuits
+
+    if not spec.uses_timer:
+        return None
+    try:
+        return circuits.of_option(spec.mode, spec.connection)
+    except KeyError:
+        return None
+
+
+def _settings(spec: CircuitSpec):
+    from selector.core.circuits.base import Settings
+
+    return Settings(spec.chip, spec.vcc if spec.vcc is not None else 0.0, spec.diode_vf, dict(spec.options))
 
 
 def connection_notes(spec: CircuitSpec) -> list[str]:
-    """How the timing networks are wired to the timer, for a 555 option."""
-    if not spec.uses_timer:
-        return []
-    key = "monostable" if spec.mode == "monostable" else spec.connection
-    out = [_CONNECTIONS[key]] if key in _CONNECTIONS else []
-    return out + ["Tie RESET to VCC when it is not used."]
+    """How the timing networks are wired to the device, for a timer/oscillator option."""
+    kind = _kind(spec)
+    return [] if kind is None else kind.bom_notes(_settings(spec))
 
 
 def _extras(
@@ -420,46 +301,28 @@ def _extras(
     next_ref: Callable[[str], str],
     notes: list[str],
 ) -> list[BomLine]:
-    chip = "CMOS" if spec.chip == "cmos" else "bipolar"
+    kind = _kind(spec)
+    if kind is None:
+        return []
+    settings = _settings(spec)
     out: list[BomLine] = [BomLine(
-        ref="U1", role=ROLE_IC, kind="ic", value=None, per_board=1, total=boards, in_stock=False,
-        description=f"555 timer, {chip}",
-    )]
-    if spec.connection == "diode":
-        schottky = spec.diode_vf is not None and spec.diode_vf < 0.45
-        what = "small-signal Schottky diode" if schottky else "small-signal silicon diode, 1N4148 class"
-        vf = f"; Vf about {spec.diode_vf:g} V as searched" if spec.diode_vf is not None else ""
-        out.append(BomLine(
-            ref="D1", role=ROLE_DIODE, kind="diode", value=None, per_board=1, total=boards,
-            in_stock=False, description=what,
-            note=f"across RB, anode at DIS, cathode at THR/TRIG{vf}",
-        ))
-
-    wanted: list[tuple[str, float, Callable[[float], bool], Sequence[str], Sequence[str], str]] = []
-    if spec.chip != "cmos":
-        wanted.append((ROLE_CV, CV_CAPACITOR_F, _is(CV_CAPACITOR_F), CERAMIC + FILM, POLARIZED,
-                       "CV (pin 5) to ground"))
-    wanted.append((ROLE_DECOUPLE, DECOUPLING_F, _is(DECOUPLING_F), CERAMIC + FILM, POLARIZED,
-                   "VCC to ground, close to the IC"))
-    if spec.chip != "cmos":
-        lo, hi = RESERVOIR_RANGE_F
-        wanted.append((ROLE_RESERVOIR, lo, _within(lo, hi), POLARIZED + CERAMIC, (),
-                       "VCC to ground, close to the IC; 10-100 µF"))
+        ref=o.ref, role=o.role, kind=o.kind, value=None, per_board=1, total=boards, in_stock=False,
+        description=o.description, note=o.note,
+    ) for o in kind.bom_obtain(settings)]
 
     taken = demand(so_far)
     visited = {bl.location for bl in so_far if bl.line_id is not None}
-    for role, nominal, fits, prefer, exclude, where in wanted:
-        line, unknown_rating = _pick_extra(stock, taken, boards, spec.vcc, derating, fits, prefer,
-                                           exclude, visited)
+    for want in kind.bom_extra_caps(settings):
+        line, unknown_rating = _pick_extra(stock, taken, boards, spec.vcc, derating, want.fits, want.prefer,
+                                           want.exclude, visited)
         ref = next_ref("capacitor")
         if line is None:
             need_v = ""
             if spec.vcc is not None:
-                diel = "electrolytic" if role == ROLE_RESERVOIR else "X7R"
-                need_v = f"; rated at least {math.ceil(spec.vcc / derating(diel) * 10) / 10:g} V"
+                need_v = f"; rated at least {math.ceil(spec.vcc / derating(want.dielectric_for_rating) * 10) / 10:g} V"
             out.append(BomLine(
-                ref=ref, role=role, kind="capacitor", value=nominal, per_board=1, total=boards,
-                in_stock=False, note=f"{where}{need_v}",
+                ref=ref, role=want.role, kind="capacitor", value=want.nominal, per_board=1, total=boards,
+                in_stock=False, note=f"{want.where}{need_v}",
             ))
             continue
         taken[line.id] = taken.get(line.id, 0) + boards
@@ -470,10 +333,10 @@ def _extras(
             note = f"{note}; {check}" if note else check
             notes.append(f"{ref}: the stock line's voltage rating is unknown; check it before fitting.")
         out.append(BomLine(
-            ref=ref, role=role, kind="capacitor", value=line.value, per_board=1, total=boards,
+            ref=ref, role=want.role, kind="capacitor", value=line.value, per_board=1, total=boards,
             in_stock=True, line_id=line.id, tol_minus=line.tol_minus, tol_plus=line.tol_plus,
             location=line.location, package=line.package, rating=line.rating,
-            dielectric=line.dielectric, note=note, description=where,
+            dielectric=line.dielectric, note=note, description=want.where,
         ))
     return out
 
@@ -546,12 +409,6 @@ def shortages(bom: Bom, stock: Sequence[StockLine]) -> list[Shortage]:
             out.append(Shortage(line_id, s.kind, s.value, s.location, qty, s.quantity))
     return out
 
-
-# The output forms live in their own module to keep this one short; same public names here.
-from selector.core.bom_formats import (  # noqa: E402  (after the types they format)
-    CSV_COLUMNS, MD_COLUMNS, md_cell, neutralize_cell, rating_text, to_csv, to_json, to_markdown, to_rows,
-    tolerance_text, value_text,
-)
 
 __all__ = [
     "Bom", "BomLine", "CircuitSpec", "PickItem", "PickStop", "Shortage", "OptionOutdatedError",

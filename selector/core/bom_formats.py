@@ -9,7 +9,7 @@ import io
 from typing import TYPE_CHECKING, Any, Optional, Sequence
 
 if TYPE_CHECKING:  # only for annotations: selector.core.bom imports this module at its end
-    from selector.core.bom import Bom, BomLine, PickStop
+    from selector.core.bom_records import Bom, BomLine, PickStop
 
 from selector.core.cells import neutralize_cell, without_controls  # noqa: E402,F401  (shared with the stock export)
 

@@ -11,14 +11,18 @@ a test can insist that no number goes uncited.
 from __future__ import annotations
 
 from dataclasses import dataclass, field
+from typing import TYPE_CHECKING, Optional
 
-import numpy as np
+if TYPE_CHECKING:  # numpy is imported inside the functions: the CLI reads FAMILIES at start-up
+    import numpy as np
 
 from selector.core.errors import OutOfRange, UnknownChipFamily
 
 
 def _plain(x: np.ndarray):
     """A Python float for scalar input, the array otherwise."""
+    import numpy as np
+
     return float(x) if np.ndim(x) == 0 else x
 
 
@@ -41,14 +45,24 @@ class ChipFamily:
     output_fed_ok: bool              # offer the output-fed astable
     astable_initial_error: float     # chip-only timing error, typical, fraction
     monostable_initial_error: float
+    part_text: str                   # how the BOM names the IC: "555 timer, <part_text>"
+    spice_divider_ohms: float        # each of the three divider resistors in the SPICE model
+    datasheet_discharge_ohms: float  # DIS saturation as a resistance (--discharge-ohms)
+    control_pin_cap_f: Optional[float]   # CV (pin 5) capacitor fitted by the BOM; None: left open
+    reservoir_f: Optional[tuple]     # (lo, hi) supply reservoir range; None: not listed
+    bom_notes: tuple = ()            # notes the BOM adds for this family
     sources: dict = field(default_factory=dict, compare=False, hash=False, repr=False)
 
     def voh(self, vcc) -> float:
         """Output HIGH level at light load."""
+        import numpy as np
+
         return _plain(np.asarray(vcc, dtype=float) - self.voh_drop_v)
 
     def vol(self, vcc) -> float:
         """Output LOW level at light load (independent of VCC in this model)."""
+        import numpy as np
+
         return _plain(np.zeros_like(np.asarray(vcc, dtype=float)) + self.vol_v)
 
     def max_timing_r_ohm(self, vcc) -> float:
@@ -58,6 +72,8 @@ class ChipFamily:
         threshold input current: R ≤ VCC/(3·I_th) [S1 note: 20 MΩ at 15 V]. The result is also
         capped at ``max_r_cap_ohm`` (leakage of boards and capacitors dominates for CMOS parts).
         """
+        import numpy as np
+
         vcc = np.asarray(vcc, dtype=float)
         return _plain(np.minimum(vcc / (3.0 * self.threshold_current_a), self.max_r_cap_ohm))
 
@@ -89,6 +105,11 @@ BIPOLAR = ChipFamily(
     output_fed_ok=False,              # facts §3: bipolar VOH depends on load and VCC (derived)
     astable_initial_error=0.0225,     # [S1] astable 2.25 % typ (RA, RB 1–100 kΩ, C 0.1 µF)
     monostable_initial_error=0.01,    # [S1] monostable 1 % typ / 3 % max
+    part_text="bipolar",
+    spice_divider_ohms=5e3,           # [S12] bipolar 555 model netlists show 3 × 5 kΩ; [S14]
+    datasheet_discharge_ohms=12.0,    # [S1] DIS saturation 180 mV typ at 15 mA (VCC 15 V) → 12 Ω
+    control_pin_cap_f=10e-9,          # [S14] bypass CV with 10 nF when it is not used (facts §5)
+    reservoir_f=(10e-6, 100e-6),      # [S3] 10–100 µF close to the IC: output current spikes
     sources={
         "vcc_min": "[S1] bipolar 555 data sheet, supply 4.5–16 V",
         "vcc_max": "[S1] bipolar 555 data sheet, supply 4.5–16 V",
@@ -102,6 +123,9 @@ BIPOLAR = ChipFamily(
         "max_r_cap_ohm": "[S1] bipolar 555 data sheet note, 20 MΩ at 15 V",
         "astable_initial_error": "[S1] bipolar 555 data sheet, astable 2.25 % typ",
         "monostable_initial_error": "[S1] bipolar 555 data sheet, monostable 1 % typ",
+        "spice_divider_ohms": "[S12] bipolar 555 model netlists, 3 × 5 kΩ; [S14] tutorial",
+        "datasheet_discharge_ohms": "[S1] bipolar 555 data sheet, DIS 180 mV typ at 15 mA",
+        "control_pin_cap_f": "[S14] bypass CV with 10 nF when it is not used",
     },
 )
 
@@ -122,6 +146,13 @@ CMOS = ChipFamily(
     output_fed_ok=True,               # [S4], [S7] 50 % output-fed connection for CMOS parts
     astable_initial_error=0.01,       # [S6] about 1 % typ astable (stored table garbled)
     monostable_initial_error=0.01,    # from memory, not confirmed (about 1 % like the bipolar)
+    part_text="CMOS",
+    spice_divider_ohms=100e3,         # from memory, not confirmed: "near 100 kΩ each" (facts §5)
+    datasheet_discharge_ohms=40.0,    # [S6] DIS ≤ 0.4 V at 10 mA, 5 V → at most 40 Ω
+    control_pin_cap_f=None,           # [S6] CV "need not be decoupled"
+    reservoir_f=None,                 # [S6] "no crowbarring": no reservoir listed
+    bom_notes=("CMOS timer: the control pin is left open (one CMOS 555 data sheet says it need not be "
+               "decoupled); fit 10 nF to ground if your part's data sheet asks for it.",),
     sources={
         "vcc_min": "[S5] CMOS 555 data sheet B, 2–15 V (data sheet C [S6]: 3–16 V)",
         "vcc_max": "[S5] CMOS 555 data sheet B, 2–15 V",
@@ -135,6 +166,9 @@ CMOS = ChipFamily(
         "max_r_cap_ohm": "common practice (leakage of boards and capacitors limits R)",
         "astable_initial_error": "[S6] CMOS 555 data sheet C, about 1 % typ",
         "monostable_initial_error": "from memory, not confirmed (about 1 %)",
+        "spice_divider_ohms": "from memory, not confirmed (near 100 kΩ each, differs by maker)",
+        "datasheet_discharge_ohms": "[S6] CMOS 555 data sheet C, DIS at most 0.4 V at 10 mA",
+        "control_pin_cap_f": "[S6] CMOS 555 data sheet C, CV need not be decoupled",
     },
 )
 
@@ -160,6 +194,8 @@ def electrolytic_leakage_a(c_farad, v_rated) -> np.ndarray:
 
     Leakage rises with temperature [S15]; this is the room-temperature rating.
     """
+    import numpy as np
+
     c_uf = np.asarray(c_farad, dtype=float) * 1e6
     i_ua = np.maximum(0.01 * c_uf * np.asarray(v_rated, dtype=float), 3.0)
     return i_ua * 1e-6
@@ -171,6 +207,8 @@ def leakage_margin(r, c_farad, vcc, v_rated) -> np.ndarray:
     Below :data:`LEAKAGE_MARGIN_MIN` the timing is unreliable (common practice, facts §6). When
     the capacitor's rating is unknown, pass ``vcc``: the part must be rated at least that.
     """
+    import numpy as np
+
     i_charge = np.asarray(vcc, dtype=float) / (3.0 * np.asarray(r, dtype=float))
     return i_charge / electrolytic_leakage_a(c_farad, v_rated)
 
@@ -180,31 +218,6 @@ def leakage_ok(r, c_farad, vcc, v_rated) -> np.ndarray:
     return leakage_margin(r, c_farad, vcc, v_rated) >= LEAKAGE_MARGIN_MIN
 
 
-# --------------------------------------------------------------------------- cautions (text data)
-CAUTIONS: dict[str, str] = {
-    "charged_capacitor": (
-        "Capacitors can hold a charge after power is removed: discharge electrolytics through a "
-        "resistor before handling them."
-    ),
-    "mains": (
-        "Mains-powered equipment under repair can kill: follow local codes and qualified practice, "
-        "work unpowered where you can, and use an isolating transformer."
-    ),
-    "electrolytic_leakage": (
-        "Electrolytic timing capacitor: its leakage (up to 0.01·C·V µA or 3 µA) makes long timings "
-        "drift; keep the charging current VCC/(3R) at least 10× the leakage, or use a film "
-        "capacitor with a larger R on a CMOS 555."
-    ),
-    "high_frequency": (
-        "Above about 100 kHz propagation delays and the discharge switch resistance make the real "
-        "frequency lower than the formula."
-    ),
-    "bipolar_output_fed": (
-        "The output-fed connection depends on the output levels; a bipolar 555 output is not "
-        "rail-to-rail, so the duty is well above 50 % and it may not oscillate at 5 V."
-    ),
-    "decoupling": (
-        "Decouple VCC close to a bipolar 555 (10–100 µF): its output draws current spikes at "
-        "every transition."
-    ),
-}
+# --------------------------------------------------------------------------- cautions
+# The caution texts live in one table, selector.core.cautions; re-exported here (older name).
+from selector.core.cautions import CAUTIONS  # noqa: E402,F401

@@ -10,6 +10,12 @@ from __future__ import annotations
 
 from selector.core.errors import UnparseableValue
 
+# Forward drop of a small-signal silicon steering diode near 1 mA. 1N4148 class: 0.6–0.65 V typ
+# at 1 mA (from memory, not confirmed); 1N4448: 0.62 V min … 0.72 V max at 5 mA [S16 diode data
+# sheets]. The CLI option --diode-vf overrides it (a small Schottky is about 0.3 V). The one
+# default: timing, the search limits, SPICE and the CLI read it from here.
+DIODE_VF_DEFAULT = 0.65
+
 # Canonical dielectric names, in the order messages list them. "" means "not stated / none"
 # (the only sensible value for a resistor).
 DIELECTRICS: tuple[str, ...] = (

@@ -33,7 +33,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass, field
-from typing import Optional, Sequence
+from typing import Sequence
 
 import numpy as np
 
@@ -76,53 +76,38 @@ class RankedOption:
         return (-math.floor(20 * y + 1e-9), self.bucket, self.nparts, abs(self.error), -y)
 
 
+ROLE_ORDER = ("RA", "RB", "R", "C")
+"""Order of the networks of an option wherever they are listed (tables, JSON, BOM, model inputs)."""
+
+
 def _order(found) -> list:
-    roles = ("RA", "RB", "R", "C")
-    return [r for r in roles if r in found.networks]
+    return [r for r in ROLE_ORDER if r in found.networks]
 
 
 def _model(found, target, limits):
-    """fn(*part_values) -> tuple of outputs, and the output names."""
-    from selector.core import timing
+    """fn(*inputs) -> tuple of outputs, the output names, and the inputs: every physical part
+    (role order RA, RB, R, C) followed by the circuit's own uncertain inputs (e.g. thresholds),
+    each with a value and a tolerance band."""
+    from selector.core import circuits
 
+    kind = circuits.get(found.connection)
     roles = _order(found)
     nets = [found.networks[r] for r in roles]
     sizes = [n.nparts for n in nets]
-    conn = found.connection
+    uncertain = kind.uncertain(limits)
+    n_parts = sum(sizes)
 
-    def values(args):
-        out, i = {}, 0
+    def fn(*args):
+        v, i = {}, 0
         for role, net, k in zip(roles, nets, sizes):
-            out[role] = net.combine(np.stack([np.asarray(a, dtype=float) for a in args[i:i + k]]))
+            v[role] = net.combine(np.stack([np.asarray(a, dtype=float) for a in args[i:i + k]]))
             i += k
-        return out
+        extra = {u.name: np.asarray(a, dtype=float) for u, a in zip(uncertain, args[n_parts:])}
+        return kind.model(v, limits, extra)
 
-    if target.mode == "astable":
-        names = ("frequency_hz", "duty", "t_high_s", "t_low_s")
-
-        def fn(*args):
-            v = values(args)
-            if conn == "standard":
-                th, tl = timing.standard_times(v["RA"], v["RB"], v["C"])
-            elif conn == "diode":
-                th, tl = timing.diode_times(v["RA"], v["RB"], v["C"], limits.vcc, limits.diode_vf)
-            else:
-                th, tl = timing.output_fed_times(v["R"], v["C"], limits.voh, limits.vol, limits.vcc)
-            f, d = timing.frequency_duty(th, tl)
-            return f, d, th, tl
-    elif target.mode == "monostable":
-        names = ("width_s",)
-
-        def fn(*args):
-            v = values(args)
-            return (timing.monostable_width(v["R"], v["C"]),)
-    else:
-        names = ("tau_s", "corner_hz")
-
-        def fn(*args):
-            v = values(args)
-            return timing.rc_tau(v["R"], v["C"]), timing.rc_corner(v["R"], v["C"])
-    return fn, names, [p for n in nets for p in n.physical]
+    inputs = [(p.value, p.tol_minus, p.tol_plus) for n in nets for p in n.physical]
+    inputs += [(u.nominal, u.tol_minus, u.tol_plus) for u in uncertain]
+    return fn, kind.outputs, inputs, kind
 
 
 def evaluate(found, target, limits, accept: float, distribution: str = "uniform", samples: int = 10_000,
@@ -131,10 +116,10 @@ def evaluate(found, target, limits, accept: float, distribution: str = "uniform"
     (``monte_carlo=False``: corners only, yield nan - for a first cut of a large pool)."""
     from selector.core import tolerance
 
-    fn, names, phys = _model(found, target, limits)
-    nominal = np.array([p.value for p in phys], dtype=float)
-    tm = np.array([p.tol_minus for p in phys], dtype=float)
-    tp = np.array([p.tol_plus for p in phys], dtype=float)
+    fn, names, inputs, kind = _model(found, target, limits)
+    nominal = np.array([x[0] for x in inputs], dtype=float)
+    tm = np.array([x[1] for x in inputs], dtype=float)
+    tp = np.array([x[2] for x in inputs], dtype=float)
     nom = [float(np.asarray(x).ravel()[0]) for x in fn(*[np.array([v]) for v in nominal])]
     lows, highs = tolerance.band(nominal, tm, tp)
     cmin, cmax = tolerance.corners(fn, list(lows), list(highs))
@@ -152,18 +137,8 @@ def evaluate(found, target, limits, accept: float, distribution: str = "uniform"
             lo, hi = min(lo, float(np.nanmin(outs[j]))), max(hi, float(np.nanmax(outs[j])))
         predicted[name] = nom[j]
         rng_out[name] = [lo, hi]
-    if target.mode == "astable":
-        ok = (np.abs(outs[0] / target.frequency - 1) <= accept) & (np.abs(outs[1] / target.duty - 1) <= accept)
-        main = "frequency_hz"
-    elif target.mode == "monostable":
-        ok = np.abs(outs[0] / target.width - 1) <= accept
-        main = "width_s"
-    elif not math.isnan(target.corner_hz):
-        ok = np.abs(outs[1] / target.corner_hz - 1) <= accept
-        main = "corner_hz"
-    else:
-        ok = np.abs(outs[0] / target.tau - 1) <= accept
-        main = "tau_s"
+    ok = kind.in_spec(outs, target, accept)
+    main = kind.main_output(target)
     y = float(np.mean(ok)) if monte_carlo else math.nan
     lo, hi = rng_out[main]
     spread = (hi - lo) / predicted[main] if predicted[main] > 0 else math.inf
@@ -173,11 +148,12 @@ def evaluate(found, target, limits, accept: float, distribution: str = "uniform"
 
 def cautions(found, target, limits) -> list:
     """Per-option cautions (keys of ``chips.CAUTIONS`` or plain sentences)."""
-    from selector.core import chips, parts
+    from selector.core import chips, circuits, parts
 
     out = []
     c = found.networks["C"]
-    charging = {"standard": ("RA", "RB"), "diode": ("RA",)}.get(found.connection, ("R",))
+    kind = circuits.get(found.connection)
+    charging = kind.charging_roles
     r_charge = sum(found.networks[k].value for k in charging if k in found.networks)
     long_time = (target.mode == "monostable" and target.width >= 1.0) or (
         target.mode == "astable" and target.t_high + target.t_low >= 1.0)
@@ -195,6 +171,7 @@ def cautions(found, target, limits) -> list:
             out.append("class2")
         if ln.rating is None and limits.cap_volts > 0 and "cap_rating_unknown" not in out:
             out.append("cap_rating_unknown")
+    out += [k for k in kind.cautions if k not in out]
     return out
 
 

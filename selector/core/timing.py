@@ -23,10 +23,7 @@ from selector.core.errors import OutOfRange
 LN2 = float(np.log(2.0))
 LN3 = float(np.log(3.0))
 
-# Forward drop of a small-signal silicon steering diode near 1 mA. 1N4148 class: 0.6–0.65 V typ
-# at 1 mA (from memory, not confirmed); 1N4448: 0.62 V min … 0.72 V max at 5 mA [S16 diode data
-# sheets]. The CLI option --diode-vf overrides it (a small Schottky is about 0.3 V).
-DIODE_VF_DEFAULT = 0.65
+from selector.core.parts import DIODE_VF_DEFAULT  # noqa: E402,F401  (the one default, re-exported)
 
 # Comparator levels on a supply normalised to 3 units (VCC/3 = 1, 2·VCC/3 = 2). Using whole
 # numbers makes the ratios exact in floating point, so ln 2 and ln 3 come out bit-exact.
@@ -263,11 +260,6 @@ def ra_power_w(vcc, ra) -> np.ndarray:
     the resistor must take this continuously.
     """
     return _f(vcc) ** 2 / _f(ra)
-
-
-def rb_power_w(vcc, rb) -> np.ndarray:
-    """Peak power in RB at the start of a discharge: (2·VCC/3)²/RB (facts.md §7, derived)."""
-    return (2.0 * _f(vcc) / 3.0) ** 2 / _f(rb)
 
 
 def output_fed_power_w(r, voh, vol, vcc) -> np.ndarray:

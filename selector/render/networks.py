@@ -1,12 +1,12 @@
 """Writing networks for people: ``10 kΩ + 2.2 kΩ`` (in series), ``22 kΩ ∥ 47 kΩ`` (in parallel),
-``(10 kΩ ∥ 10 kΩ) + 1 kΩ``; the JSON form of a network option; the ``find value`` table.
+``(10 kΩ ∥ 10 kΩ) + 1 kΩ``; the ``find value`` table (its JSON form is the service's).
 
 ``+`` always means "in series" and ``∥`` "in parallel", for capacitors too (two 100 nF in series
 are written ``100 nF + 100 nF`` and make 50 nF); the table says so under it."""
 
 from __future__ import annotations
 
-from typing import TYPE_CHECKING, Any, Sequence
+from typing import TYPE_CHECKING, Sequence
 
 if TYPE_CHECKING:  # pragma: no cover
     from rich.console import Console
@@ -14,8 +14,7 @@ if TYPE_CHECKING:  # pragma: no cover
 
     from selector.core.networks import Network
 
-SERIES_SIGN = "+"
-PARALLEL_SIGN = "∥"
+
 LEGEND = "+ = in series, ∥ = in parallel"
 
 
@@ -33,29 +32,10 @@ def value_text(kind: str, value: float) -> str:
 
 def network_text(net: "Network") -> str:
     """The network written readably, following its structure: parts in physical order, a
-    nested pair in parentheses."""
+    nested pair in parentheses (``networks.shapes.write``)."""
+    from selector.core.networks.shapes import write
 
-    def walk(node, top: bool) -> str:
-        if isinstance(node, int):
-            return value_text(net.kind, net.physical[node].value)
-        joint, children = node
-        sign = SERIES_SIGN if joint == "series" else PARALLEL_SIGN
-        text = f" {sign} ".join(walk(c, False) for c in children)
-        return text if top else f"({text})"
-
-    return walk(net.structure, True)
-
-
-def parts_json(net: "Network") -> list[dict[str, Any]]:
-    """[{"line_id", "value", "count", "location"}] for the distinct stock lines of a network."""
-    return [{"line_id": line.id, "value": line.value, "count": count, "location": line.location}
-            for line, count in net.parts]
-
-
-def option_json(rank: int, net: "Network", target: float) -> dict[str, Any]:
-    """One ``find value`` option exactly as --json prints it (SI units; error = value/target - 1)."""
-    return {"rank": rank, "value": net.value, "error": net.value / target - 1.0, "min": net.vmin,
-            "max": net.vmax, "shape": net.shape, "parts": parts_json(net)}
+    return write(net.structure, [value_text(net.kind, p.value) for p in net.physical])
 
 
 def pick_text(net: "Network") -> str:

@@ -6,6 +6,7 @@ from rich import box
 from rich.console import Group
 from rich.table import Table
 from rich.text import Text
+from selector.core.cautions import CAUTIONS as CAUTION_TEXTS
 
 # (key, label, unit for format_value or "%" for a fraction)
 _ROWS = (
@@ -22,10 +23,7 @@ MODEL_NOTE = (
     "ngspice runs selector's own behavioural 555 (3-resistor divider, two comparators, SR latch, "
     "discharge switch, output at the chip family's levels); figures are taken after the first cycle."
 )
-CAUTION = (
-    "Caution: a built timer's capacitors can stay charged after power is off; discharge large ones "
-    "through a resistor, and on mains-powered equipment follow local codes and qualified practice."
-)
+CAUTION = CAUTION_TEXTS["simulate"]
 
 
 def _fmt(value: float, unit: str) -> str:
@@ -46,10 +44,9 @@ def _diff(d: float | None) -> str:
 
 
 def comparison_table(report) -> Table:
-    t = Table(title=(f"Simulation of option {report.rank} of search {report.search_id}: "
-                     f"{report.mode}, {report.connection}, {report.chip} 555 at {report.vcc:g} V"
-                     if report.connection != "rc" else
-                     f"Simulation of option {report.rank} of search {report.search_id}: RC low-pass"),
+    head = f"Simulation of option {report.rank} of search {report.search_id}: "
+    t = Table(title=(head + f"{report.mode}, {report.connection}, {report.device} at {report.vcc:g} V"
+                     if report.device else head + "RC low-pass"),
               title_justify="left", box=box.SIMPLE_HEAD, pad_edge=False)
     for name, kw in (("quantity", {}), ("predicted", {"justify": "right"}),
                      ("ngspice", {"justify": "right"}), ("difference", {"justify": "right"})):
@@ -89,15 +86,16 @@ def corner_notes(report) -> list[str]:
 
 
 def footer(report) -> Text:
-    lines = corner_notes(report) + ["difference = (ngspice - predicted) / predicted.", MODEL_NOTE]
-    if report.connection != "rc":
+    lines = corner_notes(report) + ["difference = (ngspice - predicted) / predicted.",
+                                    report.model_note or MODEL_NOTE]
+    if report.has_discharge:
         lines.append(f"Discharge switch on-resistance {report.discharge_ohms:g} ohm (--discharge-ohms to change).")
     if report.diode_vf is not None:
         lines.append(f"Steering diode: exponential model dropping {report.diode_vf:g} V at the mean charging "
                      "current; the prediction uses a constant drop, so expect about 1-3 % on t_high.")
     lines += list(report.warnings)
     lines.append(f"{report.cycles} cycle(s) measured; ngspice and parsing took {report.elapsed_s:.2f} s."
-                 if report.connection not in ("rc", "monostable")
+                 if report.mode == "astable"
                  else f"ngspice and parsing took {report.elapsed_s:.2f} s.")
     lines.append(CAUTION)
     return Text("\n".join(lines))

@@ -8,12 +8,10 @@ from rich.console import Console
 from rich.table import Table
 
 from selector.core.types import StockLine
+from selector.core.cautions import CAUTIONS as CAUTION_TEXTS
 from selector.render.safe import cell, printable
 
-POLARITY_CAUTION = (
-    "Caution: electrolytic and tantalum capacitors are polarised; fit them the right way round and "
-    "within their voltage rating (a reversed or over-volted one can overheat, vent or burst)."
-)
+POLARITY_CAUTION = CAUTION_TEXTS["polarity"]
 
 
 def _units(kind: str):

@@ -14,34 +14,12 @@ if TYPE_CHECKING:  # rich is imported where it draws, so `find ... --json` never
 
 from selector.render.safe import cell
 
-_SHAPE_JOINT = {"series": " + ", "parallel": " ∥ ", "series3": " + ", "parallel3": " ∥ "}
-
+from selector.render.networks import network_text
 
 def _fmt(v: float, unit: str) -> str:
     from selector.core.notation import format_value
 
     return format_value(v, unit)
-
-
-def network_text(net) -> str:
-    """A network written out, e.g. "10 kΩ + 2.2 kΩ", "(4.7 kΩ ∥ 10 kΩ) + 1 kΩ"."""
-    try:  # the network engineer's writer, when present
-        from selector.render.networks import network_text as shared
-
-        return shared(net)
-    except Exception:
-        pass
-    unit = "Ω" if net.kind == "resistor" else "F"
-
-    def walk(node, top=True):
-        if isinstance(node, int):
-            return _fmt(net.physical[node].value, unit)
-        joint, children = node
-        sep = " + " if joint == "series" else " ∥ "
-        text = sep.join(walk(c, False) for c in children)
-        return text if top else f"({text})"
-
-    return walk(net.structure)
 
 
 def network_cell(net) -> str:
@@ -91,30 +69,17 @@ def _locations(opt) -> str:
     return ", ".join(seen)
 
 
-CONNECTION_TEXT = {"standard": "standard", "diode": "diode-steered", "output-fed": "output-fed",
-                   "monostable": "monostable", "rc": "RC"}
+def _kind(key: str):
+    from selector.core import circuits
 
-FORMULAS = {
-    "standard": "standard: t_high = ln2·(RA+RB)·C, t_low = ln2·RB·C",
-    "diode": ("diode-steered: t_high = RA·C·ln((2·VCC − 3·Vf)/(VCC − 3·Vf)) while the diode across "
-              "RB conducts (piecewise through RA+RB when RB is small against RA), t_low = ln2·RB·C"),
-    "output-fed": ("output-fed: t_high = R·C·ln((VOH − VCC/3)/(VOH − 2·VCC/3)), "
-                   "t_low = R·C·ln((2·VCC/3 − VOL)/(VCC/3 − VOL))"),
-    "monostable": "monostable: width = ln3·R·C ≈ 1.1·R·C",
-    "rc": "RC: τ = R·C, corner = 1/(2π·R·C)",
-}
-
-OPTION_CAUTIONS = {
-    "class2": ("Class-2 ceramic (X7R, X5R, Y5V, Z5U) in the timing position: its value moves with "
-               "voltage, temperature and age; prefer C0G or film for timing."),
-    "cap_rating_unknown": ("A timing capacitor has no voltage rating in stock: check it is rated "
-                           "well above VCC before fitting it."),
-}
+    return circuits.get(key)
 
 
 def _title(report) -> str:
     t, req = report.target, report.request
-    if req.mode == "astable":
+    if req.mode == "astable" and t["duty"] is None:
+        what = f"astable {_fmt(t['frequency_hz'], 'Hz')}, duty set by the circuit"
+    elif req.mode == "astable":
         what = f"astable {_fmt(t['frequency_hz'], 'Hz')}, duty {t['duty'] * 100:.1f} % (fraction HIGH)"
     elif req.mode == "monostable":
         what = f"monostable width {_fmt(t['width_s'], 's')}"
@@ -144,7 +109,7 @@ def options_table(report) -> Table:
     table.add_column("parts", justify="right")
     table.add_column("locations")
     for o in report.ranked:
-        cells = [str(o.rank), CONNECTION_TEXT.get(o.connection, o.connection)]
+        cells = [str(o.rank), _kind(o.connection).name]
         for r in present:
             net = o.found.networks.get(r)
             cells.append(network_cell(net) if net is not None else "")
@@ -160,7 +125,7 @@ def footer_lines(report) -> list[str]:
 
     req = report.request
     out = []
-    out.append("Formulas: " + "; ".join(FORMULAS[c] for c in report.connections)
+    out.append("Formulas: " + "; ".join(_kind(c).formula for c in report.connections)
                + ("; f = 1/(t_high + t_low), duty = t_high/(t_high + t_low) = the fraction of the "
                   "period the output is HIGH." if req.mode == "astable" else "."))
     if req.mode == "astable":
@@ -171,26 +136,31 @@ def footer_lines(report) -> list[str]:
                    ("corner" if "corner_hz" in report.target else "time constant"))
                    + "; * marks the smallest error the stock and limits allow.")
     acc = f"±{req.accept * 100:g} %"
-    if req.mode == "astable":
+    kinds = [_kind(c) for c in report.connections]
+    if req.mode == "astable" and report.target.get("duty") is None:
+        yl = f"frequency within {acc} of target (no duty target)"
+    elif req.mode == "astable":
         yl = f"frequency within {acc} of target and duty within {acc} of the target duty (relative)"
     else:
         what = "width" if req.mode == "monostable" else ("corner" if "corner_hz" in report.target else "time constant")
         yl = f"the {what} within {acc} of target"
+    spread = [u.label or u.name for k in kinds for u in k.uncertain(report.limits[k.key])]
+    spread_text = "part tolerances only" if not spread else "part tolerances and the spread of " + " and ".join(spread)
     out.append(f"Worst case: corners of every part's tolerance band. Yield: share of "
                f"{req.samples:,} simulated builds ({req.distribution} within tolerance, seed {req.seed}) "
-               f"with {yl}; part tolerances only.")
-    if req.mode != "rc":
-        fam = chips.family(req.chip)
+               f"with {yl}; {spread_text}.")
+    settings = req.settings
+    chip_error = kinds[0].chip_error(settings)
+    if chip_error is not None:
         lim = next(iter(report.limits.values()))
-        bits = [f"{fam.label} at VCC {req.vcc:g} V", f"R/RA ≥ {_fmt(lim.min_r_ohm, 'Ω')}",
+        bits = [f"{kinds[0].chip_label(settings)} at VCC {req.vcc:g} V", f"R/RA ≥ {_fmt(lim.min_r_ohm, 'Ω')}",
                 f"total timing R ≤ {_fmt(lim.max_total_r_ohm, 'Ω')}", f"C ≥ {_fmt(lim.min_c_f, 'F')}"]
         if req.mode == "astable":
-            bits.append(f"f ≤ {_fmt(fam.max_astable_hz, 'Hz')}")
-            if "diode" in report.connections:
+            bits.append(f"f ≤ {_fmt(lim.max_freq_hz, 'Hz')}")
+            if any(k.uses_diode for k in kinds):
                 bits.append(f"diode Vf {req.vf:g} V")
         bits.append("resistor power ≤ 50 % of rating, capacitor rating × derating ≥ VCC")
-        out.append("Chip: " + "; ".join(bits) + f" (chip's own timing error, e.g. "
-                   f"{fam.astable_initial_error * 100:g} % typ astable, not included).")
+        out.append("Chip: " + "; ".join(bits) + f" ({chip_error}).")
     else:
         out.append(f"Ratings checked at {req.vcc:g} V across the parts (resistor power ≤ 50 % of "
                    "rating, capacitor rating × derating ≥ the voltage).")
@@ -202,7 +172,7 @@ def footer_lines(report) -> list[str]:
             if k not in keys:
                 keys.append(k)
     for k in keys:
-        text = chips.CAUTIONS.get(k) or OPTION_CAUTIONS.get(k)
+        text = chips.CAUTIONS.get(k)
         if text:
             out.append("Caution: " + text)
     out.append("Caution: " + chips.CAUTIONS["charged_capacitor"])

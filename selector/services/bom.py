@@ -88,6 +88,7 @@ def load_saved_option(session: Session, option: int, search_id: Optional[int] = 
         chip=str(params.get("chip") or "bipolar"),
         vcc=_float_or_none(params.get("vcc")),
         diode_vf=_float_or_none(params.get("diode_vf")),
+        options=params.get("options") if isinstance(params.get("options"), dict) else {},
     )
     try:
         boards = max(1, int(params.get("boards") or 1))

@@ -11,13 +11,14 @@ snapshot, and ``pull`` re-checks quantities inside its own transaction.
 from __future__ import annotations
 
 import json
-import math
 from dataclasses import dataclass, field
 from typing import Callable, Optional
 
+from selector.core import circuits
 from selector.core.errors import OutOfRange
 
-CONNECTIONS = ("auto", "standard", "diode", "output-fed")
+CONNECTIONS = ("auto",) + tuple(c.key for c in circuits.for_mode("astable"))
+MODES = tuple(dict.fromkeys(c.mode for c in circuits.REGISTRY.values()))
 
 
 @dataclass(frozen=True)
@@ -41,33 +42,42 @@ class TimingRequest:
     distribution: str = "uniform"
     seed: int = 0
     samples: int = 10_000
+    options: dict = field(default_factory=dict)  # the circuit's own options (e.g. logic family)
+
+    @property
+    def kind(self):
+        """The circuit kind searched (None for ``--connection auto``)."""
+        key = self.connection if self.mode == "astable" else self.mode
+        return circuits.REGISTRY.get(key)
+
+    @property
+    def kinds(self) -> tuple:
+        """The circuit kinds this request may search: the named one, or for ``auto`` every
+        astable kind that takes part in auto."""
+        if self.kind is not None:
+            return (self.kind,)
+        return tuple(k for k in circuits.for_mode(self.mode) if k.in_auto)
+
+    @property
+    def settings(self):
+        from selector.core.circuits.base import Settings
+
+        return Settings(self.chip, self.vcc, self.vf, {k: v for k, v in self.options.items() if v is not None})
 
     def check(self) -> None:
         """Raise OutOfRange (one line, naming the option) for values outside what we accept."""
-        from selector.core import chips, tolerance
+        from selector.core import tolerance
+        from selector.core.circuits.base import check_positive
 
-        def positive(name, v):
-            if v is None or not (v > 0) or not math.isfinite(v):
-                raise OutOfRange(f"{name} must be a positive finite value, not {v!r}")
-
-        if self.mode == "astable":
-            positive("--freq", self.freq_hz)
-            if self.duty is None or not (0.0 < self.duty < 1.0):
-                raise OutOfRange(f"--duty must be between 0 and 100 % (exclusive), not {self.duty!r}")
-            if self.connection not in CONNECTIONS:
-                raise OutOfRange(f"--connection must be one of {', '.join(CONNECTIONS)}, not {self.connection!r}")
-        elif self.mode == "monostable":
-            positive("--width", self.width_s)
-        elif self.mode == "rc":
-            if (self.tau_s is None) == (self.corner_hz is None):
-                raise OutOfRange("give exactly one of --tau or --corner")
-            positive("--tau" if self.tau_s is not None else "--corner",
-                     self.tau_s if self.tau_s is not None else self.corner_hz)
-        else:
+        if self.mode not in MODES:
             raise OutOfRange(f"unknown search mode {self.mode!r}")
-        positive("--vcc", self.vcc)
-        if self.mode != "rc":
-            chips.family(self.chip).check_vcc(self.vcc)
+        if self.mode == "astable" and self.connection not in CONNECTIONS:
+            raise OutOfRange(f"--connection must be one of {', '.join(CONNECTIONS)}, not {self.connection!r}")
+        kinds = self.kinds
+        kinds[0].check_target(self, duty_optional=all(k.duty_fixed for k in kinds))
+        check_positive("--vcc", self.vcc)
+        for kind in kinds:
+            kind.check_supply(self.settings)
         if self.diode_vf is not None and not (0.0 <= self.diode_vf < self.vcc / 3.0):
             raise OutOfRange(f"--diode-vf {self.diode_vf:g} V must be at least 0 V and below VCC/3 "
                              f"({self.vcc / 3.0:.3g} V)")
@@ -112,33 +122,22 @@ class TimingReport:
 
 
 def _target(req: TimingRequest):
-    from selector.core.search import Target
-
-    if req.mode == "astable":
-        return Target.astable(req.freq_hz, req.duty)
-    if req.mode == "monostable":
-        return Target("monostable", width=req.width_s)
-    if req.tau_s is not None:
-        return Target("rc", tau=req.tau_s)
-    return Target("rc", tau=1.0 / (2.0 * math.pi * req.corner_hz), corner_hz=req.corner_hz)
+    return req.kinds[0].make_target(req, req.settings)
 
 
 def target_json(req: TimingRequest, target) -> dict:
-    if req.mode == "astable":
-        return {"mode": "astable", "frequency_hz": req.freq_hz, "duty": req.duty,
-                "t_high_s": target.t_high, "t_low_s": target.t_low}
-    if req.mode == "monostable":
-        return {"mode": "monostable", "width_s": req.width_s}
-    if req.corner_hz is not None:
-        return {"mode": "rc", "corner_hz": req.corner_hz, "tau_s": target.tau}
-    return {"mode": "rc", "tau_s": req.tau_s}
+    return req.kinds[0].target_json(req, target)
 
 
 def params_json(req: TimingRequest) -> dict:
-    return {"chip": req.chip, "vcc": req.vcc, "diode_vf": req.vf if req.mode == "astable" else None,
-            "boards": req.boards, "max_parts": req.max_parts, "accept": req.accept,
-            "distribution": req.distribution, "seed": req.seed,
-            "connection": req.connection if req.mode == "astable" else req.mode, "top": req.top}
+    out = {"chip": req.chip, "vcc": req.vcc, "diode_vf": req.vf if req.mode == "astable" else None,
+           "boards": req.boards, "max_parts": req.max_parts, "accept": req.accept,
+           "distribution": req.distribution, "seed": req.seed,
+           "connection": req.connection if req.mode == "astable" else req.mode, "top": req.top}
+    options = dict(req.settings.options)
+    if options:  # a circuit's own options (only circuits that have them add this key)
+        out["options"] = options
+    return out
 
 
 def network_json(net) -> dict:
@@ -149,7 +148,8 @@ def network_json(net) -> dict:
 
 def option_json(opt) -> dict:
     """One option in the documented shape (SI units, signed error, yield as a fraction)."""
-    order = ("RA", "RB", "R", "C")
+    from selector.core.ranking import ROLE_ORDER as order
+
     nets = opt.found.networks
     return {
         "rank": opt.rank,
@@ -170,11 +170,13 @@ def plan_timing(r_lines, c_lines, req: TimingRequest,
 
     req.check()
     target = _target(req)
+    options = dict(req.settings.options)
     if req.mode == "astable":
-        connections = choose_connections(target, req.connection, req.chip, req.vcc, req.vf, req.accept)
+        connections = choose_connections(target, req.connection, req.chip, req.vcc, req.vf, req.accept,
+                                         options)
     else:
         connections = (req.mode,)
-    limits = {c: resolve_limits(c, req.chip, req.vcc, req.vf) for c in connections}
+    limits = {c: resolve_limits(c, req.chip, req.vcc, req.vf, options) for c in connections}
     result = search_timing(r_lines, c_lines, target, connections, limits, max_parts=req.max_parts,
                            boards=req.boards, pool=2 * max(req.top, 5), progress=progress)
     ranked = evaluate_and_rank(result.options, target, limits, req.accept, req.top,

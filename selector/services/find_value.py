@@ -12,14 +12,11 @@ from typing import Any, Sequence
 
 from selector.core.errors import NothingFeasible
 from selector.core.types import KINDS, StockLine
+from selector.core.cautions import CAUTIONS as CAUTION_TEXTS
 
 FAR_LIMIT = 0.10  # "cannot get within 10 %" (issue 3 §5)
 
-CAPACITOR_CAUTION = (
-    "Caution: a capacitor can hold a dangerous charge; discharge it through a suitable resistor "
-    "before handling, and when repairing mains-powered equipment follow local codes and "
-    "qualified practice."
-)
+CAPACITOR_CAUTION = CAUTION_TEXTS["find_value_capacitor"]
 
 
 @dataclass(frozen=True)
@@ -62,8 +59,6 @@ class ValueReport:
         return self.request.target
 
     def options_json(self) -> list[dict[str, Any]]:
-        from selector.render.networks import option_json
-
         return [option_json(rank, net, self.target) for rank, net in enumerate(self.options, start=1)]
 
     def to_json(self) -> dict[str, Any]:
@@ -71,8 +66,24 @@ class ValueReport:
         return {"target": self.target, "options": self.options_json()}
 
 
+def parts_json(net: Any) -> list[dict[str, Any]]:
+    """[{"line_id", "value", "count", "location"}] for the distinct stock lines of a network."""
+    return [{"line_id": line.id, "value": line.value, "count": count, "location": line.location}
+            for line, count in net.parts]
+
+
+def option_json(rank: int, net: Any, target: float) -> dict[str, Any]:
+    """One ``find value`` option exactly as --json prints it (SI units; error = value/target - 1)."""
+    return {"rank": rank, "value": net.value, "error": net.value / target - 1.0, "min": net.vmin,
+            "max": net.vmax, "shape": net.shape, "parts": parts_json(net)}
+
+
+
 def _notes(req: ValueRequest, options: Sequence) -> list[str]:
-    from selector.render.networks import value_text
+    from selector.core.notation import FARAD, OHM, format_value
+
+    def value_text(kind: str, value: float) -> str:
+        return format_value(value, OHM if kind == "resistor" else FARAD)
 
     notes: list[str] = []
     best = abs(options[0].value / req.target - 1.0)

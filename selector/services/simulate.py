@@ -20,14 +20,14 @@ from typing import Any, Mapping, Optional
 import sqlalchemy as sa
 from sqlalchemy.engine import Engine
 
-from selector.core import spice
+from selector.core import circuits, spice
 from selector.core.errors import SimulationFailed, SimulatorMissing, UnknownSearch
 from selector.store.db import transaction
 from selector.store.models import StockLineRow
 
 INSTALL_HINT = "install it (Debian/Ubuntu: apt-get install ngspice) or put it on PATH"
 NGSPICE_TIMEOUT_S = 120.0
-SIMULATED_MODES = ("astable", "monostable", "rc")
+SIMULATED_MODES = tuple(dict.fromkeys(k.mode for k in circuits.REGISTRY.values()))  # every mode of a circuit kind
 
 
 @dataclass(frozen=True)
@@ -71,6 +71,9 @@ class SimulationReport:
     corners: tuple[CornerResult, ...] = ()
     warnings: tuple[str, ...] = field(default_factory=tuple)
     waveform: Optional["Waveform"] = None
+    model_note: str = ""            # what ngspice runs (the circuit kind's words)
+    device: str = ""                # the device in the title, e.g. "bipolar 555"; "" for a plain RC
+    has_discharge: bool = True      # the model has a 555 discharge switch (its footer line)
 
     def to_json(self) -> dict[str, Any]:
         out: dict[str, Any] = {
@@ -123,53 +126,45 @@ def circuit_from_saved(mode: str, connection: str, params: Mapping[str, Any], da
                        tolerances: Mapping[int, tuple[float, float]], *, discharge_ohms: Optional[float] = None,
                        title: str = "") -> spice.Circuit:
     """A :class:`spice.Circuit` from a saved search's mode, settings and option record."""
-    from selector.core import chips, timing
+    from selector.core import timing
+    from selector.core.circuits.base import Settings
 
     if mode not in SIMULATED_MODES:
         raise SimulationFailed(f"a {mode} search has no circuit to simulate; expected one of: "
                                + ", ".join(SIMULATED_MODES))
-    if mode == "rc":
-        connection = "rc"
-    elif mode == "monostable":
-        connection = "monostable"
+    try:
+        kind = circuits.of_option(mode, connection)
+    except KeyError:
+        raise UnknownSearch(f"the saved option has an unknown connection {connection!r}; run the search again") from None
     fam_key = str(params.get("chip") or "bipolar")
     vcc = params.get("vcc")
     vcc = _float(vcc, "supply voltage") if vcc is not None else (1.0 if mode == "rc" else None)
     if vcc is None or vcc <= 0:
         raise UnknownSearch("the saved search has no supply voltage; run the search again")
-    fam = chips.family(fam_key)
-    chip = spice.chip_model(fam.key, vcc, fam.voh(vcc), fam.vol(vcc), discharge_ohms)
     vf = params.get("diode_vf")
     vf = timing.DIODE_VF_DEFAULT if vf is None else _float(vf, "diode forward drop")
+    settings = Settings(fam_key, vcc, vf, dict(params.get("options") or {}))
+    chip = kind.spice_chip(settings, discharge_ohms)
+    extra = dict(kind.limits(settings).extra)
     nets = {label: _network(label, raw, tolerances) for label, raw in (data.get("networks") or {}).items()}
     predicted = {k: float(v) for k, v in (data.get("predicted") or {}).items() if isinstance(v, (int, float))}
-    return spice.Circuit(connection=connection, networks=nets, chip=chip, diode_vf=vf,
-                         expected=predicted, title=title)
+    return spice.Circuit(connection=kind.key, networks=nets, chip=chip, diode_vf=vf,
+                         expected=predicted, title=title, extra=extra)
 
 
 def predict(c: spice.Circuit) -> dict[str, float]:
-    """The formulas' figures (``selector.core.timing``) for a circuit, e.g. a tolerance corner."""
-    from selector.core import timing
+    """The formulas' figures (the circuit kind's model) for a circuit, e.g. a tolerance corner."""
+    from selector.core.circuits.base import Limits
 
     def val(label: str) -> float:
         n = c.networks[label]
         kind = "C" if label.startswith("C") else "R"
         return spice.tree_value(spice.shape_tree(n.shape, len(n.parts)), [p.value for p in n.parts], kind)
 
-    cap = val("C")
-    if c.connection == "rc":
-        r = val("R")
-        return {"tau_s": float(timing.rc_tau(r, cap)), "corner_hz": float(timing.rc_corner(r, cap))}
-    if c.connection == "monostable":
-        return {"width_s": float(timing.monostable_width(val("R"), cap))}
-    if c.connection == "standard":
-        th, tl = timing.standard_times(val("RA"), val("RB"), cap)
-    elif c.connection == "diode":
-        th, tl = timing.diode_times(val("RA"), val("RB"), cap, c.chip.vcc, c.diode_vf)
-    else:
-        th, tl = timing.output_fed_times(val("R"), cap, c.chip.voh, c.chip.vol, c.chip.vcc)
-    f, d = timing.frequency_duty(th, tl)
-    return {"frequency_hz": float(f), "duty": float(d), "t_high_s": float(th), "t_low_s": float(tl)}
+    kind = circuits.get(c.connection)
+    limits = Limits(vcc=c.chip.vcc, diode_vf=c.diode_vf, voh=c.chip.voh, vol=c.chip.vol, extra=c.extra)
+    outs = kind.model({label: val(label) for label in c.networks}, limits, {})
+    return {name: float(x) for name, x in zip(kind.outputs, outs)}
 
 
 def _load(engine: Engine, rank: int, search_id: Optional[int], discharge_ohms: Optional[float]):
@@ -254,11 +249,7 @@ def _waveform(c: spice.Circuit, text: Optional[str]) -> Waveform:
     if text is None:
         raise SimulationFailed("ngspice wrote no waveform file")
     times, cols = spice.parse_waveform(text)
-    if c.connection == "rc":
-        names, levels = ("input step", "v(C)"), (("63.2 %", spice.RC_FRACTION * c.chip.vcc),)
-    else:
-        names = ("v(C)", "v(OUT)", "v(TRIG)")
-        levels = (("1/3 VCC", c.chip.vcc / 3.0), ("2/3 VCC", 2.0 * c.chip.vcc / 3.0))
+    names, levels = circuits.get(c.connection).spice_waveform(c)
     return Waveform(tuple(times), tuple((n, tuple(col)) for n, col in zip(names, cols)), levels)
 
 
@@ -283,15 +274,14 @@ def simulate_option(engine: Engine, rank: int, search_id: Optional[int] = None, 
             cc = replace(cc, expected=pred)
             sim = simulate_circuit(cc, exe, cycles)
             results.append(CornerResult(name, desc, pred, sim, spice.difference(pred, sim)))
-    warnings = []
-    if circuit.connection != "rc" and circuit.expected.get("frequency_hz", 0) > 100e3:
-        warnings.append("above about 100 kHz a real 555 runs slower than both figures: the model has no "
-                        "propagation delay [S5]")
+    kind = circuits.get(circuit.connection)
+    warnings = kind.spice_warnings(circuit)
     return SimulationReport(
         search_id=saved.search_id, rank=saved.rank, mode=mode, connection=circuit.connection,
         chip=circuit.chip.family, vcc=circuit.chip.vcc, predicted=predicted, simulated=simulated,
         difference=spice.difference(predicted, simulated), cycles=netlist.cycles,
         discharge_ohms=circuit.chip.discharge_ohms,
-        diode_vf=circuit.diode_vf if circuit.connection == "diode" else None,
+        diode_vf=circuit.diode_vf if kind.uses_diode else None,
         netlist=netlist.text, elapsed_s=time.perf_counter() - t0, corners=tuple(results),
-        warnings=tuple(warnings), waveform=wave)
+        warnings=tuple(warnings), waveform=wave, model_note=kind.model_note,
+        has_discharge=kind.has_discharge_switch, device=kind.spice_device_name(circuit))

@@ -108,8 +108,9 @@ def _zone_end(pv: np.ndarray, left: np.ndarray, p_hi: np.ndarray) -> np.ndarray:
     return np.searchsorted(pv, p_hi, side="right")
 
 class ThreePartSearch:
-    """The 3-part side of a NetworkIndex.  ``ix`` is the index it serves (its materialised
-    arrays ``_val, _li, _lj``, line values ``_v``, caps, ids); ``shapes`` lists per 3-part shape
+    """The 3-part side of a NetworkIndex.  ``ix`` is the index it serves (read through its
+    public views: entry_values, entry_lines, line_values, capacity(), pair_position(),
+    triple_ids()); ``shapes`` lists per 3-part shape
     (outer adds?, symmetric?, inner shape code, allowed pool positions, allowed single lines)."""
 
     def __init__(self, ix, shapes: Sequence[tuple[bool, bool, int, np.ndarray, np.ndarray]]):
@@ -125,7 +126,7 @@ class ThreePartSearch:
             n = len(pool_pos)
             if n == 0 or len(a_lines) == 0:
                 continue  # no network of this shape
-            self.per_shape.append((s, pool_pos, ix._val[pool_pos], a_lines, start, r0, r0 + len(a_lines)))
+            self.per_shape.append((s, pool_pos, ix.entry_values[pool_pos], a_lines, start, r0, r0 + len(a_lines)))
             pools.append(pool_pos)
             rows_s.append(np.full(len(a_lines), s, dtype=np.int64))
             rows_a.append(a_lines)
@@ -134,19 +135,19 @@ class ThreePartSearch:
             start += n
             r0 += len(a_lines)
         self.pool_pos = np.concatenate(pools) if pools else np.zeros(0, np.int64)
-        self.pool_val = ix._val[self.pool_pos]
-        self.pool_li = ix._li[self.pool_pos]  # pair lines in pool order: one gather, not two
-        self.pool_lj = ix._lj[self.pool_pos]
+        self.pool_val = ix.entry_values[self.pool_pos]
+        self.pool_li = ix.entry_lines[0][self.pool_pos]  # pair lines in pool order: one gather, not two
+        self.pool_lj = ix.entry_lines[1][self.pool_pos]
         self.row_s = np.concatenate(rows_s) if rows_s else np.zeros(0, np.int64)
         self.row_a = np.concatenate(rows_a) if rows_a else np.zeros(0, np.int64)
         self.row_lo = np.concatenate(seg_lo) if seg_lo else np.zeros(0, np.int64)
         self.row_hi = np.concatenate(seg_hi) if seg_hi else np.zeros(0, np.int64)
         self.row_add = self.outer_add[self.row_s] if len(self.row_s) else np.zeros(0, bool)
-        self.row_av = ix._v[self.row_a]
+        self.row_av = ix.line_values[self.row_a]
         self.nrows = len(self.row_s)
         # each row's value range (first and last pair of its pool) and whether those two
         # networks are allowed: rows whose range misses a target need no search for it
-        cap = ix._cap()
+        cap = ix.capacity()
         self.row_vmin = join(self.row_add, self.row_av, self.pool_val[self.row_lo]) if self.nrows else np.zeros(0)
         self.row_vmax = join(self.row_add, self.row_av, self.pool_val[self.row_hi - 1]) if self.nrows else np.zeros(0)
         self.row_ok_first = self.ok_at(self.row_a, self.row_lo, cap) if self.nrows else np.zeros(0, bool)
@@ -157,7 +158,7 @@ class ThreePartSearch:
     def ok(self, a: np.ndarray, pos: np.ndarray, cap: np.ndarray) -> np.ndarray:
         """Quantity rule for single ``a`` added to pair ``pos`` (the pair alone is allowed)."""
         ix = self.ix
-        return 1 + (ix._li[pos] == a) + (ix._lj[pos] == a) <= cap[a]
+        return 1 + (ix.entry_lines[0][pos] == a) + (ix.entry_lines[1][pos] == a) <= cap[a]
 
     def ok_at(self, a: np.ndarray, at: np.ndarray, cap: np.ndarray) -> np.ndarray:
         """The same rule for the pair at pool index ``at``."""
@@ -168,13 +169,13 @@ class ThreePartSearch:
         ix = self.ix
         sym = self.symmetric[s]
         if sym.any():
-            x = np.sort(np.stack([a[sym], ix._li[pos[sym]], ix._lj[pos[sym]]], axis=1), axis=1)
+            x = np.sort(np.stack([a[sym], ix.entry_lines[0][pos[sym]], ix.entry_lines[1][pos[sym]]], axis=1), axis=1)
             a = a.copy()
             pos = pos.copy()
             a[sym] = x[:, 0]
-            pos[sym] = ix._pair_lookup(self.inner_code[s[sym]], x[:, 1], x[:, 2])
-        vals = join(self.outer_add[s], ix._v[a], ix._val[pos])
-        return ix._encode(s, a, pos), vals
+            pos[sym] = ix.pair_position(self.inner_code[s[sym]], x[:, 1], x[:, 2])
+        vals = join(self.outer_add[s], ix.line_values[a], ix.entry_values[pos])
+        return ix.triple_ids(s, a, pos), vals
 
     def zones(self, lo: np.ndarray, hi: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
         """(zl, zh), shape (nrows, len(lo)): per row the pool slice [zl, zh) of the pairs whose
@@ -186,7 +187,7 @@ class ThreePartSearch:
             if r0 == r1:
                 continue
             add = bool(self.outer_add[s])
-            av = self.ix._v[a_lines][:, None]  # a-major rows, targets in given order within each a
+            av = self.ix.line_values[a_lines][:, None]  # a-major rows, targets in given order within each a
             left = np.searchsorted(pv, preimage(add, av, (lo * (1.0 - EPS))[None, :]))
             p_hi = preimage(add, av, (hi * (1.0 + EPS))[None, :])
             if lo is hi:  # a point query: the zone holds only pairs within the slack, step over them
@@ -280,7 +281,7 @@ class ThreePartSearch:
         empty = (z, z, np.zeros(0))
         if self.nrows == 0 or len(self.pool_pos) == 0:
             return [empty, empty]
-        cap = ix._cap()
+        cap = ix.capacity()
         # Rows whose whole value range lies above (below) the target's slack need no search:
         # their split is at the row start (end).  Only the other entries are searched.
         above_all = (T * (1.0 + EPS))[None, :] < self.row_vmin[:, None]
@@ -342,23 +343,23 @@ class ThreePartSearch:
         z = np.zeros(0, dtype=np.int64)
         if self.nrows == 0 or len(self.pool_pos) == 0 or m == 0:
             return z, z, np.zeros(0)
-        cap = ix._cap()
+        cap = ix.capacity()
         zl, zh = self.zones(lo, hi)
         r, e = ranges_concat(zl.ravel(), np.maximum(zh, zl).ravel())
         row, t = r // m, r % m
         s, a, pos = self.row_s[row], self.row_a[row], self.pool_pos[e]
-        good = self.ok(a, pos, cap) & (~self.symmetric[s] | (a <= ix._li[pos]))  # canonical copy only
+        good = self.ok(a, pos, cap) & (~self.symmetric[s] | (a <= ix.entry_lines[0][pos]))  # canonical copy only
         s, a, pos, t = s[good], a[good], pos[good], t[good]
-        vals = join(self.outer_add[s], ix._v[a], ix._val[pos])
+        vals = join(self.outer_add[s], ix.line_values[a], ix.entry_values[pos])
         inr = (vals >= lo[t]) & (vals <= hi[t])
-        return t[inr], ix._encode(s[inr], a[inr], pos[inr]), vals[inr]
+        return t[inr], ix.triple_ids(s[inr], a[inr], pos[inr]), vals[inr]
 
     def count(self) -> int:
         """Exact number of distinct 3-part networks, counted without building them."""
         ix = self.ix
-        cap, L, n3 = ix._cap(), ix._L, 0
+        cap, L, n3 = ix.capacity(), ix.line_count, 0
         for s, pool_pos, _pv, a_lines, _seg, _r0, _r1 in self.per_shape:
-            pi, pj = ix._li[pool_pos], ix._lj[pool_pos]
+            pi, pj = ix.entry_lines[0][pool_pos], ix.entry_lines[1][pool_pos]
             diff = pi != pj
             first_other = np.bincount(pi[diff], minlength=L)
             other = first_other + np.bincount(pj[diff], minlength=L)

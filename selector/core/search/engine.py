@@ -54,83 +54,13 @@ import math
 from dataclasses import dataclass, field
 from typing import Callable, Optional, Sequence
 
-import numpy as np
-
+from selector.core import circuits
+from selector.core.circuits.base import TWO_RESISTOR, Limits, Settings, Target  # noqa: F401  (re-exported)
 from selector.core.errors import NothingFeasible
-
-LN2 = math.log(2.0)
-LN3 = math.log(3.0)
-INF = float("inf")
-_SLACK = 1e-9  # relative widening of certified slices and intervals against rounding
 
 ProgressFn = Callable[[float], None]  # called with the fraction done, 0..1
 
-ASTABLE_CONNECTIONS = ("standard", "diode", "output-fed")
-
-
-@dataclass(frozen=True)
-class Target:
-    """What the user asked for, in SI units. Astable: t_high, t_low (from frequency and duty).
-    Monostable: width. RC: tau (also when a corner was asked; ``corner_hz`` then set)."""
-
-    mode: str  # "astable" | "monostable" | "rc"
-    t_high: float = math.nan
-    t_low: float = math.nan
-    width: float = math.nan
-    tau: float = math.nan
-    corner_hz: float = math.nan
-
-    @staticmethod
-    def astable(freq_hz: float, duty: float) -> "Target":
-        period = 1.0 / freq_hz
-        return Target("astable", t_high=duty * period, t_low=(1.0 - duty) * period)
-
-    @property
-    def frequency(self) -> float:
-        return 1.0 / (self.t_high + self.t_low)
-
-    @property
-    def duty(self) -> float:
-        return self.t_high / (self.t_high + self.t_low)
-
-
-@dataclass(frozen=True)
-class Limits:
-    """The numeric limits one search applies (resolved from the chip family, VCC and defaults by
-    ``selector.services.find_timing``; inf / 0 mean "no limit")."""
-
-    vcc: float
-    min_r_ohm: float = 0.0  # RA (astable), R (monostable, output-fed)
-    max_total_r_ohm: float = INF  # RA + RB, or R
-    min_c_f: float = 0.0
-    max_freq_hz: float = INF
-    r_power_volts: float = 0.0  # volts across RA / R when it dissipates most (0: no power check)
-    r_power_derating: float = 0.5  # allowed fraction of the rated power
-    cap_volts: float = 0.0  # working voltage across the timing capacitor (0: no rating check)
-    cap_derating: Callable[[str], float] = field(default=lambda dielectric: 1.0)
-    diode_vf: float = 0.65
-    voh: float = math.nan  # output levels for the output-fed connection
-    vol: float = math.nan
-
-
-@dataclass(frozen=True)
-class RawOption:
-    """One complete answer before tolerance analysis: the connection, the network ids in their
-    indexes (``r_ids`` is (RA, RB) for standard/diode, (R,) otherwise), the predicted times and
-    the signed error."""
-
-    connection: str
-    c_id: int
-    r_ids: tuple[int, ...]
-    error: float
-    t_high: float = math.nan
-    t_low: float = math.nan
-    time: float = math.nan  # width or tau
-    pool_parts: int = 0  # the max-parts budget of the pass that found it
-
-    @property
-    def abs_error(self) -> float:
-        return abs(self.error)
+ASTABLE_CONNECTIONS = tuple(c.key for c in circuits.for_mode("astable"))
 
 
 @dataclass
@@ -165,86 +95,40 @@ class Exclusions:
 # --------------------------------------------------------------------------- limits and connections
 
 
-def resolve_limits(connection: str, chip_key: str, vcc: float, diode_vf: float) -> Limits:
-    """The limits of one connection for a chip family at ``vcc`` (facts.md §6, §7, §8.5):
-    RA (or R) >= the family's minimum, total timing R <= its maximum at this VCC, C >= its minimum
-    timing capacitance, frequency <= its practical maximum (astable); power in RA / R with the
-    largest voltage it sees continuously (VCC with the discharge switch on; for the output-fed R
-    the larger of VOH − VCC/3 and 2VCC/3 − VOL) within rating × RESISTOR_POWER_DERATING; the
-    capacitor rated for VCC after ``voltage_derating``. RC networks ("rc") have no chip: only the
-    ratings apply, with the full VCC across R and C (a step input)."""
-    from selector.core import chips, parts, timing
-
-    common = dict(vcc=vcc, r_power_derating=parts.RESISTOR_POWER_DERATING, cap_volts=vcc,
-                  cap_derating=parts.voltage_derating, diode_vf=diode_vf)
-    if connection == "rc":
-        return Limits(r_power_volts=vcc, **common)
-    fam = chips.family(chip_key)
-    fam.check_vcc(vcc)
-    lim = dict(min_r_ohm=fam.min_ra_ohm, max_total_r_ohm=float(fam.max_timing_r_ohm(vcc)),
-               min_c_f=fam.min_timing_c_f, r_power_volts=vcc, **common)
-    if connection in ASTABLE_CONNECTIONS:
-        lim["max_freq_hz"] = fam.max_astable_hz
-    if connection == "output-fed":
-        voh, vol = float(fam.voh(vcc)), float(fam.vol(vcc))
-        lim.update(voh=voh, vol=vol,
-                   r_power_volts=math.sqrt(float(timing.output_fed_power_w(1.0, voh, vol, vcc))))
-    return Limits(**lim)
+def resolve_limits(connection: str, chip_key: str, vcc: float, diode_vf: float,
+                   options: Optional[dict] = None) -> Limits:
+    """The limits of one connection: the circuit kind's ``limits`` for a chip family at ``vcc``
+    (facts.md §6, §7, §8.5; see each circuit module)."""
+    return circuits.get(connection).limits(Settings(chip_key, vcc, diode_vf, options or {}))
 
 
 def output_fed_best_error(target: Target, limits: Limits) -> float:
     """The smallest error the output-fed astable can reach with a perfect R for this target: its
     duty is fixed by the output levels, so a duty mismatch alone costs this much."""
-    from selector.core import timing
-
-    kh, kl = (float(x) for x in timing.output_fed_factors(limits.voh, limits.vol, limits.vcc))
-    if not (math.isfinite(kh) and math.isfinite(kl)):
-        return math.inf
-    a, b = kh * target.t_low, kl * target.t_high
-    return abs(a - b) / (a + b)
+    return circuits.get("output-fed").best_error(target, limits)
 
 
 def choose_connections(target: Target, connection: str, chip_key: str, vcc: float, diode_vf: float,
-                       accept: float) -> tuple[str, ...]:
-    """Which astable connections to search. ``auto``: standard only when the duty is above 50 %
-    (its duty always is); diode-steered always (any duty, needs VCC > 3·Vf); output-fed only for
-    families that allow it AND when its fixed duty alone keeps the error within ``accept``
-    (``output_fed_best_error``). A named connection that cannot reach the target raises
-    NothingFeasible saying why."""
-    from selector.core import chips
-
-    fam = chips.family(chip_key)
-    duty = target.duty
-    can_diode = 3.0 * diode_vf < vcc
+                       accept: float, options: Optional[dict] = None) -> tuple[str, ...]:
+    """Which astable connections to search. ``auto``: every astable circuit kind that says so
+    for this target (``auto_ok``: standard only above 50 % duty, diode-steered when VCC > 3·Vf,
+    output-fed for rail-to-rail families when its fixed duty alone keeps the error within
+    ``accept``). A named connection that cannot reach the target raises NothingFeasible saying
+    why (``check_available``)."""
+    settings = Settings(chip_key, vcc, diode_vf, options or {})
+    astables = circuits.for_mode("astable")
     if connection == "auto":
-        out = []
-        if duty > 0.5:
-            out.append("standard")
-        if can_diode:
-            out.append("diode")
-        if fam.output_fed_ok:
-            lim = resolve_limits("output-fed", chip_key, vcc, diode_vf)
-            if output_fed_best_error(target, lim) <= accept:
-                out.append("output-fed")
+        out = tuple(c.key for c in astables if c.in_auto and c.auto_ok(target, settings, accept))
         if not out:
             raise NothingFeasible(
-                f"no connection reaches a duty of {duty:.1%}: the standard one needs more than 50 % "
+                f"no connection reaches a duty of {target.duty:.1%}: the standard one needs more than 50 % "
                 f"and the diode-steered one needs VCC above 3 × Vf ({3 * diode_vf:g} V)")
-        return tuple(out)
-    if connection == "standard" and not duty > 0.5:
-        raise NothingFeasible(
-            f"the standard connection cannot reach a duty of {duty:.1%}: its duty is always above "
-            "50 %; use --connection diode (or auto)")
-    if connection == "diode" and not can_diode:
-        raise NothingFeasible(
-            f"the diode-steered connection needs VCC above 3 × Vf ({3 * diode_vf:g} V); VCC is {vcc:g} V")
-    if connection == "output-fed" and not fam.output_fed_ok:
-        raise NothingFeasible(
-            f"the output-fed connection is offered only for a chip with a rail-to-rail output "
-            f"(--chip cmos); a {fam.label} output is not (facts: load- and VCC-dependent)")
-    if connection not in ASTABLE_CONNECTIONS:
+        return out
+    kind = next((c for c in astables if c.key == connection), None)
+    if kind is None:
         raise NothingFeasible(f"unknown connection {connection!r}; expected auto, "
                               + ", ".join(ASTABLE_CONNECTIONS))
+    kind.check_available(target, settings)
     return (connection,)
 
 
@@ -314,9 +198,6 @@ def search_timing(r_lines: Sequence, c_lines: Sequence, target: Target, connecti
     ``indexes`` may map budget -> (r_index, c_index) to reuse indexes already built;
     ``c_max_parts`` caps the capacitor networks below ``max_parts`` (e.g. 3-part resistor
     networks with 1-2-part capacitors)."""
-    from selector.core.networks import build_index
-    from selector.core.search_kernel import PowerCheck, _Pass, _Physics, capacitor_candidates
-
     ex = Exclusions()
     found: dict[tuple, FoundOption] = {}
     weights = {p: 10.0 ** (p - 1) for p in range(1, max_parts + 1)}
@@ -324,48 +205,19 @@ def search_timing(r_lines: Sequence, c_lines: Sequence, target: Target, connecti
     done_w = 0.0
     counts = {}
     for budget in range(1, max_parts + 1):
-        if indexes and budget in indexes:
-            r_index, c_index = indexes[budget]
-        else:
-            r_index = build_index(r_lines, max_parts=budget, boards=boards, kind="resistor")
-            c_parts = budget if c_max_parts is None else max(1, min(budget, int(c_max_parts)))
-            c_index = build_index(c_lines, max_parts=c_parts, boards=boards, kind="capacitor")
+        r_index, c_index = _indexes(r_lines, c_lines, budget, boards, indexes, c_max_parts, ex)
         counts[budget] = (_size(r_index), _size(c_index))
-        per = f" for {boards} boards" if boards > 1 else ""
-        if len(r_index) == 0:
-            ex.note(f"no resistor in stock{per}")
-        if len(c_index) == 0:
-            ex.note(f"no capacitor in stock{per}")
         for conn in connections:
-            lim = limits[conn]
             pex = ex if budget == max_parts else Exclusions()  # count each exclusion once
-            c_ids = capacitor_candidates(c_index, lim, pex)
-            phys = _Physics(conn, target, lim)
-            power = PowerCheck(r_index, lim.r_power_volts, lim.r_power_derating)
-            ps = _Pass(phys, r_index, c_index, c_ids, lim, power, pex)
-            two = conn in ("standard", "diode")
-            steps = max(1, -(-c_ids.size // ps.chunk)) * (2 if two else 1)
-            state = {"n": 0}
-            w = weights[budget]
 
-            def tick(state=state, steps=steps, w=w, base=done_w):
-                state["n"] += 1
+            def tick(frac, w=weights[budget], base=done_w):
                 if progress:
-                    progress(min(1.0, (base + w * state["n"] / steps) / total_w))
+                    progress(min(1.0, (base + w * frac) / total_w))
 
-            raw = ps.run2(pool, tick) if two else ps.run1(pool, tick)
-            done_w += w
-            for c_id, r_ids, err, th, tl, tt in raw:
-                nets = {"C": c_index.network(c_id)}
-                if two:
-                    nets["RA"] = r_index.network(r_ids[0])
-                    nets["RB"] = r_index.network(r_ids[1])
-                else:
-                    nets["R"] = r_index.network(r_ids[0])
-                opt = FoundOption(conn, nets, err, th, tl, tt, budget)
-                k = opt.key()
-                if k not in found:
-                    found[k] = opt
+            for opt in _one_pass(circuits.get(conn), target, limits[conn], r_index, c_index, pool,
+                                 budget, pex, tick):
+                found.setdefault(opt.key(), opt)
+            done_w += weights[budget]
     if progress:
         progress(1.0)
     options, seen = [], set()
@@ -380,8 +232,52 @@ def search_timing(r_lines: Sequence, c_lines: Sequence, target: Target, connecti
     return SearchResult(options, ex, tuple(connections), counts)
 
 
+def _indexes(r_lines, c_lines, budget: int, boards: int, indexes: Optional[dict],
+             c_max_parts: Optional[int], ex: Exclusions):
+    """The resistor and capacitor indexes of one parts budget (reused when given); an empty one
+    is noted for the NothingFeasible message."""
+    from selector.core.networks import build_index
+
+    if indexes and budget in indexes:
+        r_index, c_index = indexes[budget]
+    else:
+        r_index = build_index(r_lines, max_parts=budget, boards=boards, kind="resistor")
+        c_parts = budget if c_max_parts is None else max(1, min(budget, int(c_max_parts)))
+        c_index = build_index(c_lines, max_parts=c_parts, boards=boards, kind="capacitor")
+    per = f" for {boards} boards" if boards > 1 else ""
+    if len(r_index) == 0:
+        ex.note(f"no resistor in stock{per}")
+    if len(c_index) == 0:
+        ex.note(f"no capacitor in stock{per}")
+    return r_index, c_index
+
+
+def _one_pass(kind, target: Target, lim: Limits, r_index, c_index, pool: int, budget: int,
+              ex: Exclusions, tick: Callable[[float], None]) -> list[FoundOption]:
+    """Run the kernel the circuit kind names over one pair of indexes; options in pass order."""
+    from selector.core.search.kernels import _Pass
+    from selector.core.search.lookup import PowerCheck, capacitor_candidates
+
+    c_ids = capacitor_candidates(c_index, lim, ex)
+    power = PowerCheck(r_index, lim.r_power_volts, lim.r_power_derating)
+    ps = _Pass(kind, target, r_index, c_index, c_ids, lim, power, ex)
+    two = kind.kernel == TWO_RESISTOR
+    steps = max(1, -(-c_ids.size // ps.chunk)) * (2 if two else 1)
+    state = {"n": 0}
+
+    def step():
+        state["n"] += 1
+        tick(state["n"] / steps)
+
+    raw = ps.run2(pool, step) if two else ps.run1(pool, step)
+    out = []
+    for hit in raw:
+        nets = {"C": c_index.network(hit.c_id)}
+        for role, r_id in zip(kind.resistor_roles, hit.r_ids):
+            nets[role] = r_index.network(r_id)
+        out.append(FoundOption(kind.key, nets, hit.error, hit.t_high, hit.t_low, hit.time, budget))
+    return out
+
+
 def _size(index) -> int:
-    try:
-        return int(sum(index.size_by_parts().values()))
-    except Exception:  # older index without the counter
-        return -1
+    return int(sum(index.size_by_parts().values()))

@@ -64,115 +64,23 @@ Polarized capacitors: by default no polarized part sits in a series joint (anywh
 
 from __future__ import annotations
 
-import math
-from dataclasses import dataclass, field
-from typing import Iterable, Sequence, Union
+from typing import Iterable, Sequence
 
 import numpy as np
 
-from selector.core.nearest import ThreePartSearch, argsort_stable, join as _join, rank_rows, ranges_concat
+from selector.core.networks import shapes as _shapes
+from selector.core.networks.network import Network
+from selector.core.networks.nearest import ThreePartSearch, argsort_stable, join as _join, rank_rows, ranges_concat
 from selector.core.types import KINDS, StockLine
 
-SHAPES: tuple[str, ...] = (
-    "single",
-    "series",
-    "parallel",
-    "series3",
-    "parallel3",
-    "series+parallel",
-    "parallel+series",
-)
+SHAPES: tuple[str, ...] = tuple(_shapes.SHAPES)  # the names; their meaning is in networks.shapes
 # 3-part shapes, in the order of their code in an id: (name, outer joint, inner joint, symmetric)
-_SHAPES3: tuple[tuple[str, str, str, bool], ...] = (
-    ("series3", "series", "series", True),
-    ("parallel3", "parallel", "parallel", True),
-    ("series+parallel", "series", "parallel", False),
-    ("parallel+series", "parallel", "series", False),
-)
+_SHAPES3: tuple[tuple[str, str, str, bool], ...] = tuple(
+    (s.name, s.outer, s.inner, s.symmetric) for s in _shapes.SHAPES3)
 _SINGLE, _SERIES, _PARALLEL = 0, 1, 2  # shape codes in the materialised array
 
-Structure = Union[int, tuple]  # a leaf (index into Network.physical) or (joint, (children...))
-
-
-def adds(kind: str, joint: str) -> bool:
-    """True when this joint adds the values themselves (resistors in series, capacitors in
-    parallel); False when it adds reciprocals."""
-    if kind not in KINDS:
-        raise ValueError(f"unknown part kind {kind!r}")
-    return (joint == "series") == (kind == "resistor")
-
-
-@dataclass(frozen=True)
-class Network:
-    """One concrete network of 1-3 parts, for display, BOM and Monte Carlo."""
-
-    kind: str
-    value: float
-    vmin: float
-    vmax: float
-    shape: str
-    parts: tuple[tuple[StockLine, int], ...]  # distinct stock lines with counts
-    physical: tuple[StockLine, ...]  # one entry per physical part, in combine() order
-    structure: Structure = field(default=0)  # e.g. ("series", (("parallel", (0, 1)), 2))
-
-    @property
-    def nparts(self) -> int:
-        return len(self.physical)
-
-    @property
-    def usage(self) -> dict[int, int]:
-        """line_id -> number of parts taken from that line."""
-        return {line.id: count for line, count in self.parts}
-
-    def combine(self, part_values: np.ndarray) -> np.ndarray:
-        """Effective value for many draws: ``part_values`` has shape (len(physical), n), one row
-        per physical part; returns shape (n,), by the same laws as ``value``."""
-        pv = np.asarray(part_values, dtype=float)
-        if pv.ndim == 1:
-            pv = pv[:, None]
-        if pv.shape[0] != len(self.physical):
-            raise ValueError(f"expected {len(self.physical)} rows of part values, got {pv.shape[0]}")
-
-        def ev(node: Structure) -> np.ndarray:
-            if isinstance(node, int):
-                return pv[node]
-            joint, children = node
-            vals = [ev(c) for c in children]
-            if adds(self.kind, joint):
-                return np.sum(vals, axis=0)
-            return 1.0 / np.sum([1.0 / v for v in vals], axis=0)
-
-        return ev(self.structure)
-
-    def in_series(self) -> tuple[bool, ...]:
-        """For each physical part: does a series joint sit anywhere above it?"""
-        flags = [False] * len(self.physical)
-
-        def walk(node: Structure, under_series: bool) -> None:
-            if isinstance(node, int):
-                flags[node] = under_series
-                return
-            joint, children = node
-            for c in children:
-                walk(c, under_series or joint == "series")
-
-        walk(self.structure, False)
-        return tuple(flags)
-
-    @property
-    def polarized_in_series(self) -> bool:
-        """A polarized part sits in a series joint (capacitors: show a caution)."""
-        return any(line.polarized and s for line, s in zip(self.physical, self.in_series()))
-
-    @property
-    def dielectrics(self) -> tuple[str, ...]:
-        """Distinct dielectric names of the parts (empty names left out), in part order."""
-        seen: list[str] = []
-        for line in self.physical:
-            d = (line.dielectric or "").strip()
-            if d and d not in seen:
-                seen.append(d)
-        return tuple(seen)
+Structure = _shapes.Structure  # a leaf (index into Network.physical) or (joint, (children...))
+adds = _shapes.adds
 
 
 class NetworkIndex:
@@ -288,9 +196,6 @@ class NetworkIndex:
         self._three = ThreePartSearch(self, shapes)
 
     # ------------------------------------------------------------ id plumbing
-    def _is_triple(self, ids: np.ndarray) -> np.ndarray:
-        return ids >= self._M
-
     def _encode(self, s, a: np.ndarray, pos: np.ndarray) -> np.ndarray:
         return self._M + (s * self._L + a) * self._M + pos
 
@@ -315,6 +220,45 @@ class NetworkIndex:
         if np.any(bad):
             raise ValueError(f"unknown network id {int(ids[bad].flat[0])}")
         return ids
+
+    # ------------------------------------------------------------ views for the searches
+    # Read-only arrays and helpers the 3-part search (networks.nearest) and the timing kernels
+    # use; callers must not write to them.
+    @property
+    def entry_values(self) -> np.ndarray:
+        """Values of the materialised 1-2 part networks, ascending (the id of one is its position)."""
+        return self._val
+
+    @property
+    def entry_lines(self) -> tuple[np.ndarray, np.ndarray]:
+        """(first line, second line) positions of each materialised network (-1: none)."""
+        return self._li, self._lj
+
+    @property
+    def line_values(self) -> np.ndarray:
+        """Nominal value of each stock line, by line position."""
+        return self._v
+
+    @property
+    def line_count(self) -> int:
+        return self._L
+
+    def capacity(self) -> np.ndarray:
+        """Parts per board each line can give: quantity // boards."""
+        return self._cap()
+
+    def pair_position(self, code, i: np.ndarray, j: np.ndarray) -> np.ndarray:
+        """Position of the pair of lines (i, j), i <= j, joined as shape code 1 (series) or 2."""
+        return self._pair_lookup(code, i, j)
+
+    def triple_ids(self, s, a: np.ndarray, pos: np.ndarray) -> np.ndarray:
+        """Ids of 3-part networks: shape code ``s``, single line ``a``, pair at ``pos``."""
+        return self._encode(s, a, pos)
+
+    def sorted_values(self) -> np.ndarray | None:
+        """Every network's value indexed by id, when ids are positions in ascending order (an
+        index of 1-2 part networks); None when 3-part networks are in it."""
+        return self._val if self._three is None and self.max_parts <= 2 else None
 
     # ------------------------------------------------------------ per-id data
     def __len__(self) -> int:
@@ -413,19 +357,16 @@ class NetworkIndex:
         ln = self.lines
         if i < self._M:
             code = int(self._shape[i])
-            if code == _SINGLE:
-                shape, physical, structure = "single", (ln[raw[0]],), 0
-            else:
-                joint = "series" if code == _SERIES else "parallel"
-                shape, physical, structure = joint, (ln[raw[0]], ln[raw[1]]), (joint, (0, 1))
+            shape = "single" if code == _SINGLE else ("series" if code == _SERIES else "parallel")
+            physical = (ln[raw[0]],) if code == _SINGLE else (ln[raw[0]], ln[raw[1]])
         else:
             s = int(self._decode(np.array([i]))[0][0])
-            shape, outer, inner, sym = _SHAPES3[s]
+            shape, _outer, _inner, sym = _SHAPES3[s]
             if sym:
-                physical, structure = (ln[raw[0]], ln[raw[1]], ln[raw[2]]), (outer, (0, 1, 2))
+                physical = (ln[raw[0]], ln[raw[1]], ln[raw[2]])
             else:  # pair first, as written: (B ∥ C) + A
                 physical = (ln[raw[1]], ln[raw[2]], ln[raw[0]])
-                structure = (outer, ((inner, (0, 1)), 2))
+        structure = _shapes.SHAPES[shape].structure
         counts: dict[int, int] = {}
         for line in physical:
             counts[line.id] = counts.get(line.id, 0) + 1

@@ -1,0 +1,95 @@
+"""Diode-steered 555 astable: a diode across RB (anode at DIS) so C charges through RA alone and
+discharges through RB; any duty. Constant-Vf model, piecewise-exact (``timing.diode_times``,
+facts.md §2, [S8])."""
+
+from __future__ import annotations
+
+from selector.core.bom_records import ROLE_DIODE
+from selector.core.circuits.base import TWO_RESISTOR, Limits, Obtain, Settings, Target
+from selector.core.circuits.modes import AstableKind, Timer555
+from selector.core import netlist as sp
+
+
+class Diode(Timer555, AstableKind):
+    key = "diode"
+    name = "diode-steered"
+    roles = ("RA", "RB", "C")
+    kernel = TWO_RESISTOR
+    in_auto = True
+    charging_roles = ("RA",)
+    duty_corners = True
+    uses_diode = True
+    formula = ("diode-steered: t_high = RA·C·ln((2·VCC − 3·Vf)/(VCC − 3·Vf)) while the diode across "
+               "RB conducts (piecewise through RA+RB when RB is small against RA), t_low = ln2·RB·C")
+    wiring = ("Connections: RA from VCC to DIS; RB from DIS to THR and TRIG with the steering diode across "
+              "it (anode at DIS, cathode at THR/TRIG); timing capacitor from THR/TRIG to GND.")
+    help = "diode (diode across RB, any duty)"
+
+    def limits(self, settings: Settings) -> Limits:
+        return Limits(**self.base_limits(settings, astable=True))
+
+    def auto_ok(self, target: Target, settings: Settings, accept: float) -> bool:
+        return 3.0 * settings.diode_vf < settings.vcc
+
+    def check_available(self, target: Target, settings: Settings) -> None:
+        from selector.core.errors import NothingFeasible
+
+        if not 3.0 * settings.diode_vf < settings.vcc:
+            raise NothingFeasible(
+                f"the diode-steered connection needs VCC above 3 × Vf ({3 * settings.diode_vf:g} V); "
+                f"VCC is {settings.vcc:g} V")
+
+    def times(self, v, limits: Limits, extra) -> tuple:
+        from selector.core import timing
+
+        return timing.diode_times(v["RA"], v["RB"], v["C"], limits.vcc, limits.diode_vf)
+
+    # ---- two-resistor kernel
+    def t_low(self, rb, c):
+        from selector.core import timing
+
+        return timing.standard_times(0.0, rb, c)[1]
+
+    def rb_ideal(self, target: Target, c):
+        from selector.core import timing
+
+        return timing.standard_ideal(target.t_high, target.t_low, c)[1]
+
+    def ra_for_high(self, t_high, rb, c, limits: Limits):
+        from selector.core import timing
+
+        return timing.diode_ideal_ra(t_high, rb, c, limits.vcc, limits.diode_vf)
+
+    def times2(self, ra, rb, c, limits: Limits):
+        from selector.core import timing
+
+        return timing.diode_times(ra, rb, c, limits.vcc, limits.diode_vf)
+
+    # ---- BOM
+    def bom_obtain(self, settings: Settings):
+        vf_v = settings.diode_vf
+        schottky = vf_v is not None and vf_v < 0.45
+        what = "small-signal Schottky diode" if schottky else "small-signal silicon diode, 1N4148 class"
+        vf = f"; Vf about {vf_v:g} V as searched" if vf_v is not None else ""
+        return super().bom_obtain(settings) + (Obtain(
+            "D1", ROLE_DIODE, "diode", what, f"across RB, anode at DIS, cathode at THR/TRIG{vf}"),)
+
+    # ---- SPICE
+    def spice_body(self, c) -> list[str]:
+        cn = sp._net(c, "C")
+        ra, rb = sp._net(c, "RA"), sp._net(c, "RB")
+        L = sp.network_lines(ra, "vcc", "dis")
+        L += sp.network_lines(rb, "dis", "cap")
+        ra_v = sp.tree_value(sp.shape_tree(ra.shape, len(ra.parts)), [p.value for p in ra.parts], "R")
+        rb_v = sp.tree_value(sp.shape_tree(rb.shape, len(rb.parts)), [p.value for p in rb.parts], "R")
+        i_ref = sp.diode_reference_current(c.chip.vcc, c.diode_vf, ra_v, rb_v)
+        isat = sp.diode_saturation_current(c.diode_vf, i_ref)
+        L += [f"* steering diode across RB (anode DIS, cathode C): drops {c.diode_vf:g} V at "
+              f"{i_ref * 1e3:.4g} mA, the mean charging current",
+              "DSTEER dis cap SELDIODE",
+              f".model SELDIODE D(IS={isat:.6g} N={sp._num(sp.DIODE_N)} RS=0 CJO=0)"]
+        L += sp.network_lines(cn, "cap", "0", ic=0.0)
+        return L + self.spice_device(c, "0 cap out vcc ctl cap dis vcc")
+
+
+CIRCUIT = Diode()

@@ -1,0 +1,76 @@
+"""555 monostable: R from VCC to DIS/THR, C to ground; a trigger pulse on TRIG starts a pulse of
+width ln3·R·C ≈ 1.1·R·C [S3, S5] (C charges from 0 toward VCC up to 2VCC/3)."""
+
+from __future__ import annotations
+
+import math
+
+from selector.core.circuits.base import ONE_RESISTOR, Limits, Settings, Target
+from selector.core.circuits.modes import MonostableKind, Timer555, plain_r_bounds
+from selector.core import netlist as sp
+
+
+class Monostable(Timer555, MonostableKind):
+    key = "monostable"
+    name = "monostable"
+    roles = ("R", "C")
+    kernel = ONE_RESISTOR
+    formula = "monostable: width = ln3·R·C ≈ 1.1·R·C"
+    wiring = ("Connections: R from VCC to DIS and THR; timing capacitor from THR to GND; the trigger "
+              "pulse goes to TRIG (take it close to 0 V and keep it shorter than the pulse width).")
+
+    def limits(self, settings: Settings) -> Limits:
+        return Limits(**self.base_limits(settings, astable=False))
+
+    def model(self, v, limits: Limits, extra) -> tuple:
+        from selector.core import timing
+
+        return (timing.monostable_width(v["R"], v["C"]),)
+
+    # ---- one-resistor kernel
+    def r_ideal(self, target: Target, c, limits: Limits):
+        from selector.core import timing
+
+        return timing.monostable_ideal_r(target.width, c)
+
+    def error1(self, r, c, target: Target, limits: Limits):
+        import numpy as np
+
+        from selector.core import timing
+
+        nan = np.full(np.shape(r), np.nan)
+        w = timing.monostable_width(r, c)
+        return w / target.width - 1, nan, nan, w
+
+    def r_bounds1(self, c, limits: Limits):
+        return plain_r_bounds(c, limits)
+
+    # ---- SPICE: a trigger pulse, then the output's rise and fall
+    def spice_netlist(self, c, L: list[str], cycles: int, waveform: bool):
+        chip = c.chip
+        vcc = chip.vcc
+        L.append(f"VCC vcc 0 DC {sp._num(vcc)}")
+        mid = sp._num((chip.voh + chip.vol) / 2.0)
+        cn = sp._net(c, "C")
+        tw = float(c.expected.get("width_s") or 0)
+        if not (tw > 0 and math.isfinite(tw)):
+            raise sp.SimulationFailed("the monostable option has no predicted width_s to size the run")
+        td, pw, edge = tw / 10.0, tw / 10.0, tw / 1e4
+        L += sp.network_lines(sp._net(c, "R"), "vcc", "cap")
+        L += sp.network_lines(cn, "cap", "0", ic=0.0)
+        L += [f"* trigger: TRIG rests at VCC, pulled to 0 V for {sp._eng(pw, 's')} (shorter than the width)",
+              f"VTRIG trig 0 PULSE({sp._num(vcc)} 0 {sp._num(td)} {sp._num(edge)} {sp._num(edge)} "
+              f"{sp._num(pw)} {sp._num(1e3 * tw)})"]
+        L += self.spice_device(c, "0 trig out vcc ctl cap cap vcc")
+        L += [".save v(cap) v(out) v(trig)", sp._tran(tw / sp.STEPS_PER_PULSE, td + 3.0 * tw)]
+        meas = []
+        for name, edge_kind in (("m_r1", "RISE=1"), ("m_f1", "FALL=1")):
+            meas.append(name)
+            L.append(f".meas tran {name} WHEN v(out)={mid} {edge_kind}")
+        if waveform:
+            L += sp._wave_block("v(cap) v(out) v(trig)")
+        L.append(".end")
+        return sp.Netlist("\n".join(L) + "\n", tuple(meas), 1)
+
+
+CIRCUIT = Monostable()

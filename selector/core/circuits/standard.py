@@ -1,0 +1,79 @@
+"""Standard two-resistor 555 astable: RA from VCC to DIS, RB from DIS to THR/TRIG, C to ground.
+
+t_high = ln2·(RA+RB)·C, t_low = ln2·RB·C [S2, S3 bipolar 555 data sheet]; duty always above 50 %.
+"""
+
+from __future__ import annotations
+
+from selector.core.circuits.base import TWO_RESISTOR, Limits, Settings, Target
+from selector.core.circuits.modes import AstableKind, Timer555
+from selector.core import netlist as sp
+
+
+class Standard(Timer555, AstableKind):
+    key = "standard"
+    name = "standard"
+    roles = ("RA", "RB", "C")
+    kernel = TWO_RESISTOR
+    in_auto = True
+    charging_roles = ("RA", "RB")
+    duty_corners = True
+    formula = "standard: t_high = ln2·(RA+RB)·C, t_low = ln2·RB·C"
+    wiring = ("Connections: RA from VCC to DIS; RB from DIS to THR and TRIG; timing capacitor from "
+              "THR/TRIG to GND.")
+    help = "standard (duty above 50 %)"
+
+    def limits(self, settings: Settings) -> Limits:
+        return Limits(**self.base_limits(settings, astable=True))
+
+    def auto_ok(self, target: Target, settings: Settings, accept: float) -> bool:
+        return target.duty > 0.5
+
+    def check_available(self, target: Target, settings: Settings) -> None:
+        from selector.core.errors import NothingFeasible
+
+        if not target.duty > 0.5:
+            raise NothingFeasible(
+                f"the standard connection cannot reach a duty of {target.duty:.1%}: its duty is always "
+                "above 50 %; use --connection diode (or auto)")
+
+    def times(self, v, limits: Limits, extra) -> tuple:
+        from selector.core import timing
+
+        return timing.standard_times(v["RA"], v["RB"], v["C"])
+
+    # ---- two-resistor kernel: t_low = ln2·RB·C, t_high increasing in RA
+    def t_low(self, rb, c):
+        from selector.core import timing
+
+        return timing.standard_times(0.0, rb, c)[1]
+
+    def rb_ideal(self, target: Target, c):
+        from selector.core import timing
+
+        return timing.standard_ideal(target.t_high, target.t_low, c)[1]
+
+    def ra_for_high(self, t_high, rb, c, limits: Limits):
+        """RA giving exactly ``t_high`` with this RB and C (may be <= 0 or nan: none)."""
+        import numpy as np
+
+        from selector.core import timing
+
+        ra0, _rb0 = timing.standard_ideal(t_high, 0.0, c)  # rb0 = 0 → ra0 = t_high/(ln2 c) if > 0
+        return np.nan_to_num(ra0, nan=-np.inf) - rb
+
+    def times2(self, ra, rb, c, limits: Limits):
+        from selector.core import timing
+
+        return timing.standard_times(ra, rb, c)
+
+    # ---- SPICE
+    def spice_body(self, c) -> list[str]:
+        cn = sp._net(c, "C")
+        L = sp.network_lines(sp._net(c, "RA"), "vcc", "dis")
+        L += sp.network_lines(sp._net(c, "RB"), "dis", "cap")
+        L += sp.network_lines(cn, "cap", "0", ic=0.0)
+        return L + self.spice_device(c, "0 cap out vcc ctl cap dis vcc")
+
+
+CIRCUIT = Standard()

@@ -1,0 +1,332 @@
+"""Kernels of the exact timing search (see ``selector.core.search.engine`` for the correctness
+argument): one search pass over one pair of network indexes for one circuit kind — the
+two-resistor pass (``run2``) and the one-resistor pass (``run1``). The circuit kind supplies the
+timing laws in the form the pass needs; the filters and look-ups are in ``lookup``."""
+
+from __future__ import annotations
+
+import math
+from typing import Callable, NamedTuple, Optional
+
+import numpy as np
+
+INF = float("inf")
+_SLACK = 1e-9  # relative widening of certified slices and intervals against rounding
+
+PHASE1_SAMPLE = 400
+"""Capacitor networks sampled for the provisional bound when 3-part resistor networks are searched
+(see ``_Pass.run2``); tests lower it to exercise that path on small stocks."""
+
+MAX_ERROR = 1.0
+"""Options more than 100 % off target (a factor of two on a time) are never offered; exactness is
+over the options within this bound (the exhaustive reference in the tests applies it too)."""
+
+
+from selector.core.search.lookup import (  # noqa: F401  (PowerCheck, capacitor_candidates re-exported)
+    PowerCheck, SortedView, _fmt, _nearest_feasible, _signed_max, capacitor_candidates,
+)
+
+
+# --------------------------------------------------------------------------- the circuit, bound
+
+
+class _Bound:
+    """A circuit kind with the target and limits of one pass: the methods the kernels call,
+    each the circuit's own (see ``selector.core.circuits``: two-resistor kinds supply t_low,
+    rb_ideal, ra_for_high, times2; one-resistor kinds r_ideal, error1, r_bounds1)."""
+
+    def __init__(self, kind, target, limits):
+        self.kind, self.target, self.limits = kind, target, limits
+
+    def t_low(self, rb, c):
+        return self.kind.t_low(rb, c)
+
+    def rb_ideal(self, c):
+        return self.kind.rb_ideal(self.target, c)
+
+    def ra_for_high(self, t_high, rb, c):
+        return self.kind.ra_for_high(t_high, rb, c, self.limits)
+
+    def times2(self, ra, rb, c):
+        return self.kind.times2(ra, rb, c, self.limits)
+
+    def r_ideal(self, c):
+        return self.kind.r_ideal(self.target, c, self.limits)
+
+    def error1(self, r, c):
+        """(signed error, t_high, t_low, time) for one-resistor circuits."""
+        return self.kind.error1(r, c, self.target, self.limits)
+
+    def r_bounds1(self, c):
+        return self.kind.r_bounds1(c, self.limits)
+
+
+class Hit(NamedTuple):
+    """One pair-option a kernel found: capacitor network id, resistor network ids in the
+    circuit's role order, signed error and the predicted times (nan where not defined)."""
+
+    c_id: int
+    r_ids: tuple
+    error: float
+    t_high: float
+    t_low: float
+    time: float
+
+
+# --------------------------------------------------------------------------- the searches
+
+
+def _chunks(n: int, size: int):
+    for s in range(0, n, size):
+        yield slice(s, min(n, s + size))
+
+
+class _Pass:
+    """One search over one pair of indexes (one parts budget) for one connection."""
+
+    def __init__(self, kind, target, r_index, c_index, c_ids, limits, power: PowerCheck,
+                 ex, chunk: int = 2048):
+        self.p = _Bound(kind, target, limits)
+        self.r = SortedView(r_index)
+        self.c_ids = c_ids
+        self.c_vals = c_index.values(c_ids) if c_ids.size else np.zeros(0)
+        self.lim = limits
+        self.power = power
+        self.ex = ex
+        self.chunk = chunk
+        # When every line holds enough for two networks of the largest size on every board, RA
+        # and RB can never overdraw a line together and the pairwise check can be skipped.
+        qty = np.asarray(r_index.quantity, dtype=np.int64)
+        self.no_conflict = bool(qty.size) and int((qty // r_index.boards).min()) >= 2 * r_index.max_parts
+
+    # ---- two-resistor connections
+    def _best_ra(self, cv, rb_id, rb, bound: Optional[float] = None):
+        """Best RA for each (c, RB) pair: (ra_id, signed error, t_high, t_low); ra_id -1 = none.
+        With ``bound`` (phase 2) only RA whose high-time error is within the bound are looked at:
+        t_high grows with RA, so they form the window [RA(T_high·(1 − B)), RA(T_high·(1 + B))]
+        and ``between`` lists it exactly; a pair with no feasible RA there cannot reach B."""
+        lim, p, tg = self.lim, self.p, self.p.target
+        n = len(cv)
+        t_low = p.t_low(rb, cv)
+        ra_star = p.ra_for_high(np.full(n, tg.t_high), rb, cv)
+        lo = np.full(n, lim.min_r_ohm, dtype=float)
+        if math.isfinite(lim.max_freq_hz):
+            need_high = 1.0 / lim.max_freq_hz - t_low  # period >= 1/fmax
+            pos = need_high > 0
+            ra_f = np.full(n, -np.inf)
+            if pos.any():
+                ra_f[pos] = p.ra_for_high(need_high[pos], rb[pos], cv[pos])
+            too_fast = np.isnan(ra_f)
+            ra_f = np.where(too_fast, np.inf, ra_f)
+            freq_bound = ra_f > lo
+            lo = np.maximum(lo, ra_f)
+        else:
+            freq_bound = np.zeros(n, dtype=bool)
+        hi = lim.max_total_r_ohm - rb
+        empty = lo > hi * (1 + _SLACK)
+        if bound is None:
+            self.ex.add("RA/RB pairs over the total timing resistance limit", (empty & ~freq_bound).sum())
+            self.ex.add(f"combinations above the {_fmt(lim.max_freq_hz, 'Hz')} maximum frequency",
+                        (empty & freq_bound).sum())
+
+        def ok(ids, rows):
+            good = self.power.ok(ids)
+            if good.any() and not self.no_conflict:
+                sub = np.flatnonzero(good)
+                good[sub] = self.r.fits_together(ids[sub], rb_id[rows[sub]])
+            return good
+
+        if bound is not None:
+            return self._best_ra_window(cv, rb, lo, hi, empty, bound, ok)
+
+        below, above = _nearest_feasible(self.r, ra_star, lo, hi, ok)
+        best_id = np.full(n, -1, dtype=np.int64)
+        best_err = np.full(n, np.nan)
+        th_out = np.full(n, np.nan)
+        tl_out = np.full(n, np.nan)
+        for side in (below, above):
+            has = side >= 0
+            if not has.any():
+                continue
+            ra = self.r.values(side[has])
+            th, tl = p.times2(ra, rb[has], cv[has])
+            e = _signed_max(th / tg.t_high - 1, tl / tg.t_low - 1)
+            cur = best_err[has]
+            better = np.isnan(cur) | (np.abs(e) < np.abs(cur))
+            idx = np.flatnonzero(has)[better]
+            best_id[idx] = side[has][better]
+            best_err[idx] = e[better]
+            th_out[idx] = th[better]
+            tl_out[idx] = tl[better]
+        nothing = (best_id < 0) & ~empty
+        self.ex.add("RA/RB pairs with no RA in range (over its power rating or sharing stock with RB)", nothing.sum())
+        return best_id, best_err, th_out, tl_out
+
+    def _best_ra_window(self, cv, rb, lo, hi, empty, bound, ok):
+        p, tg = self.p, self.p.target
+        n = len(cv)
+        best_id = np.full(n, -1, dtype=np.int64)
+        best_err = np.full(n, np.nan)
+        th_out = np.full(n, np.nan)
+        tl_out = np.full(n, np.nan)
+        w_lo = p.ra_for_high(np.full(n, tg.t_high * (1 - bound)), rb, cv)
+        w_hi = p.ra_for_high(np.full(n, tg.t_high * (1 + bound)), rb, cv)
+        # nan from the inverse means "no positive RA gives that time": no bound on that side
+        a = np.maximum(lo, np.nan_to_num(w_lo, nan=0.0)) * (1 - _SLACK)
+        b = np.minimum(hi, np.nan_to_num(w_hi, nan=np.inf)) * (1 + _SLACK)
+        live = ~empty & (a <= b) & (b > 0)
+        rows_live = np.flatnonzero(live)
+        if rows_live.size == 0:
+            return best_id, best_err, th_out, tl_out
+        offsets, ids = self.r.between(np.maximum(a[rows_live], 0.0), b[rows_live])
+        ids = np.asarray(ids, dtype=np.int64)
+        if ids.size == 0:
+            return best_id, best_err, th_out, tl_out
+        rows = np.repeat(rows_live, np.diff(offsets))
+        good = ok(ids, rows)
+        ids, rows = ids[good], rows[good]
+        if ids.size == 0:
+            return best_id, best_err, th_out, tl_out
+        th, tl = p.times2(self.r.values(ids), rb[rows], cv[rows])
+        e = _signed_max(th / tg.t_high - 1, tl / tg.t_low - 1)
+        order = np.lexsort((np.abs(e), rows))
+        first = order[np.r_[True, rows[order][1:] != rows[order][:-1]]]
+        r = rows[first]
+        best_id[r], best_err[r], th_out[r], tl_out[r] = ids[first], e[first], th[first], tl[first]
+        return best_id, best_err, th_out, tl_out
+
+    def _eval_pairs(self, ci, rb_id, bound: Optional[float] = None):
+        """Evaluate pairs given by positions ``ci`` into c_ids and RB ids; returns rows kept."""
+        cv = self.c_vals[ci]
+        rb = self.r.values(rb_id)
+        ra_id, err, th, tl = self._best_ra(cv, rb_id, rb, bound)
+        keep = (ra_id >= 0) & (np.abs(err) <= MAX_ERROR)
+        return (ci[keep], rb_id[keep], ra_id[keep], err[keep], th[keep], tl[keep])
+
+    def _resistors_usable(self) -> bool:
+        """False (and counted) when no resistor network reaches the minimum RA / R at all."""
+        if len(self.r) == 0:
+            return False  # noted by the caller ("no resistor in stock")
+        if self.lim.min_r_ohm > 0:
+            _b, above = self.r.nearest_sides(np.array([self.lim.min_r_ohm * (1 - _SLACK)]), 1)
+            if int(np.asarray(above).ravel()[0]) < 0:
+                self.ex.add(f"resistor networks below the {_fmt(self.lim.min_r_ohm, 'Ω')} minimum "
+                            "RA / R (all of them)", len(self.r))
+                return False
+        return True
+
+    def run2(self, pool: int, progress: Optional[Callable[[], None]] = None,
+             sample: Optional[int] = None) -> list[tuple]:
+        """Phase 1 gives the bound B; phase 2 evaluates every pair that can reach B. With 3-part
+        resistor networks each nearest look-up is costly, so phase 1 first runs on an evenly
+        spread sample of ``sample`` capacitor networks: their options are options too, so the
+        K-th best of them is still a valid bound (dense 3-part networks make it tight); only
+        when the sample holds fewer than K options does phase 1 run on every C."""
+        lim, p = self.lim, self.p
+        nc = self.c_ids.size
+        if nc == 0 or not self._resistors_usable():
+            return []
+        rb_star = p.rb_ideal(self.c_vals)
+        rb_hi_all = np.full(nc, lim.max_total_r_ohm - lim.min_r_ohm)
+        found, bound = [], MAX_ERROR
+        sample = PHASE1_SAMPLE if sample is None else int(sample)
+        if self.r.max_parts >= 3 and nc > 2 * sample:
+            subset = np.unique(np.linspace(0, nc - 1, sample).astype(np.int64))
+            found, bound, enough = self._phase1(pool, progress, subset)
+            if not enough:
+                found, bound = [], MAX_ERROR
+        if not found:
+            found, bound, _enough = self._phase1(pool, progress)
+        # Phase 2: every RB in the certified slice, each with its best RA.
+        for sl in _chunks(nc, self.chunk):
+            lo = rb_star[sl] * (1 - bound)
+            hi = np.minimum(rb_star[sl] * (1 + bound), rb_hi_all[sl])
+            offsets, ids = self.r.between(lo, np.maximum(hi, lo))
+            counts = np.diff(offsets)
+            ci = np.repeat(np.arange(sl.start, sl.stop), counts)
+            ids = np.asarray(ids, dtype=np.int64)
+            for sub in _chunks(ids.size, 200_000):
+                found.append(self._eval_pairs(ci[sub], ids[sub], bound))
+            if progress:
+                progress()
+        return self._collect(found, pool, two=True)
+
+    def _phase1(self, pool: int, progress=None, subset=None) -> tuple[list, float, bool]:
+        """Provisional bound: the nearest RB on each side of RB*(c), each with its best RA; B is
+        the pool-th smallest error (MAX_ERROR when fewer options exist, ``enough`` False)."""
+        lim, p = self.lim, self.p
+        pos = np.arange(self.c_ids.size) if subset is None else np.asarray(subset, dtype=np.int64)
+        rb_star = p.rb_ideal(self.c_vals[pos])
+        rb_hi_all = np.full(pos.size, lim.max_total_r_ohm - lim.min_r_ohm)
+        found: list[tuple] = []
+        for sl in _chunks(pos.size, self.chunk):
+            ci = pos[sl]
+            below, above = _nearest_feasible(self.r, rb_star[sl], np.zeros(ci.size), rb_hi_all[sl],
+                                             lambda ids, rows: np.ones(ids.shape, dtype=bool))
+            above = np.where(above == below, -1, above)  # an exact hit is found on both sides
+            cc = np.concatenate([ci[below >= 0], ci[above >= 0]])
+            rr = np.concatenate([below[below >= 0], above[above >= 0]])
+            if cc.size:
+                found.append(self._eval_pairs(cc, rr))
+            if progress:
+                progress()
+        errs = np.concatenate([f[3] for f in found]) if found else np.zeros(0)
+        errs = np.abs(errs)
+        if errs.size >= pool:
+            bound = float(np.partition(errs, pool - 1)[pool - 1])
+        else:
+            bound = MAX_ERROR  # too few options yet: certify the whole allowed range
+        bound = min(bound, MAX_ERROR) * (1 + _SLACK) + 1e-15
+        return found, bound, errs.size >= pool
+
+    # ---- one-resistor connections
+    def run1(self, pool: int, progress: Optional[Callable[[], None]] = None) -> list[Hit]:
+        p = self.p
+        nc = self.c_ids.size
+        if nc == 0 or not self._resistors_usable():
+            return []
+        found = []
+        for sl in _chunks(nc, self.chunk):
+            ci = np.arange(sl.start, sl.stop)
+            cv = self.c_vals[sl]
+            r_star = p.r_ideal(cv)
+            lo, hi = p.r_bounds1(cv)
+            empty = lo > hi * (1 + _SLACK)
+            self.ex.add("C networks needing R outside the allowed range", empty.sum())
+            below, above = _nearest_feasible(self.r, r_star, lo, hi, lambda ids, rows: self.power.ok(ids))
+            self.ex.add("C networks with no R in range within its power rating",
+                        ((below < 0) & (above < 0) & ~empty).sum())
+            for side in (below, above):
+                has = side >= 0
+                if not has.any():
+                    continue
+                e, th, tl, tt = p.error1(self.r.values(side[has]), cv[has])
+                keep = np.abs(e) <= MAX_ERROR
+                found.append((ci[has][keep], side[has][keep], e[keep], th[keep], tl[keep], tt[keep]))
+            if progress:
+                progress()
+        return self._collect(found, pool, two=False)
+
+    def _collect(self, found, pool: int, two: bool) -> list[tuple]:
+        if not found:
+            return []
+        cols = [np.concatenate(col) for col in zip(*found)]
+        if two:
+            ci, rb, ra, err, th, tl = cols
+            key = np.stack([ci, rb], axis=1)
+        else:
+            ci, r, err, th, tl, tt = cols
+            key = np.stack([ci, r], axis=1)
+        if key.size == 0:
+            return []
+        _, first = np.unique(key, axis=0, return_index=True)
+        order = first[np.argsort(np.abs(err[first]), kind="stable")][:pool]
+        out = []
+        for j in order:
+            if two:
+                out.append(Hit(int(self.c_ids[ci[j]]), (int(ra[j]), int(rb[j])), float(err[j]),
+                               float(th[j]), float(tl[j]), math.nan))
+            else:
+                out.append(Hit(int(self.c_ids[ci[j]]), (int(r[j]),), float(err[j]),
+                               float(th[j]), float(tl[j]), float(tt[j])))
+        return out

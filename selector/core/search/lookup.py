@@ -1,0 +1,223 @@
+"""What the kernels do to single networks: the candidate filters (minimum capacitance, voltage
+and power ratings) and the widening nearest-feasible look-up over a network index."""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+
+INF = float("inf")
+_SLACK = 1e-9  # relative widening of certified slices and intervals against rounding
+
+
+# --------------------------------------------------------------------------- per-network checks
+
+
+def _line_arrays(index, attr: str, default: float = math.nan) -> np.ndarray:
+    lines = index.lines
+    out = np.empty(len(lines), dtype=float)
+    for i, ln in enumerate(lines):
+        v = getattr(ln, attr)
+        out[i] = default if v is None else float(v)
+    return out
+
+
+def _all_ids(index) -> np.ndarray:
+    if index.max_parts <= 2:  # materialised: the ids are the positions 0..n-1
+        return np.arange(len(index), dtype=np.int64)
+    _, ids = index.between(np.array([0.0]), np.array([INF]))
+    return np.asarray(ids, dtype=np.int64)
+
+
+def capacitor_candidates(c_index, limits, ex) -> np.ndarray:
+    """Ids of the capacitor networks allowed in the timing position: value >= the minimum timing
+    capacitance, and every part rated for the working voltage after derating (each part of a
+    series string must stand the full voltage on its own: the DC division across series
+    capacitors is set by leakage, not by capacitance - common practice). Unknown rating: allowed
+    (the renderer adds a caution)."""
+    ids = _all_ids(c_index)
+    if ids.size == 0:
+        return ids
+    vals = c_index.values(ids)
+    small = vals < limits.min_c_f * (1 - _SLACK)
+    ex.add(f"C networks below the {_fmt(limits.min_c_f, 'F')} minimum timing capacitance", small.sum())
+    ids = ids[~small]
+    if limits.cap_volts > 0 and ids.size:
+        rating = _line_arrays(c_index, "rating")
+        derate = np.array([limits.cap_derating(ln.dielectric or "") for ln in c_index.lines])
+        line_ok = ~(rating * derate < limits.cap_volts)  # nan (unknown) -> allowed
+        pos, _cnt = c_index.usage_arrays(ids)
+        pos = np.asarray(pos)
+        ok = np.all(np.where(pos >= 0, line_ok[np.maximum(pos, 0)], True), axis=1)
+        ex.add(f"C networks with a part rated below {limits.cap_volts:g} V after derating", (~ok).sum())
+        ids = ids[ok]
+    return ids
+
+
+class PowerCheck:
+    """Per-part power of resistor networks with ``volts`` across them, against rating × derating.
+    The power in part i of any series/parallel network is P·S_i, where P = V²/R is the network's
+    power and S_i = d ln R / d ln r_i its sensitivity to that part (S_i >= 0, sum 1: R is
+    homogeneous of degree 1 in its parts) - a standard consequence of Tellegen's theorem. A cheap
+    bound decides most networks (P <= derating × the smallest rating: every part is fine); the
+    rest are computed exactly from the network's own combine() law and cached."""
+
+    def __init__(self, r_index, volts: float, derating: float):
+        self.index = r_index
+        self.volts = volts
+        self.derating = derating
+        rating = _line_arrays(r_index, "rating")
+        self.line_rating = rating
+        self.active = volts > 0 and bool(np.isfinite(rating).any())
+        self._cache: dict[int, bool] = {}
+
+    def ok(self, ids: np.ndarray) -> np.ndarray:
+        ids = np.asarray(ids, dtype=np.int64)
+        if not self.active or ids.size == 0:
+            return np.ones(ids.shape, dtype=bool)
+        flat = ids.ravel()
+        vals = self.index.values(flat)
+        p = self.volts**2 / vals
+        pos, _cnt = self.index.usage_arrays(flat)
+        pos = np.asarray(pos)
+        r = np.where(pos >= 0, self.line_rating[np.maximum(pos, 0)], np.nan)
+        known = np.isfinite(r)
+        rmin = np.where(known, r, np.inf).min(axis=1)
+        surely_ok = p <= self.derating * rmin
+        res = surely_ok.copy()
+        for j in np.flatnonzero(~surely_ok):
+            nid = int(flat[j])
+            hit = self._cache.get(nid)
+            if hit is None:
+                hit = self._exact(nid)
+                self._cache[nid] = hit
+            res[j] = hit
+        return res.reshape(ids.shape)
+
+    def _exact(self, nid: int) -> bool:
+        net = self.index.network(nid)
+        phys = np.array([ln.value for ln in net.physical], dtype=float)
+        n = len(phys)
+        total = float(net.combine(phys[:, None])[0])
+        p = self.volts**2 / total
+        h = 1e-6
+        bumped = np.repeat(phys[:, None], n, axis=1)
+        bumped[np.arange(n), np.arange(n)] *= 1 + h
+        sens = np.log(net.combine(bumped) / total) / math.log1p(h)
+        for ln, s in zip(net.physical, sens):
+            if ln.rating is not None and p * max(float(s), 0.0) > self.derating * ln.rating * (1 + 1e-9):
+                return False
+        return True
+
+
+# --------------------------------------------------------------------------- the look-up kernel
+
+
+class SortedView:
+    """Faster look-ups for an index of 1- and 2-part networks, which the network module keeps
+    materialised in one array sorted by value with the id = the position there (documented in
+    selector.core.networks). ``nearest_sides`` and ``between`` then become plain searchsorted
+    calls with the same meaning (at-or-below / at-or-above, inclusive ranges). Anything else, and
+    any index with 3-part networks, goes to the index itself."""
+
+    def __init__(self, index):
+        self._index = index
+        self._len = len(index)
+        self.sorted_values = index.sorted_values() if self._len else None
+
+    def __getattr__(self, name):
+        return getattr(self._index, name)
+
+    def __len__(self) -> int:
+        return self._len
+
+    def values(self, ids):
+        if self.sorted_values is None:
+            return self._index.values(ids)
+        return self.sorted_values[np.asarray(ids, dtype=np.int64)]
+
+    def nearest_sides(self, targets, k: int = 1):
+        v = self.sorted_values
+        if v is None:
+            return self._index.nearest_sides(targets, k)
+        t = np.asarray(targets, dtype=float)
+        step = np.arange(k, dtype=np.int64)
+        below = np.searchsorted(v, t, side="right")[:, None] - 1 - step
+        above = np.searchsorted(v, t, side="left")[:, None] + step
+        below = np.where(below >= 0, below, -1)
+        above = np.where(above < v.size, above, -1)
+        return below, above
+
+    def between(self, lo, hi):
+        v = self.sorted_values
+        if v is None:
+            return self._index.between(lo, hi)
+        a = np.searchsorted(v, np.asarray(lo, dtype=float), side="left")
+        b = np.maximum(np.searchsorted(v, np.asarray(hi, dtype=float), side="right"), a)
+        counts = b - a
+        offsets = np.concatenate([[0], np.cumsum(counts)]).astype(np.int64)
+        ids = np.arange(int(offsets[-1]), dtype=np.int64) - np.repeat(offsets[:-1] - a, counts)
+        return offsets, ids
+
+
+def _nearest_feasible(index, target, lo, hi, ok_fn, k0: int = 2, kmax: int = 1 << 16):
+    """For each row i: the feasible network nearest in value to q = clamp(target[i], lo[i], hi[i])
+    on each side (at or below q, at or above q), feasible meaning lo <= value <= hi and
+    ``ok_fn(ids, rows)`` true. Returns (below_ids, above_ids), -1 where a side has none. One
+    index query per row and round serves both sides; k widens until a feasible network is found
+    or the side is proven empty (it ran out of networks, or its next one is outside [lo, hi])."""
+    n = len(target)
+    out = [np.full(n, -1, dtype=np.int64), np.full(n, -1, dtype=np.int64)]
+    if len(index) == 0:
+        return out[0], out[1]
+    target = np.asarray(target, dtype=float)
+    good = ~np.isnan(target) & (lo <= hi * (1 + _SLACK))
+    with np.errstate(invalid="ignore"):
+        q = np.clip(target, lo, hi)
+    q = np.where(np.isfinite(q), np.maximum(q, 1e-30), 1e-30)  # finite positive queries only
+    open_side = [good.copy(), good.copy()]  # rows still looking on each side
+    k = k0
+    while (open_side[0].any() or open_side[1].any()) and k <= kmax:
+        rows = np.flatnonzero(open_side[0] | open_side[1])
+        below, above = index.nearest_sides(q[rows], k)
+        for side, got in ((0, below), (1, above)):
+            want = open_side[side][rows]
+            if not want.any():
+                continue
+            r = rows[want]
+            ids = np.asarray(got, dtype=np.int64).reshape(rows.size, -1)[want]
+            valid = ids >= 0
+            vals = np.full(ids.shape, np.nan)
+            vals[valid] = index.values(ids[valid])
+            lo_r = (lo[r] * (1 - _SLACK))[:, None]
+            hi_r = (hi[r] * (1 + _SLACK))[:, None]
+            inrange = valid & (vals >= lo_r) & (vals <= hi_r)
+            okm = inrange.copy()
+            if inrange.any():
+                rr = np.broadcast_to(r[:, None], ids.shape)[inrange]
+                okm[inrange] = ok_fn(ids[inrange], rr)
+            dist = np.where(okm, np.abs(vals - q[r][:, None]), np.inf)
+            j = np.argmin(dist, axis=1)
+            found = np.isfinite(dist[np.arange(r.size), j])
+            out[side][r[found]] = ids[found, j[found]]
+            if side == 0:  # going down: once a value is below lo, everything further is too
+                beyond = np.any(valid & (vals < lo_r), axis=1)
+            else:
+                beyond = np.any(valid & (vals > hi_r), axis=1)
+            more = ~found & valid.all(axis=1) & ~beyond & (ids.shape[1] >= k)
+            open_side[side][r[~more]] = False
+        k *= 4
+    return out[0], out[1]
+
+
+def _fmt(v: float, unit: str) -> str:
+    from selector.core.notation import format_value
+
+    return format_value(v, unit)
+
+
+def _signed_max(e1: np.ndarray, e2: np.ndarray) -> np.ndarray:
+    from selector.core.circuits.base import signed_max
+
+    return signed_max(e1, e2)
