@@ -184,4 +184,4 @@ def list_movements(
             for m, s in session.execute(stmt).all()
         ]
 
-    return run_in_transaction(engine, work)
+    return run_in_transaction(engine, work, write=False)
