@@ -125,6 +125,19 @@ def db_path(backend: str, db_url: str, tmp_path: Path):
     return tmp_path / "stock.db" if backend == "sqlite" else db_url
 
 
+def url_of(target) -> str:
+    """The database URL for a ``db_path`` value (a file Path, or already a URL)."""
+    text = str(target)
+    return text if "://" in text else f"sqlite:///{text}"
+
+
+def plain_engine(target):
+    """An engine without selector's hooks or schema check, to look at the raw rows."""
+    import sqlalchemy as sa
+
+    return sa.create_engine(url_of(target), poolclass=sa.pool.NullPool)
+
+
 @pytest.fixture
 def sqlite_path(tmp_path: Path) -> Path:
     """A database file path for tests about SQLite files themselves (not parametrised)."""

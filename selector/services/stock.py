@@ -289,13 +289,13 @@ def import_stock(engine, path: str | Path, *, replace: bool = False, dry_run: bo
     """Import a stock CSV in one transaction (reason "import", reference = the file name). The file
     is read and validated before the database is touched; with ``dry_run`` nothing is written."""
     from selector.store.csvio import read_stock_file
-    from selector.store.db import load_stock, lock_stock_for_merge, run_in_transaction
+    from selector.store.db import load_stock, lock_stock_for_plan, run_in_transaction
 
     rows = validate_rows(read_stock_file(path))
     name = Path(path).name
 
     def unit(session) -> ImportPlan:
-        lock_stock_for_merge(session)
+        lock_stock_for_plan(session)
         plan = plan_import(rows, load_stock(session), replace=replace, source=name)
         if not dry_run:
             apply_plan(session, plan, "import", name)
@@ -336,10 +336,10 @@ def kit_rows(series: str, kind: str, low: float, high: float, quantity: int, loc
 
 def add_kit(engine, rows: Sequence[ImportRow], reference: str, *, dry_run: bool = False) -> ImportPlan:
     """Add kit rows to stock (merging with identical lines), ledgered with reason "kit"."""
-    from selector.store.db import load_stock, lock_stock_for_merge, run_in_transaction
+    from selector.store.db import load_stock, lock_stock_for_plan, run_in_transaction
 
     def unit(session) -> ImportPlan:
-        lock_stock_for_merge(session)
+        lock_stock_for_plan(session)
         plan = plan_import(rows, load_stock(session), replace=False, source=reference)
         if not dry_run:
             apply_plan(session, plan, "kit", reference)

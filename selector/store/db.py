@@ -17,8 +17,8 @@ SQLite notes (see /work/shared/reference/ecosystem.md §2-3 for the measurements
 - a file whose tables are not ours is refused before anything is written to it (no WAL switch).
 
 PostgreSQL notes: migrations run under a transaction-scoped advisory lock, so several benches
-opening a new database at once queue up and all succeed; imports and kits take a second advisory
-lock so their plan is made from the stock as it is when they write (see services/stock.py);
+opening a new database at once queue up and all succeed; imports, kits and pulls take a second
+advisory lock so their plan is made from the stock as it is when they write (lock_stock_for_plan);
 deadlocks and serialization failures replay the whole unit like a busy SQLite database.
 """
 
@@ -69,7 +69,7 @@ WAITING_NOTE = "waiting for another bench to finish writing to the stock databas
 _BUSY_WORDS = ("database is locked", "database is busy", "database table is locked")
 _PG_RETRY_CODES = ("40001", "40P01")  # serialization_failure, deadlock_detected
 _PG_MIGRATION_LOCK = 0x5E1EC701  # pg_advisory_xact_lock keys: ours, fixed, distinct
-_PG_STOCK_MERGE_LOCK = 0x5E1EC702
+_PG_STOCK_PLAN_LOCK = 0x5E1EC702
 
 
 # --------------------------------------------------------------------------- where the file is
@@ -468,14 +468,16 @@ def to_stock_line(row: StockLineRow) -> StockLine:
     )
 
 
-def lock_stock_for_merge(session: Session) -> None:
-    """Make this unit the only one merging into the stock until it ends (imports and kits).
-    SQLite: nothing to do, BEGIN IMMEDIATE already admits one writer at a time. PostgreSQL: a
-    transaction-scoped advisory lock, so two benches importing the same file at once cannot both
-    plan "new line" for the same part; the second plans against the first one's committed lines.
-    The unique identity index (uq_stock_lines_identity) backs this up."""
+def lock_stock_for_plan(session: Session) -> None:
+    """Make this unit the only one that plans from the stock and then changes it (imports, kits,
+    pulls) until it ends. SQLite: nothing to do, BEGIN IMMEDIATE already admits one writer at a
+    time. PostgreSQL: a transaction-scoped advisory lock, taken before the stock is read, so two
+    benches importing one file at once cannot both plan "new line" for the same part (the second
+    plans against the first one's committed lines; the unique identity index backs this up), and
+    a pull's shortage check sees the quantities it will change. Single guarded changes (adjust,
+    undo) do not need it."""
     if session.get_bind().dialect.name == "postgresql":
-        session.execute(sa.text("SELECT pg_advisory_xact_lock(:k)"), {"k": _PG_STOCK_MERGE_LOCK})
+        session.execute(sa.text("SELECT pg_advisory_xact_lock(:k)"), {"k": _PG_STOCK_PLAN_LOCK})
 
 
 def load_stock(session: Session, kind: str | None = None) -> list[StockLine]:
