@@ -382,7 +382,10 @@ def transaction(engine: Engine, *, write: bool = True) -> Iterator[Session]:
         session.rollback()
         if _is_busy(err):
             raise _Retry(name, busy=True) from None
-        if getattr(getattr(err, "orig", None), "sqlstate", None) in _PG_RETRY_CODES:
+        sqlstate = getattr(getattr(err, "orig", None), "sqlstate", None)
+        if sqlstate in _PG_RETRY_CODES or (sqlstate == "23505" and "uq_stock_lines_identity" in str(err.orig)):
+            # a deadlock, or another bench created the same stock line first: replay the unit,
+            # which then plans against that line (lock_stock_for_plan normally prevents both)
             raise _Retry(name, busy=False) from None
         raise DatabaseProblem(f"the stock database {name} refused the change ({_first_line(err)})") from None
     except BaseException:
