@@ -265,7 +265,10 @@ def open_engine(url: str, *, busy_timeout_ms: int = BUSY_TIMEOUT_MS) -> Engine:
         _check_file_path(u, name)
     try:
         engine = make_engine(u, foreign_keys=True, busy_timeout_ms=busy_timeout_ms)
-    except (sa_exc.ArgumentError, sa_exc.NoSuchModuleError, ImportError) as err:
+    except ImportError as err:
+        extra = " (install it with: pip install 'drawer-selector[postgres]')" if "psycopg" in str(err) else ""
+        raise DatabaseProblem(f"cannot use the database URL {name}: its driver is not installed{extra}")
+    except (sa_exc.ArgumentError, sa_exc.NoSuchModuleError) as err:
         raise DatabaseProblem(f"cannot use the database URL {name} ({_first_line(err)})")
     try:
         with engine.connect() as conn:
