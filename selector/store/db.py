@@ -59,9 +59,9 @@ holding any other set of tables is not ours and is refused unchanged."""
 
 MAX_QUANTITY = 10**9  # parts on one line or in one change; far beyond any drawer, far inside int64
 _MAX_ID = 2**63 - 1
-BUSY_TIMEOUT_MS = 5_000
-"""How long SQLite itself waits for another writer before run_in_transaction takes over (its note
-on stderr appears after this long)."""
+BUSY_TIMEOUT_MS = 2_000
+"""How long SQLite's busy timeout / PostgreSQL's lock_timeout waits for another writer before
+run_in_transaction takes over (its note on stderr appears after this long)."""
 DEFAULT_BUSY_WAIT_S = 300.0
 """How long a writer waits in all for another bench's write to finish (``$SELECTOR_BUSY_WAIT``)."""
 BUSY_WAIT_ENV = "SELECTOR_BUSY_WAIT"
@@ -153,7 +153,15 @@ def make_engine(url: sa.URL | str, *, foreign_keys: bool = True, pooled: bool = 
             conn.exec_driver_sql("BEGIN IMMEDIATE" if write else "BEGIN")
 
         return engine
-    return sa.create_engine(url, pool_pre_ping=True, **({} if pooled else {"poolclass": NullPool}))
+    engine = sa.create_engine(url, pool_pre_ping=True, **({} if pooled else {"poolclass": NullPool}))
+
+    @event.listens_for(engine, "begin")
+    def _on_pg_begin(conn):  # pragma: no cover - exercised through every PostgreSQL test
+        # Like SQLite's busy timeout: a lock held by another bench (a row, the plan or migration
+        # lock) is waited for this long, then run_in_transaction notes it once and replays the unit.
+        conn.exec_driver_sql(f"SET LOCAL lock_timeout = {int(busy_timeout_ms)}")
+
+    return engine
 
 
 WRITE_OPTION = "selector_write"
@@ -200,6 +208,9 @@ def _first_line(err: BaseException) -> str:
 
 
 def _is_busy(err: BaseException) -> bool:
+    """SQLite's "database is locked" family, or PostgreSQL's lock_timeout (55P03)."""
+    if getattr(getattr(err, "orig", None), "sqlstate", None) == "55P03":
+        return True
     return any(w in _first_line(err).lower() for w in _BUSY_WORDS)
 
 
@@ -385,12 +396,13 @@ def transaction(engine: Engine, *, write: bool = True) -> Iterator[Session]:
         session.rollback()
         if _is_busy(err):
             raise _Retry(name, busy=True) from None
+        refused = f"the stock database {name} refused the change ({_first_line(err)})"
         sqlstate = getattr(getattr(err, "orig", None), "sqlstate", None)
         if sqlstate in _PG_RETRY_CODES or (sqlstate == "23505" and "uq_stock_lines_identity" in str(err.orig)):
             # a deadlock, or another bench created the same stock line first: replay the unit,
             # which then plans against that line (lock_stock_for_plan normally prevents both)
-            raise _Retry(name, busy=False) from None
-        raise DatabaseProblem(f"the stock database {name} refused the change ({_first_line(err)})") from None
+            raise _Retry(name, busy=False, message=refused) from None
+        raise DatabaseProblem(refused) from None
     except BaseException:
         session.rollback()
         raise
@@ -401,8 +413,8 @@ def transaction(engine: Engine, *, write: bool = True) -> Iterator[Session]:
 class _Retry(DatabaseProblem):
     """The unit met another writer (SQLite busy, PostgreSQL deadlock): replay it."""
 
-    def __init__(self, name: str, busy: bool):
-        super().__init__(f"the stock database {name} is busy (another bench is writing to it); try again")
+    def __init__(self, name: str, busy: bool, message: Optional[str] = None):
+        super().__init__(message or f"the stock database {name} is busy (another bench is writing to it); try again")
         self.name = name
         self.busy = busy
 
