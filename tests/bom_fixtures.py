@@ -34,6 +34,8 @@ def add_stock(engine, lines: dict[int, tuple]) -> None:
                                location=loc, package=pkg, rating=rating, dielectric=diel,
                                polarized=diel in ("electrolytic", "tantalum"), note=note))
         s.flush()
+        if s.get_bind().dialect.name == "postgresql":  # explicit ids do not move the sequence
+            s.execute(sa.text("SELECT setval(pg_get_serial_sequence('stock_lines', 'id'), MAX(id)) FROM stock_lines"))
         for line_id, spec in lines.items():
             if spec[4]:
                 apply_movement(s, line_id, spec[4], "import", "test fixture")

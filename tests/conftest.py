@@ -1,6 +1,12 @@
-"""Shared fixtures. Two database fixtures (DESIGN.md): ``memory_engine`` (an in-memory engine per
-test) and ``db_url`` (a temporary file database for CLI, concurrency and migration tests).
-Every engine is disposed."""
+"""Shared fixtures. Two database fixtures (DESIGN.md): ``memory_engine`` (a ready engine per
+test) and ``db_url`` / ``db_path`` (a fresh, empty database for CLI, concurrency and migration
+tests). Every engine is disposed.
+
+Both are parametrised over the two backends through the ``backend`` fixture, so each
+database test runs once on SQLite and once on PostgreSQL (the same test function). The
+PostgreSQL half needs ``SELECTOR_TEST_PG_URL`` (a role allowed to CREATE DATABASE; see
+DEVELOPERS.md) and skips with that reason without it. A test that is about SQLite itself (file
+damage, WAL, locks) uses ``sqlite_only`` or the ``sqlite_path`` / ``sqlite_url`` fixtures."""
 
 from __future__ import annotations
 
@@ -9,6 +15,7 @@ import os
 import subprocess
 import sys
 import traceback
+import uuid
 import warnings
 from dataclasses import dataclass
 from pathlib import Path
@@ -25,25 +32,144 @@ os.environ["NO_COLOR"] = "1"
 os.environ.pop("FORCE_COLOR", None)
 
 
+PG_URL_ENV = "SELECTOR_TEST_PG_URL"
+BACKENDS = ("sqlite", "postgresql")
+
+sqlite_only = pytest.mark.parametrize("backend", ["sqlite"])
+"""Mark for a test about SQLite itself: it runs on the SQLite backend only."""
+
+
+@pytest.fixture(params=BACKENDS)
+def backend(request) -> str:
+    """The database backend of this test run: "sqlite" or "postgresql"."""
+    return request.param
+
+
+class _PgServer:
+    """The PostgreSQL server behind SELECTOR_TEST_PG_URL: makes and drops one database per test."""
+
+    def __init__(self, url: str):
+        import sqlalchemy as sa
+        from sqlalchemy.pool import NullPool
+
+        self.url = sa.engine.make_url(url)
+        self.admin = sa.create_engine(self.url, isolation_level="AUTOCOMMIT", poolclass=NullPool)
+        self.template: str | None = None
+        self.made: list[str] = []
+
+    def _exec(self, sql: str) -> None:
+        import sqlalchemy as sa
+
+        with self.admin.connect() as conn:
+            conn.execute(sa.text(sql))
+
+    def new_database(self, *, at_head: bool = False) -> str:
+        """A fresh database; ``at_head``: a copy of one migrated once per session (fast)."""
+        name = f"selector_t_{os.getpid()}_{uuid.uuid4().hex[:10]}"
+        if at_head:
+            if self.template is None:
+                from selector.store.db import open_engine
+
+                self.template = f"selector_tpl_{os.getpid()}_{uuid.uuid4().hex[:6]}"
+                self._exec(f'CREATE DATABASE "{self.template}"')
+                open_engine(self.url_of(self.template)).dispose()
+            self._exec(f'CREATE DATABASE "{name}" TEMPLATE "{self.template}"')
+        else:
+            self._exec(f'CREATE DATABASE "{name}"')
+        self.made.append(name)
+        return self.url_of(name)
+
+    def url_of(self, name: str) -> str:
+        return self.url.set(database=name).render_as_string(hide_password=False)
+
+    def drop(self, url: str) -> None:
+        import sqlalchemy as sa
+
+        name = sa.engine.make_url(url).database
+        self._exec(f'DROP DATABASE IF EXISTS "{name}" WITH (FORCE)')
+        self.made.remove(name)
+
+    def close(self) -> None:
+        for name in list(self.made) + ([self.template] if self.template else []):
+            self._exec(f'DROP DATABASE IF EXISTS "{name}" WITH (FORCE)')
+        self.admin.dispose()
+
+
+@pytest.fixture(scope="session")
+def pg_server():
+    url = os.environ.get(PG_URL_ENV)
+    if not url:
+        pytest.skip(f"PostgreSQL half: set {PG_URL_ENV} to a PostgreSQL URL (a role that may create "
+                    "databases) to run it; see DEVELOPERS.md")
+    server = _PgServer(url)
+    try:
+        yield server
+    finally:
+        server.close()
+
+
 @pytest.fixture
-def db_path(tmp_path: Path) -> Path:
+def db_url(backend: str, tmp_path: Path, request) -> str:
+    """The URL of a fresh, empty database (the schema is made by the first open_engine)."""
+    if backend == "sqlite":
+        yield f"sqlite:///{tmp_path / 'stock.db'}"
+        return
+    server = request.getfixturevalue("pg_server")
+    url = server.new_database()
+    try:
+        yield url
+    finally:
+        server.drop(url)
+
+
+@pytest.fixture
+def db_path(backend: str, db_url: str, tmp_path: Path):
+    """What ``--db`` gets for this test's database: the file Path on SQLite, the URL (str) on
+    PostgreSQL (``--db`` takes either)."""
+    return tmp_path / "stock.db" if backend == "sqlite" else db_url
+
+
+def url_of(target) -> str:
+    """The database URL for a ``db_path`` value (a file Path, or already a URL)."""
+    text = str(target)
+    return text if "://" in text else f"sqlite:///{text}"
+
+
+def plain_engine(target):
+    """An engine without selector's hooks or schema check, to look at the raw rows."""
+    import sqlalchemy as sa
+
+    return sa.create_engine(url_of(target), poolclass=sa.pool.NullPool)
+
+
+@pytest.fixture
+def sqlite_path(tmp_path: Path) -> Path:
+    """A database file path for tests about SQLite files themselves (not parametrised)."""
     return tmp_path / "stock.db"
 
 
 @pytest.fixture
-def db_url(db_path: Path) -> str:
-    return f"sqlite:///{db_path}"
+def sqlite_url(sqlite_path: Path) -> str:
+    return f"sqlite:///{sqlite_path}"
 
 
 @pytest.fixture
-def memory_engine():
+def memory_engine(backend: str, request):
+    """A ready engine at the head schema: in-memory SQLite, or a fresh PostgreSQL database."""
     from selector.store.db import open_engine
 
-    engine = open_engine("sqlite://")
+    url = "sqlite://"
+    server = None
+    if backend == "postgresql":
+        server = request.getfixturevalue("pg_server")
+        url = server.new_database(at_head=True)
+    engine = open_engine(url)
     try:
         yield engine
     finally:
         engine.dispose()
+        if server is not None:
+            server.drop(url)
 
 
 # --------------------------------------------------------------------------- running the program

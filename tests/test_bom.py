@@ -392,14 +392,14 @@ def test_cli_bom_markdown(cli, bench):
     assert [x["location"] for x in md_rows(r.stdout, "location")] == ["A1", "A2", "A10", "B1", "B2", "C1"]
 
 
-def test_cli_bom_errors_are_one_clear_line(cli, db_path, bench):
+def test_cli_bom_errors_are_one_clear_line(cli, db_path, bench, tmp_path):
     r = cli("bom", "9", "--search", "1", db=bench)
     assert (r.returncode, r.stderr.strip()) == (1, "Error: search 1 has no option 9 (it has options 1-2)")
     r = cli("bom", "1", "--search", "42", db=bench)
     assert (r.returncode, r.stderr.strip()) == (1, "Error: there is no saved search 42")
     r = cli("bom", "1", "--boards", "0", db=bench)
     assert r.returncode == 2 and "Traceback" not in r.stderr
-    empty = db_path.parent / "empty.db"
+    empty = tmp_path / "empty.db"  # a database with no search (SQLite on either backend run)
     r = cli("bom", "1", db=empty)
     assert (r.returncode, r.stderr.strip()) == (1, "Error: there is no saved search yet; run `selector find …` first")
 

@@ -8,7 +8,7 @@ import math
 import pytest
 import sqlalchemy as sa
 
-from conftest import SAMPLE
+from conftest import SAMPLE, url_of
 
 LN2, LN3 = math.log(2.0), math.log(3.0)
 
@@ -122,7 +122,7 @@ def test_rc_corner_table_and_json(cli, stocked):
 
 def test_the_search_is_saved_exactly_as_printed(cli, stocked):
     doc = _json(cli, stocked, "astable", "--freq", "1.2k", "--duty", "65%", "--top", "4", "--boards", "2")
-    eng = sa.create_engine(f"sqlite:///{stocked}")
+    eng = sa.create_engine(url_of(stocked))
     try:
         with eng.connect() as conn:
             rows = conn.execute(sa.text("SELECT id, mode, target_json, params_json FROM searches")).all()
@@ -155,7 +155,7 @@ def test_bad_options_give_one_line_and_change_nothing(cli, stocked):
     assert r.returncode == 1 and "always above 50 %" in r.stderr
     r = cli("find", "rc", db=stocked)
     assert r.returncode == 2 and "exactly one of --tau or --corner" in r.stderr
-    eng = sa.create_engine(f"sqlite:///{stocked}")
+    eng = sa.create_engine(url_of(stocked))
     try:
         with eng.connect() as conn:
             assert conn.execute(sa.text("SELECT COUNT(*) FROM searches")).scalar() == 0

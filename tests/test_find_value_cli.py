@@ -6,7 +6,7 @@ import json
 
 import pytest
 
-from conftest import SAMPLE
+from conftest import SAMPLE, url_of
 
 SERIES_LIKE = {"series", "series3", "series+parallel"}  # shapes where every part is in a series joint
 
@@ -21,7 +21,7 @@ def stocked(cli, db_path):
 def _lines(db_path):
     from selector.store.db import load_stock, open_engine, transaction
 
-    engine = open_engine(f"sqlite:///{db_path}")
+    engine = open_engine(url_of(db_path))
     try:
         with transaction(engine) as s:
             return {ln.id: ln for ln in load_stock(s)}
@@ -35,7 +35,7 @@ def _searches(db_path):
     from selector.store.db import open_engine, transaction
     from selector.store.models import SearchOptionRow, SearchRow
 
-    engine = open_engine(f"sqlite:///{db_path}")
+    engine = open_engine(url_of(db_path))
     try:
         with transaction(engine) as s:
             out = []

@@ -347,10 +347,41 @@ def test_sample_stock_shape():
 
 # --------------------------------------------------------------------------- killed mid-import
 
-def test_killed_import_leaves_old_or_new_stock(tmp_path, db_path, db_url):
-    """SIGKILL a large import while it holds the write lock (i.e. inside its transaction): the
-    stock afterwards is exactly the old one. Should the import finish before we catch it, the
-    stock must be exactly the new one; never a part of the file."""
+class _WriterProbe:
+    """Tells whether another process is inside its importing transaction: on SQLite it holds the
+    write lock; on PostgreSQL it holds the stock-merge advisory lock (store/db.py)."""
+
+    def __init__(self, backend: str, db_path, db_url: str):
+        self.backend = backend
+        if backend == "sqlite":
+            self.conn = sqlite3.connect(db_path, timeout=0, isolation_level=None)
+        else:
+            self.engine = sa.create_engine(db_url, poolclass=sa.pool.NullPool, isolation_level="AUTOCOMMIT")
+            self.conn = self.engine.connect()
+
+    def writer_inside(self) -> bool:
+        if self.backend == "sqlite":
+            try:
+                self.conn.execute("BEGIN IMMEDIATE")
+                self.conn.execute("ROLLBACK")
+                return False
+            except sqlite3.OperationalError as err:  # "database is locked": the importer is writing
+                assert "locked" in str(err)
+                return True
+        return bool(self.conn.execute(sa.text(
+            "SELECT count(*) FROM pg_locks WHERE locktype = 'advisory' AND granted AND classid = 0"
+            " AND objid = :k"), {"k": db._PG_STOCK_PLAN_LOCK}).scalar())
+
+    def close(self) -> None:
+        self.conn.close()
+        if self.backend != "sqlite":
+            self.engine.dispose()
+
+
+def test_killed_import_leaves_old_or_new_stock(tmp_path, db_path, db_url, backend):
+    """SIGKILL a large import while it is inside its transaction: the stock afterwards is exactly
+    the old one. Should the import finish before we catch it, the stock must be exactly the new
+    one; never a part of the file."""
     engine = db.open_engine(db_url)
     svc.import_stock(engine, _write(tmp_path, "kind,value,quantity\nR,1k,1\n", "seed.csv"))
     engine.dispose()
@@ -365,16 +396,12 @@ def test_killed_import_leaves_old_or_new_stock(tmp_path, db_path, db_url):
     env = dict(os.environ, PYTHONPATH=str(REPO))
     proc = subprocess.Popen([sys.executable, "-m", "selector", "--db", str(db_path), "stock", "import", str(big)],
                             cwd=REPO, env=env, stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
-    probe = sqlite3.connect(db_path, timeout=0, isolation_level=None)
+    probe = _WriterProbe(backend, db_path, db_url)
     killed_inside = False
     deadline = time.monotonic() + 120
     try:
         while proc.poll() is None and time.monotonic() < deadline:
-            try:
-                probe.execute("BEGIN IMMEDIATE")
-                probe.execute("ROLLBACK")
-            except sqlite3.OperationalError as err:  # "database is locked": the importer is writing
-                assert "locked" in str(err)
+            if probe.writer_inside():
                 time.sleep(0.05)
                 if proc.poll() is None:
                     proc.send_signal(signal.SIGKILL)
@@ -386,10 +413,14 @@ def test_killed_import_leaves_old_or_new_stock(tmp_path, db_path, db_url):
         if proc.poll() is None and not killed_inside:
             proc.kill()
         proc.wait(timeout=60)
-    with sqlite3.connect(db_path) as c:
-        state = (c.execute("SELECT count(*) FROM stock_lines").fetchone()[0],
-                 c.execute("SELECT count(*) FROM movements").fetchone()[0],
-                 c.execute("SELECT sum(quantity) FROM stock_lines").fetchone()[0])
+    engine = db.open_engine(db_url)
+    try:
+        with engine.connect() as c:
+            state = (c.execute(sa.text("SELECT count(*) FROM stock_lines")).scalar(),
+                     c.execute(sa.text("SELECT count(*) FROM movements")).scalar(),
+                     c.execute(sa.text("SELECT sum(quantity) FROM stock_lines")).scalar())
+    finally:
+        engine.dispose()
     if killed_inside and proc.returncode == -signal.SIGKILL:
         assert state == old
     else:

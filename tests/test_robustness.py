@@ -19,30 +19,28 @@ from pathlib import Path
 
 import pytest
 
-from conftest import REPO, SAMPLE
+from conftest import REPO, SAMPLE, plain_engine, sqlite_only
 
 
-def _snapshot(path: Path) -> dict:
-    """Everything a user action could change, read with the plain sqlite3 module."""
-    con = sqlite3.connect(path)
+def _snapshot(path) -> dict:
+    """Everything a user action could change, read without selector's own code (either backend:
+    ``path`` is a file Path or a URL)."""
+    engine = plain_engine(path)
     try:
-        return {
-            "lines": con.execute(
-                "SELECT id, kind, value, tol_minus, tol_plus, quantity, location FROM stock_lines ORDER BY id"
-            ).fetchall(),
-            "movements": con.execute("SELECT id, line_id, delta, reason FROM movements ORDER BY id").fetchall(),
-            "searches": con.execute("SELECT count(*) FROM searches").fetchone()[0],
-            "options": con.execute("SELECT count(*) FROM search_options").fetchone()[0],
-            "pulls": con.execute("SELECT id, undone_at FROM pulls ORDER BY id").fetchall()
-            if _has_column(con, "pulls", "undone_at")
-            else con.execute("SELECT id FROM pulls ORDER BY id").fetchall(),
-        }
+        with engine.connect() as con:
+            def rows(sql):
+                return [tuple(r) for r in con.exec_driver_sql(sql).all()]
+
+            return {
+                "lines": rows("SELECT id, kind, value, tol_minus, tol_plus, quantity, location FROM stock_lines"
+                              " ORDER BY id"),
+                "movements": rows("SELECT id, line_id, delta, reason FROM movements ORDER BY id"),
+                "searches": rows("SELECT count(*) FROM searches")[0][0],
+                "options": rows("SELECT count(*) FROM search_options")[0][0],
+                "pulls": rows("SELECT id, undone_at FROM pulls ORDER BY id"),
+            }
     finally:
-        con.close()
-
-
-def _has_column(con, table: str, column: str) -> bool:
-    return any(r[1] == column for r in con.execute(f"PRAGMA table_info({table})"))
+        engine.dispose()
 
 
 def _assert_one_error_line(result: subprocess.CompletedProcess) -> str:
@@ -104,9 +102,16 @@ def test_path_below_a_regular_file(cli, tmp_path):
     assert blocker.read_text() == "not a folder\n"
 
 
-def test_missing_parent_folder_is_created_for_an_import(cli, tmp_path):
-    # Decision recorded in the store contract: open_engine creates parent folders.
+def test_a_missing_parent_folder_is_refused_for_an_import(cli, tmp_path):
+    # Only the default data folder is created automatically: a --db path in a folder that does not
+    # exist is most likely mistyped, and a new empty stock there would hide the real one.
     db = tmp_path / "new" / "shop" / "stock.db"
+    result = cli("stock", "import", str(SAMPLE), db=db)
+    line = _assert_one_error_line(result)
+    assert line == (f"Error: the folder {db.parent} does not exist (for the stock database {db}); "
+                    "create it first or check the path")
+    assert not (tmp_path / "new").exists()
+    db.parent.mkdir(parents=True)
     result = cli("stock", "import", str(SAMPLE), db=db)
     assert result.returncode == 0, result.stderr
     # sample_stock.csv has 100 data rows, each a distinct stock line (read from the file itself)
@@ -146,6 +151,7 @@ def stocked(cli, db_path):
     return db_path
 
 
+@sqlite_only
 def test_busy_for_two_seconds_waits_then_succeeds(cli, stocked):
     before = dict((r[0], r[5]) for r in _snapshot(stocked)["lines"])
     holder = _hold(stocked, 2.0)
@@ -160,9 +166,11 @@ def test_busy_for_two_seconds_waits_then_succeeds(cli, stocked):
     assert all(after[k] == before[k] for k in before if k != 1)
 
 
-def test_busy_beyond_the_retry_budget_gives_one_clear_error(stocked):
-    # The CLI waits 30 s per try; in process we shorten SQLite's wait so the test stays short and
-    # exercise the same replay-then-give-up path (run_in_transaction) the commands use.
+@sqlite_only
+def test_busy_beyond_the_wait_limit_gives_one_clear_error(stocked, monkeypatch):
+    # The CLI waits up to $SELECTOR_BUSY_WAIT (default 300 s); here the limit is 1 s so the test
+    # stays short, through the same replay-then-give-up path (run_in_transaction) the commands use.
+    monkeypatch.setenv("SELECTOR_BUSY_WAIT", "1")
     from selector.core.errors import DatabaseProblem
     from selector.store.db import apply_movement, open_engine, run_in_transaction
 
@@ -171,7 +179,7 @@ def test_busy_beyond_the_retry_budget_gives_one_clear_error(stocked):
     holder = _hold(stocked, 8.0)
     try:
         with pytest.raises(DatabaseProblem) as info:
-            run_in_transaction(engine, lambda s: apply_movement(s, 1, 5, "adjust"))
+            run_in_transaction(engine, lambda s: apply_movement(s, 1, 5, "adjust"), on_wait=None)
     finally:
         holder.kill()
         holder.wait(timeout=60)
@@ -184,6 +192,7 @@ def test_busy_beyond_the_retry_budget_gives_one_clear_error(stocked):
 
 # --------------------------------------------------------------------------- killed during an import
 
+@sqlite_only  # watches the WAL file grow; test_import.py has the same check on both backends
 def test_sigkill_during_a_large_import_leaves_old_or_new_stock(cli, stocked, tmp_path):
     n_rows, qty = 20000, 3
     big = tmp_path / "big.csv"

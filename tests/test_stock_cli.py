@@ -5,10 +5,12 @@ from __future__ import annotations
 
 import csv
 import json
-import sqlite3
 from pathlib import Path
 
 import pytest
+import sqlalchemy as sa
+
+from conftest import plain_engine
 
 REPO = Path(__file__).resolve().parent.parent
 SAMPLE = REPO / "sample_stock.csv"
@@ -23,9 +25,26 @@ def _json(cli, db, *args):
     return json.loads(r.stdout)
 
 
-def _dump(db_path: Path) -> list[str]:
-    with sqlite3.connect(db_path) as c:
-        return list(c.iterdump())
+def _dump(db_path) -> dict[str, list[tuple]]:
+    """Every row of every table (either backend)."""
+    from selector.store.models import Base
+
+    engine = plain_engine(db_path)
+    try:
+        with engine.connect() as c:
+            return {t.name: [tuple(r) for r in c.execute(sa.select(t).order_by(*t.primary_key.columns))]
+                    for t in Base.metadata.sorted_tables}
+    finally:
+        engine.dispose()
+
+
+def _rows(db_path, sql: str, *params) -> list[tuple]:
+    engine = plain_engine(db_path)
+    try:
+        with engine.connect() as c:
+            return [tuple(r) for r in c.exec_driver_sql(sql, tuple(params) if params else ()).all()]
+    finally:
+        engine.dispose()
 
 
 def _import(cli, db, path=SAMPLE, *extra):
@@ -113,14 +132,13 @@ def test_adjust_negative_and_positive(cli, db_path):
     r = cli("stock", "adjust", str(first["line_id"]), "+5", "--reference", "found more", db=db_path)
     assert r.returncode == 0, r.stderr
     assert _json(cli, db_path)[0]["quantity"] == first["quantity"] + 2
-    with sqlite3.connect(db_path) as c:
-        rows = c.execute("SELECT delta, reason, reference FROM movements WHERE line_id = ? ORDER BY id",
-                         (first["line_id"],)).fetchall()
+    rows = _rows(db_path, f"SELECT delta, reason, reference FROM movements WHERE line_id = {int(first['line_id'])}"
+                          " ORDER BY id")
     assert rows[-2:] == [(-3, "adjust", ""), (5, "adjust", "found more")]
 
 
-def test_adjust_below_zero_is_refused_and_changes_nothing(cli, db_path):
-    _import(cli, db_path, _write_csv(db_path.parent, "kind,value,quantity,location\nR,4k7,3,A3\n"))
+def test_adjust_below_zero_is_refused_and_changes_nothing(cli, db_path, tmp_path):
+    _import(cli, db_path, _write_csv(tmp_path, "kind,value,quantity,location\nR,4k7,3,A3\n"))
     before = _dump(db_path)
     r = cli("stock", "adjust", "1", "-5", db=db_path)
     assert r.returncode == 1
@@ -129,8 +147,8 @@ def test_adjust_below_zero_is_refused_and_changes_nothing(cli, db_path):
     assert _dump(db_path) == before
 
 
-def test_unknown_line_id(cli, db_path):
-    _import(cli, db_path, _write_csv(db_path.parent, "kind,value,quantity\nR,1k,1\n"))
+def test_unknown_line_id(cli, db_path, tmp_path):
+    _import(cli, db_path, _write_csv(tmp_path, "kind,value,quantity\nR,1k,1\n"))
     before = _dump(db_path)
     for args in (("adjust", "99", "2"), ("set", "99", "2")):
         r = cli("stock", *args, db=db_path)
@@ -145,14 +163,13 @@ def test_adjust_with_a_non_number_is_a_usage_error(cli, db_path):
     assert r.stderr.strip() == 'Error: DELTA "three": expected a whole number from -1000000000 to 1000000000'
 
 
-def test_set_is_ledgered_and_refuses_negative(cli, db_path):
-    _import(cli, db_path, _write_csv(db_path.parent, "kind,value,quantity\nC,100n,10\n"))
+def test_set_is_ledgered_and_refuses_negative(cli, db_path, tmp_path):
+    _import(cli, db_path, _write_csv(tmp_path, "kind,value,quantity\nC,100n,10\n"))
     r = cli("stock", "set", "1", "4", "--reference", "stocktake", db=db_path)
     assert r.returncode == 0, r.stderr
     assert "10 → 4 (-6)" in r.stdout
-    with sqlite3.connect(db_path) as c:
-        assert c.execute("SELECT delta, reason, reference FROM movements ORDER BY id").fetchall() == [
-            (10, "import", "stock.csv"), (-6, "set", "stocktake")]
+    assert _rows(db_path, "SELECT delta, reason, reference FROM movements ORDER BY id") == [
+        (10, "import", "stock.csv"), (-6, "set", "stocktake")]
     before = _dump(db_path)
     r = cli("stock", "set", "1", "-1", db=db_path)
     assert r.returncode == 2  # typer's min=0: a usage error
@@ -160,10 +177,10 @@ def test_set_is_ledgered_and_refuses_negative(cli, db_path):
     assert _dump(db_path) == before
 
 
-def test_import_errors_through_the_cli(cli, db_path):
-    _import(cli, db_path, _write_csv(db_path.parent, "kind,value,quantity\nR,1k,1\n", "ok.csv"))
+def test_import_errors_through_the_cli(cli, db_path, tmp_path):
+    _import(cli, db_path, _write_csv(tmp_path, "kind,value,quantity\nR,1k,1\n", "ok.csv"))
     before = _dump(db_path)
-    bad = _write_csv(db_path.parent, "kind,value,quantity\nR,1k,1\ndiode,1N4148,2\nR,2k2,-1\n", "bad.csv")
+    bad = _write_csv(tmp_path, "kind,value,quantity\nR,1k,1\ndiode,1N4148,2\nR,2k2,-1\n", "bad.csv")
     r = cli("stock", "import", str(bad), db=db_path)
     assert r.returncode == 1
     assert r.stderr.splitlines() == [
@@ -172,13 +189,13 @@ def test_import_errors_through_the_cli(cli, db_path):
         '  row 4, column quantity: "-1": expected a whole number of parts, 0 or more',
     ]
     assert _dump(db_path) == before
-    r = cli("stock", "import", str(db_path.parent / "missing.csv"), db=db_path)
+    r = cli("stock", "import", str(tmp_path / "missing.csv"), db=db_path)
     assert r.returncode == 1
-    assert r.stderr.strip() == f"Error: cannot read the stock file {db_path.parent / 'missing.csv'}: No such file or directory"
+    assert r.stderr.strip() == f"Error: cannot read the stock file {tmp_path / 'missing.csv'}: No such file or directory"
 
 
-def test_import_dry_run_and_replace(cli, db_path):
-    d = db_path.parent
+def test_import_dry_run_and_replace(cli, db_path, tmp_path):
+    d = tmp_path
     _import(cli, db_path, _write_csv(d, "kind,value,quantity,location\nR,1k,10,A1\nR,2k2,3,A1\n", "a.csv"))
     before = _dump(db_path)
     r = cli("stock", "import", str(_write_csv(d, "kind,value,quantity,location\nR,1k,4,A1\n", "b.csv")),
@@ -224,8 +241,7 @@ def test_kit_adds_one_line_per_series_value_and_merges_when_repeated(cli, db_pat
     again = _json(cli, db_path)
     assert [ln["line_id"] for ln in again] == [ln["line_id"] for ln in lines]
     assert {ln["quantity"] for ln in again} == {10}
-    with sqlite3.connect(db_path) as c:
-        assert c.execute("SELECT count(*), sum(delta) FROM movements WHERE reason = 'kit'").fetchone() == (26, 130)
+    assert _rows(db_path, "SELECT count(*), sum(delta) FROM movements WHERE reason = 'kit'") == [(26, 130)]
 
 
 def test_kit_capacitors_with_dielectric_and_rating(cli, db_path):
@@ -258,8 +274,8 @@ def _write_csv(folder: Path, text: str, name: str = "stock.csv") -> Path:
     return p
 
 
-def test_numbers_beyond_any_stock_are_refused_in_one_line(cli, db_path):
-    _import(cli, db_path, _write_csv(db_path.parent, "kind,value,quantity\nR,1k,1\n"))
+def test_numbers_beyond_any_stock_are_refused_in_one_line(cli, db_path, tmp_path):
+    _import(cli, db_path, _write_csv(tmp_path, "kind,value,quantity\nR,1k,1\n"))
     before = _dump(db_path)
     huge = "99999999999999999999999"
     # out of an argument's documented range (README "Accepted ranges"): a usage error, exit 2

@@ -13,6 +13,7 @@ from pathlib import Path
 import pytest
 import sqlalchemy as sa
 
+from conftest import sqlite_only
 from selector.core.errors import DatabaseProblem, InsufficientStock, UnknownStockLine
 from selector.core.types import StockLine
 from selector.store import db
@@ -59,20 +60,32 @@ def test_default_file_gets_its_folders_created(tmp_path, monkeypatch):
     assert (tmp_path / "not" / "yet" / "selector" / "stock.db").is_file()
 
 
+def test_an_explicit_path_in_a_missing_folder_is_refused_and_nothing_is_made(tmp_path, monkeypatch):
+    """Only the default data folder is created: a mistyped --db / SELECTOR_DB folder is an error."""
+    monkeypatch.setenv("XDG_DATA_HOME", str(tmp_path / "xdg"))
+    wanted = tmp_path / "benhc" / "stock.db"
+    with pytest.raises(DatabaseProblem) as info:
+        db.open_engine(db.resolve_url(str(wanted)))
+    assert str(info.value) == (f"the folder {wanted.parent} does not exist (for the stock database {wanted}); "
+                               "create it first or check the path")
+    assert not wanted.parent.exists()
+
+
 # --------------------------------------------------------------------------- engine set-up
 
-def test_file_engine_pragmas(db_url):
-    engine = db.open_engine(db_url)
+def test_file_engine_pragmas(sqlite_url):
+    engine = db.open_engine(sqlite_url)
     try:
         with engine.connect() as conn:
             mode = conn.exec_driver_sql("PRAGMA journal_mode").scalar()
             fks = conn.exec_driver_sql("PRAGMA foreign_keys").scalar()
             busy = conn.exec_driver_sql("PRAGMA busy_timeout").scalar()
-        assert (mode, fks, busy) == ("wal", 1, 30000)
+        assert (mode, fks, busy) == ("wal", 1, db.BUSY_TIMEOUT_MS)
     finally:
         engine.dispose()
 
 
+@sqlite_only
 def test_memory_engine_keeps_its_schema_across_connections(memory_engine):
     with db.transaction(memory_engine) as s:
         _add_line(s, quantity=3)
@@ -82,16 +95,39 @@ def test_memory_engine_keeps_its_schema_across_connections(memory_engine):
         assert conn.exec_driver_sql("PRAGMA foreign_keys").scalar() == 1
 
 
-def test_every_unit_of_work_takes_the_write_lock_up_front(db_url, db_path):
-    """BEGIN IMMEDIATE: while one unit is open, another connection cannot start writing."""
-    engine = db.open_engine(db_url)
+def test_a_writing_unit_takes_the_write_lock_up_front(sqlite_url, sqlite_path):
+    """BEGIN IMMEDIATE: while a writing unit is open, another connection cannot start writing."""
+    engine = db.open_engine(sqlite_url)
     try:
         with db.transaction(engine) as s:
-            db.load_stock(s)  # a read only: still holds the RESERVED lock under BEGIN IMMEDIATE
-            other = sqlite3.connect(db_path, timeout=0, isolation_level=None)
+            db.load_stock(s)  # nothing written yet: still holds the RESERVED lock under BEGIN IMMEDIATE
+            other = sqlite3.connect(sqlite_path, timeout=0, isolation_level=None)
             with pytest.raises(sqlite3.OperationalError, match="locked"):
                 other.execute("BEGIN IMMEDIATE")
             other.close()
+    finally:
+        engine.dispose()
+
+
+def test_a_reading_unit_neither_takes_the_lock_nor_waits_for_a_writer(sqlite_url, sqlite_path):
+    """write=False: a deferred BEGIN. Another connection can start writing while it is open, and
+    it reads (the last committed stock) while another connection holds the write lock."""
+    engine = db.open_engine(sqlite_url)
+    try:
+        with db.transaction(engine) as s:
+            _add_line(s, quantity=5)
+        with db.transaction(engine, write=False) as s:
+            db.load_stock(s)
+            other = sqlite3.connect(sqlite_path, timeout=0, isolation_level=None)
+            other.execute("BEGIN IMMEDIATE")  # would raise "locked" if the reader held the lock
+            other.execute("UPDATE stock_lines SET quantity = 99")
+            assert [ln.quantity for ln in db.load_stock(s)] == [5]  # its own snapshot
+        # and the reverse: a writer holds the lock, a reader in this process does not wait
+        quantities = db.run_in_transaction(engine, lambda s: [ln.quantity for ln in db.load_stock(s)],
+                                           write=False, max_wait_s=0, retries=0, on_wait=None)
+        assert quantities == [5]
+        other.execute("ROLLBACK")
+        other.close()
     finally:
         engine.dispose()
 
@@ -116,34 +152,50 @@ def test_transaction_commits_on_success_and_rolls_back_on_error(memory_engine):
         assert s.scalar(sa.select(sa.func.count()).select_from(MovementRow)) == 0
 
 
-def test_busy_database_gives_one_clear_line_after_retries(db_url, db_path):
-    engine = db.open_engine(db_url, busy_timeout_ms=50)
-    locker = sqlite3.connect(db_path, isolation_level=None)
+def test_busy_database_gives_one_clear_line_after_the_wait_limit(sqlite_url, sqlite_path, monkeypatch):
+    monkeypatch.setenv(db.BUSY_WAIT_ENV, "0.6")
+    engine = db.open_engine(sqlite_url, busy_timeout_ms=50)
+    locker = sqlite3.connect(sqlite_path, isolation_level=None)
     locker.execute("BEGIN IMMEDIATE")
-    calls = []
+    calls, notes = [], []
     try:
         with pytest.raises(DatabaseProblem) as info:
-            db.run_in_transaction(engine, lambda s: calls.append(1) or db.load_stock(s), retries=2)
+            db.run_in_transaction(engine, lambda s: calls.append(1) or db.load_stock(s), on_wait=notes.append)
     finally:
         locker.execute("ROLLBACK")
         locker.close()
         engine.dispose()
     msg = str(info.value)
-    assert msg == f"the stock database {db_path} is busy (another selector is writing to it); try again"
+    assert msg.startswith(f"the stock database {sqlite_path} stayed busy for ")
+    assert msg.endswith(" s (another bench kept writing to it); nothing was changed, try again later "
+                        "(wait limit: $SELECTOR_BUSY_WAIT)")
     assert "locked" not in msg
     assert "\n" not in msg
+    assert notes == [db.WAITING_NOTE]  # once, however many replays
+    assert len(calls) >= 2  # the whole unit was replayed while it waited
 
 
-def test_busy_database_is_retried_until_the_other_writer_finishes(db_url, db_path):
-    engine = db.open_engine(db_url, busy_timeout_ms=50)
+def test_busy_wait_limit_comes_from_the_environment(monkeypatch):
+    monkeypatch.delenv(db.BUSY_WAIT_ENV, raising=False)
+    assert db.busy_wait_limit() == db.DEFAULT_BUSY_WAIT_S == 300.0
+    monkeypatch.setenv(db.BUSY_WAIT_ENV, "12.5")
+    assert db.busy_wait_limit() == 12.5
+    for bad in ("soon", "-3", "nan", "1e999"):
+        monkeypatch.setenv(db.BUSY_WAIT_ENV, bad)
+        assert db.busy_wait_limit() == db.DEFAULT_BUSY_WAIT_S, bad
+
+
+def test_busy_database_is_retried_until_the_other_writer_finishes(sqlite_url, sqlite_path):
+    engine = db.open_engine(sqlite_url, busy_timeout_ms=50)
     with db.transaction(engine) as s:
         _add_line(s, quantity=4)
-    locker = sqlite3.connect(db_path, isolation_level=None, check_same_thread=False)
+    locker = sqlite3.connect(sqlite_path, isolation_level=None, check_same_thread=False)
     locker.execute("BEGIN IMMEDIATE")
     release = threading.Timer(0.4, lambda: locker.execute("ROLLBACK"))
     release.start()
     try:
-        new_qty = db.run_in_transaction(engine, lambda s: db.apply_movement(s, 1, -1, "adjust"), retries=6)
+        new_qty = db.run_in_transaction(engine, lambda s: db.apply_movement(s, 1, -1, "adjust"),
+                                        on_wait=lambda note: None)
     finally:
         release.join()
         locker.close()
@@ -277,46 +329,6 @@ def test_migrations_dir_has_the_environment():
     assert (Path(db.migrations_dir()) / "env.py").is_file()
 
 
-# --------------------------------------------------------------------------- PostgreSQL (optional)
-
-PG_URL = os.environ.get("SELECTOR_TEST_PG_URL")
-
-
-@pytest.mark.skipif(not PG_URL, reason="set SELECTOR_TEST_PG_URL to an empty PostgreSQL database to run")
-def test_postgresql_schema_ledger_and_guard():
-    """The same engine code on PostgreSQL: schema at head through the migrations, models equal to
-    it, the guarded change refusing to go below zero. Leaves the database empty again."""
-    from alembic import command
-    from alembic.autogenerate import compare_metadata
-    from alembic.config import Config
-    from alembic.migration import MigrationContext
-
-    from selector.store.models import Base
-
-    engine = db.open_engine(PG_URL)
-    try:
-        with engine.connect() as conn:
-            assert conn.exec_driver_sql("SELECT version_num FROM alembic_version").scalar() == db.SCHEMA_HEAD
-            assert compare_metadata(MigrationContext.configure(conn, opts={"compare_type": True}), Base.metadata) == []
-        with db.transaction(engine) as s:
-            line = _add_line(s, quantity=3)
-        with pytest.raises(InsufficientStock):
-            with db.transaction(engine) as s:
-                db.apply_movement(s, line, -4, "adjust")
-        with db.transaction(engine) as s:
-            assert db.apply_movement(s, line, -3, "adjust") == 0
-    finally:
-        with engine.connect() as conn:
-            conn.begin()
-            cfg = Config()
-            cfg.set_main_option("script_location", str(db.migrations_dir()))
-            cfg.attributes["connection"] = conn
-            command.downgrade(cfg, "base")
-            conn.exec_driver_sql("DROP TABLE IF EXISTS alembic_version")
-            conn.commit()
-        engine.dispose()
-
-
 def _open_worker(url: str, out) -> None:
     from selector.store.db import load_stock, open_engine, transaction
 
@@ -330,9 +342,10 @@ def _open_worker(url: str, out) -> None:
         out.put(f"{type(exc).__name__}: {exc}")
 
 
-def test_several_programs_creating_the_same_new_database_at_once(db_url, db_path):
-    """Four processes open a database file that does not exist yet, at the same moment: each
-    one succeeds (one creates the schema, the others wait and find it at head)."""
+def test_several_programs_creating_the_same_new_database_at_once(db_url):
+    """Four processes open a new database (a file that does not exist yet; an empty PostgreSQL
+    database) at the same moment: each one succeeds (one creates the schema under the lock, the
+    others wait and find it at head)."""
     ctx = mp.get_context("spawn")
     out = ctx.Queue()
     procs = [ctx.Process(target=_open_worker, args=(db_url, out)) for _ in range(4)]
@@ -342,5 +355,9 @@ def test_several_programs_creating_the_same_new_database_at_once(db_url, db_path
     for p in procs:
         p.join(timeout=60)
     assert results == ["ok"] * 4
-    with sqlite3.connect(db_path) as c:
-        assert c.execute("SELECT version_num FROM alembic_version").fetchall() == [(db.SCHEMA_HEAD,)]
+    engine = db.open_engine(db_url)
+    try:
+        with engine.connect() as conn:
+            assert conn.exec_driver_sql("SELECT version_num FROM alembic_version").scalars().all() == [db.SCHEMA_HEAD]
+    finally:
+        engine.dispose()

@@ -2,6 +2,9 @@
 
 Adding a foreign key to an existing SQLite table needs a table rebuild (batch operation); the
 program runs it with foreign keys OFF so the rebuild cannot cascade, then checks every key.
+PostgreSQL alters the table in place: a rebuild there would give ``movements`` a new id sequence
+starting at 1 under rows that already hold ids (revision 0003 repairs databases upgraded by the
+first version of this script, which rebuilt on every backend).
 
 Revision ID: 0002
 Revises: 0001
@@ -19,6 +22,11 @@ revision: str = "0002"
 down_revision: Union[str, Sequence[str], None] = "0001"
 branch_labels: Union[str, Sequence[str], None] = None
 depends_on: Union[str, Sequence[str], None] = None
+
+
+def _recreate() -> str:
+    """Rebuild the table on SQLite only (it cannot add a foreign key in place)."""
+    return "always" if op.get_bind().dialect.name == "sqlite" else "auto"
 
 
 def upgrade() -> None:
@@ -58,7 +66,7 @@ def upgrade() -> None:
         ),
         sa.PrimaryKeyConstraint("id", name=op.f("pk_pulls")),
     )
-    with op.batch_alter_table("movements", recreate="always") as batch_op:
+    with op.batch_alter_table("movements", recreate=_recreate()) as batch_op:
         batch_op.add_column(sa.Column("pull_id", sa.Integer(), nullable=True))
         batch_op.create_foreign_key(
             batch_op.f("fk_movements_pull_id_pulls"), "pulls", ["pull_id"], ["id"], ondelete="RESTRICT"
@@ -67,7 +75,7 @@ def upgrade() -> None:
 
 
 def downgrade() -> None:
-    with op.batch_alter_table("movements", recreate="always") as batch_op:
+    with op.batch_alter_table("movements", recreate=_recreate()) as batch_op:
         batch_op.drop_index(batch_op.f("ix_movements_pull_id"))
         batch_op.drop_constraint(batch_op.f("fk_movements_pull_id_pulls"), type_="foreignkey")
         batch_op.drop_column("pull_id")

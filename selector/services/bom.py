@@ -143,4 +143,4 @@ def build_bom(
     ``boards`` boards (default: the board count the search was run for). One read transaction."""
     from selector.store.db import run_in_transaction
 
-    return run_in_transaction(engine, lambda s: bom_in_session(s, option, search_id, boards))
+    return run_in_transaction(engine, lambda s: bom_in_session(s, option, search_id, boards), write=False)

@@ -207,7 +207,7 @@ def find_timing(engine, req: TimingRequest,
     from selector.store.db import load_stock, run_in_transaction
 
     req.check()  # bad options fail before the database is touched
-    lines = run_in_transaction(engine, lambda s: load_stock(s))
+    lines = run_in_transaction(engine, lambda s: load_stock(s), write=False)
     r_lines = [ln for ln in lines if ln.kind == "resistor"]
     c_lines = [ln for ln in lines if ln.kind == "capacitor"]
     report = plan_timing(r_lines, c_lines, req, progress)

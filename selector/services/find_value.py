@@ -181,7 +181,7 @@ def find_value(engine, req: ValueRequest) -> ValueReport:
     from selector.store.db import load_stock, run_in_transaction
 
     req.check()
-    lines = run_in_transaction(engine, lambda s: load_stock(s, req.kind))
+    lines = run_in_transaction(engine, lambda s: load_stock(s, req.kind), write=False)
     report = plan_value(lines, req)
     report.search_id = run_in_transaction(engine, lambda s: save_search(s, report))
     return report

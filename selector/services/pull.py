@@ -87,8 +87,10 @@ def shortage_message(report: BomReport, shortages: list[core_bom.Shortage]) -> s
 def _pull_in_session(
     session: Session, option: int, search_id: Optional[int], boards: Optional[int], dry_run: bool
 ) -> PullResult:
-    from selector.store.db import apply_movement
+    from selector.store.db import apply_movement, lock_stock_for_plan
 
+    if not dry_run:
+        lock_stock_for_plan(session)  # PostgreSQL: the check below sees what this pull will change
     report = bom_in_session(session, option, search_id, boards)
     bom = report.bom
     short = report.shortages
@@ -184,4 +186,4 @@ def list_movements(
             for m, s in session.execute(stmt).all()
         ]
 
-    return run_in_transaction(engine, work)
+    return run_in_transaction(engine, work, write=False)

@@ -171,7 +171,7 @@ def _load(engine: Engine, rank: int, search_id: Optional[int], discharge_ohms: O
     from selector.services.bom import load_saved_option
     from selector.store.models import SearchRow
 
-    with transaction(engine) as session:
+    with transaction(engine, write=False) as session:
         saved = load_saved_option(session, rank, search_id)
         search = session.get(SearchRow, saved.search_id)
         params = json.loads(search.params_json or "{}")

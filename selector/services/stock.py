@@ -333,7 +333,7 @@ def import_stock(engine, path: str | Path, *, replace: bool = False, dry_run: bo
     """Import a stock CSV in one transaction (reason "import", reference = the file name). The file
     is read and validated before the database is touched; with ``dry_run`` nothing is written."""
     from selector.store.csvio import read_stock_file
-    from selector.store.db import load_stock, run_in_transaction
+    from selector.store.db import load_stock, lock_stock_for_plan, run_in_transaction
 
     rows = validate_rows(read_stock_file(path))
     from selector.core.cells import without_controls
@@ -341,6 +341,7 @@ def import_stock(engine, path: str | Path, *, replace: bool = False, dry_run: bo
     name = without_controls(Path(path).name)  # the ledger reference: stored text has no control characters
 
     def unit(session) -> ImportPlan:
+        lock_stock_for_plan(session)
         plan = plan_import(rows, load_stock(session), replace=replace, source=name)
         if not dry_run:
             apply_plan(session, plan, "import", name)
@@ -390,9 +391,10 @@ def kit_rows(series: str, kind: str, low: float, high: float, quantity: int, loc
 
 def add_kit(engine, rows: Sequence[ImportRow], reference: str, *, dry_run: bool = False) -> ImportPlan:
     """Add kit rows to stock (merging with identical lines), ledgered with reason "kit"."""
-    from selector.store.db import load_stock, run_in_transaction
+    from selector.store.db import load_stock, lock_stock_for_plan, run_in_transaction
 
     def unit(session) -> ImportPlan:
+        lock_stock_for_plan(session)
         plan = plan_import(rows, load_stock(session), replace=False, source=reference)
         if not dry_run:
             apply_plan(session, plan, "kit", reference)
@@ -433,7 +435,7 @@ def list_stock(engine, f: StockFilter = StockFilter()) -> list[StockLine]:
     """The stock lines passing ``f``, ordered by id."""
     from selector.store.db import load_stock, run_in_transaction
 
-    return run_in_transaction(engine, lambda s: filter_lines(load_stock(s, f.kind), f))
+    return run_in_transaction(engine, lambda s: filter_lines(load_stock(s, f.kind), f), write=False)
 
 
 def stock_json(lines: Iterable[StockLine]) -> list[dict]:
@@ -446,11 +448,13 @@ def stock_json(lines: Iterable[StockLine]) -> list[dict]:
     ]
 
 
-def _get_line(session, line_id: int) -> StockLine:
+def _get_line(session, line_id: int, *, lock: bool = False) -> StockLine:
+    """The line as it is now; ``lock`` holds its row until the unit ends (PostgreSQL FOR UPDATE;
+    SQLite's BEGIN IMMEDIATE already excludes other writers), for read-then-write units."""
     from selector.store.db import to_stock_line
     from selector.store.models import StockLineRow
 
-    row = session.get(StockLineRow, line_id) if 0 < line_id < 2**63 else None
+    row = session.get(StockLineRow, line_id, with_for_update=lock or None) if 0 < line_id < 2**63 else None
     if row is None:
         raise UnknownStockLine(f"there is no stock line {line_id} (see `selector stock list`)")
     session.refresh(row)
@@ -490,7 +494,7 @@ def set_line(engine, line_id: int, quantity: int, reference: str = "") -> tuple[
         raise UnparseableValue(f"QTY {quantity}: expected a quantity from 0 to {MAX_QUANTITY}")
 
     def unit(session):
-        before = _get_line(session, line_id)
+        before = _get_line(session, line_id, lock=True)  # two benches setting at once: no lost update
         apply_movement(session, line_id, quantity - before.quantity, "set", reference)
         return before, _get_line(session, line_id)
 

@@ -3,13 +3,23 @@ Alembic revisions in ``migrations/``), one-transaction units of work, and the tw
 use case needs: reading the stock lines and changing a quantity through the ledger.
 
 SQLite notes (see /work/shared/reference/ecosystem.md §2-3 for the measurements behind them):
-- the DBAPI connection runs with ``isolation_level = None`` and SQLAlchemy emits ``BEGIN IMMEDIATE``
-  itself, so every unit of work takes the write lock up front and read-modify-write cannot lose
-  updates; WAL lets readers in other processes carry on meanwhile;
+- the DBAPI connection runs with ``isolation_level = None`` and SQLAlchemy emits the BEGIN itself:
+  a unit of work that writes starts with ``BEGIN IMMEDIATE`` (it takes the write lock up front, so
+  read-modify-write cannot lose updates); a read-only unit (``write=False``) starts with a plain
+  deferred ``BEGIN``, which WAL lets run beside a writer in another process without waiting;
+- a writer that finds another writer busy waits: SQLite's busy timeout for a few seconds, then
+  ``run_in_transaction`` prints one "waiting for another bench" note on stderr and keeps retrying
+  until ``$SELECTOR_BUSY_WAIT`` seconds (default ``DEFAULT_BUSY_WAIT_S``) have passed;
 - migrations run on a connection with foreign keys OFF (a batch table rebuild with FKs on would
   cascade-delete child rows), followed by ``PRAGMA foreign_key_check``;
 - opening a database that is already at ``SCHEMA_HEAD`` costs one small SELECT; alembic is only
-  imported when the schema is missing or behind.
+  imported when the schema is missing or behind;
+- a file whose tables are not ours is refused before anything is written to it (no WAL switch).
+
+PostgreSQL notes: migrations run under a transaction-scoped advisory lock, so several benches
+opening a new database at once queue up and all succeed; imports, kits and pulls take a second
+advisory lock so their plan is made from the stock as it is when they write (lock_stock_for_plan);
+deadlocks and serialization failures replay the whole unit like a busy SQLite database.
 """
 
 from __future__ import annotations
@@ -33,17 +43,33 @@ from selector.store.models import MovementRow, StockLineRow, utcnow
 
 T = TypeVar("T")
 
-SCHEMA_HEAD: str = "0002"
+SCHEMA_HEAD: str = "0003"
 """Revision id of the head migration (tests/test_migrations.py compares it with the scripts)."""
 
-KNOWN_REVISIONS: tuple[str, ...] = ("0001", "0002")
+KNOWN_REVISIONS: tuple[str, ...] = ("0001", "0002", "0003")
 """Every revision this version of the program can upgrade from, oldest first."""
+
+TABLES_AT: dict[str, frozenset[str]] = {
+    "0001": frozenset({"stock_lines", "movements"}),
+    "0002": frozenset({"stock_lines", "movements", "searches", "search_options", "pulls"}),
+    "0003": frozenset({"stock_lines", "movements", "searches", "search_options", "pulls"}),
+}
+"""Our tables (besides alembic_version) at each known revision: a database at a known revision
+holding any other set of tables is not ours and is refused unchanged."""
 
 MAX_QUANTITY = 10**9  # parts on one line or in one change; far beyond any drawer, far inside int64
 _MAX_ID = 2**63 - 1
-BUSY_TIMEOUT_MS = 30_000
-BUSY_RETRIES = 3  # whole-unit replays after SQLite gave up waiting for the lock
+BUSY_TIMEOUT_MS = 2_000
+"""How long SQLite's busy timeout / PostgreSQL's lock_timeout waits for another writer before
+run_in_transaction takes over (its note on stderr appears after this long)."""
+DEFAULT_BUSY_WAIT_S = 300.0
+"""How long a writer waits in all for another bench's write to finish (``$SELECTOR_BUSY_WAIT``)."""
+BUSY_WAIT_ENV = "SELECTOR_BUSY_WAIT"
+WAITING_NOTE = "waiting for another bench to finish writing to the stock database..."
 _BUSY_WORDS = ("database is locked", "database is busy", "database table is locked")
+_PG_RETRY_CODES = ("40001", "40P01")  # serialization_failure, deadlock_detected
+_PG_MIGRATION_LOCK = 0x5E1EC701  # pg_advisory_xact_lock keys: ours, fixed, distinct
+_PG_STOCK_PLAN_LOCK = 0x5E1EC702
 
 
 # --------------------------------------------------------------------------- where the file is
@@ -111,9 +137,9 @@ def make_engine(url: sa.URL | str, *, foreign_keys: bool = True, pooled: bool = 
                 # busy_timeout first: switching a new file to WAL needs a lock another process
                 # opening the same new file may hold for a moment.
                 cur.execute(f"PRAGMA busy_timeout={int(busy_timeout_ms)}")
-                # WAL is a lasting property of the file: never switch another program's database
-                # (tables but no alembic_version); open_engine then refuses it, unchanged.
-                if not memory and _ours_or_empty(cur):
+                # WAL is a lasting property of the file: never switch another program's database;
+                # open_engine then refuses it, unchanged.
+                if not memory and _sqlite_verdict(cur)[0] in ("empty", "ours"):
                     cur.execute("PRAGMA journal_mode=WAL")
                 cur.execute(f"PRAGMA foreign_keys={'ON' if foreign_keys else 'OFF'}")
             finally:
@@ -121,17 +147,58 @@ def make_engine(url: sa.URL | str, *, foreign_keys: bool = True, pooled: bool = 
 
         @event.listens_for(engine, "begin")
         def _on_begin(conn):  # pragma: no cover - exercised through every test
-            conn.exec_driver_sql("BEGIN IMMEDIATE")
+            # Writers take the write lock up front; readers start a deferred transaction, which in
+            # WAL mode reads a snapshot beside a writer and never waits for it.
+            write = conn.get_execution_options().get(WRITE_OPTION, True)
+            conn.exec_driver_sql("BEGIN IMMEDIATE" if write else "BEGIN")
 
         return engine
-    return sa.create_engine(url, pool_pre_ping=True, **({} if pooled else {"poolclass": NullPool}))
+    engine = sa.create_engine(url, pool_pre_ping=True, **({} if pooled else {"poolclass": NullPool}))
+
+    @event.listens_for(engine, "begin")
+    def _on_pg_begin(conn):  # pragma: no cover - exercised through every PostgreSQL test
+        # Like SQLite's busy timeout: a lock held by another bench (a row, the plan or migration
+        # lock) is waited for this long, then run_in_transaction notes it once and replays the unit.
+        conn.exec_driver_sql(f"SET LOCAL lock_timeout = {int(busy_timeout_ms)}")
+
+    return engine
 
 
-def _ours_or_empty(cur) -> bool:
-    """True when the SQLite file holds no tables yet or holds our schema (alembic_version)."""
+WRITE_OPTION = "selector_write"
+"""Execution option read by the SQLite begin hook: False starts a deferred (read-only) transaction."""
+
+
+def schema_verdict(tables: set[str], revision: Optional[str]) -> tuple[str, str]:
+    """Classify a database by its table names (alembic_version and sqlite_* left out) and its
+    Alembic revision (None: no alembic_version table). Returns (verdict, detail), verdict one of
+    "empty", "ours" (a known revision with exactly our tables), "newer" (a later revision id of
+    ours over a superset of our tables) or "foreign" (detail says why, for the error line)."""
+    tables = {t for t in tables if t != "alembic_version" and not t.startswith("sqlite_")}
+    shown = ", ".join(sorted(tables)[:4]) + (", ..." if len(tables) > 4 else "")
+    if revision is None:
+        if not tables:
+            return "empty", ""
+        return "foreign", f"it holds tables ({shown}) but no selector schema"
+    if revision == "":
+        return "foreign", "its schema version table is empty or ambiguous"
+    if revision in TABLES_AT:
+        if tables == TABLES_AT[revision]:
+            return "ours", ""
+        return "foreign", (f"it holds tables ({shown or 'none'}) that do not match selector schema "
+                           f"revision {revision}")
+    if revision.isdigit() and len(revision) == len(SCHEMA_HEAD) and revision > SCHEMA_HEAD \
+            and TABLES_AT[SCHEMA_HEAD] <= tables:
+        return "newer", ""
+    return "foreign", f"it holds tables ({shown or 'none'}) of another program (schema revision {revision})"
+
+
+def _sqlite_verdict(cur) -> tuple[str, str]:
     names = {r[0] for r in cur.execute("SELECT name FROM sqlite_master WHERE type = 'table'").fetchall()}
-    names = {n for n in names if not n.startswith("sqlite_")}
-    return not names or "alembic_version" in names
+    revision = None
+    if "alembic_version" in names:
+        rows = cur.execute("SELECT version_num FROM alembic_version").fetchall()
+        revision = str(rows[0][0]) if len(rows) == 1 else ""
+    return schema_verdict(names, revision)
 
 
 def _first_line(err: BaseException) -> str:
@@ -141,6 +208,9 @@ def _first_line(err: BaseException) -> str:
 
 
 def _is_busy(err: BaseException) -> bool:
+    """SQLite's "database is locked" family, or PostgreSQL's lock_timeout (55P03)."""
+    if getattr(getattr(err, "orig", None), "sqlstate", None) == "55P03":
+        return True
     return any(w in _first_line(err).lower() for w in _BUSY_WORDS)
 
 
@@ -161,30 +231,30 @@ def _check_file_path(u: sa.URL, name: str) -> None:
     path = Path(u.database or "")
     if path.is_dir():
         raise DatabaseProblem(f"{name} is a directory, not a stock database file")
-    try:
-        path.parent.mkdir(parents=True, exist_ok=True)
-    except OSError as err:
-        raise DatabaseProblem(f"cannot create the folder for the stock database {name} ({err.strerror or err})")
+    if not path.parent.is_dir():
+        # Only the default data folder is made automatically: a mistyped --db / SELECTOR_DB path
+        # must not silently start an empty stock somewhere else.
+        if path.resolve() != default_path().resolve():
+            raise DatabaseProblem(f"the folder {path.parent} does not exist (for the stock database {name}); "
+                                  "create it first or check the path")
+        try:
+            path.parent.mkdir(parents=True, exist_ok=True)
+        except OSError as err:
+            raise DatabaseProblem(f"cannot create the folder for the stock database {name} ({err.strerror or err})")
     if path.exists() and not os.access(path, os.R_OK | os.W_OK):
         raise DatabaseProblem(f"cannot open the stock database {name}: no permission to read and write it")
 
 
-def _current_revision(conn: sa.Connection) -> Optional[str]:
-    """The schema revision stored in the database; None when the database holds no tables at all.
-    Raises DatabaseProblem for a database that has tables but is not ours."""
-    try:
+def _schema_state(conn: sa.Connection) -> tuple[str, str, Optional[str]]:
+    """(verdict, detail, revision) of the database behind ``conn`` (see schema_verdict)."""
+    tables = set(sa.inspect(conn).get_table_names())
+    revision = None
+    if "alembic_version" in tables:
         rows = conn.execute(sa.text("SELECT version_num FROM alembic_version")).scalars().all()
-    except (sa_exc.OperationalError, sa_exc.ProgrammingError) as err:
-        if _is_busy(err):
-            raise
-        conn.rollback()  # PostgreSQL needs this after a failed statement
-        tables = [t for t in sa.inspect(conn).get_table_names() if not t.startswith("sqlite_")]
-        if tables:
-            raise _Foreign(f"it holds tables ({', '.join(sorted(tables)[:4])}) but no selector schema")
-        return None
-    if len(rows) != 1:
-        raise _Foreign("its schema version table is empty or ambiguous")
-    return str(rows[0])
+        revision = str(rows[0]) if len(rows) == 1 else ""
+    conn.rollback()
+    verdict, detail = schema_verdict(tables, revision)
+    return verdict, detail, revision
 
 
 class _Foreign(Exception):
@@ -206,19 +276,25 @@ def open_engine(url: str, *, busy_timeout_ms: int = BUSY_TIMEOUT_MS) -> Engine:
         _check_file_path(u, name)
     try:
         engine = make_engine(u, foreign_keys=True, busy_timeout_ms=busy_timeout_ms)
-    except (sa_exc.ArgumentError, sa_exc.NoSuchModuleError, ImportError) as err:
+    except ImportError as err:
+        extra = " (install it with: pip install 'drawer-selector[postgres]')" if "psycopg" in str(err) else ""
+        raise DatabaseProblem(f"cannot use the database URL {name}: its driver is not installed{extra}")
+    except (sa_exc.ArgumentError, sa_exc.NoSuchModuleError) as err:
         raise DatabaseProblem(f"cannot use the database URL {name} ({_first_line(err)})")
     try:
         with engine.connect() as conn:
-            revision = _current_revision(conn)
-        if revision == SCHEMA_HEAD:
-            return engine
-        if revision is not None and revision not in KNOWN_REVISIONS:
+            conn.execution_options(**{WRITE_OPTION: False})  # a reader: never waits for a writer
+            verdict, detail, revision = _schema_state(conn)
+        if verdict == "foreign":
+            raise _Foreign(detail)
+        if verdict == "newer":
             raise DatabaseProblem(
                 f"{name} has schema revision {revision}, which this selector does not know "
                 f"(it expects {SCHEMA_HEAD}); it was probably written by a newer selector"
             )
-        _migrate(engine, u, name)
+        if revision == SCHEMA_HEAD:
+            return engine
+        _migrate_waiting(engine, u, name)
         return engine
     except _Foreign as why:
         engine.dispose()
@@ -245,6 +321,21 @@ def migrations_dir() -> Path:
         raise DatabaseProblem("this selector installation is missing its schema scripts (selector.migrations)")
 
 
+def _migrate_waiting(engine: Engine, u: sa.URL, name: str) -> None:
+    """_migrate, waiting like a writer (busy_wait_limit) while another process holds the lock."""
+    start, noted = time.monotonic(), False
+    while True:
+        try:
+            return _migrate(engine, u, name)
+        except sa_exc.DBAPIError as err:
+            if not _is_busy(err) or time.monotonic() - start >= busy_wait_limit():
+                raise
+            if not noted:
+                note_on_stderr(WAITING_NOTE)
+                noted = True
+            time.sleep(0.2)
+
+
 def _migrate(engine: Engine, u: sa.URL, name: str) -> None:
     """Upgrade to head on a connection with foreign keys OFF, then check every foreign key."""
     from alembic import command
@@ -261,6 +352,10 @@ def _migrate(engine: Engine, u: sa.URL, name: str) -> None:
                 # Begin here, so alembic sees an external transaction and never commits by itself:
                 # the upgrade and the foreign-key check below commit or roll back together.
                 conn.begin()
+                if not _is_sqlite(u):
+                    # Several benches opening a new database at once: one migrates, the others wait
+                    # here and then find the schema at head (alembic re-reads the version inside).
+                    conn.execute(sa.text("SELECT pg_advisory_xact_lock(:k)"), {"k": _PG_MIGRATION_LOCK})
                 cfg = Config()
                 cfg.set_main_option("script_location", str(migrations_dir()))
                 cfg.attributes["connection"] = conn
@@ -286,19 +381,28 @@ def _migrate(engine: Engine, u: sa.URL, name: str) -> None:
 # --------------------------------------------------------------------------- units of work
 
 @contextmanager
-def transaction(engine: Engine) -> Iterator[Session]:
-    """One Session, one transaction: commit on success, roll back on any exception. Driver errors
-    become DatabaseProblem (a busy database included: use run_in_transaction to retry those)."""
+def transaction(engine: Engine, *, write: bool = True) -> Iterator[Session]:
+    """One Session, one transaction: commit on success, roll back on any exception. ``write=False``
+    marks a read-only unit (on SQLite a deferred BEGIN that never waits for a writer). Driver
+    errors become DatabaseProblem; a busy database or a PostgreSQL deadlock/serialization failure
+    becomes _Retry (run_in_transaction replays those)."""
     name = describe(engine.url.render_as_string(hide_password=False))
-    session = Session(engine, expire_on_commit=False)
+    bind = engine if write else engine.execution_options(**{WRITE_OPTION: False})
+    session = Session(bind, expire_on_commit=False)
     try:
         yield session
         session.commit()
     except sa_exc.DBAPIError as err:
         session.rollback()
         if _is_busy(err):
-            raise _Busy(name) from None
-        raise DatabaseProblem(f"the stock database {name} refused the change ({_first_line(err)})") from None
+            raise _Retry(name, busy=True) from None
+        refused = f"the stock database {name} refused the change ({_first_line(err)})"
+        sqlstate = getattr(getattr(err, "orig", None), "sqlstate", None)
+        if sqlstate in _PG_RETRY_CODES or (sqlstate == "23505" and "uq_stock_lines_identity" in str(err.orig)):
+            # a deadlock, or another bench created the same stock line first: replay the unit,
+            # which then plans against that line (lock_stock_for_plan normally prevents both)
+            raise _Retry(name, busy=False, message=refused) from None
+        raise DatabaseProblem(refused) from None
     except BaseException:
         session.rollback()
         raise
@@ -306,25 +410,60 @@ def transaction(engine: Engine) -> Iterator[Session]:
         session.close()
 
 
-class _Busy(DatabaseProblem):
-    def __init__(self, name: str):
-        super().__init__(f"the stock database {name} is busy (another selector is writing to it); try again")
+class _Retry(DatabaseProblem):
+    """The unit met another writer (SQLite busy, PostgreSQL deadlock): replay it."""
+
+    def __init__(self, name: str, busy: bool, message: Optional[str] = None):
+        super().__init__(message or f"the stock database {name} is busy (another bench is writing to it); try again")
+        self.name = name
+        self.busy = busy
 
 
-def run_in_transaction(engine: Engine, fn: Callable[[Session], T], *, retries: int = BUSY_RETRIES) -> T:
-    """Run ``fn(session)`` as one transaction; if the database stays busy beyond the busy timeout,
-    replay the whole unit up to ``retries`` more times with backoff before giving up."""
-    delay = 0.25
-    for attempt in range(retries + 1):
+def busy_wait_limit() -> float:
+    """Seconds a writer waits in all for other benches (``$SELECTOR_BUSY_WAIT``, default
+    DEFAULT_BUSY_WAIT_S; an unreadable or negative value falls back to the default)."""
+    text = os.environ.get(BUSY_WAIT_ENV, "").strip()
+    try:
+        value = float(text) if text else DEFAULT_BUSY_WAIT_S
+    except ValueError:
+        return DEFAULT_BUSY_WAIT_S
+    return value if 0 <= value < 10**7 else DEFAULT_BUSY_WAIT_S
+
+
+def note_on_stderr(message: str) -> None:
+    """The default waiting note: one line on stderr (stdout stays clean for --json)."""
+    import sys
+
+    print(message, file=sys.stderr, flush=True)
+
+
+def run_in_transaction(engine: Engine, fn: Callable[[Session], T], *, write: bool = True,
+                       retries: Optional[int] = None, max_wait_s: Optional[float] = None,
+                       on_wait: Optional[Callable[[str], None]] = note_on_stderr) -> T:
+    """Run ``fn(session)`` as one transaction (``write=False``: a read-only unit). When another
+    bench holds the write lock, the whole unit is replayed until it gets through: the first time,
+    ``on_wait`` gets the one-line WAITING_NOTE; after ``max_wait_s`` seconds in all (default
+    busy_wait_limit()) or ``retries`` replays, DatabaseProblem says the database stayed busy."""
+    limit = busy_wait_limit() if max_wait_s is None else max_wait_s
+    start = time.monotonic()
+    delay, attempt, noted = 0.05, 0, False
+    while True:
         try:
-            with transaction(engine) as session:
+            with transaction(engine, write=write) as session:
                 return fn(session)
-        except _Busy:
-            if attempt == retries:
-                raise
-            time.sleep(delay)
-            delay *= 2
-    raise AssertionError("unreachable")  # pragma: no cover
+        except _Retry as why:
+            attempt += 1
+            waited = time.monotonic() - start
+            if waited >= limit or (retries is not None and attempt > retries):
+                raise DatabaseProblem(
+                    f"the stock database {why.name} stayed busy for {waited:.0f} s (another bench kept "
+                    f"writing to it); nothing was changed, try again later (wait limit: ${BUSY_WAIT_ENV})"
+                ) from None
+            if why.busy and not noted and on_wait is not None:
+                on_wait(WAITING_NOTE)
+                noted = True
+            time.sleep(min(delay, max(limit - waited, 0.0)))
+            delay = min(delay * 2, 0.5)
 
 
 # --------------------------------------------------------------------------- stock operations
@@ -345,6 +484,18 @@ def to_stock_line(row: StockLineRow) -> StockLine:
         polarized=bool(row.polarized),
         note=row.note,
     )
+
+
+def lock_stock_for_plan(session: Session) -> None:
+    """Make this unit the only one that plans from the stock and then changes it (imports, kits,
+    pulls) until it ends. SQLite: nothing to do, BEGIN IMMEDIATE already admits one writer at a
+    time. PostgreSQL: a transaction-scoped advisory lock, taken before the stock is read, so two
+    benches importing one file at once cannot both plan "new line" for the same part (the second
+    plans against the first one's committed lines; the unique identity index backs this up), and
+    a pull's shortage check sees the quantities it will change. Single guarded changes (adjust,
+    undo) do not need it."""
+    if session.get_bind().dialect.name == "postgresql":
+        session.execute(sa.text("SELECT pg_advisory_xact_lock(:k)"), {"k": _PG_STOCK_PLAN_LOCK})
 
 
 def load_stock(session: Session, kind: str | None = None) -> list[StockLine]:

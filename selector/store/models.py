@@ -13,10 +13,12 @@ from sqlalchemy import (
     DateTime,
     Float,
     ForeignKey,
+    Index,
     Integer,
     MetaData,
     String,
     Text,
+    func,
 )
 from sqlalchemy.orm import DeclarativeBase, Mapped, mapped_column, relationship
 
@@ -65,6 +67,22 @@ class StockLineRow(Base):
     updated_at: Mapped[datetime] = mapped_column(DateTime, nullable=False, default=utcnow, onupdate=utcnow)
 
     movements: Mapped[list["MovementRow"]] = relationship(back_populates="line")
+
+
+IDENTITY_UNKNOWN_RATING = -1.0
+"""Stands for "no rating" in the identity index: a real rating is above zero (import validation),
+so it can never be mistaken for one. NULLs are distinct in a plain unique index on both
+backends, so the index uses COALESCE(rating, -1) instead of the nullable column."""
+
+Index(
+    "uq_stock_lines_identity",
+    StockLineRow.kind, StockLineRow.value, StockLineRow.tol_minus, StockLineRow.tol_plus,
+    StockLineRow.location, StockLineRow.package,
+    func.coalesce(StockLineRow.rating, IDENTITY_UNKNOWN_RATING), StockLineRow.dielectric,
+    unique=True,
+)
+"""The identity of a stock line (services/stock.py merges on exactly these): at most one line
+per identity, whatever several benches import at once."""
 
 
 class MovementRow(Base):
