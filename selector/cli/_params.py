@@ -3,7 +3,7 @@ pydantic TypeAdapter, and importing pydantic and building the adapters is a size
 short command's start-up. For the plain cases our commands use (text, whole numbers in range, a
 choice from an Enum, an absent optional value) the result is certain, so we give it directly;
 anything else (a bad number, an unknown choice, paths, floats) goes to typer's own conversion,
-so values and error messages stay exactly typer's. tests/test_cli_params.py checks both against
+so values and error messages stay exactly typer's. tests/cli/test_cli_params.py checks both against
 each other.
 
 This leans on typer internals (``_TyperParameter._runtime_param``, ``typer._coercion``); if a

@@ -44,7 +44,7 @@ from selector.store.models import MovementRow, StockLineRow, utcnow
 T = TypeVar("T")
 
 SCHEMA_HEAD: str = "0003"
-"""Revision id of the head migration (tests/test_migrations.py compares it with the scripts)."""
+"""Revision id of the head migration (tests/store/test_migrations.py compares it with the scripts)."""
 
 KNOWN_REVISIONS: tuple[str, ...] = ("0001", "0002", "0003")
 """Every revision this version of the program can upgrade from, oldest first."""

@@ -18,7 +18,7 @@ from selector.core.errors import DatabaseProblem
 from selector.store import db
 from selector.store.models import Base
 
-REPO = Path(__file__).resolve().parent.parent
+REPO = Path(__file__).resolve().parents[2]
 
 
 def _alembic_config(conn):

@@ -13,7 +13,7 @@ from pathlib import Path
 
 import pytest
 
-REPO = Path(__file__).resolve().parent.parent
+REPO = Path(__file__).resolve().parents[2]
 NO_INDEX = ("No matching distribution found", "Could not find a version that satisfies",
             "Network is unreachable", "Temporary failure in name resolution", "Max retries exceeded")
 

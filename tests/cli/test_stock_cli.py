@@ -12,7 +12,7 @@ import sqlalchemy as sa
 
 from conftest import plain_engine
 
-REPO = Path(__file__).resolve().parent.parent
+REPO = Path(__file__).resolve().parents[2]
 SAMPLE = REPO / "sample_stock.csv"
 
 JSON_KEYS = {"line_id", "kind", "value", "tol_minus", "tol_plus", "quantity", "location", "package", "rating",

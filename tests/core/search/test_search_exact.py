@@ -4,7 +4,7 @@ The reference below is written independently of the search and of the network in
 every network with itertools (every multiset of parts, every shape), applies the same limits with
 plain formulas, checks the whole-option quantity rule line by line, and scores every single
 combination. Only the diode-steered charge time is taken from ``selector.core.timing`` (the physics
-under test elsewhere, in tests/test_timing_reference.py, against an ODE solver); the search itself
+under test elsewhere, in tests/reference/test_timing_reference.py, against an ODE solver); the search itself
 is never used to compute an expected value.
 """
 

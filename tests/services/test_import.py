@@ -29,7 +29,7 @@ from selector.store import db
 from selector.store.csvio import read_stock_csv
 from selector.store.models import Base, MovementRow
 
-REPO = Path(__file__).resolve().parent.parent
+REPO = Path(__file__).resolve().parents[2]
 HEADER = "kind,value,tolerance,quantity,location,package,rating,dielectric,note\n"
 
 

@@ -4,11 +4,11 @@ Each case names its source tag from facts.md. Three numbers meet in every test: 
 in the source (rounded constants such as 1.1, 0.69, 1.44/1.45, 1.4), the exact value recomputed
 with ln 2 / ln 3 / π, and ngspice running the circuit built from selector's netlist. The printed
 value is allowed its rounding (stated per case); the tool and ngspice are held to the exact value.
-tests/test_timing_reference.py checks the same formulas against scipy ODE runs; this file adds
+tests/reference/test_timing_reference.py checks the same formulas against scipy ODE runs; this file adds
 the simulator side.
 
 Margins: timing vs exact 1e-9 (same formula); ngspice vs exact 0.5 % for the 555 connections and
-0.2 % for RC (tests/test_simulate_ngspice.py says why); 3 % for the exponential steering diode.
+0.2 % for RC (tests/reference/test_simulate_ngspice.py says why); 3 % for the exponential steering diode.
 """
 
 from __future__ import annotations
