@@ -191,7 +191,9 @@ _SUFFIX = st.sampled_from(["", "k", "M", "G", "n", "p", "u", "m", "Hz", "V", "W"
 EXTREME = st.one_of(
     st.builds(lambda e, s: f"1e{e}{s}", st.integers(40, 10**12), _SUFFIX),           # huge exponents
     st.builds(lambda e, s: f"1e-{e}{s}", st.integers(40, 10**12), _SUFFIX),          # tiny exponents
-    st.builds(lambda n, s: "9" * n + s, st.integers(20, 6000), _SUFFIX),              # thousands of digits
+    # thousands of digits; at least 30, so that even with the smallest suffix ("p", 1e-12) the
+    # value is past every documented range (20 nines with "n" are 1e11: a valid rating)
+    st.builds(lambda n, s: "9" * n + s, st.integers(30, 6000), _SUFFIX),
     st.builds(lambda n: "-" + "9" * n, st.integers(20, 6000)),
     st.sampled_from(["inf", "-inf", "+inf", "nan", "NaN", "Infinity", "1e999999", "-1e999999", "1e999999k",
                      "١٠٠", "１００", "𝟏𝟎", "٣%", "४k7", "1/0", "1e999999/1W", "1" * 400 + "/1W", "0x10",
