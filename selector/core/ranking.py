@@ -13,32 +13,33 @@ For each option found by :mod:`selector.core.search`:
   Part tolerances only: the chip's own initial error (e.g. 2.25 % typ astable, bipolar [S1]) is
   not included, and the footer says so.
 
-Ranking rule (what a technician should pick first):
-    yield band = floor(20 · yield): builds in spec, in 5-point bands - the share of builds that
-             meet the target is what the bench cares about, and it already weighs the error
-             against the tolerance spread;
-    score  = max(|error|, spread / 4), where spread is the full relative width of the worst-case
-             range of the main quantity (frequency, width, τ or corner), (max − min)/nominal;
-             an error far below the option's own tolerance spread is worth nothing;
-    bucket = floor(log(score) / log(1.25)) (bands 25 % wide; scores below 1e-6 share one band);
-    order  = higher yield band, then bucket, then fewer physical parts, then smaller |error|,
-             then higher yield.
-So among builds equally likely to meet the target and equally close within their spread, the
-one with fewer parts comes first (when every yield is low, the score decides).
-The option with the exact smallest error is always among those returned: if the rule would push
-it below the cut, it takes the last place shown (its true error is in every option's JSON).
+Ranking rule (what a technician should pick first; the README states it in three sentences):
+    tier   = 0 when every nominal error in the asker's terms (frequency, duty in points judged
+             against accept x the target duty, width, tau or corner) is within HALF the acceptance,
+             1 when within the acceptance, 2 otherwise: a lower tier always ranks higher;
+    yields = within a tier, yields within 2 points of each other count as equal: options sorted
+             by yield are cut into groups from the top, each group spanning at most 2 points, so
+             an option more than 2 points better always ranks higher (no separate 100 % band);
+    then   = among equal yields fewer physical parts, then smaller nominal error; in tier 2 (no
+             build is nominally within the acceptance) the smaller error comes before fewer parts,
+             because a simpler build that misses the target is no answer.
+The option with the exact smallest search error (the certified best the stock and limits allow)
+is always among those returned and marked: if the rule would push it below the cut, it takes the
+last place shown. Every row carries ``why``, two or three words on why it sits where it does.
 """
 
 from __future__ import annotations
 
 import math
 from dataclasses import dataclass, field
-from typing import Sequence
+from typing import Optional, Sequence
 
 import numpy as np
 
 SCORE_FLOOR = 1e-6
-BAND = 1.25  # width of a ranking band: scores within 25 % of each other count as equal
+BAND = 1.25  # score bands, used only to pick which options get the Monte Carlo (first cut)
+YIELD_EQUAL = 0.02
+"""Yields within 2 points of each other are equal for ranking (issue 11)."""
 
 
 @dataclass
@@ -54,6 +55,11 @@ class RankedOption:
     cautions: list = field(default_factory=list)
     rank: int = 0
     is_best_error: bool = False
+    errors: dict = field(default_factory=dict)  # the nominal errors in the asker's terms
+    asked_error: float = math.nan  # those errors as one figure comparable with --accept
+    tier: int = 2  # 0 within half the acceptance, 1 within it, 2 outside
+    why: str = ""
+    yield_group: int = 0
 
     @property
     def connection(self) -> str:
@@ -71,9 +77,22 @@ class RankedOption:
     def bucket(self) -> int:
         return math.floor(math.log(max(self.score, SCORE_FLOOR)) / math.log(BAND))
 
+    @property
+    def yield_value(self) -> float:
+        return 0.0 if math.isnan(self.yield_fraction) else self.yield_fraction
+
     def sort_key(self) -> tuple:
-        y = 0.0 if math.isnan(self.yield_fraction) else self.yield_fraction
-        return (-math.floor(20 * y + 1e-9), self.bucket, self.nparts, abs(self.error), -y)
+        """Order within the list once ``yield_group`` is set (see the module docstring)."""
+        if self.tier < 2:
+            return (self.tier, self.yield_group, self.nparts, self.asked_error, abs(self.error))
+        return (self.tier, self.yield_group, self.asked_error, self.nparts, abs(self.error))
+
+
+def tier_of(asked_error: float, accept: float) -> int:
+    """0 within half the acceptance, 1 within it, 2 outside (a relative 1e-12 of slack)."""
+    if asked_error <= accept / 2.0 * (1 + 1e-12):
+        return 0
+    return 1 if asked_error <= accept * (1 + 1e-12) else 2
 
 
 ROLE_ORDER = ("RA", "RB", "R", "C")
@@ -143,7 +162,10 @@ def evaluate(found, target, limits, accept: float, distribution: str = "uniform"
     lo, hi = rng_out[main]
     spread = (hi - lo) / predicted[main] if predicted[main] > 0 else math.inf
     score = max(abs(found.error), spread / 4.0)
-    return RankedOption(found, predicted, rng_out, y, spread, score, cautions(found, target, limits))
+    errs = kind.errors(predicted, target)
+    asked = kind.asked_error(errs, target)
+    return RankedOption(found, predicted, rng_out, y, spread, score, cautions(found, target, limits),
+                        errors=errs, asked_error=asked, tier=tier_of(asked, accept))
 
 
 def cautions(found, target, limits) -> list:
@@ -179,17 +201,19 @@ def evaluate_and_rank(found_options: Sequence, target, limits_by_connection: dic
                       top: int, distribution: str = "uniform", samples: int = 10_000,
                       seed: int = 0) -> list:
     """Evaluate a pool and rank it. The Monte Carlo (the costly part) runs only for the first
-    ``top + 5`` options by (bucket, parts, |error|), the first ``top + 5`` by (bucket, |error|)
+    ``top + 5`` options by (tier, parts, error), by (tier, score band, error), by (tier, error)
     and the exact best; the ranking is over those."""
     if not found_options:
         return []
     first = [evaluate(o, target, limits_by_connection[o.connection], accept, distribution, samples,
                       seed, monte_carlo=False) for o in found_options]
     best = min(first, key=lambda o: (abs(o.error), o.nparts))
-    by_parts = sorted(first, key=lambda o: (o.bucket, o.nparts, abs(o.error)))
-    by_score = sorted(first, key=lambda o: (o.bucket, abs(o.error)))
+    k = int(top) + 5
+    by_parts = sorted(first, key=lambda o: (o.tier, o.nparts, o.asked_error))
+    by_score = sorted(first, key=lambda o: (o.tier, o.bucket, o.asked_error))
+    by_error = sorted(first, key=lambda o: (o.tier, o.asked_error, o.nparts))
     chosen: list = []
-    for o in by_parts[: int(top) + 5] + by_score[: int(top) + 5] + [best]:
+    for o in by_parts[:k] + by_score[:k] + by_error[:k] + [best]:
         if o not in chosen:
             chosen.append(o)
     full = [evaluate(o.found, target, limits_by_connection[o.connection], accept, distribution,
@@ -197,17 +221,53 @@ def evaluate_and_rank(found_options: Sequence, target, limits_by_connection: dic
     return rank(full, top)
 
 
+def yield_groups(options: Sequence[RankedOption]) -> None:
+    """Set ``yield_group`` within each tier: sorted by yield, a new group starts at the first
+    option more than ``YIELD_EQUAL`` below the group's highest yield."""
+    for tier in {o.tier for o in options}:
+        members = sorted((o for o in options if o.tier == tier), key=lambda o: -o.yield_value)
+        group, top_y = 0, None
+        for o in members:
+            if top_y is None:
+                top_y = o.yield_value
+            elif top_y - o.yield_value > YIELD_EQUAL + 1e-12:
+                group, top_y = group + 1, o.yield_value
+            o.yield_group = group
+
+
+def _why(o: RankedOption, below: Optional[RankedOption], first: bool) -> str:
+    """Two or three words: ``closest`` for the marked smallest-error option, otherwise what puts
+    ``o`` above the option ranked just below it."""
+    if o.is_best_error:
+        return "closest"
+    if below is None:
+        return ("near target", "within acceptance", "next closest")[o.tier]
+    if o.tier < below.tier:
+        return "near target" if o.tier == 0 else "within acceptance"
+    if o.yield_group < below.yield_group:
+        return "best yield" if first else "higher yield"
+    if o.tier == 2 and o.asked_error < below.asked_error:
+        return "closer"  # `closest` is kept for the marked option
+    if o.nparts < below.nparts:
+        return "fewest parts" if first else "fewer parts"
+    return "closer" if o.asked_error < below.asked_error else "equal standing"
+
+
 def rank(options: Sequence[RankedOption], top: int) -> list:
-    """Order by the ranking rule, keep ``top``, make sure the exact best-error option is there,
-    and number them 1..n."""
+    """Order by the ranking rule, keep ``top``, make sure the exact best-error option is there
+    (marked ``is_best_error``), say why each row sits where it does, and number them 1..n."""
     if not options:
         return []
     best = min(options, key=lambda o: (abs(o.error), o.nparts))
     best.is_best_error = True
+    yield_groups(options)
     ordered = sorted(options, key=RankedOption.sort_key)
     shown = ordered[: max(1, int(top))]
     if best not in shown:
         shown[-1] = best
     for i, o in enumerate(shown, start=1):
         o.rank = i
+        # compared with the first option below that the rule does not count as equal to it
+        below = next((b for b in shown[i:] if b.sort_key()[:3] != o.sort_key()[:3]), None)
+        o.why = _why(o, below, i == 1)
     return shown

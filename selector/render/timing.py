@@ -59,6 +59,21 @@ def _range_text(mode: str, opt) -> str:
     return f"τ {_fmt(t0, 's')}–{_fmt(t1, 's')} {_fmt(c0, 'Hz')}–{_fmt(c1, 'Hz')}"
 
 
+_ERROR_LABELS = {"frequency": "f", "width": "", "tau": "", "corner": ""}
+
+
+def errors_text(opt) -> str:
+    """The nominal errors in the asker's terms: ``f -0.6 % d -1.4 pt`` (astable), ``+0.3 %``."""
+    out = []
+    for key, v in opt.errors.items():
+        if key == "duty_points":
+            out.append(f"d {v * 100:+.1f} pt")
+        else:
+            label = _ERROR_LABELS.get(key, key)
+            out.append((label + " " if label else "") + _pct(v, 1))
+    return " ".join(out)
+
+
 def _locations(opt) -> str:
     seen: list[str] = []
     for net in opt.found.networks.values():
@@ -107,6 +122,7 @@ def options_table(report) -> Table:
     table.add_column("worst case")
     table.add_column("yield", justify="right")
     table.add_column("parts", justify="right")
+    table.add_column("why")
     table.add_column("locations")
     for o in report.ranked:
         cells = [str(o.rank), _kind(o.connection).name]
@@ -114,8 +130,8 @@ def options_table(report) -> Table:
             net = o.found.networks.get(r)
             cells.append(network_cell(net) if net is not None else "")
         mark = " *" if o.is_best_error else ""
-        cells += [_predicted_text(mode, o), _pct(o.error, 3) + mark, _range_text(mode, o),
-                  f"{o.yield_fraction * 100:.1f} %", str(o.nparts), _locations(o)]
+        cells += [_predicted_text(mode, o), errors_text(o) + mark, _range_text(mode, o),
+                  f"{o.yield_fraction * 100:.1f} %", str(o.nparts), o.why, _locations(o)]
         table.add_row(*map(cell, cells))
     return table
 
@@ -129,8 +145,9 @@ def footer_lines(report) -> list[str]:
                + ("; f = 1/(t_high + t_low), duty = t_high/(t_high + t_low) = the fraction of the "
                   "period the output is HIGH." if req.mode == "astable" else "."))
     if req.mode == "astable":
-        out.append("Error: the larger of the relative errors of t_high and t_low (signed); "
-                   "* marks the option with the smallest error the stock and limits allow.")
+        out.append("Error: f = frequency error (%), d = duty error in points (predicted − target duty); "
+                   "* marks the option with the smallest error the stock and limits allow "
+                   "(t_high and t_low both closest).")
     else:
         out.append("Error: relative error of the " + ("width" if req.mode == "monostable" else
                    ("corner" if "corner_hz" in report.target else "time constant"))
@@ -164,8 +181,9 @@ def footer_lines(report) -> list[str]:
     else:
         out.append(f"Ratings checked at {req.vcc:g} V across the parts (resistor power ≤ 50 % of "
                    "rating, capacitor rating × derating ≥ the voltage).")
-    out.append("Ranking: yield first (5-point bands), then score = max(|error|, worst-case "
-               "spread/4) in bands 25 % wide, then fewer parts, then |error|.")
+    out.append(f"Ranking: options nominally within ±{req.accept * 50:g} % (half the acceptance; duty "
+               "in points against that share of the target duty) first, then yield (within 2 "
+               "points counts as equal), then fewer parts, then smaller error.")
     keys: list[str] = []
     for o in report.ranked:
         for k in o.cautions:

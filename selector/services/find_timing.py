@@ -118,7 +118,7 @@ class TimingReport:
 
     @property
     def json(self) -> dict:
-        return {"target": self.target, "options": self.options}
+        return {"target": self.target, "options": self.options, "search": self.search_id}
 
 
 def _target(req: TimingRequest):
@@ -159,6 +159,8 @@ def option_json(opt) -> dict:
         "range": {k: list(v) for k, v in opt.range.items()},
         "yield": opt.yield_fraction,
         "networks": {role: network_json(nets[role]) for role in order if role in nets},
+        "errors": dict(opt.errors),  # in the asker's terms (issue 11); `error` stays as it was
+        "why": opt.why,
     }
 
 

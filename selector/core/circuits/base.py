@@ -273,6 +273,14 @@ class ModeBase(CircuitKind):
     def in_spec(self, outs: Sequence, target: Target, accept: float):
         raise NotImplementedError
 
+    def errors(self, predicted: Mapping[str, float], target: Target) -> dict:
+        """The nominal errors in the asker's terms (signed fractions), keyed as in the JSON."""
+        raise NotImplementedError
+
+    def asked_error(self, errors: Mapping[str, float], target: Target) -> float:
+        """One figure comparable with --accept (default: the largest |error|)."""
+        return max(abs(v) for v in errors.values())
+
 
 def check_positive(name: str, v) -> None:
     """Raise OutOfRange naming the option unless ``v`` is a positive finite number."""
