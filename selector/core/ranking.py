@@ -60,6 +60,7 @@ class RankedOption:
     tier: int = 2  # 0 within half the acceptance, 1 within it, 2 outside
     why: str = ""
     yield_group: int = 0
+    alternatives: list = field(default_factory=list)  # (FoundOption, yield) of the same build
 
     @property
     def connection(self) -> str:
@@ -197,14 +198,165 @@ def cautions(found, target, limits) -> list:
     return out
 
 
+def build_key(found) -> tuple:
+    """Options with equal keys are ONE build: the same connection and, in every role, the same
+    shape with the same part values (drawers, tolerances, dielectrics may differ)."""
+    return (found.connection,) + tuple(
+        (role, n.shape, f"{n.value:.9g}", tuple(sorted(f"{p.value:.9g}" for p in n.physical)))
+        for role, n in sorted(found.networks.items()))
+
+
+def _dielectric_rank(line) -> int:
+    from selector.core import parts
+
+    try:
+        d = parts.normalize_dielectric(line.dielectric or "")
+    except Exception:  # a hand-written dielectric the table does not know: last
+        d = ""
+    order = parts.TIMING_DIELECTRIC_ORDER
+    return order.index(d) if d in order else len(order)
+
+
+def variant_key(found) -> tuple:
+    """Which variant of one build is shown: tighter tolerance (the widest part band, then the sum
+    of the bands), then the better timing dielectric, then the fuller drawer (most parts left on
+    the emptiest line used), then the lower stock line ids (stable)."""
+    phys = [p for n in found.networks.values() for p in n.physical]
+    tols = [max(p.tol_minus, p.tol_plus) for p in phys]
+    caps = [p for p in phys if p.kind == "capacitor"]
+    left = [ln.quantity - cnt for n in found.networks.values() for ln, cnt in n.parts]
+    return (round(max(tols), 12), round(sum(tols), 12),
+            max((_dielectric_rank(p) for p in caps), default=0),
+            sum(_dielectric_rank(p) for p in caps), -min(left, default=0),
+            tuple(sorted(p.id for p in phys)))
+
+
+MAX_ALTERNATIVES = 8
+"""At most this many other variants of one build are evaluated and listed (best first)."""
+
+
+def _substitute_ok(orig, sub, limits) -> bool:
+    """May stock line ``sub`` stand in for part ``orig`` (same kind and value) without a new limit
+    check? Resistors: rating unknown (the search allows it) or at least the original's. Capacitors:
+    rating unknown or enough for the working voltage after its dielectric's derating."""
+    if sub.kind != orig.kind or sub.value != orig.value:
+        return False
+    if sub.kind == "resistor":
+        return sub.rating is None or (orig.rating is not None and sub.rating >= orig.rating)
+    if sub.rating is None or limits is None or limits.cap_volts <= 0:
+        return True
+    try:
+        return sub.rating * limits.cap_derating(sub.dielectric or "") >= limits.cap_volts
+    except Exception:  # a dielectric the derating table does not know
+        return False
+
+
+def _with_lines(found, lines_by_role: dict):
+    """``found`` with each role's physical parts replaced by the given stock lines (same values)."""
+    import dataclasses
+
+    nets = {}
+    for role, net in found.networks.items():
+        phys = tuple(lines_by_role[role])
+        counts: dict = {}
+        order: list = []
+        for ln in phys:
+            if ln.id not in counts:
+                order.append(ln)
+            counts[ln.id] = counts.get(ln.id, 0) + 1
+        vals = np.array([[p.value] for p in phys], dtype=float)
+        lo = float(net.combine(vals * (1 - np.array([[p.tol_minus] for p in phys])))[0])
+        hi = float(net.combine(vals * (1 + np.array([[p.tol_plus] for p in phys])))[0])
+        nets[role] = dataclasses.replace(net, parts=tuple((ln, counts[ln.id]) for ln in order),
+                                         physical=phys, vmin=lo, vmax=hi)
+    return dataclasses.replace(found, networks=nets)
+
+
+def _line_key(ln) -> tuple:
+    return (round(max(ln.tol_minus, ln.tol_plus), 12), _dielectric_rank(ln), -ln.quantity, ln.id)
+
+
+def more_variants(found, stock: Sequence, boards: int, limits) -> list:
+    """Other variants of the same build from the stock: the best one assembled part by part
+    (each part from the tightest, best-dielectric, fullest line of its value that still has
+    ``boards`` parts left) and every variant that swaps one part of it for another line."""
+    by_value: dict = {}
+    for ln in stock:
+        by_value.setdefault((ln.kind, ln.value), []).append(ln)
+    for v in by_value.values():
+        v.sort(key=_line_key)
+    roles = sorted(found.networks)
+    used: dict = {}
+    best: dict = {}
+    for role in roles:
+        best[role] = []
+        for orig in found.networks[role].physical:
+            pick = orig
+            for cand in by_value.get((orig.kind, orig.value), []):
+                if _substitute_ok(orig, cand, limits) and cand.quantity >= (used.get(cand.id, 0) + 1) * boards:
+                    pick = cand
+                    break
+            used[pick.id] = used.get(pick.id, 0) + 1
+            best[role].append(pick)
+    if any(used[i] * boards > next(ln.quantity for r in roles for ln in best[r] if ln.id == i) for i in used):
+        return []  # the greedy pick ran out of a line the original used: keep what the search found
+    out = [_with_lines(found, best)]
+    for role in roles:
+        for k, orig in enumerate(best[role]):
+            for cand in by_value.get((orig.kind, orig.value), []):
+                if cand.id == orig.id or not _substitute_ok(found.networks[role].physical[k], cand, limits):
+                    continue
+                u = dict(used)
+                u[orig.id] -= 1
+                u[cand.id] = u.get(cand.id, 0) + 1
+                if cand.quantity < u[cand.id] * boards:
+                    continue
+                swapped = {r: list(best[r]) for r in roles}
+                swapped[role][k] = cand
+                out.append(_with_lines(found, swapped))
+    return out
+
+
+def _variant_id(found) -> tuple:
+    return tuple((role, tuple(p.id for p in n.physical)) for role, n in sorted(found.networks.items()))
+
+
+def fold_builds(found_options: Sequence, stock: Sequence = (), boards: int = 1,
+                limits_by_connection: Optional[dict] = None) -> tuple[list, dict]:
+    """One option per build (its best variant by ``variant_key``) and, per shown variant's id,
+    its other variants in that order. With ``stock``, variants the search did not list (the same
+    values from other lines) are added."""
+    groups: dict[tuple, list] = {}
+    for o in found_options:
+        groups.setdefault(build_key(o), []).append(o)
+    shown, others = [], {}
+    for variants in groups.values():
+        if stock:
+            lim = (limits_by_connection or {}).get(variants[0].connection)
+            variants = variants + more_variants(variants[0], stock, boards, lim)
+        seen, unique = set(), []
+        for v in sorted(variants, key=variant_key):
+            vid = _variant_id(v)
+            if vid not in seen:
+                seen.add(vid)
+                unique.append(v)
+        shown.append(unique[0])
+        others[id(unique[0])] = unique[1:]
+    return shown, others
+
+
 def evaluate_and_rank(found_options: Sequence, target, limits_by_connection: dict, accept: float,
                       top: int, distribution: str = "uniform", samples: int = 10_000,
-                      seed: int = 0) -> list:
-    """Evaluate a pool and rank it. The Monte Carlo (the costly part) runs only for the first
-    ``top + 5`` options by (tier, parts, error), by (tier, score band, error), by (tier, error)
-    and the exact best; the ranking is over those."""
+                      seed: int = 0, folded: Sequence = (), stock: Sequence = (),
+                      boards: int = 1) -> list:
+    """Fold the pool (with ``folded``, variants the search set aside) to one option per build,
+    evaluate and rank. The Monte Carlo (the costly part) runs only for the first ``top + 5``
+    options by (tier, parts, error), by (tier, score band, error), by (tier, error) and the exact
+    best; the ranking is over those. The shown options' other variants get their yield too."""
     if not found_options:
         return []
+    found_options, others = fold_builds(list(found_options) + list(folded), stock, boards,
+                                        limits_by_connection)
     first = [evaluate(o, target, limits_by_connection[o.connection], accept, distribution, samples,
                       seed, monte_carlo=False) for o in found_options]
     best = min(first, key=lambda o: (abs(o.error), o.nparts))
@@ -218,7 +370,13 @@ def evaluate_and_rank(found_options: Sequence, target, limits_by_connection: dic
             chosen.append(o)
     full = [evaluate(o.found, target, limits_by_connection[o.connection], accept, distribution,
                      samples, seed) for o in chosen]
-    return rank(full, top)
+    shown = rank(full, top)
+    for o in shown:
+        o.alternatives = [
+            (v, evaluate(v, target, limits_by_connection[v.connection], accept, distribution,
+                         samples, seed).yield_fraction)
+            for v in others.get(id(o.found), [])[:MAX_ALTERNATIVES]]
+    return shown
 
 
 def yield_groups(options: Sequence[RankedOption]) -> None:
@@ -268,6 +426,7 @@ def rank(options: Sequence[RankedOption], top: int) -> list:
     for i, o in enumerate(shown, start=1):
         o.rank = i
         # compared with the first option below that the rule does not count as equal to it
-        below = next((b for b in shown[i:] if b.sort_key()[:3] != o.sort_key()[:3]), None)
+        below = next((b for b in shown[i:] if b.sort_key()[:3] != o.sort_key()[:3]),
+                     shown[i] if i < len(shown) else None)
         o.why = _why(o, below, i == 1)
     return shown

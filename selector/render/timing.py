@@ -131,7 +131,8 @@ def options_table(report) -> Table:
             cells.append(network_cell(net) if net is not None else "")
         mark = " *" if o.is_best_error else ""
         cells += [_predicted_text(mode, o), errors_text(o) + mark, _range_text(mode, o),
-                  f"{o.yield_fraction * 100:.1f} %", str(o.nparts), o.why, _locations(o)]
+                  f"{o.yield_fraction * 100:.1f} %", str(o.nparts), o.why,
+                  _locations(o) + (f" (+{len(o.alternatives)} alt.)" if o.alternatives else "")]
         table.add_row(*map(cell, cells))
     return table
 

@@ -161,6 +161,10 @@ def option_json(opt) -> dict:
         "networks": {role: network_json(nets[role]) for role in order if role in nets},
         "errors": dict(opt.errors),  # in the asker's terms (issue 11); `error` stays as it was
         "why": opt.why,
+        "alternatives": [  # the same build from other drawers, tolerances or dielectrics
+            {"networks": {role: network_json(alt.networks[role]) for role in order if role in alt.networks},
+             "yield": y}
+            for alt, y in opt.alternatives],
     }
 
 
@@ -182,7 +186,9 @@ def plan_timing(r_lines, c_lines, req: TimingRequest,
     result = search_timing(r_lines, c_lines, target, connections, limits, max_parts=req.max_parts,
                            boards=req.boards, pool=2 * max(req.top, 5), progress=progress)
     ranked = evaluate_and_rank(result.options, target, limits, req.accept, req.top,
-                               req.distribution, req.samples, req.seed)
+                               req.distribution, req.samples, req.seed,
+                               folded=getattr(result, "folded", ()),
+                               stock=list(r_lines) + list(c_lines), boards=req.boards)
     options = [option_json(o) for o in ranked]
     return TimingReport(req, target_json(req, target), params_json(req), options, ranked,
                         tuple(connections), limits, result.network_counts)
