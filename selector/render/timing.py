@@ -137,6 +137,24 @@ def options_table(report) -> Table:
     return table
 
 
+def reach_lines(report) -> list[str]:
+    """When no option is nominally within the acceptance: one line saying so with the closest
+    error, and one line of parts to buy that would reach it (when any would)."""
+    if getattr(report, "within_acceptance", True) or not report.ranked:
+        return []
+    closest = min(report.ranked, key=lambda o: o.asked_error)
+    out = [f"Nothing in stock within ±{report.request.accept * 100:g} %; closest {errors_text(closest)} "
+           f"(option {closest.rank})."]
+    if report.suggestions:
+        unit = {"resistor": "Ω", "capacitor": "F"}
+        bits = [f"{s.role} {_fmt(s.value, unit[s.kind])} ({s.series}, instead of "
+                f"{_fmt(s.replaces, unit[s.kind])}): {errors_text(s)}" for s in report.suggestions]
+        out.append("To reach it, buy one of: " + "; ".join(bits) + ".")
+    else:
+        out.append("No single part of a preferred value (E12/E24/E96) would reach it either.")
+    return out
+
+
 def footer_lines(report) -> list[str]:
     from selector.core import chips
 
@@ -204,6 +222,8 @@ def print_report(report, console: Optional[Console] = None) -> None:
         from rich.console import Console
 
         console = Console()
+    for line in reach_lines(report):
+        console.print(cell(line), highlight=False, markup=False)
     console.print(options_table(report))
     for line in footer_lines(report):
         console.print(line, highlight=False)  # wrapped at the terminal width, like the table

@@ -115,10 +115,14 @@ class TimingReport:
     limits: dict  # connection -> core.search.Limits
     network_counts: dict = field(default_factory=dict)
     search_id: Optional[int] = None
+    within_acceptance: bool = True  # some option is nominally within --accept in every error
+    suggestions: list = field(default_factory=list)  # core.suggest.Suggestion, when it is not
 
     @property
     def json(self) -> dict:
-        return {"target": self.target, "options": self.options, "search": self.search_id}
+        return {"target": self.target, "options": self.options, "search": self.search_id,
+                "within_acceptance": self.within_acceptance,
+                "suggest_buy": [s.to_json() for s in self.suggestions]}
 
 
 def _target(req: TimingRequest):
@@ -168,10 +172,28 @@ def option_json(opt) -> dict:
     }
 
 
+def _reachable(req: TimingRequest, target, connections) -> tuple:
+    """The connections that could reach the target at all; when none can, NothingFeasible with
+    the limit that stops the first and what would reach it (from the registry)."""
+    from selector.core.errors import NothingFeasible
+
+    settings = req.settings
+    why = {c: circuits.get(c).why_unreachable(target, settings, req.accept) for c in connections}
+    ok = tuple(c for c in connections if why[c] is None)
+    if ok:
+        return ok
+    kinds = [circuits.get(c) for c in connections]
+    hint = circuits.reaching(target, settings, req.accept, req.mode, kinds)
+    tail = (" would reach it" if len(hint) == 1 else " would each reach it") if hint else ""
+    raise NothingFeasible(why[connections[0]] + ("; " + " or ".join(hint) + tail if hint else
+                                                 "; no connection or chip family here reaches it"))
+
+
 def plan_timing(r_lines, c_lines, req: TimingRequest,
                 progress: Optional[Callable[[float], None]] = None) -> TimingReport:
     """Search, evaluate and rank (pure: no database). Raises NothingFeasible when nothing fits."""
     from selector.core.ranking import evaluate_and_rank
+    from selector.core.suggest import suggest_buy
     from selector.core.search import choose_connections, resolve_limits, search_timing
 
     req.check()
@@ -182,6 +204,7 @@ def plan_timing(r_lines, c_lines, req: TimingRequest,
                                          options)
     else:
         connections = (req.mode,)
+    connections = _reachable(req, target, connections)
     limits = {c: resolve_limits(c, req.chip, req.vcc, req.vf, options) for c in connections}
     result = search_timing(r_lines, c_lines, target, connections, limits, max_parts=req.max_parts,
                            boards=req.boards, pool=2 * max(req.top, 5), progress=progress)
@@ -190,8 +213,11 @@ def plan_timing(r_lines, c_lines, req: TimingRequest,
                                folded=getattr(result, "folded", ()),
                                stock=list(r_lines) + list(c_lines), boards=req.boards)
     options = [option_json(o) for o in ranked]
+    within = any(o.tier <= 1 for o in ranked)
+    buy = [] if within else suggest_buy(ranked, target, limits, req.accept)
     return TimingReport(req, target_json(req, target), params_json(req), options, ranked,
-                        tuple(connections), limits, result.network_counts)
+                        tuple(connections), limits, result.network_counts,
+                        within_acceptance=within, suggestions=buy)
 
 
 def save_search(session, report: TimingReport) -> int:

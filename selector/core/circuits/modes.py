@@ -147,6 +147,11 @@ class Timer555:
 
         chips.family(settings.chip).check_vcc(settings.vcc)
 
+    def limit_owner(self, settings: Settings) -> str:
+        from selector.core import chips
+
+        return f" with a {chips.family(settings.chip).label} at {settings.vcc:g} V"
+
     def base_limits(self, settings: Settings, astable: bool) -> dict:
         from selector.core import chips, parts
 
