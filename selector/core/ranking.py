@@ -379,6 +379,21 @@ def evaluate_and_rank(found_options: Sequence, target, limits_by_connection: dic
     return shown
 
 
+def yield_group_ids(yields: Sequence[float]) -> list[int]:
+    """For each yield, its group: sorted high to low, a new group starts at the first yield more
+    than ``YIELD_EQUAL`` below the group's highest (so equal-for-ranking yields share a group)."""
+    order = sorted(range(len(yields)), key=lambda i: -yields[i])
+    out = [0] * len(yields)
+    group, top_y = 0, None
+    for i in order:
+        if top_y is None:
+            top_y = yields[i]
+        elif top_y - yields[i] > YIELD_EQUAL + 1e-12:
+            group, top_y = group + 1, yields[i]
+        out[i] = group
+    return out
+
+
 def yield_groups(options: Sequence[RankedOption]) -> None:
     """Set ``yield_group`` within each tier: sorted by yield, a new group starts at the first
     option more than ``YIELD_EQUAL`` below the group's highest yield."""
