@@ -63,14 +63,19 @@ _ERROR_LABELS = {"frequency": "f", "width": "", "tau": "", "corner": ""}
 
 
 def errors_text(opt) -> str:
-    """The nominal errors in the asker's terms: ``f -0.6 % d -1.4 pt`` (astable), ``+0.3 %``."""
+    """The nominal errors in the asker's terms: ``f -0.6 % d -1.4 pt`` (astable), ``+0.3 %``;
+    an error that rounds to zero prints as ``0.0`` (no sign)."""
+    def signed(x: float) -> str:
+        text = f"{x:+.1f}"
+        return "0.0" if text in ("+0.0", "-0.0") else text
+
     out = []
     for key, v in opt.errors.items():
         if key == "duty_points":
-            out.append(f"d {v * 100:+.1f} pt")
+            out.append(f"d {signed(v * 100)} pt")
         else:
             label = _ERROR_LABELS.get(key, key)
-            out.append((label + " " if label else "") + _pct(v, 1))
+            out.append((label + " " if label else "") + f"{signed(v * 100)} %")
     return " ".join(out)
 
 
@@ -131,8 +136,7 @@ def options_table(report) -> Table:
             cells.append(network_cell(net) if net is not None else "")
         mark = " *" if o.is_best_error else ""
         cells += [_predicted_text(mode, o), errors_text(o) + mark, _range_text(mode, o),
-                  f"{o.yield_fraction * 100:.1f} %", str(o.nparts), o.why,
-                  _locations(o) + (f" (+{len(o.alternatives)} alt.)" if o.alternatives else "")]
+                  f"{o.yield_fraction * 100:.1f} %", str(o.nparts), o.why, _locations(o)]
         table.add_row(*map(cell, cells))
     return table
 

@@ -90,7 +90,7 @@ def test_stock_cannot_reach_shows_the_closest_and_what_to_buy():
     from selector.render.timing import reach_lines
 
     lines = reach_lines(rep)
-    assert lines[0] == "Nothing in stock within ±5 %; closest f +20.2 % d +0.0 pt (option 1)."
+    assert lines[0] == "Nothing in stock within ±5 %; closest f +20.2 % d 0.0 pt (option 1)."
     assert "C 120 nF (E12, instead of 100 nF): f +0.2 %" in lines[1]
 
 
