@@ -239,7 +239,7 @@ def _substitute_ok(orig, sub, limits) -> bool:
     """May stock line ``sub`` stand in for part ``orig`` (same kind and value) without a new limit
     check? Resistors: rating unknown (the search allows it) or at least the original's. Capacitors:
     rating unknown or enough for the working voltage after its dielectric's derating."""
-    if sub.kind != orig.kind or sub.value != orig.value:
+    if sub.kind != orig.kind or sub.value != orig.value or sub.polarized != orig.polarized:
         return False
     if sub.kind == "resistor":
         return sub.rating is None or (orig.rating is not None and sub.rating >= orig.rating)
@@ -269,7 +269,13 @@ def _with_lines(found, lines_by_role: dict):
         hi = float(net.combine(vals * (1 + np.array([[p.tol_plus] for p in phys])))[0])
         nets[role] = dataclasses.replace(net, parts=tuple((ln, counts[ln.id]) for ln in order),
                                          physical=phys, vmin=lo, vmax=hi)
-    return dataclasses.replace(found, networks=nets)
+    if dataclasses.is_dataclass(found):
+        return dataclasses.replace(found, networks=nets)
+    import copy
+
+    out = copy.copy(found)  # a plain holder of networks (find value)
+    out.networks = nets
+    return out
 
 
 def _line_key(ln) -> tuple:
@@ -318,7 +324,9 @@ def more_variants(found, stock: Sequence, boards: int, limits) -> list:
 
 
 def _variant_id(found) -> tuple:
-    return tuple((role, tuple(p.id for p in n.physical)) for role, n in sorted(found.networks.items()))
+    """The stock lines a variant takes, per role (as a pick list sees it: which of two parts of
+    equal value sits where is not another variant)."""
+    return tuple((role, tuple(sorted(p.id for p in n.physical))) for role, n in sorted(found.networks.items()))
 
 
 def fold_builds(found_options: Sequence, stock: Sequence = (), boards: int = 1,

@@ -207,10 +207,12 @@ def plan_value(lines: Sequence[StockLine], req: ValueRequest) -> ValueReport:
         for net, more in zip(opts, alts):
             k = _look(net)
             if k in seen:
+                alternatives[seen[k]].extend([net] + more)
                 continue
             seen[k] = len(options)
             options.append(net)
             alternatives.append(more)
+    options, alternatives = _best_variants(options, alternatives, lines, req.boards)
     shares = [build_share(net, req.target, req.accept, req.samples, req.seed) for net in options]
     order, whys = rank_by_share(options, shares, req.target)
     order = order[:req.top]
@@ -267,8 +269,33 @@ def rank_by_share(nets: Sequence, shares: Sequence[float], target: float) -> tup
 
 
 def _look(net) -> tuple:
-    return (net.shape, net.structure,
-            tuple((p.value, p.tol_minus, p.tol_plus, p.dielectric, p.polarized) for p in net.physical))
+    """One build: the same shape with the same part values (drawers, tolerances, dielectrics may
+    differ; issue 11: one row per build)."""
+    return (net.shape, net.structure, f"{net.value:.9g}",
+            tuple(sorted(f"{p.value:.9g}" for p in net.physical)))
+
+
+def _best_variants(options: list, alternatives: list, lines: Sequence, boards: int) -> tuple[list, list]:
+    """Per build, the variant to show (``core.ranking.variant_key``: tighter tolerance, better
+    dielectric, fuller drawer; also variants assembled from other lines of the same values) and
+    the others, best first (at most ``ranking.MAX_ALTERNATIVES``)."""
+    from types import SimpleNamespace
+
+    from selector.core import ranking
+
+    shown, others = [], []
+    for net, more in zip(options, alternatives):
+        wrap = [SimpleNamespace(networks={"X": n}) for n in [net] + list(more)]
+        extra = ranking.more_variants(SimpleNamespace(networks={"X": net}, connection=""), lines, boards, None)
+        seen, unique = set(), []
+        for w in sorted(wrap + extra, key=ranking.variant_key):
+            vid = tuple(sorted(p.id for p in w.networks["X"].physical))
+            if vid not in seen:
+                seen.add(vid)
+                unique.append(w.networks["X"])
+        shown.append(unique[0])
+        others.append(unique[1:1 + ranking.MAX_ALTERNATIVES])
+    return shown, others
 
 
 def _fold(nets: Sequence) -> tuple[list, list[list]]:

@@ -112,3 +112,22 @@ def test_saved_as_search_and_its_id_in_json(cli, stocked):
     assert doc["search"] == 2
     r = cli("bom", "1", "--search", "2", db=stocked)
     assert r.returncode == 0, r.stderr
+
+
+def test_one_row_per_build(cli, stocked):
+    """Issue 11: `find value 0.33uF --max-parts 3` showed one network (1 µF + 1 µF + 1 µF) five
+    times from different drawers. Now each build (shape + part values) is one row; its other
+    drawers are alternatives."""
+    lines = _lines(stocked)
+    doc = _json(cli, stocked, "0.33uF", "--max-parts", "3", "--top", "8")
+    builds = [(o["shape"], round(o["value"], 15),
+               tuple(sorted(p["value"] for p in o["parts"] for _ in range(p["count"]))))
+              for o in doc["options"]]
+    assert len(builds) == len(set(builds))
+    # the shown variant of 1 µF x3 is as tight as the tightest 1 µF line that holds three
+    triple = next(o for o in doc["options"] if o["shape"] == "series3"
+                  and all(p["value"] == pytest.approx(1e-6) for p in o["parts"]))
+    widest = max(max(lines[p["line_id"]].tol_minus, lines[p["line_id"]].tol_plus) for p in triple["parts"])
+    tightest = min(max(ln.tol_minus, ln.tol_plus) for ln in lines.values()
+                   if ln.kind == "capacitor" and ln.value == pytest.approx(1e-6) and ln.quantity >= 3)
+    assert widest <= tightest + 1e-12
