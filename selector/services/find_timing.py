@@ -185,8 +185,9 @@ def _reachable(req: TimingRequest, target, connections) -> tuple:
     kinds = [circuits.get(c) for c in connections]
     hint = circuits.reaching(target, settings, req.accept, req.mode, kinds)
     tail = (" would reach it" if len(hint) == 1 else " would each reach it") if hint else ""
-    raise NothingFeasible(why[connections[0]] + ("; " + " or ".join(hint) + tail if hint else
-                                                 "; no connection or chip family here reaches it"))
+    none = "; no connection or chip family here reaches it" if req.mode == "astable" else \
+        "; no chip family here reaches it"
+    raise NothingFeasible(why[connections[0]] + ("; " + " or ".join(hint) + tail if hint else none))
 
 
 def plan_timing(r_lines, c_lines, req: TimingRequest,

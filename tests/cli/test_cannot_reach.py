@@ -69,6 +69,16 @@ def test_just_above_the_limit_within_the_acceptance_is_searched(cli, stocked):
     assert r.returncode == 0, r.stderr
 
 
+def test_monostable_shorter_than_the_limits_allow(cli, stocked):
+    """Shortest pulse = ln3 x 1 kΩ x 100 pF = 109.9 ns (bipolar 555 table: R >= 1 kΩ, C >= 100 pF);
+    100 ns x 1.05 = 105 ns is below it."""
+    r = cli("find", "monostable", "--width", "100ns", db=stocked)
+    assert r.returncode == 1
+    line = r.stderr.strip()
+    assert line == ("Error: a 100 ns pulse is below the shortest the limits allow, 110 ns (R ≥ 1 kΩ, "
+                    "C ≥ 100 pF with a bipolar 555 at 9 V); no chip family here reaches it")
+
+
 def test_stock_cannot_reach_shows_the_closest_and_what_to_buy():
     """Only 10 kΩ (x5) and 100 nF: RA = RB = 10 kΩ gives f = 1/(ln2·30 kΩ·100 nF) = 480.9 Hz,
     duty 2/3. Target 400 Hz, duty 2/3: +20.2 % off, nothing within ±5 %. One new capacitor
