@@ -33,6 +33,40 @@ def _target(text: str, kind: Optional[str]) -> tuple[float, str]:
     return value, k
 
 
+def _filters(kind: str, accept: str, tolerance: Optional[str], dielectric: Optional[str],
+             min_rating: Optional[str], location: Optional[str]) -> dict:
+    """The repair filters and the acceptance, parsed (one-line errors naming the option)."""
+    from selector.core import parts
+    from selector.core.errors import UnparseableValue
+    from selector.core.notation import VOLT, WATT, parse_fraction, parse_value
+
+    def fraction(text: str, option: str) -> float:
+        try:
+            return parse_fraction(text)
+        except UnparseableValue as e:
+            raise UnparseableValue(f"{option}: {e}") from None
+
+    out: dict = {"accept": fraction(accept, "--accept")}
+    if tolerance is not None:
+        out["max_tolerance"] = fraction(tolerance, "--tolerance")
+    if dielectric is not None:
+        names = []
+        for d in dielectric.split(","):
+            try:
+                names.append(parts.normalize_dielectric(d))
+            except UnparseableValue as e:
+                raise UnparseableValue(f"--dielectric: {e}") from None
+        out["dielectrics"] = tuple(n for n in names if n)
+    if min_rating is not None:
+        try:
+            out["min_rating"] = parse_value(min_rating, None, WATT if kind == "resistor" else VOLT)
+        except UnparseableValue as e:
+            raise UnparseableValue(f"--min-rating: {e}") from None
+    if location is not None:
+        out["locations"] = tuple(x.strip() for x in location.split(",") if x.strip())
+    return out
+
+
 def register(find_app: typer.Typer) -> None:
     """Attach ``value`` to the find group."""
 
@@ -46,12 +80,18 @@ def register(find_app: typer.Typer) -> None:
         top: int = typer.Option(10, "--top", parser=whole("--top", 1, MAX_TOP), metavar="K", help="How many options to show."),
         boards: int = typer.Option(1, "--boards", parser=whole("--boards", 1, MAX_BOARDS), metavar="B", help="Boards to build: every part is needed this many times."),
         allow_polarized_series: bool = typer.Option(False, "--allow-polarized-series", help="Also offer networks with polarized capacitors in series (shown with a caution)."),
-        as_json: bool = typer.Option(False, "--json", help='Print only JSON: {"target", "options": [{"rank", "value", "error", "min", "max", "shape", "parts"}]}.'),
+        accept: str = typer.Option("5%", "--accept", metavar="PCT", help="A build counts as in spec when its value is within this of VALUE (part tolerances drawn), e.g. 5% or 0.05."),
+        tolerance: Optional[str] = typer.Option(None, "--tolerance", metavar="PCT", help="Only parts of at most this tolerance, e.g. 1%."),
+        dielectric: Optional[str] = typer.Option(None, "--dielectric", metavar="NAME[,NAME]", help="Capacitors: only these dielectrics, e.g. C0G or film-PP,film-PET."),
+        min_rating: Optional[str] = typer.Option(None, "--min-rating", metavar="RATING", help="Only parts rated at least this (every part of a network): watts for resistors (0.5W), volts for capacitors (50V); unknown ratings are left out."),
+        location: Optional[str] = typer.Option(None, "--location", metavar="DRAWER[,DRAWER]", help="Only parts from these drawers (case ignored)."),
+        as_json: bool = typer.Option(False, "--json", help='Print only JSON: {"target", "options": [{"rank", "value", "error", "min", "max", "shape", "parts", "yield", "why"}], "search"}.'),
     ) -> None:
         """Find the single parts and series/parallel networks in stock nearest to VALUE.
 
-        Ranked by relative error (then fewer parts); each option shows its worst-case range from
-        the part tolerances and where to pick the parts. The search is saved, so `selector bom 1`
+        Ranked by the share of builds within --accept of VALUE (part tolerances count; shares
+        within 2 points are equal), then fewer parts, then smaller error; each option shows its
+        worst-case range from the part tolerances and where to pick the parts. The search is saved, so `selector bom 1`
         lists the parts of option 1. Shapes in --json: single, series, parallel, series3,
         parallel3, series+parallel = (B ∥ C) + A, parallel+series = (B + C) ∥ A.
         """
@@ -60,7 +100,8 @@ def register(find_app: typer.Typer) -> None:
 
         target, k = _target(value, kind.value if kind else None)
         req = ValueRequest(target=target, kind=k, max_parts=max_parts, top=top, boards=boards,
-                           allow_polarized_series=allow_polarized_series)
+                           allow_polarized_series=allow_polarized_series,
+                           **_filters(k, accept, tolerance, dielectric, min_rating, location))
         req.check()
         engine = open_engine(resolve_url(db_arg(ctx)))
         try:

@@ -42,6 +42,12 @@ _ALIASES: dict[str, str] = {
     "": "", "none": "",
 }
 
+TIMING_DIELECTRIC_ORDER: tuple[str, ...] = (
+    "C0G", "film-PP", "film-PET", "film", "X7R", "X5R", "tantalum", "electrolytic", "Y5V", "Z5U", "",
+)
+"""Dielectrics from the most to the least stable timing capacitor (drift with temperature,
+voltage and age; common practice): which variant of one build is shown first."""
+
 _POLARIZED = frozenset({"electrolytic", "tantalum"})
 _CLASS2 = frozenset({"X7R", "X5R", "Y5V", "Z5U"})
 

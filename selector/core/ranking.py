@@ -13,32 +13,33 @@ For each option found by :mod:`selector.core.search`:
   Part tolerances only: the chip's own initial error (e.g. 2.25 % typ astable, bipolar [S1]) is
   not included, and the footer says so.
 
-Ranking rule (what a technician should pick first):
-    yield band = floor(20 · yield): builds in spec, in 5-point bands - the share of builds that
-             meet the target is what the bench cares about, and it already weighs the error
-             against the tolerance spread;
-    score  = max(|error|, spread / 4), where spread is the full relative width of the worst-case
-             range of the main quantity (frequency, width, τ or corner), (max − min)/nominal;
-             an error far below the option's own tolerance spread is worth nothing;
-    bucket = floor(log(score) / log(1.25)) (bands 25 % wide; scores below 1e-6 share one band);
-    order  = higher yield band, then bucket, then fewer physical parts, then smaller |error|,
-             then higher yield.
-So among builds equally likely to meet the target and equally close within their spread, the
-one with fewer parts comes first (when every yield is low, the score decides).
-The option with the exact smallest error is always among those returned: if the rule would push
-it below the cut, it takes the last place shown (its true error is in every option's JSON).
+Ranking rule (what a technician should pick first; the README states it in three sentences):
+    tier   = 0 when every nominal error in the asker's terms (frequency, duty in points judged
+             against accept x the target duty, width, tau or corner) is within HALF the acceptance,
+             1 when within the acceptance, 2 otherwise: a lower tier always ranks higher;
+    yields = within a tier, yields within 2 points of each other count as equal: options sorted
+             by yield are cut into groups from the top, each group spanning at most 2 points, so
+             an option more than 2 points better always ranks higher (no separate 100 % band);
+    then   = among equal yields fewer physical parts, then smaller nominal error; in tier 2 (no
+             build is nominally within the acceptance) the smaller error comes before fewer parts,
+             because a simpler build that misses the target is no answer.
+The option with the exact smallest search error (the certified best the stock and limits allow)
+is always among those returned and marked: if the rule would push it below the cut, it takes the
+last place shown. Every row carries ``why``, two or three words on why it sits where it does.
 """
 
 from __future__ import annotations
 
 import math
 from dataclasses import dataclass, field
-from typing import Sequence
+from typing import Optional, Sequence
 
 import numpy as np
 
 SCORE_FLOOR = 1e-6
-BAND = 1.25  # width of a ranking band: scores within 25 % of each other count as equal
+BAND = 1.25  # score bands, used only to pick which options get the Monte Carlo (first cut)
+YIELD_EQUAL = 0.02
+"""Yields within 2 points of each other are equal for ranking (issue 11)."""
 
 
 @dataclass
@@ -54,6 +55,12 @@ class RankedOption:
     cautions: list = field(default_factory=list)
     rank: int = 0
     is_best_error: bool = False
+    errors: dict = field(default_factory=dict)  # the nominal errors in the asker's terms
+    asked_error: float = math.nan  # those errors as one figure comparable with --accept
+    tier: int = 2  # 0 within half the acceptance, 1 within it, 2 outside
+    why: str = ""
+    yield_group: int = 0
+    alternatives: list = field(default_factory=list)  # (FoundOption, yield) of the same build
 
     @property
     def connection(self) -> str:
@@ -71,9 +78,22 @@ class RankedOption:
     def bucket(self) -> int:
         return math.floor(math.log(max(self.score, SCORE_FLOOR)) / math.log(BAND))
 
+    @property
+    def yield_value(self) -> float:
+        return 0.0 if math.isnan(self.yield_fraction) else self.yield_fraction
+
     def sort_key(self) -> tuple:
-        y = 0.0 if math.isnan(self.yield_fraction) else self.yield_fraction
-        return (-math.floor(20 * y + 1e-9), self.bucket, self.nparts, abs(self.error), -y)
+        """Order within the list once ``yield_group`` is set (see the module docstring)."""
+        if self.tier < 2:
+            return (self.tier, self.yield_group, self.nparts, self.asked_error, abs(self.error))
+        return (self.tier, self.yield_group, self.asked_error, self.nparts, abs(self.error))
+
+
+def tier_of(asked_error: float, accept: float) -> int:
+    """0 within half the acceptance, 1 within it, 2 outside (a relative 1e-12 of slack)."""
+    if asked_error <= accept / 2.0 * (1 + 1e-12):
+        return 0
+    return 1 if asked_error <= accept * (1 + 1e-12) else 2
 
 
 ROLE_ORDER = ("RA", "RB", "R", "C")
@@ -143,7 +163,10 @@ def evaluate(found, target, limits, accept: float, distribution: str = "uniform"
     lo, hi = rng_out[main]
     spread = (hi - lo) / predicted[main] if predicted[main] > 0 else math.inf
     score = max(abs(found.error), spread / 4.0)
-    return RankedOption(found, predicted, rng_out, y, spread, score, cautions(found, target, limits))
+    errs = kind.errors(predicted, target)
+    asked = kind.asked_error(errs, target)
+    return RankedOption(found, predicted, rng_out, y, spread, score, cautions(found, target, limits),
+                        errors=errs, asked_error=asked, tier=tier_of(asked, accept))
 
 
 def cautions(found, target, limits) -> list:
@@ -175,39 +198,258 @@ def cautions(found, target, limits) -> list:
     return out
 
 
+def build_key(found) -> tuple:
+    """Options with equal keys are ONE build: the same connection and, in every role, the same
+    shape with the same part values (drawers, tolerances, dielectrics may differ)."""
+    return (found.connection,) + tuple(
+        (role, n.shape, f"{n.value:.9g}", tuple(sorted(f"{p.value:.9g}" for p in n.physical)))
+        for role, n in sorted(found.networks.items()))
+
+
+def _dielectric_rank(line) -> int:
+    from selector.core import parts
+
+    try:
+        d = parts.normalize_dielectric(line.dielectric or "")
+    except Exception:  # a hand-written dielectric the table does not know: last
+        d = ""
+    order = parts.TIMING_DIELECTRIC_ORDER
+    return order.index(d) if d in order else len(order)
+
+
+def variant_key(found) -> tuple:
+    """Which variant of one build is shown: tighter tolerance (the widest part band, then the sum
+    of the bands), then the better timing dielectric, then the fuller drawer (most parts left on
+    the emptiest line used), then the lower stock line ids (stable)."""
+    phys = [p for n in found.networks.values() for p in n.physical]
+    tols = [max(p.tol_minus, p.tol_plus) for p in phys]
+    caps = [p for p in phys if p.kind == "capacitor"]
+    left = [ln.quantity - cnt for n in found.networks.values() for ln, cnt in n.parts]
+    return (round(max(tols), 12), round(sum(tols), 12),
+            max((_dielectric_rank(p) for p in caps), default=0),
+            sum(_dielectric_rank(p) for p in caps), -min(left, default=0),
+            tuple(sorted(p.id for p in phys)))
+
+
+MAX_ALTERNATIVES = 8
+"""At most this many other variants of one build are evaluated and listed (best first)."""
+
+
+def _substitute_ok(orig, sub, limits) -> bool:
+    """May stock line ``sub`` stand in for part ``orig`` (same kind and value) without a new limit
+    check? Resistors: rating unknown (the search allows it) or at least the original's. Capacitors:
+    rating unknown or enough for the working voltage after its dielectric's derating."""
+    if sub.kind != orig.kind or sub.value != orig.value or sub.polarized != orig.polarized:
+        return False
+    if sub.kind == "resistor":
+        return sub.rating is None or (orig.rating is not None and sub.rating >= orig.rating)
+    if sub.rating is None or limits is None or limits.cap_volts <= 0:
+        return True
+    try:
+        return sub.rating * limits.cap_derating(sub.dielectric or "") >= limits.cap_volts
+    except Exception:  # a dielectric the derating table does not know
+        return False
+
+
+def _with_lines(found, lines_by_role: dict):
+    """``found`` with each role's physical parts replaced by the given stock lines (same values)."""
+    import dataclasses
+
+    nets = {}
+    for role, net in found.networks.items():
+        phys = tuple(lines_by_role[role])
+        counts: dict = {}
+        order: list = []
+        for ln in phys:
+            if ln.id not in counts:
+                order.append(ln)
+            counts[ln.id] = counts.get(ln.id, 0) + 1
+        vals = np.array([[p.value] for p in phys], dtype=float)
+        lo = float(net.combine(vals * (1 - np.array([[p.tol_minus] for p in phys])))[0])
+        hi = float(net.combine(vals * (1 + np.array([[p.tol_plus] for p in phys])))[0])
+        nets[role] = dataclasses.replace(net, parts=tuple((ln, counts[ln.id]) for ln in order),
+                                         physical=phys, vmin=lo, vmax=hi)
+    if dataclasses.is_dataclass(found):
+        return dataclasses.replace(found, networks=nets)
+    import copy
+
+    out = copy.copy(found)  # a plain holder of networks (find value)
+    out.networks = nets
+    return out
+
+
+def _line_key(ln) -> tuple:
+    return (round(max(ln.tol_minus, ln.tol_plus), 12), _dielectric_rank(ln), -ln.quantity, ln.id)
+
+
+def more_variants(found, stock: Sequence, boards: int, limits) -> list:
+    """Other variants of the same build from the stock: the best one assembled part by part
+    (each part from the tightest, best-dielectric, fullest line of its value that still has
+    ``boards`` parts left) and every variant that swaps one part of it for another line."""
+    by_value: dict = {}
+    for ln in stock:
+        by_value.setdefault((ln.kind, ln.value), []).append(ln)
+    for v in by_value.values():
+        v.sort(key=_line_key)
+    roles = sorted(found.networks)
+    used: dict = {}
+    best: dict = {}
+    for role in roles:
+        best[role] = []
+        for orig in found.networks[role].physical:
+            pick = orig
+            for cand in by_value.get((orig.kind, orig.value), []):
+                if _substitute_ok(orig, cand, limits) and cand.quantity >= (used.get(cand.id, 0) + 1) * boards:
+                    pick = cand
+                    break
+            used[pick.id] = used.get(pick.id, 0) + 1
+            best[role].append(pick)
+    if any(used[i] * boards > next(ln.quantity for r in roles for ln in best[r] if ln.id == i) for i in used):
+        return []  # the greedy pick ran out of a line the original used: keep what the search found
+    out = [_with_lines(found, best)]
+    for role in roles:
+        for k, orig in enumerate(best[role]):
+            for cand in by_value.get((orig.kind, orig.value), []):
+                if cand.id == orig.id or not _substitute_ok(found.networks[role].physical[k], cand, limits):
+                    continue
+                u = dict(used)
+                u[orig.id] -= 1
+                u[cand.id] = u.get(cand.id, 0) + 1
+                if cand.quantity < u[cand.id] * boards:
+                    continue
+                swapped = {r: list(best[r]) for r in roles}
+                swapped[role][k] = cand
+                out.append(_with_lines(found, swapped))
+    return out
+
+
+def _variant_id(found) -> tuple:
+    """The stock lines a variant takes, per role (as a pick list sees it: which of two parts of
+    equal value sits where is not another variant)."""
+    return tuple((role, tuple(sorted(p.id for p in n.physical))) for role, n in sorted(found.networks.items()))
+
+
+def fold_builds(found_options: Sequence, stock: Sequence = (), boards: int = 1,
+                limits_by_connection: Optional[dict] = None) -> tuple[list, dict]:
+    """One option per build (its best variant by ``variant_key``) and, per shown variant's id,
+    its other variants in that order. With ``stock``, variants the search did not list (the same
+    values from other lines) are added."""
+    groups: dict[tuple, list] = {}
+    for o in found_options:
+        groups.setdefault(build_key(o), []).append(o)
+    shown, others = [], {}
+    for variants in groups.values():
+        if stock:
+            lim = (limits_by_connection or {}).get(variants[0].connection)
+            variants = variants + more_variants(variants[0], stock, boards, lim)
+        seen, unique = set(), []
+        for v in sorted(variants, key=variant_key):
+            vid = _variant_id(v)
+            if vid not in seen:
+                seen.add(vid)
+                unique.append(v)
+        shown.append(unique[0])
+        others[id(unique[0])] = unique[1:]
+    return shown, others
+
+
 def evaluate_and_rank(found_options: Sequence, target, limits_by_connection: dict, accept: float,
                       top: int, distribution: str = "uniform", samples: int = 10_000,
-                      seed: int = 0) -> list:
-    """Evaluate a pool and rank it. The Monte Carlo (the costly part) runs only for the first
-    ``top + 5`` options by (bucket, parts, |error|), the first ``top + 5`` by (bucket, |error|)
-    and the exact best; the ranking is over those."""
+                      seed: int = 0, folded: Sequence = (), stock: Sequence = (),
+                      boards: int = 1) -> list:
+    """Fold the pool (with ``folded``, variants the search set aside) to one option per build,
+    evaluate and rank. The Monte Carlo (the costly part) runs only for the first ``top + 5``
+    options by (tier, parts, error), by (tier, score band, error), by (tier, error) and the exact
+    best; the ranking is over those. The shown options' other variants get their yield too."""
     if not found_options:
         return []
+    found_options, others = fold_builds(list(found_options) + list(folded), stock, boards,
+                                        limits_by_connection)
     first = [evaluate(o, target, limits_by_connection[o.connection], accept, distribution, samples,
                       seed, monte_carlo=False) for o in found_options]
     best = min(first, key=lambda o: (abs(o.error), o.nparts))
-    by_parts = sorted(first, key=lambda o: (o.bucket, o.nparts, abs(o.error)))
-    by_score = sorted(first, key=lambda o: (o.bucket, abs(o.error)))
+    k = int(top) + 5
+    by_parts = sorted(first, key=lambda o: (o.tier, o.nparts, o.asked_error))
+    by_score = sorted(first, key=lambda o: (o.tier, o.bucket, o.asked_error))
+    by_error = sorted(first, key=lambda o: (o.tier, o.asked_error, o.nparts))
     chosen: list = []
-    for o in by_parts[: int(top) + 5] + by_score[: int(top) + 5] + [best]:
+    for o in by_parts[:k] + by_score[:k] + by_error[:k] + [best]:
         if o not in chosen:
             chosen.append(o)
     full = [evaluate(o.found, target, limits_by_connection[o.connection], accept, distribution,
                      samples, seed) for o in chosen]
-    return rank(full, top)
+    shown = rank(full, top)
+    for o in shown:
+        o.alternatives = [
+            (v, evaluate(v, target, limits_by_connection[v.connection], accept, distribution,
+                         samples, seed).yield_fraction)
+            for v in others.get(id(o.found), [])[:MAX_ALTERNATIVES]]
+    return shown
+
+
+def yield_group_ids(yields: Sequence[float]) -> list[int]:
+    """For each yield, its group: sorted high to low, a new group starts at the first yield more
+    than ``YIELD_EQUAL`` below the group's highest (so equal-for-ranking yields share a group)."""
+    order = sorted(range(len(yields)), key=lambda i: -yields[i])
+    out = [0] * len(yields)
+    group, top_y = 0, None
+    for i in order:
+        if top_y is None:
+            top_y = yields[i]
+        elif top_y - yields[i] > YIELD_EQUAL + 1e-12:
+            group, top_y = group + 1, yields[i]
+        out[i] = group
+    return out
+
+
+def yield_groups(options: Sequence[RankedOption]) -> None:
+    """Set ``yield_group`` within each tier: sorted by yield, a new group starts at the first
+    option more than ``YIELD_EQUAL`` below the group's highest yield."""
+    for tier in {o.tier for o in options}:
+        members = sorted((o for o in options if o.tier == tier), key=lambda o: -o.yield_value)
+        group, top_y = 0, None
+        for o in members:
+            if top_y is None:
+                top_y = o.yield_value
+            elif top_y - o.yield_value > YIELD_EQUAL + 1e-12:
+                group, top_y = group + 1, o.yield_value
+            o.yield_group = group
+
+
+def _why(o: RankedOption, below: Optional[RankedOption], first: bool) -> str:
+    """Two or three words: ``closest`` for the marked smallest-error option, otherwise what puts
+    ``o`` above the option ranked just below it."""
+    if o.is_best_error:
+        return "closest"
+    if below is None:
+        return ("near target", "within acceptance", "next closest")[o.tier]
+    if o.tier < below.tier:
+        return "near target" if o.tier == 0 else "within acceptance"
+    if o.yield_group < below.yield_group:
+        return "best yield" if first else "higher yield"
+    if o.tier == 2 and o.asked_error < below.asked_error:
+        return "closer"  # `closest` is kept for the marked option
+    if o.nparts < below.nparts:
+        return "fewest parts" if first else "fewer parts"
+    return "closer" if o.asked_error < below.asked_error else "equal standing"
 
 
 def rank(options: Sequence[RankedOption], top: int) -> list:
-    """Order by the ranking rule, keep ``top``, make sure the exact best-error option is there,
-    and number them 1..n."""
+    """Order by the ranking rule, keep ``top``, make sure the exact best-error option is there
+    (marked ``is_best_error``), say why each row sits where it does, and number them 1..n."""
     if not options:
         return []
     best = min(options, key=lambda o: (abs(o.error), o.nparts))
     best.is_best_error = True
+    yield_groups(options)
     ordered = sorted(options, key=RankedOption.sort_key)
     shown = ordered[: max(1, int(top))]
     if best not in shown:
         shown[-1] = best
     for i, o in enumerate(shown, start=1):
         o.rank = i
+        # compared with the first option below that the rule does not count as equal to it
+        below = next((b for b in shown[i:] if b.sort_key()[:3] != o.sort_key()[:3]),
+                     shown[i] if i < len(shown) else None)
+        o.why = _why(o, below, i == 1)
     return shown

@@ -101,6 +101,9 @@ def print_bom(console: Console, report) -> None:
     for s in report.shortages:
         console.print(f"Short: stock line {s.line_id} holds {s.on_hand}, the BOM needs {s.needed} "
                       f"({s.missing} missing).", style="red", highlight=False, markup=False)
+    if report.shortages and report.alternatives_note:
+        console.print(printable("T" + report.alternatives_note[3:] + "."), highlight=False,
+                      markup=False)
     for note in bom.notes:
         console.print(note, highlight=False, markup=False)
 

@@ -57,13 +57,15 @@ def percent_text(fraction: float) -> str:
 
 
 def value_table(kind: str, target: float, options: Sequence["Network"],
-                alternatives: Sequence[Sequence["Network"]] | None = None) -> "Table":
+                alternatives: Sequence[Sequence["Network"]] | None = None,
+                yields: Sequence[float] = (), whys: Sequence[str] = ()) -> "Table":
     """The ranked ``find value`` table."""
     from rich.table import Table
 
     table = Table(title=f"Networks nearest to {value_text(kind, target)} ({kind}s)", header_style="bold")
     for name, justify in (("#", "right"), ("network", "left"), ("value", "right"), ("error", "right"),
-                          ("worst case", "left"), ("parts", "right"), ("pick from", "left")):
+                          ("worst case", "left"), ("in spec", "right"), ("parts", "right"), ("why", "left"),
+                          ("pick from", "left")):
         table.add_column(name, justify=justify, overflow="fold")
     alternatives = list(alternatives or [])
     for rank, net in enumerate(options, start=1):
@@ -78,14 +80,21 @@ def value_table(kind: str, target: float, options: Sequence["Network"],
         table.add_row(*map(cell, (rank, network_text(net), value_text(kind, net.value),
                                   percent_text(net.value / target - 1.0),
                                   f"{value_text(kind, net.vmin)} … {value_text(kind, net.vmax)}",
-                                  net.nparts, pick)))
+                                  f"{yields[rank - 1] * 100:.1f} %" if rank - 1 < len(yields) else "",
+                                  net.nparts, whys[rank - 1] if rank - 1 < len(whys) else "", pick)))
     return table
 
 
 def print_value_report(console: "Console", report) -> None:
     """Table, legend, and the notes and cautions of a ``find value`` report."""
     if report.options:
-        console.print(value_table(report.kind, report.target, report.options, report.alternatives))
+        console.print(value_table(report.kind, report.target, report.options, report.alternatives,
+                                  getattr(report, "yields", ()), getattr(report, "whys", ())))
         console.print(LEGEND)
+        console.print(f"In spec: share of {report.request.samples:,} simulated builds (parts uniform within "
+                      f"tolerance) within ±{report.request.accept * 100:g} % of the target; ranked by it "
+                      "(within 2 points counts as equal), then fewer parts, then error.")
     for note in report.notes:
         console.print(note)
+    if report.search_id is not None:
+        console.print(f"Saved as search {report.search_id}; `selector bom N` lists the parts of option N.")

@@ -59,6 +59,26 @@ def _range_text(mode: str, opt) -> str:
     return f"τ {_fmt(t0, 's')}–{_fmt(t1, 's')} {_fmt(c0, 'Hz')}–{_fmt(c1, 'Hz')}"
 
 
+_ERROR_LABELS = {"frequency": "f", "width": "", "tau": "", "corner": ""}
+
+
+def errors_text(opt) -> str:
+    """The nominal errors in the asker's terms: ``f -0.6 % d -1.4 pt`` (astable), ``+0.3 %``;
+    an error that rounds to zero prints as ``0.0`` (no sign)."""
+    def signed(x: float) -> str:
+        text = f"{x:+.1f}"
+        return "0.0" if text in ("+0.0", "-0.0") else text
+
+    out = []
+    for key, v in opt.errors.items():
+        if key == "duty_points":
+            out.append(f"d {signed(v * 100)} pt")
+        else:
+            label = _ERROR_LABELS.get(key, key)
+            out.append((label + " " if label else "") + f"{signed(v * 100)} %")
+    return " ".join(out)
+
+
 def _locations(opt) -> str:
     seen: list[str] = []
     for net in opt.found.networks.values():
@@ -107,6 +127,7 @@ def options_table(report) -> Table:
     table.add_column("worst case")
     table.add_column("yield", justify="right")
     table.add_column("parts", justify="right")
+    table.add_column("why")
     table.add_column("locations")
     for o in report.ranked:
         cells = [str(o.rank), _kind(o.connection).name]
@@ -114,10 +135,28 @@ def options_table(report) -> Table:
             net = o.found.networks.get(r)
             cells.append(network_cell(net) if net is not None else "")
         mark = " *" if o.is_best_error else ""
-        cells += [_predicted_text(mode, o), _pct(o.error, 3) + mark, _range_text(mode, o),
-                  f"{o.yield_fraction * 100:.1f} %", str(o.nparts), _locations(o)]
+        cells += [_predicted_text(mode, o), errors_text(o) + mark, _range_text(mode, o),
+                  f"{o.yield_fraction * 100:.1f} %", str(o.nparts), o.why, _locations(o)]
         table.add_row(*map(cell, cells))
     return table
+
+
+def reach_lines(report) -> list[str]:
+    """When no option is nominally within the acceptance: one line saying so with the closest
+    error, and one line of parts to buy that would reach it (when any would)."""
+    if getattr(report, "within_acceptance", True) or not report.ranked:
+        return []
+    closest = min(report.ranked, key=lambda o: o.asked_error)
+    out = [f"Nothing in stock within ±{report.request.accept * 100:g} %; closest {errors_text(closest)} "
+           f"(option {closest.rank})."]
+    if report.suggestions:
+        unit = {"resistor": "Ω", "capacitor": "F"}
+        bits = [f"{s.role} {_fmt(s.value, unit[s.kind])} ({s.series}, instead of "
+                f"{_fmt(s.replaces, unit[s.kind])}): {errors_text(s)}" for s in report.suggestions]
+        out.append("To reach it, buy one of: " + "; ".join(bits) + ".")
+    else:
+        out.append("No single part of a preferred value (E12/E24/E96) would reach it either.")
+    return out
 
 
 def footer_lines(report) -> list[str]:
@@ -129,8 +168,9 @@ def footer_lines(report) -> list[str]:
                + ("; f = 1/(t_high + t_low), duty = t_high/(t_high + t_low) = the fraction of the "
                   "period the output is HIGH." if req.mode == "astable" else "."))
     if req.mode == "astable":
-        out.append("Error: the larger of the relative errors of t_high and t_low (signed); "
-                   "* marks the option with the smallest error the stock and limits allow.")
+        out.append("Error: f = frequency error (%), d = duty error in points (predicted − target duty); "
+                   "* marks the option with the smallest error the stock and limits allow "
+                   "(t_high and t_low both closest).")
     else:
         out.append("Error: relative error of the " + ("width" if req.mode == "monostable" else
                    ("corner" if "corner_hz" in report.target else "time constant"))
@@ -164,8 +204,9 @@ def footer_lines(report) -> list[str]:
     else:
         out.append(f"Ratings checked at {req.vcc:g} V across the parts (resistor power ≤ 50 % of "
                    "rating, capacitor rating × derating ≥ the voltage).")
-    out.append("Ranking: yield first (5-point bands), then score = max(|error|, worst-case "
-               "spread/4) in bands 25 % wide, then fewer parts, then |error|.")
+    out.append(f"Ranking: options nominally within ±{req.accept * 50:g} % (half the acceptance; duty "
+               "in points against that share of the target duty) first, then yield (within 2 "
+               "points counts as equal), then fewer parts, then smaller error.")
     keys: list[str] = []
     for o in report.ranked:
         for k in o.cautions:
@@ -185,6 +226,8 @@ def print_report(report, console: Optional[Console] = None) -> None:
         from rich.console import Console
 
         console = Console()
+    for line in reach_lines(report):
+        console.print(cell(line), highlight=False, markup=False)
     console.print(options_table(report))
     for line in footer_lines(report):
         console.print(line, highlight=False)  # wrapped at the terminal width, like the table

@@ -36,10 +36,29 @@ class BomReport:
     bom: core_bom.Bom
     stops: tuple[core_bom.PickStop, ...]
     stock: tuple[StockLine, ...]
+    alternatives: tuple = ()  # the saved option's other variants of the same build (JSON form)
 
     @property
     def shortages(self) -> list[core_bom.Shortage]:
         return core_bom.shortages(self.bom, self.stock)
+
+    @property
+    def alternatives_note(self) -> str:
+        """``; the same build from other drawers: ...`` naming each saved alternative's drawers
+        and stock lines (empty when the option has none)."""
+        names = []
+        for alt in self.alternatives:
+            lines: list[str] = []
+            for net in (alt.get("networks") or {}).values():
+                for p in (net or {}).get("parts") or []:
+                    where = f"{p.get('location') or '?'} (line {p.get('line_id')})"
+                    if where not in lines:
+                        lines.append(where)
+            if lines:
+                names.append(" + ".join(lines))
+        if not names:
+            return ""
+        return "; the same build from other drawers: " + "; or ".join(names)
 
 
 def _loads(text: str, what: str, search_id: int) -> dict[str, Any]:
@@ -133,7 +152,9 @@ def bom_in_session(
             f"option {saved.rank} of search {saved.search_id} is not in the expected form ({why}); "
             "run the search again"
         )
-    return BomReport(bom=bom, stops=tuple(core_bom.pick_list(bom, stock)), stock=tuple(stock))
+    alts = saved.data.get("alternatives")
+    return BomReport(bom=bom, stops=tuple(core_bom.pick_list(bom, stock)), stock=tuple(stock),
+                     alternatives=tuple(a for a in alts if isinstance(a, dict)) if isinstance(alts, list) else ())
 
 
 def build_bom(

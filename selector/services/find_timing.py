@@ -115,10 +115,14 @@ class TimingReport:
     limits: dict  # connection -> core.search.Limits
     network_counts: dict = field(default_factory=dict)
     search_id: Optional[int] = None
+    within_acceptance: bool = True  # some option is nominally within --accept in every error
+    suggestions: list = field(default_factory=list)  # core.suggest.Suggestion, when it is not
 
     @property
     def json(self) -> dict:
-        return {"target": self.target, "options": self.options}
+        return {"target": self.target, "options": self.options, "search": self.search_id,
+                "within_acceptance": self.within_acceptance,
+                "suggest_buy": [s.to_json() for s in self.suggestions]}
 
 
 def _target(req: TimingRequest):
@@ -159,13 +163,38 @@ def option_json(opt) -> dict:
         "range": {k: list(v) for k, v in opt.range.items()},
         "yield": opt.yield_fraction,
         "networks": {role: network_json(nets[role]) for role in order if role in nets},
+        "errors": dict(opt.errors),  # in the asker's terms (issue 11); `error` stays as it was
+        "why": opt.why,
+        "alternatives": [  # the same build from other drawers, tolerances or dielectrics
+            {"networks": {role: network_json(alt.networks[role]) for role in order if role in alt.networks},
+             "yield": y}
+            for alt, y in opt.alternatives],
     }
+
+
+def _reachable(req: TimingRequest, target, connections) -> tuple:
+    """The connections that could reach the target at all; when none can, NothingFeasible with
+    the limit that stops the first and what would reach it (from the registry)."""
+    from selector.core.errors import NothingFeasible
+
+    settings = req.settings
+    why = {c: circuits.get(c).why_unreachable(target, settings, req.accept) for c in connections}
+    ok = tuple(c for c in connections if why[c] is None)
+    if ok:
+        return ok
+    kinds = [circuits.get(c) for c in connections]
+    hint = circuits.reaching(target, settings, req.accept, req.mode, kinds)
+    tail = (" would reach it" if len(hint) == 1 else " would each reach it") if hint else ""
+    none = "; no connection or chip family here reaches it" if req.mode == "astable" else \
+        "; no chip family here reaches it"
+    raise NothingFeasible(why[connections[0]] + ("; " + " or ".join(hint) + tail if hint else none))
 
 
 def plan_timing(r_lines, c_lines, req: TimingRequest,
                 progress: Optional[Callable[[float], None]] = None) -> TimingReport:
     """Search, evaluate and rank (pure: no database). Raises NothingFeasible when nothing fits."""
     from selector.core.ranking import evaluate_and_rank
+    from selector.core.suggest import suggest_buy
     from selector.core.search import choose_connections, resolve_limits, search_timing
 
     req.check()
@@ -176,14 +205,20 @@ def plan_timing(r_lines, c_lines, req: TimingRequest,
                                          options)
     else:
         connections = (req.mode,)
+    connections = _reachable(req, target, connections)
     limits = {c: resolve_limits(c, req.chip, req.vcc, req.vf, options) for c in connections}
     result = search_timing(r_lines, c_lines, target, connections, limits, max_parts=req.max_parts,
                            boards=req.boards, pool=2 * max(req.top, 5), progress=progress)
     ranked = evaluate_and_rank(result.options, target, limits, req.accept, req.top,
-                               req.distribution, req.samples, req.seed)
+                               req.distribution, req.samples, req.seed,
+                               folded=getattr(result, "folded", ()),
+                               stock=list(r_lines) + list(c_lines), boards=req.boards)
     options = [option_json(o) for o in ranked]
+    within = any(o.tier <= 1 for o in ranked)
+    buy = [] if within else suggest_buy(ranked, target, limits, req.accept)
     return TimingReport(req, target_json(req, target), params_json(req), options, ranked,
-                        tuple(connections), limits, result.network_counts)
+                        tuple(connections), limits, result.network_counts,
+                        within_acceptance=within, suggestions=buy)
 
 
 def save_search(session, report: TimingReport) -> int:

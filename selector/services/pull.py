@@ -81,7 +81,9 @@ def shortage_message(report: BomReport, shortages: list[core_bom.Shortage]) -> s
         f"{line_label(by_id[s.line_id])} holds {s.on_hand}, needs {s.needed} ({s.missing} missing)"
         for s in shortages
     )
-    return f"not enough stock for option {bom.option} of search {bom.search_id} for {boards}: {each}; nothing was taken"
+    return (f"not enough stock for option {bom.option} of search {bom.search_id} for {boards}: {each}; "
+            f"nothing was taken{report.alternatives_note}")
+
 
 
 def _pull_in_session(

@@ -15,6 +15,8 @@ LN2, LN3 = math.log(2.0), math.log(3.0)
 OPTION_KEYS = {"rank", "connection", "error", "predicted", "range", "yield", "networks"}
 NETWORK_KEYS = {"value", "shape", "parts"}
 PART_KEYS = {"line_id", "value", "count", "location"}
+ADDED_OPTION_KEYS = {"errors", "why", "alternatives", "yield_parts_only"}  # issue 11 additions
+ADDED_TOP_KEYS = {"search", "within_acceptance", "suggest_buy"}
 PARAM_KEYS = {"chip", "vcc", "diode_vf", "boards", "max_parts", "accept", "distribution", "seed",
               "connection", "top"}
 
@@ -33,10 +35,10 @@ def _json(cli, db, *args):
 
 
 def _check_shape(doc, roles, predicted_keys):
-    assert set(doc) == {"target", "options"}
+    assert {"target", "options"} <= set(doc) <= {"target", "options"} | ADDED_TOP_KEYS
     assert doc["options"], "no options"
     for i, opt in enumerate(doc["options"], start=1):
-        assert set(opt) == OPTION_KEYS
+        assert OPTION_KEYS <= set(opt) <= OPTION_KEYS | ADDED_OPTION_KEYS
         assert opt["rank"] == i
         assert set(opt["networks"]) == set(roles)
         for net in opt["networks"].values():

@@ -46,3 +46,25 @@ def of_option(mode: str, connection: str) -> CircuitKind:
     if len(kinds) == 1:
         return kinds[0]
     raise KeyError(connection)
+
+
+def reaching(target, settings, accept: float, mode: str, kinds=()) -> list[str]:
+    """What would reach ``target`` when the circuit kinds ``kinds`` cannot: the command-line
+    changes (``--connection X``, ``--chip Y``) under which some kind of ``mode`` has no reason to
+    refuse (``why_unreachable``), one change at a time."""
+    import dataclasses
+
+    from selector.core import chips
+
+    out: list[str] = []
+    tried = {k.key for k in kinds}
+    for kind in for_mode(mode):
+        if kind.key not in tried and kind.why_unreachable(target, settings, accept) is None:
+            out.append(f"--connection {kind.key}")
+    for fam in chips.FAMILIES:
+        if fam == settings.chip:
+            continue
+        other = dataclasses.replace(settings, chip=fam)
+        if any(k.why_unreachable(target, other, accept) is None for k in kinds):
+            out.append(f"--chip {fam}")
+    return out

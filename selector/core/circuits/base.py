@@ -203,6 +203,27 @@ class CircuitKind:
     def check_available(self, target: Target, settings: Settings) -> None:
         """Raise NothingFeasible when this circuit cannot reach ``target`` at all (default: it can)."""
 
+    def why_unreachable(self, target: Target, settings: Settings, accept: float) -> Optional[str]:
+        """Why no parts at all could bring this circuit within ``accept`` of ``target`` (one line
+        naming the limit), or None when it can (default: ``check_available`` and the frequency
+        limit: a target whose frequency is above ``max_freq_hz`` by more than the acceptance)."""
+        from selector.core.errors import NothingFeasible, OutOfRange
+        from selector.core.notation import format_value
+
+        try:
+            self.check_available(target, settings)
+            lim = self.limits(settings)
+        except (NothingFeasible, OutOfRange) as e:
+            return str(e)
+        if target.mode == "astable" and target.frequency * (1.0 - accept) > lim.max_freq_hz:
+            return (f"{format_value(target.frequency, 'Hz')} is above the {format_value(lim.max_freq_hz, 'Hz')} "
+                    f"limit of the {self.name} connection{self.limit_owner(settings)}")
+        return None
+
+    def limit_owner(self, settings: Settings) -> str:
+        """Words naming whose limit it is, after the connection's name (default: none)."""
+        return ""
+
     def auto_ok(self, target: Target, settings: Settings, accept: float) -> bool:
         """Whether ``--connection auto`` searches this circuit for ``target``."""
         return self.in_auto
@@ -272,6 +293,14 @@ class ModeBase(CircuitKind):
 
     def in_spec(self, outs: Sequence, target: Target, accept: float):
         raise NotImplementedError
+
+    def errors(self, predicted: Mapping[str, float], target: Target) -> dict:
+        """The nominal errors in the asker's terms (signed fractions), keyed as in the JSON."""
+        raise NotImplementedError
+
+    def asked_error(self, errors: Mapping[str, float], target: Target) -> float:
+        """One figure comparable with --accept (default: the largest |error|)."""
+        return max(abs(v) for v in errors.values())
 
 
 def check_positive(name: str, v) -> None:

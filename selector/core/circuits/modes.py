@@ -31,6 +31,22 @@ class AstableKind(ModeBase):
             ok = ok & (np.abs(outs[1] / target.duty - 1) <= accept)
         return ok
 
+    def errors(self, predicted: Mapping[str, float], target: Target) -> dict:
+        """Errors in the asker's terms: frequency (relative) and, when a duty was asked, the duty
+        in points (predicted - target duty, as a fraction); signed."""
+        out = {"frequency": predicted["frequency_hz"] / target.frequency - 1.0}
+        if target.duty_given:
+            out["duty_points"] = predicted["duty"] - target.duty
+        return out
+
+    def asked_error(self, errors: Mapping[str, float], target: Target) -> float:
+        """One figure comparable with --accept: the largest of |frequency error| and |duty points|
+        judged against accept x the target duty (so duty points / target duty)."""
+        out = abs(errors["frequency"])
+        if "duty_points" in errors:
+            out = max(out, abs(errors["duty_points"]) / target.duty)
+        return out
+
     def check_target(self, req, duty_optional: bool = False) -> None:
         """A frequency and, unless every circuit searched fixes its own duty, a duty."""
         from selector.core.errors import OutOfRange
@@ -131,6 +147,11 @@ class Timer555:
 
         chips.family(settings.chip).check_vcc(settings.vcc)
 
+    def limit_owner(self, settings: Settings) -> str:
+        from selector.core import chips
+
+        return f" with a {chips.family(settings.chip).label} at {settings.vcc:g} V"
+
     def base_limits(self, settings: Settings, astable: bool) -> dict:
         from selector.core import chips, parts
 
@@ -227,6 +248,10 @@ class MonostableKind(ModeBase):
 
         return np.abs(outs[0] / target.width - 1) <= accept
 
+    def errors(self, predicted: Mapping[str, float], target: Target) -> dict:
+        """The width error (relative, signed)."""
+        return {"width": predicted["width_s"] / target.width - 1.0}
+
     def spice_reduce(self, c, found, cycles):
         r1 = sp._need(found, "m_r1", "the output rising at the trigger")
         f1 = sp._need(found, "m_f1", "the output falling at the end of the pulse")
@@ -276,6 +301,12 @@ class RCKind(ModeBase):
         if not math.isnan(target.corner_hz):
             return np.abs(outs[1] / target.corner_hz - 1) <= accept
         return np.abs(outs[0] / target.tau - 1) <= accept
+
+    def errors(self, predicted: Mapping[str, float], target: Target) -> dict:
+        """The corner error when a corner was asked, else the time-constant error (relative, signed)."""
+        if not math.isnan(target.corner_hz):
+            return {"corner": predicted["corner_hz"] / target.corner_hz - 1.0}
+        return {"tau": predicted["tau_s"] / target.tau - 1.0}
 
     def spice_header(self, c) -> str:
         return f"* RC low-pass, step of {c.chip.vcc:g} V"

@@ -22,6 +22,23 @@ class Monostable(Timer555, MonostableKind):
     def limits(self, settings: Settings) -> Limits:
         return Limits(**self.base_limits(settings, astable=False))
 
+    def why_unreachable(self, target: Target, settings: Settings, accept: float):
+        """Also: the shortest pulse the limits allow is ln3 x the smallest R x the smallest timing
+        C; a width below it by more than the acceptance cannot be reached."""
+        why = super().why_unreachable(target, settings, accept)
+        if why is not None:
+            return why
+        from selector.core import timing
+        from selector.core.notation import format_value
+
+        lim = self.limits(settings)
+        shortest = float(timing.monostable_width(lim.min_r_ohm, lim.min_c_f))
+        if target.width * (1.0 + accept) < shortest:
+            return (f"a {format_value(target.width, 's')} pulse is below the shortest the limits allow, "
+                    f"{format_value(shortest, 's')} (R ≥ {format_value(lim.min_r_ohm, 'Ω')}, C ≥ "
+                    f"{format_value(lim.min_c_f, 'F')}{self.limit_owner(settings)})")
+        return None
+
     def model(self, v, limits: Limits, extra) -> tuple:
         from selector.core import timing
 

@@ -54,6 +54,19 @@ class OutputFed(Timer555, FixedRatioAstable):
                 f"the output-fed connection is offered only for a chip with a rail-to-rail output "
                 f"(--chip cmos); a {fam.label} output is not (facts: load- and VCC-dependent)")
 
+    def why_unreachable(self, target: Target, settings: Settings, accept: float):
+        """Also: its duty is fixed by the output levels, so a duty asked further from it than the
+        acceptance (in points against accept x the target duty) cannot be reached."""
+        why = super().why_unreachable(target, settings, accept)
+        if why is not None or not target.duty_given:
+            return why
+        fixed = self.natural_duty(self.limits(settings))
+        if fixed is not None and abs(fixed - target.duty) > accept * target.duty * (1 + 1e-12):
+            return (f"the output-fed connection runs at a fixed duty of {fixed:.1%} with this chip at "
+                    f"{settings.vcc:g} V; {target.duty:.1%} is {abs(fixed - target.duty) * 100:.1f} points "
+                    f"away, more than the ±{accept:.0%} acceptance allows")
+        return None
+
     def spice_body(self, c) -> list[str]:
         cn = sp._net(c, "C")
         L = sp.network_lines(sp._net(c, "R"), "out", "cap")

@@ -178,6 +178,7 @@ class SearchResult:
     exclusions: Exclusions
     connections: tuple
     network_counts: dict = field(default_factory=dict)
+    folded: list = field(default_factory=list)  # same build from other drawers (the alternatives)
 
     @property
     def best_error(self) -> float:
@@ -220,16 +221,18 @@ def search_timing(r_lines: Sequence, c_lines: Sequence, target: Target, connecti
             done_w += weights[budget]
     if progress:
         progress(1.0)
-    options, seen = [], set()
+    options, seen, folded = [], set(), []
     for o in sorted(found.values(), key=lambda o: (o.abs_error, o.nparts)):
         k = o.same_build_key()
         if k not in seen:
             seen.add(k)
             options.append(o)
+        else:
+            folded.append(o)
     if not options:
         what = target.mode if target.mode != "astable" else "astable (" + ", ".join(connections) + ")"
         raise NothingFeasible(ex.message(what))
-    return SearchResult(options, ex, tuple(connections), counts)
+    return SearchResult(options, ex, tuple(connections), counts, folded)
 
 
 def _indexes(r_lines, c_lines, budget: int, boards: int, indexes: Optional[dict],
