@@ -12,7 +12,7 @@ import typer
 from selector.cli._common import db_arg, handles_errors, json_text, whole
 from selector.core import chips, circuits  # the family table and the registry: light, no numpy
 from selector.core.limits import MAX_BOARDS, MAX_SAMPLES, MAX_SEED, MAX_TOP
-from selector.core.parts import DIODE_VF_DEFAULT
+from selector.core.parts import DIODE_N_DEFAULT, DIODE_TYPES, DIODE_VF_DEFAULT
 
 _ASTABLES = circuits.for_mode("astable")
 
@@ -26,6 +26,9 @@ _CONNECTION_HELP = ("Wiring: " + ", ".join(k.help for k in _ASTABLES if getattr(
 
 ChipChoice = Enum("ChipChoice", {key: key for key in chips.FAMILIES}, type=str)
 """--chip choices: every 555 family in core.chips (a new family is one entry there)."""
+
+
+DiodeChoice = Enum("DiodeChoice", {k: k for k in DIODE_TYPES}, type=str)
 
 
 class DistributionChoice(str, Enum):
@@ -144,7 +147,9 @@ def astable(
     connection: ConnectionChoice = typer.Option(ConnectionChoice.auto, "--connection", help=_CONNECTION_HELP),
     chip: ChipChoice = typer.Option(ChipChoice.bipolar, "--chip", help=_COMMON_HELP["chip"]),
     vcc: str = typer.Option("9V", "--vcc", metavar="V", help=_COMMON_HELP["vcc"]),
-    diode_vf: Optional[str] = typer.Option(None, "--diode-vf", metavar="V", help=f"Forward drop of the steering diode (default {DIODE_VF_DEFAULT:g} V, small-signal silicon)."),
+    diode_vf: Optional[str] = typer.Option(None, "--diode-vf", metavar="V", help=f"Forward drop of the steering diode at 1 mA (default {DIODE_VF_DEFAULT:g} V, small-signal silicon)."),
+    diode_n: Optional[float] = typer.Option(None, "--diode-n", metavar="N", help=f"Ideality factor of the steering diode (default {DIODE_N_DEFAULT:g}; about 1.05 for a Schottky)."),
+    diode_type: Optional[DiodeChoice] = typer.Option(None, "--diode", help="Steering diode type: sets --diode-vf and --diode-n unless they are given."),
     max_parts: int = typer.Option(2, "--max-parts", parser=whole("--max-parts", 1, 3), metavar="N", help=_COMMON_HELP["max_parts"]),
     top: int = typer.Option(10, "--top", parser=whole("--top", 1, MAX_TOP), metavar="K", help=_COMMON_HELP["top"]),
     boards: int = typer.Option(1, "--boards", parser=whole("--boards", 1, MAX_BOARDS), metavar="B", help=_COMMON_HELP["boards"]),
@@ -163,6 +168,12 @@ def astable(
         fail(f"--duty is required for --connection {connection.value} (only a circuit that fixes its "
              "own duty can do without)", 2)
     options = _circuit_options(connection.value, circuit)
+    if diode_type is not None:
+        vf_typ, n_typ = DIODE_TYPES[diode_type.value]
+        diode_vf = f"{vf_typ:g}V" if diode_vf is None else diode_vf
+        diode_n = n_typ if diode_n is None else diode_n
+    if diode_n is not None:
+        options["diode_n"] = float(diode_n)
     _run(ctx, as_json, mode="astable", freq_hz=_value(freq, "Hz", "--freq"),
          duty=_fraction(duty, "--duty") if duty is not None else None,
          connection=connection.value, chip=chip.value, vcc_text=vcc, vf_text=diode_vf,

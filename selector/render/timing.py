@@ -4,6 +4,8 @@ runs longer than about a second."""
 
 from __future__ import annotations
 
+from selector.core.parts import DIODE_N_DEFAULT
+
 import math
 import time
 from typing import TYPE_CHECKING, Optional
@@ -158,7 +160,8 @@ def footer_lines(report) -> list[str]:
         if req.mode == "astable":
             bits.append(f"f ≤ {_fmt(lim.max_freq_hz, 'Hz')}")
             if any(k.uses_diode for k in kinds):
-                bits.append(f"diode Vf {req.vf:g} V")
+                n = req.settings.options.get("diode_n")
+                bits.append(f"diode Vf {req.vf:g} V at 1 mA, n {n if n is not None else DIODE_N_DEFAULT:g}")
         bits.append("resistor power ≤ 50 % of rating, capacitor rating × derating ≥ VCC")
         out.append("Chip: " + "; ".join(bits) + f" ({chip_error}).")
     else:

@@ -81,6 +81,9 @@ class TimingRequest:
         if self.diode_vf is not None and not (0.0 <= self.diode_vf < self.vcc / 3.0):
             raise OutOfRange(f"--diode-vf {self.diode_vf:g} V must be at least 0 V and below VCC/3 "
                              f"({self.vcc / 3.0:.3g} V)")
+        n = self.options.get("diode_n")
+        if n is not None and not (0.8 <= n <= 3.0):
+            raise OutOfRange(f"--diode-n {n:g} must be between 0.8 and 3 (the diode's ideality factor)")
         if self.max_parts not in (1, 2, 3):
             raise OutOfRange(f"--max-parts must be 1, 2 or 3, not {self.max_parts}")
         if self.top < 1:

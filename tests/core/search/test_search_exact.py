@@ -140,7 +140,10 @@ def reference_best(r_lines, c_lines, target, connection, lim, max_parts, boards)
             if connection == "standard":
                 th = LN2 * (ra[0] + rb[0]) * c
             else:
-                th = timing.diode_times(ra[0], rb[0], c, lim.vcc, lim.diode_vf)[0]
+                # Shockley diode (the physics the search uses, checked against a scipy ODE in
+                # tests/reference/test_diode_shockley_reference.py); n from the limits
+                th = timing.diode_shockley_times(ra[0], rb[0], c, lim.vcc, lim.diode_vf,
+                                                 lim.extra.get("diode_n", 1.9))[0]
             tl = LN2 * rb[0] * c
             ok = 1.0 / (th + tl) <= lim.max_freq_hz * (1 + 1e-9)
             e = np.maximum(np.abs(th / target.t_high - 1), np.abs(tl / target.t_low - 1))
