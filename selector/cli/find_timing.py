@@ -136,6 +136,7 @@ _COMMON_HELP = {
     "distribution": "How part values spread inside their tolerance for the yield.",
     "seed": "Seed of the yield simulation (same seed, same figures).",
     "samples": "Simulated builds per option (at least 10000).",
+    "vcc_tol": "Supply tolerance the yield draws the chip's supply drift across, e.g. 5% (default 5 %, a regulated supply).",
 }
 
 
@@ -147,8 +148,9 @@ def astable(
     connection: ConnectionChoice = typer.Option(ConnectionChoice.auto, "--connection", help=_CONNECTION_HELP),
     chip: ChipChoice = typer.Option(ChipChoice.bipolar, "--chip", help=_COMMON_HELP["chip"]),
     vcc: str = typer.Option("9V", "--vcc", metavar="V", help=_COMMON_HELP["vcc"]),
+    vcc_tol: Optional[str] = typer.Option(None, "--vcc-tol", metavar="PCT", help=_COMMON_HELP["vcc_tol"]),
     diode_vf: Optional[str] = typer.Option(None, "--diode-vf", metavar="V", help=f"Forward drop of the steering diode at 1 mA (default {DIODE_VF_DEFAULT:g} V, small-signal silicon)."),
-    diode_n: Optional[float] = typer.Option(None, "--diode-n", metavar="N", help=f"Ideality factor of the steering diode (default {DIODE_N_DEFAULT:g}; about 1.05 for a Schottky)."),
+    diode_n: Optional[str] = typer.Option(None, "--diode-n", metavar="N", help=f"Ideality factor of the steering diode (default {DIODE_N_DEFAULT:g}; about 1.05 for a Schottky)."),
     diode_type: Optional[DiodeChoice] = typer.Option(None, "--diode", help="Steering diode type: sets --diode-vf and --diode-n unless they are given."),
     max_parts: int = typer.Option(2, "--max-parts", parser=whole("--max-parts", 1, 3), metavar="N", help=_COMMON_HELP["max_parts"]),
     top: int = typer.Option(10, "--top", parser=whole("--top", 1, MAX_TOP), metavar="K", help=_COMMON_HELP["top"]),
@@ -173,7 +175,12 @@ def astable(
         diode_vf = f"{vf_typ:g}V" if diode_vf is None else diode_vf
         diode_n = n_typ if diode_n is None else diode_n
     if diode_n is not None:
-        options["diode_n"] = float(diode_n)
+        try:
+            options["diode_n"] = float(str(diode_n).strip())
+        except ValueError:
+            fail(f"--diode-n {diode_n!r}: expected a number such as 1.9 (the diode's ideality factor)", 2)
+    if vcc_tol is not None:
+        options["vcc_tol"] = _fraction(vcc_tol, "--vcc-tol")
     _run(ctx, as_json, mode="astable", freq_hz=_value(freq, "Hz", "--freq"),
          duty=_fraction(duty, "--duty") if duty is not None else None,
          connection=connection.value, chip=chip.value, vcc_text=vcc, vf_text=diode_vf,
@@ -186,6 +193,7 @@ def monostable(
     width: str = typer.Option(..., "--width", metavar="T", help="Pulse width, e.g. 150ms, 2.5s, 0.1."),
     chip: ChipChoice = typer.Option(ChipChoice.bipolar, "--chip", help=_COMMON_HELP["chip"]),
     vcc: str = typer.Option("9V", "--vcc", metavar="V", help=_COMMON_HELP["vcc"]),
+    vcc_tol: Optional[str] = typer.Option(None, "--vcc-tol", metavar="PCT", help=_COMMON_HELP["vcc_tol"]),
     max_parts: int = typer.Option(2, "--max-parts", parser=whole("--max-parts", 1, 3), metavar="N", help=_COMMON_HELP["max_parts"]),
     top: int = typer.Option(10, "--top", parser=whole("--top", 1, MAX_TOP), metavar="K", help=_COMMON_HELP["top"]),
     boards: int = typer.Option(1, "--boards", parser=whole("--boards", 1, MAX_BOARDS), metavar="B", help=_COMMON_HELP["boards"]),
@@ -196,9 +204,10 @@ def monostable(
     as_json: bool = typer.Option(False, "--json", help=_COMMON_HELP["json"]),
 ) -> None:
     """Find R and C networks in stock for a monostable (one-shot) 555 pulse width."""
+    options = {"vcc_tol": _fraction(vcc_tol, "--vcc-tol")} if vcc_tol is not None else {}
     _run(ctx, as_json, mode="monostable", width_s=_value(width, "s", "--width"), chip=chip.value,
          vcc_text=vcc, max_parts=max_parts, top=top, boards=boards, accept_text=accept,
-         distribution=distribution.value, seed=seed, samples=samples)
+         distribution=distribution.value, seed=seed, samples=samples, options=options)
 
 def rc(
     ctx: typer.Context,

@@ -146,9 +146,10 @@ def footer_lines(report) -> list[str]:
     else:
         what = "width" if req.mode == "monostable" else ("corner" if "corner_hz" in report.target else "time constant")
         yl = f"the {what} within {acc} of target"
-    spread = [u.label or u.name for k in kinds for u in k.uncertain(report.limits[k.key])]
+    spread = list(dict.fromkeys(u.label or u.name for k in kinds for u in k.uncertain(report.limits[k.key])))
     spread_text = "part tolerances only" if not spread else "part tolerances and the spread of " + " and ".join(spread)
-    out.append(f"Worst case: corners of every part's tolerance band. Yield: share of "
+    corner_text = " and of each term the yield names" if spread else ""
+    out.append(f"Worst case: corners of every part's tolerance band{corner_text}. Yield: share of "
                f"{req.samples:,} simulated builds ({req.distribution} within tolerance, seed {req.seed}) "
                f"with {yl}; {spread_text}.")
     settings = req.settings

@@ -81,6 +81,9 @@ class TimingRequest:
         if self.diode_vf is not None and not (0.0 <= self.diode_vf < self.vcc / 3.0):
             raise OutOfRange(f"--diode-vf {self.diode_vf:g} V must be at least 0 V and below VCC/3 "
                              f"({self.vcc / 3.0:.3g} V)")
+        vt = self.options.get("vcc_tol")
+        if vt is not None and not (0.0 <= vt < 0.5):
+            raise OutOfRange(f"--vcc-tol {vt * 100:g} % must be at least 0 % and below 50 %")
         n = self.options.get("diode_n")
         if n is not None and not (0.8 <= n <= 3.0):
             raise OutOfRange(f"--diode-n {n:g} must be between 0.8 and 3 (the diode's ideality factor)")
@@ -161,6 +164,7 @@ def option_json(opt) -> dict:
         "predicted": dict(opt.predicted),
         "range": {k: list(v) for k, v in opt.range.items()},
         "yield": opt.yield_fraction,
+        "yield_parts_only": opt.yield_parts_only,
         "networks": {role: network_json(nets[role]) for role in order if role in nets},
     }
 

@@ -40,9 +40,11 @@ class Diode(Timer555, AstableKind):
 
         vf = limits.diode_vf
         if not vf or vf <= DIODE_VF_SPREAD:
-            return ()
+            return tuple(limits.chip_terms)
         band = DIODE_VF_SPREAD / vf
-        return (Uncertain("diode_vf", vf, band, band, "diode Vf"),)
+        return tuple(limits.chip_terms) + (
+            Uncertain("diode_vf", vf, band, band, f"diode Vf ±{DIODE_VF_SPREAD * 1e3:g} mV",
+                      in_parts_only=False),)
 
     def auto_ok(self, target: Target, settings: Settings, accept: float) -> bool:
         return 3.0 * settings.diode_vf < settings.vcc
