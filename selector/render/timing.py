@@ -168,6 +168,11 @@ def footer_lines(report) -> list[str]:
     else:
         out.append(f"Ratings checked at {req.vcc:g} V across the parts (resistor power ≤ 50 % of "
                    "rating, capacitor rating × derating ≥ the voltage).")
+    if getattr(report, "leakage_excluded", 0):
+        out.append(f"Leakage: {report.leakage_excluded} capacitor network(s) with an electrolytic left out: "
+                   "their rated leakage (0.01·C·V or 3 µA) was above 1/10 of the charging current at the "
+                   "threshold (common practice); long timings need film capacitors with a large R, "
+                   "or a CMOS 555.")
     out.append("Ranking: yield first (5-point bands), then score = max(|error|, worst-case "
                "spread/4) in bands 25 % wide, then fewer parts, then |error|.")
     keys: list[str] = []

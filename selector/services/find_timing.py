@@ -121,6 +121,7 @@ class TimingReport:
     limits: dict  # connection -> core.search.Limits
     network_counts: dict = field(default_factory=dict)
     search_id: Optional[int] = None
+    leakage_excluded: int = 0  # capacitor networks the electrolytic leakage limit left out
 
     @property
     def json(self) -> dict:
@@ -189,8 +190,11 @@ def plan_timing(r_lines, c_lines, req: TimingRequest,
     ranked = evaluate_and_rank(result.options, target, limits, req.accept, req.top,
                                req.distribution, req.samples, req.seed)
     options = [option_json(o) for o in ranked]
+    from selector.core.search.lookup import LEAKAGE_REASON
+
     return TimingReport(req, target_json(req, target), params_json(req), options, ranked,
-                        tuple(connections), limits, result.network_counts)
+                        tuple(connections), limits, result.network_counts,
+                        leakage_excluded=result.exclusions.counts.get(LEAKAGE_REASON, 0))
 
 
 def save_search(session, report: TimingReport) -> int:

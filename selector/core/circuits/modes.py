@@ -137,6 +137,14 @@ class Timer555:
 
     has_discharge_switch = True
 
+    def charge_r_ideal(self, target: Target, c, limits):
+        """The charging resistance the target needs with capacitance ``c`` by the ideal formula
+        (monostable width/(ln3·C) [S3, S5]; astable t_high/(ln2·C) [S2, S3]), for the leakage
+        limit (``search.lookup._leakage_ok``)."""
+        if target.mode == "monostable":
+            return target.width / (math.log(3.0) * c)
+        return target.t_high / (math.log(2.0) * c)
+
     def spice_device_name(self, c) -> str:
         return f"{c.chip.family} 555"
 
