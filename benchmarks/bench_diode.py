@@ -8,8 +8,8 @@ capacitors, 10 each). "before" runs the same search with the circuit's model swa
 process, for the constant-drop closed form (timing.diode_times / diode_ideal_ra, the code path
 before issue 10); "after" is the Shockley model the search uses now.
 
-Measured (2-core shared machine, 2 Dec 2026): before 48 ms, after 58 ms, 1.21x (target ≤ 1.5x);
-a second run 1.2x.
+Measured (2-core shared machine, 2 Dec 2026): before 48 ms, after 58 ms, 1.21x; a second run
+69 ms vs 92 ms, 1.34x (target ≤ 1.5x; the machine is shared, so runs vary).
 """
 
 from __future__ import annotations

@@ -185,6 +185,8 @@ def plan_timing(r_lines, c_lines, req: TimingRequest,
     else:
         connections = (req.mode,)
     limits = {c: resolve_limits(c, req.chip, req.vcc, req.vf, options) for c in connections}
+    for c in connections:
+        circuits.get(c).check_reach(target, limits[c], req.accept)
     result = search_timing(r_lines, c_lines, target, connections, limits, max_parts=req.max_parts,
                            boards=req.boards, pool=2 * max(req.top, 5), progress=progress)
     ranked = evaluate_and_rank(result.options, target, limits, req.accept, req.top,

@@ -205,6 +205,10 @@ class CircuitKind:
     def check_available(self, target: Target, settings: Settings) -> None:
         """Raise NothingFeasible when this circuit cannot reach ``target`` at all (default: it can)."""
 
+    def check_reach(self, target: Target, limits: Limits, accept: float = 0.0) -> None:
+        """Raise NothingFeasible naming the limit when the target itself lies outside what the
+        circuit's limits allow (default: nothing to check)."""
+
     def auto_ok(self, target: Target, settings: Settings, accept: float) -> bool:
         """Whether ``--connection auto`` searches this circuit for ``target``."""
         return self.in_auto

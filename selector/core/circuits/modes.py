@@ -137,6 +137,19 @@ class Timer555:
 
     has_discharge_switch = True
 
+    def check_reach(self, target: Target, limits, accept: float = 0.0) -> None:
+        """An astable target that no option at or below the family's maximum frequency can come
+        within ``accept`` of is refused with that limit named (the chip table's ``max_astable_hz``
+        and its source), instead of being blamed on the capacitors."""
+        from selector.core.errors import NothingFeasible
+
+        if target.mode == "astable" and target.frequency * (1.0 - accept) > limits.max_freq_hz:
+            raise NothingFeasible(
+                f"{target.frequency / 1e3:g} kHz is above the {limits.max_freq_hz / 1e3:g} kHz maximum "
+                f"frequency of this chip family's astable (the formulas lose accuracy above it: the "
+                f"comparator and discharge delays lengthen the period), and nothing at or below it "
+                f"comes within ±{accept * 100:g} % of the target")
+
     def charge_r_ideal(self, target: Target, c, limits):
         """The charging resistance the target needs with capacitance ``c`` by the ideal formula
         (monostable width/(ln3·C) [S3, S5]; astable t_high/(ln2·C) [S2, S3]), for the leakage
