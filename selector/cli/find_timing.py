@@ -12,7 +12,7 @@ import typer
 from selector.cli._common import db_arg, handles_errors, json_text, whole
 from selector.core import chips, circuits  # the family table and the registry: light, no numpy
 from selector.core.limits import MAX_BOARDS, MAX_SAMPLES, MAX_SEED, MAX_TOP
-from selector.core.parts import DIODE_VF_DEFAULT
+from selector.core.parts import DIODE_N_DEFAULT, DIODE_TYPES, DIODE_VF_DEFAULT
 
 _ASTABLES = circuits.for_mode("astable")
 
@@ -26,6 +26,9 @@ _CONNECTION_HELP = ("Wiring: " + ", ".join(k.help for k in _ASTABLES if getattr(
 
 ChipChoice = Enum("ChipChoice", {key: key for key in chips.FAMILIES}, type=str)
 """--chip choices: every 555 family in core.chips (a new family is one entry there)."""
+
+
+DiodeChoice = Enum("DiodeChoice", {k: k for k in DIODE_TYPES}, type=str)
 
 
 class DistributionChoice(str, Enum):
@@ -133,6 +136,7 @@ _COMMON_HELP = {
     "distribution": "How part values spread inside their tolerance for the yield.",
     "seed": "Seed of the yield simulation (same seed, same figures).",
     "samples": "Simulated builds per option (at least 10000).",
+    "vcc_tol": "Supply tolerance the yield draws the chip's supply drift across, e.g. 5% (default 5 %, a regulated supply).",
 }
 
 
@@ -144,7 +148,10 @@ def astable(
     connection: ConnectionChoice = typer.Option(ConnectionChoice.auto, "--connection", help=_CONNECTION_HELP),
     chip: ChipChoice = typer.Option(ChipChoice.bipolar, "--chip", help=_COMMON_HELP["chip"]),
     vcc: str = typer.Option("9V", "--vcc", metavar="V", help=_COMMON_HELP["vcc"]),
-    diode_vf: Optional[str] = typer.Option(None, "--diode-vf", metavar="V", help=f"Forward drop of the steering diode (default {DIODE_VF_DEFAULT:g} V, small-signal silicon)."),
+    vcc_tol: Optional[str] = typer.Option(None, "--vcc-tol", metavar="PCT", help=_COMMON_HELP["vcc_tol"]),
+    diode_vf: Optional[str] = typer.Option(None, "--diode-vf", metavar="V", help=f"Forward drop of the steering diode at 1 mA (default {DIODE_VF_DEFAULT:g} V, small-signal silicon)."),
+    diode_n: Optional[str] = typer.Option(None, "--diode-n", metavar="N", help=f"Ideality factor of the steering diode (default {DIODE_N_DEFAULT:g}; about 1.05 for a Schottky)."),
+    diode_type: Optional[DiodeChoice] = typer.Option(None, "--diode", help="Steering diode type: sets --diode-vf and --diode-n unless they are given."),
     max_parts: int = typer.Option(2, "--max-parts", parser=whole("--max-parts", 1, 3), metavar="N", help=_COMMON_HELP["max_parts"]),
     top: int = typer.Option(10, "--top", parser=whole("--top", 1, MAX_TOP), metavar="K", help=_COMMON_HELP["top"]),
     boards: int = typer.Option(1, "--boards", parser=whole("--boards", 1, MAX_BOARDS), metavar="B", help=_COMMON_HELP["boards"]),
@@ -163,6 +170,17 @@ def astable(
         fail(f"--duty is required for --connection {connection.value} (only a circuit that fixes its "
              "own duty can do without)", 2)
     options = _circuit_options(connection.value, circuit)
+    if diode_type is not None:
+        vf_typ, n_typ = DIODE_TYPES[diode_type.value]
+        diode_vf = f"{vf_typ:g}V" if diode_vf is None else diode_vf
+        diode_n = n_typ if diode_n is None else diode_n
+    if diode_n is not None:
+        try:
+            options["diode_n"] = float(str(diode_n).strip())
+        except ValueError:
+            fail(f"--diode-n {diode_n!r}: expected a number such as 1.9 (the diode's ideality factor)", 2)
+    if vcc_tol is not None:
+        options["vcc_tol"] = _fraction(vcc_tol, "--vcc-tol")
     _run(ctx, as_json, mode="astable", freq_hz=_value(freq, "Hz", "--freq"),
          duty=_fraction(duty, "--duty") if duty is not None else None,
          connection=connection.value, chip=chip.value, vcc_text=vcc, vf_text=diode_vf,
@@ -175,6 +193,7 @@ def monostable(
     width: str = typer.Option(..., "--width", metavar="T", help="Pulse width, e.g. 150ms, 2.5s, 0.1."),
     chip: ChipChoice = typer.Option(ChipChoice.bipolar, "--chip", help=_COMMON_HELP["chip"]),
     vcc: str = typer.Option("9V", "--vcc", metavar="V", help=_COMMON_HELP["vcc"]),
+    vcc_tol: Optional[str] = typer.Option(None, "--vcc-tol", metavar="PCT", help=_COMMON_HELP["vcc_tol"]),
     max_parts: int = typer.Option(2, "--max-parts", parser=whole("--max-parts", 1, 3), metavar="N", help=_COMMON_HELP["max_parts"]),
     top: int = typer.Option(10, "--top", parser=whole("--top", 1, MAX_TOP), metavar="K", help=_COMMON_HELP["top"]),
     boards: int = typer.Option(1, "--boards", parser=whole("--boards", 1, MAX_BOARDS), metavar="B", help=_COMMON_HELP["boards"]),
@@ -185,9 +204,10 @@ def monostable(
     as_json: bool = typer.Option(False, "--json", help=_COMMON_HELP["json"]),
 ) -> None:
     """Find R and C networks in stock for a monostable (one-shot) 555 pulse width."""
+    options = {"vcc_tol": _fraction(vcc_tol, "--vcc-tol")} if vcc_tol is not None else {}
     _run(ctx, as_json, mode="monostable", width_s=_value(width, "s", "--width"), chip=chip.value,
          vcc_text=vcc, max_parts=max_parts, top=top, boards=boards, accept_text=accept,
-         distribution=distribution.value, seed=seed, samples=samples)
+         distribution=distribution.value, seed=seed, samples=samples, options=options)
 
 def rc(
     ctx: typer.Context,

@@ -45,6 +45,8 @@ class ChipFamily:
     output_fed_ok: bool              # offer the output-fed astable
     astable_initial_error: float     # chip-only timing error, typical, fraction
     monostable_initial_error: float
+    astable_supply_per_v: float      # timing drift per volt of supply change, fraction/V (typ)
+    monostable_supply_per_v: float
     part_text: str                   # how the BOM names the IC: "555 timer, <part_text>"
     spice_divider_ohms: float        # each of the three divider resistors in the SPICE model
     datasheet_discharge_ohms: float  # DIS saturation as a resistance (--discharge-ohms)
@@ -105,6 +107,8 @@ BIPOLAR = ChipFamily(
     output_fed_ok=False,              # facts §3: bipolar VOH depends on load and VCC (derived)
     astable_initial_error=0.0225,     # [S1] astable 2.25 % typ (RA, RB 1–100 kΩ, C 0.1 µF)
     monostable_initial_error=0.01,    # [S1] monostable 1 % typ / 3 % max
+    astable_supply_per_v=0.003,       # [S1] astable 0.3 %/V
+    monostable_supply_per_v=0.001,    # [S1] monostable 0.1 %/V typ / 0.5 %/V max
     part_text="bipolar",
     spice_divider_ohms=5e3,           # [S12] bipolar 555 model netlists show 3 × 5 kΩ; [S14]
     datasheet_discharge_ohms=12.0,    # [S1] DIS saturation 180 mV typ at 15 mA (VCC 15 V) → 12 Ω
@@ -123,6 +127,8 @@ BIPOLAR = ChipFamily(
         "max_r_cap_ohm": "[S1] bipolar 555 data sheet note, 20 MΩ at 15 V",
         "astable_initial_error": "[S1] bipolar 555 data sheet, astable 2.25 % typ",
         "monostable_initial_error": "[S1] bipolar 555 data sheet, monostable 1 % typ",
+        "astable_supply_per_v": "[S1] bipolar 555 data sheet, astable drift with supply 0.3 %/V",
+        "monostable_supply_per_v": "[S1] bipolar 555 data sheet, monostable 0.1 %/V typ",
         "spice_divider_ohms": "[S12] bipolar 555 model netlists, 3 × 5 kΩ; [S14] tutorial",
         "datasheet_discharge_ohms": "[S1] bipolar 555 data sheet, DIS 180 mV typ at 15 mA",
         "control_pin_cap_f": "[S14] bypass CV with 10 nF when it is not used",
@@ -146,6 +152,8 @@ CMOS = ChipFamily(
     output_fed_ok=True,               # [S4], [S7] 50 % output-fed connection for CMOS parts
     astable_initial_error=0.01,       # [S6] about 1 % typ astable (stored table garbled)
     monostable_initial_error=0.01,    # from memory, not confirmed (about 1 % like the bipolar)
+    astable_supply_per_v=0.001,       # [S5] CMOS 555 data sheet B: 0.1 %/V typ (0.5 max)
+    monostable_supply_per_v=0.001,    # [S5] same figure (the data sheet gives one)
     part_text="CMOS",
     spice_divider_ohms=100e3,         # from memory, not confirmed: "near 100 kΩ each" (facts §5)
     datasheet_discharge_ohms=40.0,    # [S6] DIS ≤ 0.4 V at 10 mA, 5 V → at most 40 Ω
@@ -166,6 +174,8 @@ CMOS = ChipFamily(
         "max_r_cap_ohm": "common practice (leakage of boards and capacitors limits R)",
         "astable_initial_error": "[S6] CMOS 555 data sheet C, about 1 % typ",
         "monostable_initial_error": "from memory, not confirmed (about 1 %)",
+        "astable_supply_per_v": "[S5] CMOS 555 data sheet B, 0.1 %/V typ",
+        "monostable_supply_per_v": "[S5] CMOS 555 data sheet B, 0.1 %/V typ",
         "spice_divider_ohms": "from memory, not confirmed (near 100 kΩ each, differs by maker)",
         "datasheet_discharge_ohms": "[S6] CMOS 555 data sheet C, DIS at most 0.4 V at 10 mA",
         "control_pin_cap_f": "[S6] CMOS 555 data sheet C, CV need not be decoupled",
@@ -173,6 +183,26 @@ CMOS = ChipFamily(
 )
 
 FAMILIES: dict[str, ChipFamily] = {f.key: f for f in (BIPOLAR, CMOS)}
+
+VCC_TOL_DEFAULT = 0.05
+"""Supply tolerance the yield assumes unless ``--vcc-tol`` says otherwise: a regulated supply
+within ±5 % (common practice, no source)."""
+
+
+def timing_terms(fam: ChipFamily, astable: bool, vcc: float, vcc_tol: Optional[float]) -> tuple:
+    """The chip's own contributions to the spread of a timing, as (name, band, label) with a
+    symmetric fractional band around a factor of 1 on every time: the initial timing error
+    (data-sheet typical, per family and mode; its source in ``sources``) and the drift across the
+    supply tolerance, sensitivity × VCC × tol (the data sheets' %/V figure, linear)."""
+    tol = VCC_TOL_DEFAULT if vcc_tol is None else float(vcc_tol)
+    init = fam.astable_initial_error if astable else fam.monostable_initial_error
+    per_v = fam.astable_supply_per_v if astable else fam.monostable_supply_per_v
+    drift = per_v * float(vcc) * tol
+    out = [("chip_initial", init, f"{fam.label} initial error ±{init * 100:g} %")]
+    if drift > 0:
+        out.append(("supply_drift", drift,
+                    f"supply ±{tol * 100:g} % ({per_v * 100:g} %/V: ±{drift * 100:.2g} %)"))
+    return tuple(out)
 
 
 def family(key: str) -> ChipFamily:

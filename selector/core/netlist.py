@@ -23,10 +23,9 @@ The netlist is the open SPICE text format that ngspice reads in batch mode. It h
   Not modelled: comparator propagation delay and storage time, threshold/trigger input currents,
   supply current and its spikes, temperature. Those are why the data sheets warn above ~100 kHz.
 
-- the steering diode of a diode-steered option as a SPICE ``D`` element whose saturation current
-  is chosen so it drops exactly the search's forward voltage (``diode_vf``) at the mean charging
-  current; its exponential law (:data:`DIODE_N`) then moves Vf a few tens of mV over the charge,
-  which the constant-Vf prediction does not (so the margins for diode options are wider).
+- the steering diode of a diode-steered option as a SPICE ``D`` element with the prediction's
+  Shockley law: IS from the forward voltage at 1 mA (``diode_vf``) and the ideality n
+  (``parts.DIODE_N_DEFAULT`` or ``--diode-n``), no series resistance or junction capacitance.
 
 Measurements are ``.meas`` lines whose names start with ``m_``; ngspice prints ``name = value``.
 A ``.meas`` that cannot trigger still lets ngspice exit 0, so :func:`parse_measurements` returns

@@ -10,11 +10,28 @@ from __future__ import annotations
 
 from selector.core.errors import UnparseableValue
 
-# Forward drop of a small-signal silicon steering diode near 1 mA. 1N4148 class: 0.6–0.65 V typ
-# at 1 mA (from memory, not confirmed); 1N4448: 0.62 V min … 0.72 V max at 5 mA [S16 diode data
-# sheets]. The CLI option --diode-vf overrides it (a small Schottky is about 0.3 V). The one
-# default: timing, the search limits, SPICE and the CLI read it from here.
-DIODE_VF_DEFAULT = 0.65
+# The steering diode is a Shockley diode, I = Is·(exp(V/(n·Vt)) − 1), described the way a bench
+# technician reads a data sheet: its forward drop at 1 mA (``--diode-vf``) and its ideality
+# factor n (``--diode-n``); Is follows (``diode_saturation_current``).
+# Silicon small-signal (1N4148/1N4448 class): 0.62 V at 1 mA with n = 1.9. Sources: 1N4448
+# 0.62 V min … 0.72 V max at 5 mA [S16 diode data sheets] (0.62 V at 1 mA with n = 1.9 gives
+# 0.70 V at 5 mA, inside that band, derived); 1N4148 about 0.6–0.65 V typ at 1 mA and n 1.7–2
+# (from memory, not confirmed); it is the Is ≈ 3 nA, n ≈ 1.9 diode the issue's ngspice checks used.
+# Schottky small-signal: 0.32 V at 1 mA (BAT54 class, from memory, not confirmed; BAS70 class is
+# ≤ 0.41 V at 1 mA [S16]) with n = 1.05 (from memory, not confirmed).
+# The one default: timing, the search limits, SPICE and the CLI read it from here.
+DIODE_VF_DEFAULT = 0.62
+DIODE_N_DEFAULT = 1.9
+DIODE_VF_REF_A = 1e-3
+"""The current at which ``--diode-vf`` is stated (1 mA)."""
+DIODE_TYPES: dict[str, tuple[float, float]] = {"silicon": (0.62, 1.9), "schottky": (0.32, 1.05)}
+"""``--diode`` choice -> (Vf at 1 mA, ideality n); sources in the comment above."""
+DIODE_VF_SPREAD = 0.03
+"""Part-to-part spread of Vf at 1 mA, ± volts (uniform), drawn by the yield: 1N4448 0.62–0.72 V
+at 5 mA is a 0.10 V band [S16]; we take ±0.03 V around the typical as the lot spread (from
+memory, not confirmed; the data-sheet band holds min to max over all lots)."""
+THERMAL_V = 1.380649e-23 * 300.15 / 1.602176634e-19
+"""kT/q at 27 °C (ngspice's default TEMP/TNOM), 25.865 mV (derived from the SI constants)."""
 
 # Canonical dielectric names, in the order messages list them. "" means "not stated / none"
 # (the only sensible value for a resistor).

@@ -61,6 +61,7 @@ class RankedOption:
     why: str = ""
     yield_group: int = 0
     alternatives: list = field(default_factory=list)  # (FoundOption, yield) of the same build
+    yield_parts_only: float = math.nan   # the same Monte Carlo with the chip, supply and diode terms at nominal
 
     @property
     def connection(self) -> str:
@@ -114,7 +115,10 @@ def _model(found, target, limits):
     roles = _order(found)
     nets = [found.networks[r] for r in roles]
     sizes = [n.nparts for n in nets]
+    # inputs counted in the parts-only yield first (the circuit's own, e.g. thresholds), then the
+    # chip, supply and diode terms, so the parts-only draws are exactly the draws of the first columns
     uncertain = kind.uncertain(limits)
+    uncertain = tuple(u for u in uncertain if u.in_parts_only) + tuple(u for u in uncertain if not u.in_parts_only)
     n_parts = sum(sizes)
 
     def fn(*args):
@@ -127,6 +131,7 @@ def _model(found, target, limits):
 
     inputs = [(p.value, p.tol_minus, p.tol_plus) for n in nets for p in n.physical]
     inputs += [(u.nominal, u.tol_minus, u.tol_plus) for u in uncertain]
+    fn.n_parts_only = n_parts + sum(1 for u in uncertain if u.in_parts_only)
     return fn, kind.outputs, inputs, kind
 
 
@@ -146,8 +151,18 @@ def evaluate(found, target, limits, accept: float, distribution: str = "uniform"
     if monte_carlo:
         rng = tolerance.rng_for(seed)
         n = max(int(samples), tolerance.MIN_SAMPLES)
-        draws = tolerance.draw_parts(nominal, tm, tp, n, rng, distribution)
+        k = fn.n_parts_only
+        # parts (and a circuit's own thresholds) drawn first, exactly as a parts-only run draws
+        # them; the chip, supply and diode terms after them from the same generator
+        draws = tolerance.draw_parts(nominal[:k], tm[:k], tp[:k], n, rng, distribution)
+        if k < len(nominal):
+            rest = tolerance.draw_parts(nominal[k:], tm[k:], tp[k:], n, rng, distribution)
+            parts_outs = [np.asarray(o, dtype=float) for o in
+                          fn(*draws, *[np.full(n, v) for v in nominal[k:]])]
+            draws = np.concatenate([draws, rest])
         outs = [np.asarray(o, dtype=float) for o in fn(*draws)]
+        if k == len(nominal):
+            parts_outs = outs
     else:
         outs = [np.array([np.nan]) for _ in names]
     predicted, rng_out = {}, {}
@@ -160,13 +175,15 @@ def evaluate(found, target, limits, accept: float, distribution: str = "uniform"
     ok = kind.in_spec(outs, target, accept)
     main = kind.main_output(target)
     y = float(np.mean(ok)) if monte_carlo else math.nan
+    y_parts = float(np.mean(kind.in_spec(parts_outs, target, accept))) if monte_carlo else math.nan
     lo, hi = rng_out[main]
     spread = (hi - lo) / predicted[main] if predicted[main] > 0 else math.inf
     score = max(abs(found.error), spread / 4.0)
     errs = kind.errors(predicted, target)
     asked = kind.asked_error(errs, target)
     return RankedOption(found, predicted, rng_out, y, spread, score, cautions(found, target, limits),
-                        errors=errs, asked_error=asked, tier=tier_of(asked, accept))
+                        errors=errs, asked_error=asked, tier=tier_of(asked, accept),
+                        yield_parts_only=y_parts)
 
 
 def cautions(found, target, limits) -> list:

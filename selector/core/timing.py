@@ -195,6 +195,150 @@ def _diode_ra_piecewise(t_high, rb, c, vcc, vf, ra_on, ra_off) -> np.ndarray:
     return a
 
 
+# --------------------------------------------------------------------------- Shockley steering diode
+# The functions above hold the diode's drop constant (facts §2 [S8]); they stay as that closed
+# form and as the starting guess of the inverse below. The search, the tolerance spread and the
+# yield use the Shockley diode: I_D = Is·(exp(V/(n·Vt)) − 1), Is from Vf at 1 mA and n
+# (``parts.DIODE_VF_DEFAULT``), in parallel with RB and in series with RA.
+
+_GL_X, _GL_W = np.polynomial.legendre.leggauss(12)   # fixed 12-point Gauss–Legendre rule on [−1, 1]
+
+
+def diode_saturation_current(vf, n) -> np.ndarray:
+    """Is that makes the diode drop ``vf`` at 1 mA: Is = 1 mA / (exp(vf/(n·Vt)) − 1) (Shockley)."""
+    from selector.core.parts import DIODE_VF_REF_A, THERMAL_V
+
+    with np.errstate(divide="ignore", over="ignore"):
+        return DIODE_VF_REF_A / np.expm1(_f(vf) / (_f(n) * THERMAL_V))
+
+
+def log_wright_omega(z) -> np.ndarray:
+    """ln ω(z), where the Wright omega function ω solves ω + ln ω = z (ω(z) = W0(e^z), Lambert W).
+
+    Vectorised Halley iteration on y = ln ω: h(y) = y + e^y − z is increasing and convex, so the
+    iteration converges from any start; the start (y = z for z ≤ 1, else ln(z − ln z), the
+    asymptote) is already within a few percent, and the loop stops at full float precision
+    (≤ 6 steps seen over z ∈ [−50, 1e4])."""
+    z = _f(z)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        y = np.where(z > 1.0, np.log(np.maximum(z - np.log(np.maximum(z, 1.0)), 1e-300)), z)
+    for _ in range(50):
+        e = np.exp(y)
+        h = y + e - z
+        d1 = 1.0 + e
+        step = h / (d1 - 0.5 * h * e / d1)           # Halley
+        y = y - step
+        if not np.any(np.abs(step) > 1e-15 * np.maximum(1.0, np.abs(y))):
+            break
+    return y
+
+
+def _shockley_drop(a, ra, rb, isat, nvt) -> np.ndarray:
+    """Diode voltage when VCC − Vc = ``a`` across RA in series with (diode ∥ RB).
+
+    (a − V)/RA = Is·(e^{V/nVt} − 1) + V/RB. With Rp = RA∥RB, B = Rp·(a/RA + Is)/nVt and
+    K = Rp·Is/nVt this is u + K·e^u = B for u = V/nVt, so K·e^u = ω(B + ln K) and
+    u = ln ω(B + ln K) − ln K (closed form via the Wright omega function; derived)."""
+    rp = ra * rb / (ra + rb)
+    k = rp * isat / nvt
+    b = rp * (a / ra + isat) / nvt
+    lk = np.log(k)
+    return nvt * (log_wright_omega(b + lk) - lk)
+
+
+def diode_shockley_high(ra, rb, c, vcc, vf, n) -> np.ndarray:
+    """t_high of the diode-steered astable with a Shockley steering diode (vectorised).
+
+    C·dVc/dt = I = (VCC − Vc − V)/RA, V the diode voltage (:func:`_shockley_drop`). Written in V
+    (a = VCC − Vc = RA·f(V) + V, f(V) = Is(e^{V/nVt} − 1) + V/RB the current, so dVc = −(RA·f'(V)
+    + 1)·dV), the charge from VCC/3 to 2VCC/3 takes exactly (derived)
+
+        t_high = C·[ RA·ln(I0/I1) + ∫_{V1}^{V0} dV / f(V) ]
+
+    with I0, V0 at Vc = VCC/3 and I1, V1 at Vc = 2VCC/3; the integral is smooth and short (V moves
+    by about n·Vt·ln(I0/I1)) and a fixed 12-point Gauss–Legendre rule evaluates it. The diode never
+    switches off abruptly here: when RB is small against RA its current fades smoothly into RB's
+    (the constant-drop model's piecewise case). dt_high/dRA = C·ln(I0/I1) > 0 (derived: the
+    endpoint terms cancel), so t_high is strictly increasing in RA. Vf = 0 is an ideal diode
+    (t_high = ln2·RA·C)."""
+    ra, rb, c, vcc, vf, n = np.broadcast_arrays(_f(ra), _f(rb), _f(c), _f(vcc), _f(vf), _f(n))
+    return _shockley_high_slope(ra, rb, c, vcc, vf, n)[0]
+
+
+def _shockley_high_slope(ra, rb, c, vcc, vf, n):
+    """(t_high, dt_high/dRA) of :func:`diode_shockley_high` for broadcast arrays."""
+    from selector.core.parts import THERMAL_V
+
+    ideal = ~(vf > 0)
+    vf_s = np.where(ideal, 0.65, vf)
+    nvt = n * THERMAL_V
+    isat = diode_saturation_current(vf_s, n)
+    v0 = _shockley_drop(2.0 * vcc / 3.0, ra, rb, isat, nvt)
+    v1 = _shockley_drop(vcc / 3.0, ra, rb, isat, nvt)
+    i0 = (2.0 * vcc / 3.0 - v0) / ra
+    i1 = (vcc / 3.0 - v1) / ra
+    log_ratio = np.log(i0 / i1)
+    half = 0.5 * (v0 - v1)
+    mid = 0.5 * (v0 + v1)
+    x = mid[..., None] + half[..., None] * _GL_X
+    cur = isat[..., None] * np.expm1(x / nvt[..., None]) + x / rb[..., None]
+    integral = half * np.sum(_GL_W / cur, axis=-1)
+    t = c * (ra * log_ratio + integral)
+    slope = c * log_ratio
+    t = np.where(ideal, LN2 * ra * c, t)
+    slope = np.where(ideal, LN2 * c, slope)
+    return t, slope
+
+
+def diode_shockley_times(ra, rb, c, vcc, vf, n) -> tuple[np.ndarray, np.ndarray]:
+    """(t_high, t_low) of the diode-steered astable with a Shockley diode; t_low = ln2·RB·C (the
+    diode is reverse biased while C discharges; DIS on-resistance not included here)."""
+    vcc, vf = _check_supply_and_drop(vcc, vf)
+    t_high = diode_shockley_high(ra, rb, c, vcc, vf, n)
+    t_low = crossing_time(rb, c, 0.0, _V_UP, _V_LOW)
+    t_high, t_low = np.broadcast_arrays(t_high, t_low)
+    return np.array(t_high, dtype=float), np.array(t_low, dtype=float)
+
+
+def diode_shockley_ideal_ra(t_high, rb, c, vcc, vf, n) -> np.ndarray:
+    """RA with ``diode_shockley_times(ra, ...)[0] == t_high`` (vectorised, to float precision).
+
+    Safeguarded Newton on the strictly increasing t_high(RA) with its exact slope C·ln(I0/I1),
+    started at the constant-drop inverse (:func:`diode_ideal_ra`, Vf as given); a step that leaves
+    the bracket known so far is replaced by a geometric bisection. nan where t_high ≤ 0."""
+    vcc, vf = _check_supply_and_drop(vcc, vf)
+    t_high, rb, c, vcc, vf, n = (np.array(a, dtype=float) for a in
+                                 np.broadcast_arrays(_f(t_high), _f(rb), _f(c), vcc, vf, _f(n)))
+    out = np.full(t_high.shape, np.nan)
+    ok = t_high > 0
+    if not np.any(ok):
+        return out
+    tg, rbv, cv, vv, fv, nv = (a[ok] for a in (t_high, rb, c, vcc, vf, n))
+    x = diode_ideal_ra(tg, rbv, cv, vv, fv)
+    x = np.where(np.isfinite(x) & (x > 0), x, tg / (LN2 * cv))
+    lo = np.zeros_like(x)
+    hi = np.full_like(x, np.inf)
+    active = np.ones(x.shape, dtype=bool)
+    for _ in range(100):
+        i = np.flatnonzero(active)
+        if i.size == 0:
+            break
+        t, s = _shockley_high_slope(x[i], rbv[i], cv[i], vv[i], fv[i], nv[i])
+        g = t - tg[i]
+        lo[i] = np.where(g < 0, np.maximum(lo[i], x[i]), lo[i])
+        hi[i] = np.where(g > 0, np.minimum(hi[i], x[i]), hi[i])
+        new = x[i] - g / s
+        bad = ~((new > lo[i]) & (new < hi[i]))
+        fallback = np.where(np.isfinite(hi[i]), np.sqrt(np.maximum(lo[i], 1e-300) * hi[i]), 2.0 * x[i])
+        fallback = np.where(lo[i] > 0, fallback, np.where(np.isfinite(hi[i]), 0.5 * hi[i], fallback))
+        new = np.where(bad, fallback, new)
+        done = (np.abs(new - x[i]) <= 1e-14 * new) | (g == 0)
+        x[i] = np.where(g == 0, x[i], new)
+        active[i] = ~done
+    out[ok] = x
+    return out
+
+
 # --------------------------------------------------------------------------- output-fed astable
 def output_fed_factors(voh, vol, vcc) -> tuple[np.ndarray, np.ndarray]:
     """Factors k with t_high = k_high·R·C and t_low = k_low·R·C for the output-fed astable.

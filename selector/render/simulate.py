@@ -91,8 +91,8 @@ def footer(report) -> Text:
     if report.has_discharge:
         lines.append(f"Discharge switch on-resistance {report.discharge_ohms:g} ohm (--discharge-ohms to change).")
     if report.diode_vf is not None:
-        lines.append(f"Steering diode: exponential model dropping {report.diode_vf:g} V at the mean charging "
-                     "current; the prediction uses a constant drop, so expect about 1-3 % on t_high.")
+        lines.append(f"Steering diode: Shockley model dropping {report.diode_vf:g} V at 1 mA, the same law "
+                     "as the prediction.")
     lines += list(report.warnings)
     lines.append(f"{report.cycles} cycle(s) measured; ngspice and parsing took {report.elapsed_s:.2f} s."
                  if report.mode == "astable"

@@ -4,6 +4,8 @@ runs longer than about a second."""
 
 from __future__ import annotations
 
+from selector.core.parts import DIODE_N_DEFAULT
+
 import math
 import time
 from typing import TYPE_CHECKING, Optional
@@ -184,9 +186,10 @@ def footer_lines(report) -> list[str]:
     else:
         what = "width" if req.mode == "monostable" else ("corner" if "corner_hz" in report.target else "time constant")
         yl = f"the {what} within {acc} of target"
-    spread = [u.label or u.name for k in kinds for u in k.uncertain(report.limits[k.key])]
+    spread = list(dict.fromkeys(u.label or u.name for k in kinds for u in k.uncertain(report.limits[k.key])))
     spread_text = "part tolerances only" if not spread else "part tolerances and the spread of " + " and ".join(spread)
-    out.append(f"Worst case: corners of every part's tolerance band. Yield: share of "
+    corner_text = " and of each term the yield names" if spread else ""
+    out.append(f"Worst case: corners of every part's tolerance band{corner_text}. Yield: share of "
                f"{req.samples:,} simulated builds ({req.distribution} within tolerance, seed {req.seed}) "
                f"with {yl}; {spread_text}.")
     settings = req.settings
@@ -198,12 +201,18 @@ def footer_lines(report) -> list[str]:
         if req.mode == "astable":
             bits.append(f"f ≤ {_fmt(lim.max_freq_hz, 'Hz')}")
             if any(k.uses_diode for k in kinds):
-                bits.append(f"diode Vf {req.vf:g} V")
+                n = req.settings.options.get("diode_n")
+                bits.append(f"diode Vf {req.vf:g} V at 1 mA, n {n if n is not None else DIODE_N_DEFAULT:g}")
         bits.append("resistor power ≤ 50 % of rating, capacitor rating × derating ≥ VCC")
         out.append("Chip: " + "; ".join(bits) + f" ({chip_error}).")
     else:
         out.append(f"Ratings checked at {req.vcc:g} V across the parts (resistor power ≤ 50 % of "
                    "rating, capacitor rating × derating ≥ the voltage).")
+    if getattr(report, "leakage_excluded", 0):
+        out.append(f"Leakage: {report.leakage_excluded} capacitor network(s) with an electrolytic left out: "
+                   "their rated leakage (0.01·C·V or 3 µA) was above 1/10 of the charging current at the "
+                   "threshold (common practice); long timings need film capacitors with a large R, "
+                   "or a CMOS 555.")
     out.append(f"Ranking: options nominally within ±{req.accept * 50:g} % (half the acceptance; duty "
                "in points against that share of the target duty) first, then yield (within 2 "
                "points counts as equal), then fewer parts, then smaller error.")

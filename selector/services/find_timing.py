@@ -81,6 +81,12 @@ class TimingRequest:
         if self.diode_vf is not None and not (0.0 <= self.diode_vf < self.vcc / 3.0):
             raise OutOfRange(f"--diode-vf {self.diode_vf:g} V must be at least 0 V and below VCC/3 "
                              f"({self.vcc / 3.0:.3g} V)")
+        vt = self.options.get("vcc_tol")
+        if vt is not None and not (0.0 <= vt < 0.5):
+            raise OutOfRange(f"--vcc-tol {vt * 100:g} % must be at least 0 % and below 50 %")
+        n = self.options.get("diode_n")
+        if n is not None and not (0.8 <= n <= 3.0):
+            raise OutOfRange(f"--diode-n {n:g} must be between 0.8 and 3 (the diode's ideality factor)")
         if self.max_parts not in (1, 2, 3):
             raise OutOfRange(f"--max-parts must be 1, 2 or 3, not {self.max_parts}")
         if self.top < 1:
@@ -117,6 +123,7 @@ class TimingReport:
     search_id: Optional[int] = None
     within_acceptance: bool = True  # some option is nominally within --accept in every error
     suggestions: list = field(default_factory=list)  # core.suggest.Suggestion, when it is not
+    leakage_excluded: int = 0  # capacitor networks the electrolytic leakage limit left out
 
     @property
     def json(self) -> dict:
@@ -162,6 +169,7 @@ def option_json(opt) -> dict:
         "predicted": dict(opt.predicted),
         "range": {k: list(v) for k, v in opt.range.items()},
         "yield": opt.yield_fraction,
+        "yield_parts_only": opt.yield_parts_only,
         "networks": {role: network_json(nets[role]) for role in order if role in nets},
         "errors": dict(opt.errors),  # in the asker's terms (issue 11); `error` stays as it was
         "why": opt.why,
@@ -214,11 +222,14 @@ def plan_timing(r_lines, c_lines, req: TimingRequest,
                                folded=getattr(result, "folded", ()),
                                stock=list(r_lines) + list(c_lines), boards=req.boards)
     options = [option_json(o) for o in ranked]
+    from selector.core.search.lookup import LEAKAGE_REASON
+
     within = any(o.tier <= 1 for o in ranked)
     buy = [] if within else suggest_buy(ranked, target, limits, req.accept)
     return TimingReport(req, target_json(req, target), params_json(req), options, ranked,
                         tuple(connections), limits, result.network_counts,
-                        within_acceptance=within, suggestions=buy)
+                        within_acceptance=within, suggestions=buy,
+                        leakage_excluded=result.exclusions.counts.get(LEAKAGE_REASON, 0))
 
 
 def save_search(session, report: TimingReport) -> int:

@@ -12,7 +12,8 @@ from conftest import SAMPLE, url_of
 
 LN2, LN3 = math.log(2.0), math.log(3.0)
 
-OPTION_KEYS = {"rank", "connection", "error", "predicted", "range", "yield", "networks"}
+OPTION_KEYS = {"rank", "connection", "error", "predicted", "range", "yield", "networks",
+               "yield_parts_only"}  # added by issue 10 (wave-2 JSON contract)
 NETWORK_KEYS = {"value", "shape", "parts"}
 PART_KEYS = {"line_id", "value", "count", "location"}
 ADDED_OPTION_KEYS = {"errors", "why", "alternatives", "yield_parts_only"}  # issue 11 additions

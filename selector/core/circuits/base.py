@@ -85,6 +85,7 @@ class Limits:
     diode_vf: float = DIODE_VF_DEFAULT
     voh: float = math.nan  # output levels for the output-fed connection
     vol: float = math.nan
+    chip_terms: tuple = ()  # the chip's own timing error and supply drift (``Uncertain``; 555 circuits)
     extra: Mapping[str, Any] = field(default_factory=dict, compare=False, hash=False)
 
 
@@ -109,6 +110,7 @@ class Uncertain:
     tol_minus: float
     tol_plus: float
     label: str = ""      # how the footer names it, e.g. "VT-"
+    in_parts_only: bool = True   # also drawn for ``yield_parts_only`` (False: chip, supply, diode Vf)
 
 
 @dataclass(frozen=True)
@@ -242,8 +244,9 @@ class CircuitKind:
         raise NotImplementedError
 
     def uncertain(self, limits: Limits) -> tuple[Uncertain, ...]:
-        """Inputs with their own spread (default: none, only the parts spread)."""
-        return ()
+        """Inputs with their own spread (default: the chip's terms in ``limits.chip_terms``, empty
+        for a circuit without a 555)."""
+        return tuple(limits.chip_terms)
 
     def chip_error(self, settings: Settings) -> Optional[str]:
         """The footer's "Chip:" line (None: no chip, ratings only)."""

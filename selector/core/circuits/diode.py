@@ -1,6 +1,8 @@
 """Diode-steered 555 astable: a diode across RB (anode at DIS) so C charges through RA alone and
-discharges through RB; any duty. Constant-Vf model, piecewise-exact (``timing.diode_times``,
-facts.md §2, [S8])."""
+discharges through RB; any duty. The steering diode is a Shockley diode (Vf at 1 mA and the
+ideality n, ``parts.DIODE_VF_DEFAULT``) in parallel with RB and in series with RA; t_high is the
+exact charge integral (``timing.diode_shockley_times``; topology facts.md §2 [S8]). Its Vf spread
+enters the worst case and the yield as an uncertain input."""
 
 from __future__ import annotations
 
@@ -19,14 +21,30 @@ class Diode(Timer555, AstableKind):
     charging_roles = ("RA",)
     duty_corners = True
     uses_diode = True
-    formula = ("diode-steered: t_high = RA·C·ln((2·VCC − 3·Vf)/(VCC − 3·Vf)) while the diode across "
-               "RB conducts (piecewise through RA+RB when RB is small against RA), t_low = ln2·RB·C")
+    formula = ("diode-steered: t_high = C·∫dVc/I, I through RA and the Shockley diode (Vf at 1 mA, "
+               "ideality n) in parallel with RB; t_low = ln2·RB·C")
     wiring = ("Connections: RA from VCC to DIS; RB from DIS to THR and TRIG with the steering diode across "
               "it (anode at DIS, cathode at THR/TRIG); timing capacitor from THR/TRIG to GND.")
     help = "diode (diode across RB, any duty)"
 
     def limits(self, settings: Settings) -> Limits:
-        return Limits(**self.base_limits(settings, astable=True))
+        from selector.core.parts import DIODE_N_DEFAULT
+
+        n = settings.options.get("diode_n")
+        return Limits(**self.base_limits(settings, astable=True),
+                      extra={"diode_n": float(DIODE_N_DEFAULT if n is None else n)})
+
+    def uncertain(self, limits: Limits):
+        from selector.core.circuits.base import Uncertain
+        from selector.core.parts import DIODE_VF_SPREAD
+
+        vf = limits.diode_vf
+        if not vf or vf <= DIODE_VF_SPREAD:
+            return tuple(limits.chip_terms)
+        band = DIODE_VF_SPREAD / vf
+        return tuple(limits.chip_terms) + (
+            Uncertain("diode_vf", vf, band, band, f"diode Vf ±{DIODE_VF_SPREAD * 1e3:g} mV",
+                      in_parts_only=False),)
 
     def auto_ok(self, target: Target, settings: Settings, accept: float) -> bool:
         return 3.0 * settings.diode_vf < settings.vcc
@@ -42,7 +60,8 @@ class Diode(Timer555, AstableKind):
     def times(self, v, limits: Limits, extra) -> tuple:
         from selector.core import timing
 
-        return timing.diode_times(v["RA"], v["RB"], v["C"], limits.vcc, limits.diode_vf)
+        return timing.diode_shockley_times(v["RA"], v["RB"], v["C"], limits.vcc,
+                                           (extra or {}).get("diode_vf", limits.diode_vf), _n(limits))
 
     # ---- two-resistor kernel
     def t_low(self, rb, c):
@@ -58,12 +77,12 @@ class Diode(Timer555, AstableKind):
     def ra_for_high(self, t_high, rb, c, limits: Limits):
         from selector.core import timing
 
-        return timing.diode_ideal_ra(t_high, rb, c, limits.vcc, limits.diode_vf)
+        return timing.diode_shockley_ideal_ra(t_high, rb, c, limits.vcc, limits.diode_vf, _n(limits))
 
     def times2(self, ra, rb, c, limits: Limits):
         from selector.core import timing
 
-        return timing.diode_times(ra, rb, c, limits.vcc, limits.diode_vf)
+        return timing.diode_shockley_times(ra, rb, c, limits.vcc, limits.diode_vf, _n(limits))
 
     # ---- BOM
     def bom_obtain(self, settings: Settings):
@@ -80,16 +99,23 @@ class Diode(Timer555, AstableKind):
         ra, rb = sp._net(c, "RA"), sp._net(c, "RB")
         L = sp.network_lines(ra, "vcc", "dis")
         L += sp.network_lines(rb, "dis", "cap")
-        ra_v = sp.tree_value(sp.shape_tree(ra.shape, len(ra.parts)), [p.value for p in ra.parts], "R")
-        rb_v = sp.tree_value(sp.shape_tree(rb.shape, len(rb.parts)), [p.value for p in rb.parts], "R")
-        i_ref = sp.diode_reference_current(c.chip.vcc, c.diode_vf, ra_v, rb_v)
-        isat = sp.diode_saturation_current(c.diode_vf, i_ref)
-        L += [f"* steering diode across RB (anode DIS, cathode C): drops {c.diode_vf:g} V at "
-              f"{i_ref * 1e3:.4g} mA, the mean charging current",
+        from selector.core import timing
+        from selector.core.parts import DIODE_N_DEFAULT
+
+        n = float(c.extra.get("diode_n", DIODE_N_DEFAULT))
+        isat = float(timing.diode_saturation_current(c.diode_vf, n)) if c.diode_vf > 0 else 1e-3
+        L += [f"* steering diode across RB (anode DIS, cathode C): the prediction's Shockley law, "
+              f"{c.diode_vf:g} V at 1 mA, n = {n:g}",
               "DSTEER dis cap SELDIODE",
-              f".model SELDIODE D(IS={isat:.6g} N={sp._num(sp.DIODE_N)} RS=0 CJO=0)"]
+              f".model SELDIODE D(IS={isat:.6g} N={sp._num(n)} RS=0 CJO=0)"]
         L += sp.network_lines(cn, "cap", "0", ic=0.0)
         return L + self.spice_device(c, "0 cap out vcc ctl cap dis vcc")
+
+
+def _n(limits: Limits) -> float:
+    from selector.core.parts import DIODE_N_DEFAULT
+
+    return float(limits.extra.get("diode_n", DIODE_N_DEFAULT))
 
 
 CIRCUIT = Diode()

@@ -11,6 +11,17 @@ from selector.core.circuits.base import ModeBase, Settings, Target, check_positi
 from selector.core import netlist as sp
 
 
+def chip_factor(extra):
+    """The product of the drawn chip terms (initial error, supply drift) on every time, or None
+    outside the Monte Carlo / for a circuit without them. Both halves of an astable move together
+    (a divider or comparator offset scales both thresholds' crossing times; derived, first order)."""
+    k = None
+    for name in ("chip_initial", "supply_drift"):
+        if extra and name in extra:
+            k = extra[name] if k is None else k * extra[name]
+    return k
+
+
 class AstableKind(ModeBase):
     """Free-running circuits: outputs frequency, duty, t_high, t_low."""
 
@@ -77,6 +88,9 @@ class AstableKind(ModeBase):
         from selector.core import timing
 
         th, tl = self.times(v, limits, extra)
+        k = chip_factor(extra)
+        if k is not None:
+            th, tl = th * k, tl * k
         f, d = timing.frequency_duty(th, tl)
         return f, d, th, tl
 
@@ -139,6 +153,14 @@ class Timer555:
 
     has_discharge_switch = True
 
+    def charge_r_ideal(self, target: Target, c, limits):
+        """The charging resistance the target needs with capacitance ``c`` by the ideal formula
+        (monostable width/(ln3·C) [S3, S5]; astable t_high/(ln2·C) [S2, S3]), for the leakage
+        limit (``search.lookup._leakage_ok``)."""
+        if target.mode == "monostable":
+            return target.width / (math.log(3.0) * c)
+        return target.t_high / (math.log(2.0) * c)
+
     def spice_device_name(self, c) -> str:
         return f"{c.chip.family} 555"
 
@@ -164,14 +186,19 @@ class Timer555:
                    min_c_f=fam.min_timing_c_f, r_power_volts=vcc)
         if astable:
             lim["max_freq_hz"] = fam.max_astable_hz
+        from selector.core.circuits.base import Uncertain
+
+        lim["chip_terms"] = tuple(Uncertain(name, 1.0, band, band, label, in_parts_only=False)
+                                  for name, band, label in chips.timing_terms(
+                                      fam, astable, vcc, settings.options.get("vcc_tol")))
         return lim
 
     def chip_error(self, settings: Settings) -> Optional[str]:
         from selector.core import chips
 
         fam = chips.family(settings.chip)
-        return (f"chip's own timing error, e.g. {fam.astable_initial_error * 100:g} % typ astable, "
-                "not included")
+        return (f"chip's own timing error, {fam.astable_initial_error * 100:g} % typ astable, "
+                f"{fam.monostable_initial_error * 100:g} % monostable, and supply drift in the yield")
 
     def chip_label(self, settings: Settings) -> str:
         from selector.core import chips

@@ -42,7 +42,11 @@ class Monostable(Timer555, MonostableKind):
     def model(self, v, limits: Limits, extra) -> tuple:
         from selector.core import timing
 
-        return (timing.monostable_width(v["R"], v["C"]),)
+        from selector.core.circuits.modes import chip_factor
+
+        w = timing.monostable_width(v["R"], v["C"])
+        k = chip_factor(extra)
+        return (w if k is None else w * k,)
 
     # ---- one-resistor kernel
     def r_ideal(self, target: Target, c, limits: Limits):

@@ -261,7 +261,9 @@ def _one_pass(kind, target: Target, lim: Limits, r_index, c_index, pool: int, bu
     from selector.core.search.kernels import _Pass
     from selector.core.search.lookup import PowerCheck, capacitor_candidates
 
-    c_ids = capacitor_candidates(c_index, lim, ex)
+    charge_r = getattr(kind, "charge_r_ideal", None)
+    c_ids = capacitor_candidates(c_index, lim, ex,
+                                 (lambda c: charge_r(target, c, lim)) if charge_r is not None else None)
     power = PowerCheck(r_index, lim.r_power_volts, lim.r_power_derating)
     ps = _Pass(kind, target, r_index, c_index, c_ids, lim, power, ex)
     two = kind.kernel == TWO_RESISTOR

@@ -30,7 +30,42 @@ def _all_ids(index) -> np.ndarray:
     return np.asarray(ids, dtype=np.int64)
 
 
-def capacitor_candidates(c_index, limits, ex) -> np.ndarray:
+LEAKAGE_REASON = "C networks whose electrolytic leakage is above 1/10 of the charging current"
+
+
+def _leakage_ok(c_index, ids, limits, charge_r) -> np.ndarray:
+    """Leakage as a limit (common practice, facts §6): a capacitor network holding an aluminium
+    electrolytic is allowed in the timing position only when the charging current at the upper
+    threshold, VCC/(3·R*), is at least ``chips.LEAKAGE_MARGIN_MIN`` (10) times the summed rated
+    leakage of its electrolytic parts, 0.01·C·V_R or 3 µA [S15] (``chips.electrolytic_leakage_a``;
+    rating unknown: VCC). R* is the charging resistance the target needs with that network
+    (``charge_r``, the circuit's ideal formula), so the rule is a limit on C alone for the target
+    and is applied before the search, which keeps the search exact over what it allows; the R the
+    search picks differs from R* by the option's error (a few % at most)."""
+    from selector.core import chips, parts
+
+    def leak_of(ln):
+        try:
+            diel = parts.normalize_dielectric(ln.dielectric or "")
+        except Exception:
+            diel = ln.dielectric or ""
+        if diel != "electrolytic":
+            return 0.0
+        return float(chips.electrolytic_leakage_a(ln.value, ln.rating if ln.rating else limits.vcc))
+
+    line_leak = np.array([leak_of(ln) for ln in c_index.lines], dtype=float)
+    if not np.any(line_leak > 0):
+        return np.ones(ids.size, dtype=bool)
+    pos, cnt = c_index.usage_arrays(ids)
+    pos, cnt = np.asarray(pos), np.asarray(cnt, dtype=float)
+    leak = np.sum(np.where(pos >= 0, line_leak[np.maximum(pos, 0)] * cnt, 0.0), axis=1)
+    r = np.asarray(charge_r(c_index.values(ids)), dtype=float)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        current = limits.vcc / (3.0 * r)
+    return (leak <= 0) | (current >= chips.LEAKAGE_MARGIN_MIN * leak)
+
+
+def capacitor_candidates(c_index, limits, ex, charge_r=None) -> np.ndarray:
     """Ids of the capacitor networks allowed in the timing position: value >= the minimum timing
     capacitance, and every part rated for the working voltage after derating (each part of a
     series string must stand the full voltage on its own: the DC division across series
@@ -51,6 +86,10 @@ def capacitor_candidates(c_index, limits, ex) -> np.ndarray:
         pos = np.asarray(pos)
         ok = np.all(np.where(pos >= 0, line_ok[np.maximum(pos, 0)], True), axis=1)
         ex.add(f"C networks with a part rated below {limits.cap_volts:g} V after derating", (~ok).sum())
+        ids = ids[ok]
+    if charge_r is not None and ids.size:
+        ok = _leakage_ok(c_index, ids, limits, charge_r)
+        ex.add(LEAKAGE_REASON, (~ok).sum())
         ids = ids[ok]
     return ids
 

@@ -111,6 +111,23 @@ def cap_ok(net, lim):
     return True
 
 
+def leak_ok(net, lim, target, connection):
+    """Leakage limit (issue 10): aluminium electrolytic rated leakage 0.01·C[µF]·V_R µA or 3 µA
+    [S15, facts §6] (V_R unknown: VCC), summed over the network's electrolytic parts, at most 1/10
+    of the charging current at the upper threshold VCC/(3·R*) (common practice), R* the charging
+    resistance the target needs by the ideal formula: width/(ln3·C) [S3], t_high/(ln2·C) [S2];
+    555 connections only (the RC search has no chip)."""
+    if connection not in ("standard", "diode", "output-fed", "monostable"):
+        return True
+    value, _s, combo, _p = net
+    leak = sum(max(0.01 * ln.value * 1e6 * (ln.rating or lim.vcc), 3.0) * 1e-6
+               for ln in combo if ln.dielectric == "electrolytic")
+    if leak == 0:
+        return True
+    r = target.width / (LN3 * value) if connection == "monostable" else target.t_high / (LN2 * value)
+    return lim.vcc / (3 * r) >= 10 * leak
+
+
 def fits(nets, lines, boards):
     qty = {ln.id: ln.quantity for ln in lines}
     total = Counter()
@@ -124,7 +141,8 @@ def reference_best(r_lines, c_lines, target, connection, lim, max_parts, boards)
     from selector.core import timing  # physics only (diode charge), see module docstring
 
     rn = plain_networks(r_lines, max_parts, boards)
-    cn = [n for n in plain_networks(c_lines, max_parts, boards) if cap_ok(n, lim)]
+    cn = [n for n in plain_networks(c_lines, max_parts, boards) if cap_ok(n, lim)
+          and leak_ok(n, lim, target, connection)]
     best = None
     if connection in ("standard", "diode"):
         ra_ok = [n for n in rn if n[0] >= lim.min_r_ohm * (1 - 1e-9)
@@ -140,7 +158,10 @@ def reference_best(r_lines, c_lines, target, connection, lim, max_parts, boards)
             if connection == "standard":
                 th = LN2 * (ra[0] + rb[0]) * c
             else:
-                th = timing.diode_times(ra[0], rb[0], c, lim.vcc, lim.diode_vf)[0]
+                # Shockley diode (the physics the search uses, checked against a scipy ODE in
+                # tests/reference/test_diode_shockley_reference.py); n from the limits
+                th = timing.diode_shockley_times(ra[0], rb[0], c, lim.vcc, lim.diode_vf,
+                                                 lim.extra.get("diode_n", 1.9))[0]
             tl = LN2 * rb[0] * c
             ok = 1.0 / (th + tl) <= lim.max_freq_hz * (1 + 1e-9)
             e = np.maximum(np.abs(th / target.t_high - 1), np.abs(tl / target.t_low - 1))
