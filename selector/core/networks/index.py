@@ -461,6 +461,21 @@ class NetworkIndex:
             err = np.abs(np.log(self.values(ids) / T[rows]))
         return rank_rows(rows, ids, (err, self.nparts(ids)), len(T), int(k))
 
+    def values_within(self, lo, hi) -> np.ndarray | None:
+        """Sorted network values that include every value v of the index with lo[i] <= v <=
+        hi[i] for some i (possibly with some others: a superset, meant for lower bounds and
+        pruning, never as a list of answers); None when the intervals are too wide for that to
+        be cheaper than ``between`` (see ``ThreePartSearch.values_within``)."""
+        lo = np.atleast_1d(np.asarray(lo, dtype=float)).ravel()
+        hi = np.atleast_1d(np.asarray(hi, dtype=float)).ravel()
+        parts = [self._val]
+        if self._three is not None:
+            three = self._three.values_within(lo, hi)
+            if three is None:
+                return None
+            parts.append(three)
+        return np.sort(np.concatenate(parts))
+
     def between(self, lo, hi) -> tuple[np.ndarray, np.ndarray]:
         """Every network with lo[i] <= value <= hi[i], CSR style: (offsets (n+1,), ids), each
         row sorted by value, then fewer parts, then id.  Exact for 3-part networks as well (they

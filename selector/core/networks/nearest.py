@@ -22,6 +22,10 @@ import numpy as np
 
 EPS = 1e-9  # relative value slack around a target when splitting a pool (see ThreePartSearch)
 _CELLS = 2_000_000  # elements per vectorised window block (keeps memory to tens of MB)
+SWEEP_MAX_SHARE = 0.125
+"""``values_within`` gives up (returns None) when the intervals mark more than this share of
+its value bins: most values would come back and the slice-by-slice search is cheaper.  Tests
+raise it to 1.0 to run the sweep on small stocks."""
 
 
 def join(add: Union[bool, np.ndarray], x: np.ndarray, y: np.ndarray) -> np.ndarray:
@@ -353,6 +357,67 @@ class ThreePartSearch:
         vals = join(self.outer_add[s], ix.line_values[a], ix.entry_values[pos])
         inr = (vals >= lo[t]) & (vals <= hi[t])
         return t[inr], ix.triple_ids(s[inr], a[inr], pos[inr]), vals[inr]
+
+    def values_within(self, lo: np.ndarray, hi: np.ndarray) -> np.ndarray | None:
+        """Sorted values of 3-part networks (quantity rule applied) that include EVERY such value
+        lying in some interval [lo[i], hi[i]], plus possibly some nearby others; None when the
+        intervals are too wide for the sweep to pay (the caller then searches slice by slice).
+
+        One sweep over the rows instead of one look-up per interval.  A positive double's bit
+        pattern read as an integer is increasing in the value, so its top bits (``>> shift``)
+        cut the value axis into bins of equal relative width (2**-b per octave, b = 52 - shift).
+        The bins touched by any (slightly widened) interval are marked; then every row's values
+        (single joined to its whole pool) are binned and only those in marked bins are kept.  A
+        value inside an interval lies in a marked bin, so none is lost; extra values only make
+        the caller's later checks do a little more work."""
+        if self.nrows == 0 or len(self.pool_pos) == 0 or len(lo) == 0:
+            return np.zeros(0)
+        lo = np.asarray(lo, dtype=float) * (1.0 - 4 * EPS)
+        hi = np.asarray(hi, dtype=float) * (1.0 + 4 * EPS)
+        use = (lo <= hi) & (hi > 0)
+        lo, hi = np.maximum(lo[use], 1e-300), hi[use]
+        if lo.size == 0:
+            return np.zeros(0)
+        if not np.all(np.isfinite(hi)):
+            return None
+        octaves = float(np.log2(hi.max() / lo.min())) + 2
+        spread = float(np.sum(np.log2(hi / lo))) + 1e-300  # octaves the intervals cover in all
+        b = int(min(22, max(0, np.floor(np.log2(min(2 ** 26 / octaves, 2 ** 23 / spread))))))
+        shift = 52 - b
+        kmin = int(np.array(lo.min()).view(np.int64) >> shift)
+        kl = (lo.view(np.int64) >> shift) - kmin
+        kh = (hi.view(np.int64) >> shift) - kmin
+        nb = int(kh.max()) + 1
+        if nb > 2 ** 27:
+            return None
+        marked = np.zeros(nb + 2, dtype=bool)  # [0] and [-1]: outside every interval
+        _r, el = ranges_concat(kl + 1, kh + 2)
+        marked[el] = True
+        if int(np.count_nonzero(marked)) > nb * SWEEP_MAX_SHARE:
+            return None  # wide intervals: most values would come back, a sweep does not pay
+        cap = self.ix.capacity()
+        out = []
+        gmin, gmax = lo.min(), hi.max()
+        for s, pool_pos, pv, a_lines, _seg, r0, r1 in self.per_shape:
+            add = bool(self.outer_add[s])
+            live = (self.row_vmax[r0:r1] >= gmin) & (self.row_vmin[r0:r1] <= gmax)
+            rows = np.flatnonzero(live)
+            n = len(pv)
+            step = max(1, _CELLS // max(n, 1))
+            for c0 in range(0, len(rows), step):
+                blk = rows[c0:c0 + step]
+                av = self.ix.line_values[a_lines[blk]][:, None]
+                vals = join(add, av, pv[None, :])
+                k = (vals.view(np.int64) >> shift) - (kmin - 1)
+                np.clip(k, 0, nb + 1, out=k)
+                hit = np.flatnonzero(marked[k])
+                if hit.size == 0:
+                    continue
+                r, col = hit // n, hit % n
+                a = a_lines[blk][r]
+                good = self.ok(a, pool_pos[col], cap)
+                out.append(vals.ravel()[hit[good]])
+        return np.sort(np.concatenate(out)) if out else np.zeros(0)
 
     def count(self) -> int:
         """Exact number of distinct 3-part networks, counted without building them."""

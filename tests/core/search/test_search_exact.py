@@ -375,3 +375,42 @@ def test_ranked_options_keep_the_exact_best(case, top, connection):
     assert expected is not None and len(rep.options) <= top
     got = min(abs(o["error"]) for o in rep.options)
     assert abs(got - expected) <= 1e-12 + 1e-9 * expected
+
+
+@settings(**_SETTINGS)
+@given(cases("monostable", max_parts_max=3), st.sampled_from(["monostable", "rc", "output-fed"]))
+def test_sampled_one_resistor_bound_is_still_exact(case, connection):
+    """The one-resistor pass with 3-part resistor networks takes the capacitor networks in order
+    of a lower bound after a sample; force that path on small stocks (sample of 2) and compare
+    with the exhaustive reference."""
+    import selector.core.networks.nearest as nearest
+    import selector.core.search.kernels as sk
+
+    r_lines, c_lines, target, lim, max_parts, boards, pool = case
+    if connection == "rc":
+        target = Target("rc", tau=target.width)
+    elif connection == "output-fed":
+        target = Target("astable", t_high=target.width, t_low=target.width * 0.9)
+    old, old_share = sk.PHASE1_SAMPLE, nearest.SWEEP_MAX_SHARE
+    sk.PHASE1_SAMPLE, nearest.SWEEP_MAX_SHARE = 2, 1.0
+    try:
+        _check((r_lines, c_lines, target, lim, 3, boards, min(pool, 2)), connection)
+    finally:
+        sk.PHASE1_SAMPLE, nearest.SWEEP_MAX_SHARE = old, old_share
+
+
+@settings(**_SETTINGS)
+@given(cases("standard", max_parts_max=3), st.sampled_from(["standard", "diode"]))
+def test_swept_lower_bound_order_is_still_exact(case, connection):
+    """The same with the value sweep forced on (it normally gives up on wide intervals), so the
+    branch and bound over capacitor networks runs on small stocks too."""
+    import selector.core.networks.nearest as nearest
+    import selector.core.search.kernels as sk
+
+    r_lines, c_lines, target, lim, max_parts, boards, pool = case
+    old, old_share = sk.PHASE1_SAMPLE, nearest.SWEEP_MAX_SHARE
+    sk.PHASE1_SAMPLE, nearest.SWEEP_MAX_SHARE = 2, 1.0
+    try:
+        _check((r_lines, c_lines, target, lim, 3, boards, min(pool, 2)), connection)
+    finally:
+        sk.PHASE1_SAMPLE, nearest.SWEEP_MAX_SHARE = old, old_share
