@@ -2,7 +2,8 @@
 
 Public API (the timing search and ``find value`` build on it)::
 
-    build_index(lines, max_parts=2, boards=1, allow_polarized_series=False, kind=None) -> NetworkIndex
+    build_index(lines, max_parts=2, boards=1, allow_polarized_series=False, kind=None,
+                all_networks=True) -> NetworkIndex   (all_networks=False: token-part rule, token_share)
     nearest_networks(lines, target, k=10, max_parts=2, boards=1, allow_polarized_series=False,
                      kind=None) -> list[Network]
 
@@ -88,7 +89,7 @@ class NetworkIndex:
     Build it with :func:`build_index`.  See the module docstring for the id scheme and methods."""
 
     def __init__(self, lines: Sequence[StockLine], kind: str, max_parts: int = 2, boards: int = 1,
-                 allow_polarized_series: bool = False):
+                 allow_polarized_series: bool = False, all_networks: bool = True):
         if kind not in KINDS:
             raise ValueError(f"unknown part kind {kind!r}; expected one of {', '.join(KINDS)}")
         if max_parts not in (1, 2, 3):
@@ -99,6 +100,7 @@ class NetworkIndex:
         self.max_parts = int(max_parts)
         self.boards = int(boards)
         self.allow_polarized_series = bool(allow_polarized_series)
+        self.all_networks = bool(all_networks)  # False: token-part networks left out (see token_share)
         usable = [ln for ln in lines if ln.kind == kind and ln.value > 0 and ln.quantity // self.boards >= 1]
         usable.sort(key=lambda ln: (ln.value, ln.id))
         self.lines: tuple[StockLine, ...] = tuple(usable)
@@ -110,6 +112,7 @@ class NetworkIndex:
         self._vlo = self._v * (1.0 - np.array([ln.tol_minus for ln in usable], dtype=float))
         self._vhi = self._v * (1.0 + np.array([ln.tol_plus for ln in usable], dtype=float))
         self._pol = np.array([bool(ln.polarized) for ln in usable], dtype=bool)
+        self._tol = np.array([max(ln.tol_minus, ln.tol_plus) for ln in usable], dtype=float)
         self._build_materialised()
         self._build_pools()
 
@@ -127,6 +130,8 @@ class NetworkIndex:
         if self.max_parts >= 2 and L:
             i, j = np.triu_indices(L)
             keep = (i != j) | (cap[i] >= 2)
+            if not self.all_networks:  # both joints: the smaller share is min/(sum) (see token_share)
+                keep &= token_share(v[i], v[j]) >= np.maximum(self._tol[i], self._tol[j]) / 2
             i, j = i[keep].astype(np.int64), j[keep].astype(np.int64)
             ppol = self._pol[i] | self._pol[j]
             for code, joint in ((_SERIES, "series"), (_PARALLEL, "parallel")):
@@ -238,6 +243,11 @@ class NetworkIndex:
     def line_values(self) -> np.ndarray:
         """Nominal value of each stock line, by line position."""
         return self._v
+
+    @property
+    def line_tolerances(self) -> np.ndarray:
+        """The larger of each stock line's minus and plus tolerance, by line position."""
+        return self._tol
 
     @property
     def line_count(self) -> int:
@@ -507,8 +517,22 @@ class NetworkIndex:
         return offsets, ids.astype(np.int64)
 
 
+def token_share(x: np.ndarray, y: np.ndarray) -> np.ndarray:
+    """The smaller branch share of a two-branch joint with branch values x and y (same kind).
+
+    The token-part rule: a network is offered only if at every series/parallel joint each
+    branch's share of the joint's sum - resistance for series resistors, conductance for parallel
+    resistors, capacitance for parallel capacitors, elastance 1/C for series capacitors - is at
+    least half the largest tolerance (the larger of minus and plus) among the parts under that
+    joint.  For two branches both joints give the same smaller share, min(x, y)/(x + y): with
+    conductances (1/x)/(1/x + 1/y) = y/(x + y).  A joint of three parts (series3, parallel3) is
+    one joint with three branches (``ThreePartSearch.rule``)."""
+    return np.minimum(x, y) / (x + y)
+
+
 def build_index(lines: Sequence[StockLine], max_parts: int = 2, boards: int = 1,
-                allow_polarized_series: bool = False, kind: str | None = None) -> NetworkIndex:
+                allow_polarized_series: bool = False, kind: str | None = None,
+                all_networks: bool = True) -> NetworkIndex:
     """Index every network of 1..max_parts parts of one kind that ``lines`` allow for ``boards``
     boards.  ``kind`` picks the lines of that kind; when omitted all lines must share one kind
     (an empty list gives an empty resistor index)."""
@@ -518,7 +542,7 @@ def build_index(lines: Sequence[StockLine], max_parts: int = 2, boards: int = 1,
             raise ValueError("stock lines of several kinds: pass kind='resistor' or kind='capacitor'")
         kind = kinds.pop() if kinds else "resistor"
     return NetworkIndex(lines, kind, max_parts=max_parts, boards=boards,
-                        allow_polarized_series=allow_polarized_series)
+                        allow_polarized_series=allow_polarized_series, all_networks=all_networks)
 
 
 def nearest_networks(lines: Sequence[StockLine], target: float, k: int = 10, max_parts: int = 2,

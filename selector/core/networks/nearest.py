@@ -119,6 +119,7 @@ class ThreePartSearch:
 
     def __init__(self, ix, shapes: Sequence[tuple[bool, bool, int, np.ndarray, np.ndarray]]):
         self.ix = ix
+        self.token = not getattr(ix, "all_networks", True)
         self.per_shape = []  # (s, pool_pos, pool_val, a_lines, seg_lo, row_lo, row_hi)
         pools, rows_s, rows_a, seg_lo, seg_hi = [], [], [], [], []
         start = 0
@@ -154,19 +155,47 @@ class ThreePartSearch:
         cap = ix.capacity()
         self.row_vmin = join(self.row_add, self.row_av, self.pool_val[self.row_lo]) if self.nrows else np.zeros(0)
         self.row_vmax = join(self.row_add, self.row_av, self.pool_val[self.row_hi - 1]) if self.nrows else np.zeros(0)
-        self.row_ok_first = self.ok_at(self.row_a, self.row_lo, cap) if self.nrows else np.zeros(0, bool)
-        self.row_ok_last = self.ok_at(self.row_a, self.row_hi - 1, cap) if self.nrows else np.zeros(0, bool)
+        self.row_ok_first = self.ok_at(self.row_a, self.row_lo, cap, self.row_s) if self.nrows else np.zeros(0, bool)
+        self.row_ok_last = self.ok_at(self.row_a, self.row_hi - 1, cap, self.row_s) if self.nrows else np.zeros(0, bool)
         self.shape_rows = np.array([r0 for *_x, r0, _r1 in self.per_shape] + [self.nrows], dtype=np.int64)
 
     # ------------------------------------------------------------------ plumbing
-    def ok(self, a: np.ndarray, pos: np.ndarray, cap: np.ndarray) -> np.ndarray:
-        """Quantity rule for single ``a`` added to pair ``pos`` (the pair alone is allowed)."""
+    def ok(self, a: np.ndarray, pos: np.ndarray, cap: np.ndarray, s) -> np.ndarray:
+        """Quantity rule for single ``a`` added to pair ``pos`` (the pair alone is allowed), and
+        the token-part rule of the 3-part network of shape ``s`` unless every network is wanted."""
         ix = self.ix
-        return 1 + (ix.entry_lines[0][pos] == a) + (ix.entry_lines[1][pos] == a) <= cap[a]
+        good = 1 + (ix.entry_lines[0][pos] == a) + (ix.entry_lines[1][pos] == a) <= cap[a]
+        if self.token:
+            good = good & self.rule(s, a, pos)
+        return good
 
-    def ok_at(self, a: np.ndarray, at: np.ndarray, cap: np.ndarray) -> np.ndarray:
-        """The same rule for the pair at pool index ``at``."""
-        return 1 + (self.pool_li[at] == a) + (self.pool_lj[at] == a) <= cap[a]
+    def ok_at(self, a: np.ndarray, at: np.ndarray, cap: np.ndarray, s) -> np.ndarray:
+        """The same rules for the pair at pool index ``at``."""
+        good = 1 + (self.pool_li[at] == a) + (self.pool_lj[at] == a) <= cap[a]
+        if self.token:
+            good = good & self.rule(s, a, self.pool_pos[at])
+        return good
+
+    def rule(self, s, a: np.ndarray, pos: np.ndarray) -> np.ndarray:
+        """Token-part rule at the outer joint of 3-part networks (shape s, single a, pair pos);
+        the inner pair already passed it when the pair array was built.  series3 / parallel3
+        are ONE joint of three branches: the smallest share is min(v)/sum(v) where the joint
+        adds values and (1/max(v))/sum(1/v) where it adds reciprocals.  The mixed shapes have
+        two branches, the single and the pair: min(a, p)/(a + p) for either joint.  The bar is
+        half the largest tolerance among all three parts."""
+        ix = self.ix
+        v, tol = ix.line_values, ix.line_tolerances
+        li, lj = ix.entry_lines[0][pos], ix.entry_lines[1][pos]
+        va, vb, vc = v[a], v[li], v[lj]
+        h = np.maximum(tol[a], np.maximum(tol[li], tol[lj])) / 2
+        s = np.asarray(s)
+        sym, add = self.symmetric[s], self.outer_add[s]
+        p = ix.entry_values[pos]
+        lo3 = np.minimum(va, np.minimum(vb, vc))
+        hi3 = np.maximum(va, np.maximum(vb, vc))
+        flat = np.where(add, lo3 / (va + vb + vc), (1.0 / hi3) / (1.0 / va + 1.0 / vb + 1.0 / vc))
+        share = np.where(sym, flat, np.minimum(va, p) / (va + p))
+        return share >= h
 
     def canonical(self, s: np.ndarray, a: np.ndarray, pos: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
         """Canonical ids and values of networks given as (shape s, single a, pair pos)."""
@@ -227,7 +256,7 @@ class ThreePartSearch:
         pairs beyond it on one side (below: indices < zl; above: >= zh), widening until found or
         the row's pool ends.  Returns (index into the inputs, pair position)."""
         out_i, out_p = [], []
-        lo_b, hi_b, a = self.row_lo[rows], self.row_hi[rows], self.row_a[rows]
+        lo_b, hi_b, a, rs = self.row_lo[rows], self.row_hi[rows], self.row_a[rows], self.row_s[rows]
         pending = np.arange(len(rows))
         w = k + 2
         while pending.size:
@@ -245,7 +274,7 @@ class ThreePartSearch:
                     idx = pl[:, None] + np.arange(width)[None, :]
                     inside = idx < sh[:, None]
                 at = np.clip(idx, 0, max(len(self.pool_pos) - 1, 0))
-                good = inside & self.ok_at(pa[:, None], at, cap)
+                good = inside & self.ok_at(pa[:, None], at, cap, rs[pend][:, None])
                 pos = self.pool_pos[at]
                 if below:
                     beyond = np.sum(good & (idx < pl[:, None]), axis=1)
@@ -320,7 +349,7 @@ class ThreePartSearch:
                     lb = np.where(above_all, edge, np.inf)
                     ub = np.where(above_all & self.row_ok_first[:, None], edge, np.inf)
             lb.ravel()[act] = np.where(have, np.maximum(ratio, 1.0), np.inf)
-            good = have & (ratio >= 1.0) & self.ok_at(self.row_a[ar], pc, cap)
+            good = have & (ratio >= 1.0) & self.ok_at(self.row_a[ar], pc, cap, self.row_s[ar])
             ub.ravel()[act] = np.where(good, ratio, np.inf)
             u = np.exp(bounds[0 if below else 1])
             if self.nrows >= 3 * k:
@@ -352,7 +381,7 @@ class ThreePartSearch:
         r, e = ranges_concat(zl.ravel(), np.maximum(zh, zl).ravel())
         row, t = r // m, r % m
         s, a, pos = self.row_s[row], self.row_a[row], self.pool_pos[e]
-        good = self.ok(a, pos, cap) & (~self.symmetric[s] | (a <= ix.entry_lines[0][pos]))  # canonical copy only
+        good = self.ok(a, pos, cap, s) & (~self.symmetric[s] | (a <= ix.entry_lines[0][pos]))  # canonical copy only
         s, a, pos, t = s[good], a[good], pos[good], t[good]
         vals = join(self.outer_add[s], ix.line_values[a], ix.entry_values[pos])
         inr = (vals >= lo[t]) & (vals <= hi[t])
@@ -415,7 +444,7 @@ class ThreePartSearch:
                     continue
                 r, col = hit // n, hit % n
                 a = a_lines[blk][r]
-                good = self.ok(a, pool_pos[col], cap)
+                good = self.ok(a, pool_pos[col], cap, s)
                 out.append(vals.ravel()[hit[good]])
         return np.sort(np.concatenate(out)) if out else np.zeros(0)
 
@@ -423,6 +452,8 @@ class ThreePartSearch:
         """Exact number of distinct 3-part networks, counted without building them."""
         ix = self.ix
         cap, L, n3 = ix.capacity(), ix.line_count, 0
+        if self.token:
+            return self._count_enumerated()
         for s, pool_pos, _pv, a_lines, _seg, _r0, _r1 in self.per_shape:
             pi, pj = ix.entry_lines[0][pool_pos], ix.entry_lines[1][pool_pos]
             diff = pi != pj
@@ -435,4 +466,20 @@ class ThreePartSearch:
                 n3 += int(np.sum(ge - short2 * first_other[a_lines] - short3 * own[a_lines]))
             else:
                 n3 += int(len(a_lines) * len(pi) - np.sum(short2 * other[a_lines] + short3 * own[a_lines]))
+        return n3
+
+    def _count_enumerated(self) -> int:
+        """The count with the token-part rule: every canonical (row, pair) checked, in blocks
+        (no closed form: the rule depends on all three parts)."""
+        cap, n3 = self.ix.capacity(), 0
+        li0 = self.ix.entry_lines[0]
+        for s, pool_pos, _pv, a_lines, _seg, _r0, _r1 in self.per_shape:
+            n = len(pool_pos)
+            step = max(1, _CELLS // max(n, 1))
+            for c0 in range(0, len(a_lines), step):
+                a = a_lines[c0:c0 + step][:, None]
+                good = self.ok(a, pool_pos[None, :], cap, s)
+                if self.symmetric[s]:
+                    good &= a <= li0[pool_pos][None, :]
+                n3 += int(np.count_nonzero(good))
         return n3
