@@ -46,6 +46,7 @@ def register(find_app: typer.Typer) -> None:
         top: int = typer.Option(10, "--top", parser=whole("--top", 1, MAX_TOP), metavar="K", help="How many options to show."),
         boards: int = typer.Option(1, "--boards", parser=whole("--boards", 1, MAX_BOARDS), metavar="B", help="Boards to build: every part is needed this many times."),
         allow_polarized_series: bool = typer.Option(False, "--allow-polarized-series", help="Also offer networks with polarized capacitors in series (shown with a caution)."),
+        all_networks: bool = typer.Option(False, "--all-networks", help="Also offer networks with a token part (one whose share at its joint is below half the largest tolerance there)."),
         as_json: bool = typer.Option(False, "--json", help='Print only JSON: {"target", "options": [{"rank", "value", "error", "min", "max", "shape", "parts"}]}.'),
     ) -> None:
         """Find the single parts and series/parallel networks in stock nearest to VALUE.
@@ -60,7 +61,7 @@ def register(find_app: typer.Typer) -> None:
 
         target, k = _target(value, kind.value if kind else None)
         req = ValueRequest(target=target, kind=k, max_parts=max_parts, top=top, boards=boards,
-                           allow_polarized_series=allow_polarized_series)
+                           allow_polarized_series=allow_polarized_series, all_networks=all_networks)
         req.check()
         engine = open_engine(resolve_url(db_arg(ctx)))
         try:

@@ -29,6 +29,7 @@ class ValueRequest:
     top: int = 10
     boards: int = 1
     allow_polarized_series: bool = False
+    all_networks: bool = False  # True: also networks with a token part (--all-networks)
 
     def check(self) -> None:
         if self.kind not in KINDS:
@@ -114,7 +115,8 @@ def plan_value(lines: Sequence[StockLine], req: ValueRequest) -> ValueReport:
 
     req.check()
     index = build_index(lines, max_parts=req.max_parts, boards=req.boards,
-                        allow_polarized_series=req.allow_polarized_series, kind=req.kind)
+                        allow_polarized_series=req.allow_polarized_series, kind=req.kind,
+                        all_networks=req.all_networks)
     if not index.lines:
         held = [ln for ln in lines if ln.kind == req.kind]
         if not held:

@@ -119,12 +119,45 @@ def fits(nets, lines, boards):
     return all(c * boards <= qty[lid] for lid, c in total.items())
 
 
-def reference_best(r_lines, c_lines, target, connection, lim, max_parts, boards):
-    """Smallest |error| over every allowed option, or None when nothing is allowed."""
+def token_ok(net) -> bool:
+    """The token-part rule written out per shape (issue 11 item 1, our own rule): at each joint
+    every branch's share of the joint's sum (R for series R, 1/R for parallel R, C for parallel
+    C, 1/C for series C) is at least half the largest tolerance of the parts under the joint."""
+    _v, shape, combo, _p = net
+    res = combo[0].kind == "resistor"
+
+    def ser(*xs):
+        return sum(xs) if res else 1.0 / sum(1.0 / x for x in xs)
+
+    def par(*xs):
+        return 1.0 / sum(1.0 / x for x in xs) if res else sum(xs)
+
+    def joint_ok(series, branch_values, parts):
+        summed = [x if series == res else 1.0 / x for x in branch_values]
+        bar = max(max(ln.tol_minus, ln.tol_plus) for ln in parts) / 2
+        return all(q / sum(summed) >= bar for q in summed)
+
+    v = [ln.value for ln in combo]
+    if shape == "single":
+        return True
+    if shape in ("series", "series3"):
+        return joint_ok(True, v, combo)
+    if shape in ("parallel", "parallel3"):
+        return joint_ok(False, v, combo)
+    if shape == "series+parallel":  # (a ∥ b) + c
+        return joint_ok(False, v[:2], combo[:2]) and joint_ok(True, [par(*v[:2]), v[2]], combo)
+    if shape == "parallel+series":  # (a + b) ∥ c
+        return joint_ok(True, v[:2], combo[:2]) and joint_ok(False, [ser(*v[:2]), v[2]], combo)
+    raise ValueError(shape)
+
+
+def reference_best(r_lines, c_lines, target, connection, lim, max_parts, boards, all_networks=True):
+    """Smallest |error| over every allowed option, or None when nothing is allowed
+    (``all_networks=False``: only networks that pass ``token_ok``)."""
     from selector.core import timing  # physics only (diode charge), see module docstring
 
-    rn = plain_networks(r_lines, max_parts, boards)
-    cn = [n for n in plain_networks(c_lines, max_parts, boards) if cap_ok(n, lim)]
+    rn = [n for n in plain_networks(r_lines, max_parts, boards) if all_networks or token_ok(n)]
+    cn = [n for n in plain_networks(c_lines, max_parts, boards) if cap_ok(n, lim) and (all_networks or token_ok(n))]
     best = None
     if connection in ("standard", "diode"):
         ra_ok = [n for n in rn if n[0] >= lim.min_r_ohm * (1 - 1e-9)
@@ -412,5 +445,49 @@ def test_swept_lower_bound_order_is_still_exact(case, connection):
     sk.PHASE1_SAMPLE, nearest.SWEEP_MAX_SHARE = 2, 1.0
     try:
         _check((r_lines, c_lines, target, lim, 3, boards, min(pool, 2)), connection)
+    finally:
+        sk.PHASE1_SAMPLE, nearest.SWEEP_MAX_SHARE = old, old_share
+
+
+def _check_rule(case, connection):
+    r_lines, c_lines, target, lim, max_parts, boards, pool = case
+    expected = reference_best(r_lines, c_lines, target, connection, lim, max_parts, boards, all_networks=False)
+    try:
+        res = search_timing(r_lines, c_lines, target, (connection,), {connection: lim},
+                            max_parts=max_parts, boards=boards, pool=pool, all_networks=False)
+    except NothingFeasible:
+        assert expected is None, f"search found nothing, the reference found {expected}"
+        return
+    assert expected is not None, f"search found {res.best_error}, the reference nothing"
+    assert abs(abs(res.best_error) - expected) <= 1e-12 + 1e-9 * expected
+    from reference_networks import token_ok as network_token_ok  # the rule on Network records
+
+    assert all(network_token_ok(n) for o in res.options for n in o.networks.values())
+
+
+@settings(**_SETTINGS)
+@given(st.sampled_from(["standard", "diode", "output-fed", "monostable", "rc"]).flatmap(
+    lambda c: st.tuples(cases(c), st.just(c))))
+def test_token_rule_search_matches_exhaustive(case_conn):
+    """With the token-part rule on (the default of every find command), the search is exact
+    over the networks offered: the reference applies the same rule, written out per shape."""
+    case, connection = case_conn
+    _check_rule(case, connection)
+
+
+@settings(**_SETTINGS)
+@given(cases("standard", max_parts_max=3), st.sampled_from(["standard", "monostable"]))
+def test_token_rule_with_the_sweep_forced_is_exact(case, connection):
+    """The rule inside the 3-part branch and bound (sample of 2, sweep forced on)."""
+    import selector.core.networks.nearest as nearest
+    import selector.core.search.kernels as sk
+
+    r_lines, c_lines, target, lim, max_parts, boards, pool = case
+    if connection == "monostable":
+        target = Target("monostable", width=target.t_low * 1.3)
+    old, old_share = sk.PHASE1_SAMPLE, nearest.SWEEP_MAX_SHARE
+    sk.PHASE1_SAMPLE, nearest.SWEEP_MAX_SHARE = 2, 1.0
+    try:
+        _check_rule((r_lines, c_lines, target, lim, 3, boards, min(pool, 2)), connection)
     finally:
         sk.PHASE1_SAMPLE, nearest.SWEEP_MAX_SHARE = old, old_share
