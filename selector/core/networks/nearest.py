@@ -131,12 +131,32 @@ class ThreePartSearch:
             n = len(pool_pos)
             if n == 0 or len(a_lines) == 0:
                 continue  # no network of this shape
-            self.per_shape.append((s, pool_pos, ix.entry_values[pool_pos], a_lines, start, r0, r0 + len(a_lines)))
+            pv = ix.entry_values[pool_pos]
+            lo_i, hi_i = np.zeros(len(a_lines), np.int64), np.full(len(a_lines), n, np.int64)
+            if self.token:
+                # Token-part rule, a necessary part of it: at the outer joint the single's share
+                # and the pair's share are both >= h >= max(tol(a), smallest tolerance)/2, and for
+                # every shape that means min(a, p)/(a + p) >= h (see ``rule``), i.e. the pair value
+                # p lies in [a·h/(1-h), a·(1-h)/h]. Each row keeps only that slice of its pool
+                # (widened against rounding); the full rule is still checked per network.
+                tol = ix.line_tolerances
+                h = np.maximum(tol[a_lines], tol.min()) / 2
+                av = ix.line_values[a_lines]
+                with np.errstate(divide="ignore", invalid="ignore"):
+                    p_lo = np.where(h < 0.5, av * h / (1 - h), np.inf) * (1 - 1e-9)
+                    p_hi = np.where(h > 0, av * (1 - h) / np.where(h > 0, h, 1.0), np.inf) * (1 + 1e-9)
+                lo_i = np.searchsorted(pv, p_lo, side="left")
+                hi_i = np.searchsorted(pv, p_hi, side="right")
+                keep = lo_i < hi_i
+                a_lines, lo_i, hi_i = a_lines[keep], lo_i[keep], hi_i[keep]
+                if len(a_lines) == 0:
+                    continue
+            self.per_shape.append((s, pool_pos, pv, a_lines, start, r0, r0 + len(a_lines)))
             pools.append(pool_pos)
             rows_s.append(np.full(len(a_lines), s, dtype=np.int64))
             rows_a.append(a_lines)
-            seg_lo.append(np.full(len(a_lines), start, dtype=np.int64))
-            seg_hi.append(np.full(len(a_lines), start + n, dtype=np.int64))
+            seg_lo.append(start + lo_i)
+            seg_hi.append(start + hi_i)
             start += n
             r0 += len(a_lines)
         self.pool_pos = np.concatenate(pools) if pools else np.zeros(0, np.int64)
@@ -227,8 +247,9 @@ class ThreePartSearch:
                 right = _zone_end(pv, left, p_hi)
             else:
                 right = np.searchsorted(pv, p_hi, side="right")
-            zl[r0:r1] = left + seg
-            zh[r0:r1] = right + seg
+            rl, rh = self.row_lo[r0:r1, None], self.row_hi[r0:r1, None]  # the row's slice of its pool
+            zl[r0:r1] = np.clip(left + seg, rl, rh)
+            zh[r0:r1] = np.clip(right + seg, rl, rh)
         return zl, zh
 
     def point_zones(self, rows: np.ndarray, t: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
@@ -246,8 +267,9 @@ class ThreePartSearch:
             left = np.searchsorted(pv, preimage(add, av, tt * (1.0 - EPS)))
             p_hi = preimage(add, av, tt * (1.0 + EPS))
             right = _zone_end(pv, left, p_hi)  # only pairs within the slack: step over them
-            zl[c0:c1] = left + seg
-            zh[c0:c1] = right + seg
+            rl, rh = self.row_lo[rows[c0:c1]], self.row_hi[rows[c0:c1]]
+            zl[c0:c1] = np.clip(left + seg, rl, rh)
+            zh[c0:c1] = np.clip(right + seg, rl, rh)
         return zl, zh
 
     def windows(self, rows: np.ndarray, zl: np.ndarray, zh: np.ndarray, k: int, below: bool,
@@ -469,17 +491,19 @@ class ThreePartSearch:
         return n3
 
     def _count_enumerated(self) -> int:
-        """The count with the token-part rule: every canonical (row, pair) checked, in blocks
-        (no closed form: the rule depends on all three parts)."""
+        """The count with the token-part rule: every canonical network in each row's slice
+        checked, in blocks (no closed form: the rule depends on all three parts)."""
         cap, n3 = self.ix.capacity(), 0
         li0 = self.ix.entry_lines[0]
-        for s, pool_pos, _pv, a_lines, _seg, _r0, _r1 in self.per_shape:
-            n = len(pool_pos)
-            step = max(1, _CELLS // max(n, 1))
-            for c0 in range(0, len(a_lines), step):
-                a = a_lines[c0:c0 + step][:, None]
-                good = self.ok(a, pool_pos[None, :], cap, s)
+        for s, _pool_pos, _pv, _a, _seg, r0, r1 in self.per_shape:
+            length = self.row_hi[r0:r1] - self.row_lo[r0:r1]
+            step = max(1, _CELLS // max(int(length.max()), 1))
+            for c0 in range(r0, r1, step):
+                c1 = min(r1, c0 + step)
+                r, e = ranges_concat(self.row_lo[c0:c1], self.row_hi[c0:c1])
+                a, pos = self.row_a[c0:c1][r], self.pool_pos[e]
+                good = self.ok(a, pos, cap, s)
                 if self.symmetric[s]:
-                    good &= a <= li0[pool_pos][None, :]
+                    good &= a <= li0[pos]
                 n3 += int(np.count_nonzero(good))
         return n3
