@@ -274,6 +274,11 @@ class NetworkIndex:
     def __len__(self) -> int:
         return sum(self.size_by_parts().values())
 
+    @property
+    def empty(self) -> bool:
+        """No network at all (cheap; every 3-part network's single part is a network too)."""
+        return self._M == 0
+
     def values(self, ids) -> np.ndarray:
         """Nominal values (nan for -1)."""
         ids = self._check_ids(ids)
@@ -392,12 +397,16 @@ class NetworkIndex:
         return [self.network(int(i)) for i in ids if int(i) >= 0]
 
     def size_by_parts(self) -> dict[int, int]:
-        """Exact number of distinct networks by part count (3-part ones counted, not built)."""
+        """Exact number of distinct networks by part count (3-part ones counted, not built;
+        with the token-part rule that checks every candidate once, then it is kept)."""
+        if getattr(self, "_sizes", None) is not None:
+            return dict(self._sizes)
         out = {1: int(np.sum(self._np == 1))}
         if self.max_parts >= 2:
             out[2] = int(np.sum(self._np == 2))
         if self.max_parts >= 3:
             out[3] = self._three.count()
+        self._sizes = dict(out)
         return out
 
     # ------------------------------------------------------------ look-ups

@@ -52,6 +52,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass, field
+from collections.abc import Mapping
 from typing import Callable, Optional, Sequence
 
 from selector.core import circuits
@@ -208,7 +209,7 @@ def search_timing(r_lines: Sequence, c_lines: Sequence, target: Target, connecti
     counts = {}
     for budget in range(1, max_parts + 1):
         r_index, c_index = _indexes(r_lines, c_lines, budget, boards, indexes, c_max_parts, ex, all_networks)
-        counts[budget] = (_size(r_index), _size(c_index))
+        counts[budget] = (r_index, c_index)
         for conn in connections:
             pex = ex if budget == max_parts else Exclusions()  # count each exclusion once
 
@@ -231,7 +232,7 @@ def search_timing(r_lines: Sequence, c_lines: Sequence, target: Target, connecti
     if not options:
         what = target.mode if target.mode != "astable" else "astable (" + ", ".join(connections) + ")"
         raise NothingFeasible(ex.message(what))
-    return SearchResult(options, ex, tuple(connections), counts)
+    return SearchResult(options, ex, tuple(connections), NetworkCounts(counts))
 
 
 def _indexes(r_lines, c_lines, budget: int, boards: int, indexes: Optional[dict],
@@ -249,9 +250,9 @@ def _indexes(r_lines, c_lines, budget: int, boards: int, indexes: Optional[dict]
         c_index = build_index(c_lines, max_parts=c_parts, boards=boards, kind="capacitor",
                               all_networks=all_networks)
     per = f" for {boards} boards" if boards > 1 else ""
-    if len(r_index) == 0:
+    if r_index.empty:
         ex.note(f"no resistor in stock{per}")
-    if len(c_index) == 0:
+    if c_index.empty:
         ex.note(f"no capacitor in stock{per}")
     return r_index, c_index
 
@@ -281,6 +282,28 @@ def _one_pass(kind, target: Target, lim: Limits, r_index, c_index, pool: int, bu
             nets[role] = r_index.network(r_id)
         out.append(FoundOption(kind.key, nets, hit.error, hit.t_high, hit.t_low, hit.time, budget))
     return out
+
+
+class NetworkCounts(Mapping):
+    """budget -> (resistor networks, capacitor networks) searched, counted on first read: with
+    the token-part rule an exact 3-part count checks every candidate network (seconds on a large
+    stock), which a search that never shows the count should not pay."""
+
+    def __init__(self, indexes: dict):
+        self._indexes = indexes
+        self._done: dict = {}
+
+    def __getitem__(self, budget):
+        if budget not in self._done:
+            r_index, c_index = self._indexes[budget]
+            self._done[budget] = (_size(r_index), _size(c_index))
+        return self._done[budget]
+
+    def __iter__(self):
+        return iter(self._indexes)
+
+    def __len__(self) -> int:
+        return len(self._indexes)
 
 
 def _size(index) -> int:

@@ -205,7 +205,7 @@ class _Pass:
 
     def _resistors_usable(self) -> bool:
         """False (and counted) when no resistor network reaches the minimum RA / R at all."""
-        if len(self.r) == 0:
+        if self.r.empty:
             return False  # noted by the caller ("no resistor in stock")
         if self.lim.min_r_ohm > 0:
             _b, above = self.r.nearest_sides(np.array([self.lim.min_r_ohm * (1 - _SLACK)]), 1)
