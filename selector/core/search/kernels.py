@@ -384,8 +384,9 @@ class _Pass:
         branch of the V, so LB(c) <= |e(v, c)|.  Hence c has no option within B when LB(c) > B.
         The capacitor networks are processed in order of LB with the exact per-c look-up; B
         becomes the pool-th smallest |error| of the distinct (c, R) found (never larger); the
-        loop stops at the first LB(c) > B, and every later c has no option that can enter the
-        pool: the same pool as the plain pass."""
+        loop stops at the first LB(c) >= B, and every later c has no option that can improve the
+        pool: the same pool errors as the plain pass (among options tied at exactly the pool-th
+        error, which ones are kept may differ)."""
         p = self.p
         cv = self.c_vals
         r_star = p.r_ideal(cv)
@@ -410,10 +411,15 @@ class _Pass:
         lb[odd] = 0.0  # no ideal R known: always searched
         live = np.flatnonzero(lb <= bound * (1 + 1e-9) + 1e-15)
         order = live[np.argsort(lb[live], kind="stable")]
-        b, start, size = bound, 0, 256
-        while start < order.size and lb[order[start]] <= b * (1 + 1e-9) + 1e-15:
+        # The pool is already full (the sample gave >= pool options), so an option whose |error|
+        # EQUALS the current pool-th best cannot change the pool's errors: the loop stops at
+        # LB >= B. No rounding slack is needed here: LB is the circuit's own error1 on the same
+        # value (same join of the same parts), so it equals that option's |error| bit for bit.
+        # (Many exact hits, e.g. an RC target of 0 error, would otherwise all be visited.)
+        b, start, size = _kth_distinct(found, pool, 2, slack=False), 0, 256
+        while start < order.size and lb[order[start]] < b:
             found.extend(self._one_chunk(order[start:start + size], count=False))
-            b = min(b, _kth_distinct(found, pool, 2))
+            b = min(b, _kth_distinct(found, pool, 2, slack=False))
             start += size
             size = min(2 * size, self.chunk)
             if progress:
@@ -448,7 +454,7 @@ class _Pass:
 # --------------------------------------------------------------------------- bounds
 
 
-def _kth_distinct(found: list, pool: int, col: int) -> float:
+def _kth_distinct(found: list, pool: int, col: int, slack: bool = True) -> float:
     """The pool-th smallest |error| over the distinct (capacitor, first resistor) pairs in
     ``found`` (tuples of arrays: positions, resistor ids, ..., errors in column ``col``: 3 for
     the two-resistor pass, 2 for the one-resistor pass), slightly widened; inf when fewer pairs
@@ -465,7 +471,7 @@ def _kth_distinct(found: list, pool: int, col: int) -> float:
     if first.size < pool:
         return INF
     kth = float(np.partition(err[first], pool - 1)[pool - 1])
-    return min(kth, MAX_ERROR) * (1 + _SLACK) + 1e-15
+    return min(kth, MAX_ERROR) * (1 + _SLACK) + 1e-15 if slack else kth
 
 
 def _distance_floor(sorted_vals: np.ndarray, t: np.ndarray) -> np.ndarray:
