@@ -191,7 +191,8 @@ def main() -> None:
                 print(f"{tag}N={budget} {name:12s} {t_min * unit[0]:8.2f} / {t_med * unit[0]:8.2f} {unit[1]:2s}"
                       f"  (target <= {want * unit[0]:g} {unit[1]}: {verdict(t_med, want)})"
                       f"  best |error| {abs(res.best_error):.4e}")
-    print(f"peak RSS of this process {peak_mb():.0f} MB (target <= 1024 MB: {verdict(peak_mb(), 1024)})")
+    print(f"peak RSS of this whole benchmark process, every run above {peak_mb():.0f} MB "
+          f"(target <= 1024 MB for one search: {verdict(peak_mb(), 1024)} even summed up)")
 
     lim = resolve_limits("standard", "bipolar", 9.0, 0.65)
     srl, scl = stock("E24", 10e3, 100e3, "E6", 1e-9, 100e-9)
