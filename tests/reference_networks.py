@@ -5,7 +5,9 @@ plain Python (resistors: series R = R1 + R2 + ..., parallel 1/R = 1/R1 + 1/R2 + 
 the other way round; facts.md §10 "Networks"), the quantity rule checked with a Counter.  No numpy
 and nothing from ``selector.core.networks`` except the ``Network`` record used as a container.
 
-    enumerate_all(lines, max_parts, boards, allow_polarized_series=False, kind=None) -> list[Network]
+    enumerate_all(lines, max_parts, boards, allow_polarized_series=False, kind=None,
+                  all_networks=True) -> list[Network]     (all_networks=False: token-part rule)
+    token_ok(net) -> bool   the token-part rule, written out joint by joint
     network_key(net) -> hashable key, equal exactly for the same network
 
 Import it as `from reference_networks import enumerate_all` (pytest puts tests/ on sys.path).
@@ -84,9 +86,44 @@ def _make(kind: str, shape: str, physical: tuple[StockLine, ...]) -> Network:
                    physical=physical, structure=_STRUCTURE[shape])
 
 
+def token_ok(net: Network) -> bool:
+    """The token-part rule (issue 11, item 1), written out plainly: at every joint of the
+    structure each child's share of the joint's sum is at least half the largest tolerance
+    (max of minus and plus) among the parts under that joint. The summed quantity is what the
+    joint adds: resistance (series R), conductance (parallel R), capacitance (parallel C),
+    elastance 1/C (series C)."""
+    kind = net.kind
+
+    def leaves(node):
+        if isinstance(node, int):
+            return [node]
+        return [i for child in node[1] for i in leaves(child)]
+
+    def val(node) -> float:
+        if isinstance(node, int):
+            return net.physical[node].value
+        joint, children = node
+        xs = [val(c) for c in children]
+        return _series(kind, xs) if joint == "series" else _parallel(kind, xs)
+
+    def check(node) -> bool:
+        if isinstance(node, int):
+            return True
+        joint, children = node
+        adds_value = (joint == "series") == (kind == "resistor")
+        qty = [val(c) if adds_value else 1.0 / val(c) for c in children]
+        total = sum(qty)
+        bar = max(max(net.physical[i].tol_minus, net.physical[i].tol_plus) for i in leaves(node)) / 2
+        return all(q / total >= bar for q in qty) and all(check(c) for c in children)
+
+    return check(net.structure)
+
+
 def enumerate_all(lines: Sequence[StockLine], max_parts: int = 2, boards: int = 1,
-                  allow_polarized_series: bool = False, kind: str | None = None) -> list[Network]:
-    """Every distinct network of 1..max_parts parts of one kind, one entry per network."""
+                  allow_polarized_series: bool = False, kind: str | None = None,
+                  all_networks: bool = True) -> list[Network]:
+    """Every distinct network of 1..max_parts parts of one kind, one entry per network; with
+    ``all_networks=False`` only those that pass the token-part rule (``token_ok``)."""
     if kind is None:
         kinds = {ln.kind for ln in lines}
         assert len(kinds) <= 1, "pass kind= for mixed stock"
@@ -123,7 +160,9 @@ def enumerate_all(lines: Sequence[StockLine], max_parts: int = 2, boards: int = 
                     shapes += [("series+parallel", physical), ("parallel+series", physical)]
             for shape, physical in shapes:
                 if allowed(physical, shape):
-                    out.append(_make(kind, shape, physical))
+                    net = _make(kind, shape, physical)
+                    if all_networks or token_ok(net):
+                        out.append(net)
     return out
 
 

@@ -131,6 +131,7 @@ _COMMON_HELP = {
     "max_parts": "Largest number of parts per network (1-3).",
     "top": "How many options to show.",
     "boards": "Build this many boards: every part count is multiplied.",
+    "all_networks": "Also offer networks with a token part (one whose share at its joint is below half the largest tolerance there).",
     "accept": "Acceptance band for the yield, e.g. 5% or 0.05.",
     "json": "Print the options as JSON only.",
     "distribution": "How part values spread inside their tolerance for the yield.",
@@ -159,6 +160,7 @@ def astable(
     distribution: DistributionChoice = typer.Option(DistributionChoice.uniform, "--distribution", help=_COMMON_HELP["distribution"]),
     seed: int = typer.Option(0, "--seed", parser=whole("--seed", 0, MAX_SEED), metavar="N", help=_COMMON_HELP["seed"]),
     samples: int = typer.Option(10_000, "--samples", parser=whole("--samples", 1, MAX_SAMPLES), metavar="N", help=_COMMON_HELP["samples"]),
+    all_networks: bool = typer.Option(False, "--all-networks", help=_COMMON_HELP["all_networks"]),
     as_json: bool = typer.Option(False, "--json", help=_COMMON_HELP["json"]),
     **circuit,
 ) -> None:
@@ -184,7 +186,7 @@ def astable(
     _run(ctx, as_json, mode="astable", freq_hz=_value(freq, "Hz", "--freq"),
          duty=_fraction(duty, "--duty") if duty is not None else None,
          connection=connection.value, chip=chip.value, vcc_text=vcc, vf_text=diode_vf,
-         max_parts=max_parts, top=top, boards=boards, accept_text=accept,
+         max_parts=max_parts, top=top, boards=boards, accept_text=accept, all_networks=all_networks,
          distribution=distribution.value, seed=seed, samples=samples, options=options)
 
 
@@ -201,6 +203,7 @@ def monostable(
     distribution: DistributionChoice = typer.Option(DistributionChoice.uniform, "--distribution", help=_COMMON_HELP["distribution"]),
     seed: int = typer.Option(0, "--seed", parser=whole("--seed", 0, MAX_SEED), metavar="N", help=_COMMON_HELP["seed"]),
     samples: int = typer.Option(10_000, "--samples", parser=whole("--samples", 1, MAX_SAMPLES), metavar="N", help=_COMMON_HELP["samples"]),
+    all_networks: bool = typer.Option(False, "--all-networks", help=_COMMON_HELP["all_networks"]),
     as_json: bool = typer.Option(False, "--json", help=_COMMON_HELP["json"]),
 ) -> None:
     """Find R and C networks in stock for a monostable (one-shot) 555 pulse width."""
@@ -221,6 +224,7 @@ def rc(
     distribution: DistributionChoice = typer.Option(DistributionChoice.uniform, "--distribution", help=_COMMON_HELP["distribution"]),
     seed: int = typer.Option(0, "--seed", parser=whole("--seed", 0, MAX_SEED), metavar="N", help=_COMMON_HELP["seed"]),
     samples: int = typer.Option(10_000, "--samples", parser=whole("--samples", 1, MAX_SAMPLES), metavar="N", help=_COMMON_HELP["samples"]),
+    all_networks: bool = typer.Option(False, "--all-networks", help=_COMMON_HELP["all_networks"]),
     as_json: bool = typer.Option(False, "--json", help=_COMMON_HELP["json"]),
 ) -> None:
     """Find R and C networks in stock for an RC time constant or corner frequency (give one)."""

@@ -85,6 +85,7 @@ def register(find_app: typer.Typer) -> None:
         dielectric: Optional[str] = typer.Option(None, "--dielectric", metavar="NAME[,NAME]", help="Capacitors: only these dielectrics, e.g. C0G or film-PP,film-PET."),
         min_rating: Optional[str] = typer.Option(None, "--min-rating", metavar="RATING", help="Only parts rated at least this (every part of a network): watts for resistors (0.5W), volts for capacitors (50V); unknown ratings are left out."),
         location: Optional[str] = typer.Option(None, "--location", metavar="DRAWER[,DRAWER]", help="Only parts from these drawers (case ignored)."),
+        all_networks: bool = typer.Option(False, "--all-networks", help="Also offer networks with a token part (one whose share at its joint is below half the largest tolerance there)."),
         as_json: bool = typer.Option(False, "--json", help='Print only JSON: {"target", "options": [{"rank", "value", "error", "min", "max", "shape", "parts", "yield", "why"}], "search"}.'),
     ) -> None:
         """Find the single parts and series/parallel networks in stock nearest to VALUE.
@@ -100,7 +101,7 @@ def register(find_app: typer.Typer) -> None:
 
         target, k = _target(value, kind.value if kind else None)
         req = ValueRequest(target=target, kind=k, max_parts=max_parts, top=top, boards=boards,
-                           allow_polarized_series=allow_polarized_series,
+                           allow_polarized_series=allow_polarized_series, all_networks=all_networks,
                            **_filters(k, accept, tolerance, dielectric, min_rating, location))
         req.check()
         engine = open_engine(resolve_url(db_arg(ctx)))

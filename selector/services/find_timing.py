@@ -43,6 +43,7 @@ class TimingRequest:
     seed: int = 0
     samples: int = 10_000
     options: dict = field(default_factory=dict)  # the circuit's own options (e.g. logic family)
+    all_networks: bool = False  # True: also networks with a token part (--all-networks)
 
     @property
     def kind(self):
@@ -148,6 +149,8 @@ def params_json(req: TimingRequest) -> dict:
     options = dict(req.settings.options)
     if options:  # a circuit's own options (only circuits that have them add this key)
         out["options"] = options
+    if req.all_networks:  # only when asked: token-part networks were searched too
+        out["all_networks"] = True
     return out
 
 
@@ -216,7 +219,8 @@ def plan_timing(r_lines, c_lines, req: TimingRequest,
     connections = _reachable(req, target, connections)
     limits = {c: resolve_limits(c, req.chip, req.vcc, req.vf, options) for c in connections}
     result = search_timing(r_lines, c_lines, target, connections, limits, max_parts=req.max_parts,
-                           boards=req.boards, pool=2 * max(req.top, 5), progress=progress)
+                           boards=req.boards, pool=2 * max(req.top, 5), progress=progress,
+                           all_networks=req.all_networks)
     ranked = evaluate_and_rank(result.options, target, limits, req.accept, req.top,
                                req.distribution, req.samples, req.seed,
                                folded=getattr(result, "folded", ()),

@@ -36,6 +36,7 @@ class ValueRequest:
     locations: tuple = ()  # --location: drawers allowed (case ignored)
     samples: int = 10_000
     seed: int = 0
+    all_networks: bool = False  # True: also networks with a token part (--all-networks)
 
     def check(self) -> None:
         from selector.core.errors import OutOfRange
@@ -179,7 +180,8 @@ def plan_value(lines: Sequence[StockLine], req: ValueRequest) -> ValueReport:
         raise NothingFeasible(f"no {req.kind} in stock matches {req.filters_text()}")
     lines = kept
     index = build_index(lines, max_parts=req.max_parts, boards=req.boards,
-                        allow_polarized_series=req.allow_polarized_series, kind=req.kind)
+                        allow_polarized_series=req.allow_polarized_series, kind=req.kind,
+                        all_networks=req.all_networks)
     if not index.lines:
         held = [ln for ln in lines if ln.kind == req.kind]
         if not held:
@@ -196,7 +198,8 @@ def plan_value(lines: Sequence[StockLine], req: ValueRequest) -> ValueReport:
     for budget in range(1, req.max_parts + 1):
         idx = index if budget == req.max_parts else build_index(
             lines, max_parts=budget, boards=req.boards,
-            allow_polarized_series=req.allow_polarized_series, kind=req.kind)
+            allow_polarized_series=req.allow_polarized_series, kind=req.kind,
+            all_networks=req.all_networks)
         fetch = want
         while True:
             ids = idx.nearest_few(np.array([req.target]), fetch)[0]

@@ -2,7 +2,8 @@
 
 Public API (the timing search and ``find value`` build on it)::
 
-    build_index(lines, max_parts=2, boards=1, allow_polarized_series=False, kind=None) -> NetworkIndex
+    build_index(lines, max_parts=2, boards=1, allow_polarized_series=False, kind=None,
+                all_networks=True) -> NetworkIndex   (all_networks=False: token-part rule, token_share)
     nearest_networks(lines, target, k=10, max_parts=2, boards=1, allow_polarized_series=False,
                      kind=None) -> list[Network]
 
@@ -88,7 +89,7 @@ class NetworkIndex:
     Build it with :func:`build_index`.  See the module docstring for the id scheme and methods."""
 
     def __init__(self, lines: Sequence[StockLine], kind: str, max_parts: int = 2, boards: int = 1,
-                 allow_polarized_series: bool = False):
+                 allow_polarized_series: bool = False, all_networks: bool = True):
         if kind not in KINDS:
             raise ValueError(f"unknown part kind {kind!r}; expected one of {', '.join(KINDS)}")
         if max_parts not in (1, 2, 3):
@@ -99,6 +100,7 @@ class NetworkIndex:
         self.max_parts = int(max_parts)
         self.boards = int(boards)
         self.allow_polarized_series = bool(allow_polarized_series)
+        self.all_networks = bool(all_networks)  # False: token-part networks left out (see token_share)
         usable = [ln for ln in lines if ln.kind == kind and ln.value > 0 and ln.quantity // self.boards >= 1]
         usable.sort(key=lambda ln: (ln.value, ln.id))
         self.lines: tuple[StockLine, ...] = tuple(usable)
@@ -110,6 +112,7 @@ class NetworkIndex:
         self._vlo = self._v * (1.0 - np.array([ln.tol_minus for ln in usable], dtype=float))
         self._vhi = self._v * (1.0 + np.array([ln.tol_plus for ln in usable], dtype=float))
         self._pol = np.array([bool(ln.polarized) for ln in usable], dtype=bool)
+        self._tol = np.array([max(ln.tol_minus, ln.tol_plus) for ln in usable], dtype=float)
         self._build_materialised()
         self._build_pools()
 
@@ -127,6 +130,8 @@ class NetworkIndex:
         if self.max_parts >= 2 and L:
             i, j = np.triu_indices(L)
             keep = (i != j) | (cap[i] >= 2)
+            if not self.all_networks:  # both joints: the smaller share is min/(sum) (see token_share)
+                keep &= token_share(v[i], v[j]) >= np.maximum(self._tol[i], self._tol[j]) / 2
             i, j = i[keep].astype(np.int64), j[keep].astype(np.int64)
             ppol = self._pol[i] | self._pol[j]
             for code, joint in ((_SERIES, "series"), (_PARALLEL, "parallel")):
@@ -240,6 +245,11 @@ class NetworkIndex:
         return self._v
 
     @property
+    def line_tolerances(self) -> np.ndarray:
+        """The larger of each stock line's minus and plus tolerance, by line position."""
+        return self._tol
+
+    @property
     def line_count(self) -> int:
         return self._L
 
@@ -263,6 +273,11 @@ class NetworkIndex:
     # ------------------------------------------------------------ per-id data
     def __len__(self) -> int:
         return sum(self.size_by_parts().values())
+
+    @property
+    def empty(self) -> bool:
+        """No network at all (cheap; every 3-part network's single part is a network too)."""
+        return self._M == 0
 
     def values(self, ids) -> np.ndarray:
         """Nominal values (nan for -1)."""
@@ -382,12 +397,16 @@ class NetworkIndex:
         return [self.network(int(i)) for i in ids if int(i) >= 0]
 
     def size_by_parts(self) -> dict[int, int]:
-        """Exact number of distinct networks by part count (3-part ones counted, not built)."""
+        """Exact number of distinct networks by part count (3-part ones counted, not built;
+        with the token-part rule that checks every candidate once, then it is kept)."""
+        if getattr(self, "_sizes", None) is not None:
+            return dict(self._sizes)
         out = {1: int(np.sum(self._np == 1))}
         if self.max_parts >= 2:
             out[2] = int(np.sum(self._np == 2))
         if self.max_parts >= 3:
             out[3] = self._three.count()
+        self._sizes = dict(out)
         return out
 
     # ------------------------------------------------------------ look-ups
@@ -461,6 +480,21 @@ class NetworkIndex:
             err = np.abs(np.log(self.values(ids) / T[rows]))
         return rank_rows(rows, ids, (err, self.nparts(ids)), len(T), int(k))
 
+    def values_within(self, lo, hi) -> np.ndarray | None:
+        """Sorted network values that include every value v of the index with lo[i] <= v <=
+        hi[i] for some i (possibly with some others: a superset, meant for lower bounds and
+        pruning, never as a list of answers); None when the intervals are too wide for that to
+        be cheaper than ``between`` (see ``ThreePartSearch.values_within``)."""
+        lo = np.atleast_1d(np.asarray(lo, dtype=float)).ravel()
+        hi = np.atleast_1d(np.asarray(hi, dtype=float)).ravel()
+        parts = [self._val]
+        if self._three is not None:
+            three = self._three.values_within(lo, hi)
+            if three is None:
+                return None
+            parts.append(three)
+        return np.sort(np.concatenate(parts))
+
     def between(self, lo, hi) -> tuple[np.ndarray, np.ndarray]:
         """Every network with lo[i] <= value <= hi[i], CSR style: (offsets (n+1,), ids), each
         row sorted by value, then fewer parts, then id.  Exact for 3-part networks as well (they
@@ -492,8 +526,22 @@ class NetworkIndex:
         return offsets, ids.astype(np.int64)
 
 
+def token_share(x: np.ndarray, y: np.ndarray) -> np.ndarray:
+    """The smaller branch share of a two-branch joint with branch values x and y (same kind).
+
+    The token-part rule: a network is offered only if at every series/parallel joint each
+    branch's share of the joint's sum - resistance for series resistors, conductance for parallel
+    resistors, capacitance for parallel capacitors, elastance 1/C for series capacitors - is at
+    least half the largest tolerance (the larger of minus and plus) among the parts under that
+    joint.  For two branches both joints give the same smaller share, min(x, y)/(x + y): with
+    conductances (1/x)/(1/x + 1/y) = y/(x + y).  A joint of three parts (series3, parallel3) is
+    one joint with three branches (``ThreePartSearch.rule``)."""
+    return np.minimum(x, y) / (x + y)
+
+
 def build_index(lines: Sequence[StockLine], max_parts: int = 2, boards: int = 1,
-                allow_polarized_series: bool = False, kind: str | None = None) -> NetworkIndex:
+                allow_polarized_series: bool = False, kind: str | None = None,
+                all_networks: bool = True) -> NetworkIndex:
     """Index every network of 1..max_parts parts of one kind that ``lines`` allow for ``boards``
     boards.  ``kind`` picks the lines of that kind; when omitted all lines must share one kind
     (an empty list gives an empty resistor index)."""
@@ -503,7 +551,7 @@ def build_index(lines: Sequence[StockLine], max_parts: int = 2, boards: int = 1,
             raise ValueError("stock lines of several kinds: pass kind='resistor' or kind='capacitor'")
         kind = kinds.pop() if kinds else "resistor"
     return NetworkIndex(lines, kind, max_parts=max_parts, boards=boards,
-                        allow_polarized_series=allow_polarized_series)
+                        allow_polarized_series=allow_polarized_series, all_networks=all_networks)
 
 
 def nearest_networks(lines: Sequence[StockLine], target: float, k: int = 10, max_parts: int = 2,

@@ -22,6 +22,10 @@ import numpy as np
 
 EPS = 1e-9  # relative value slack around a target when splitting a pool (see ThreePartSearch)
 _CELLS = 2_000_000  # elements per vectorised window block (keeps memory to tens of MB)
+SWEEP_MAX_SHARE = 0.125
+"""``values_within`` gives up (returns None) when the intervals mark more than this share of
+its value bins: most values would come back and the slice-by-slice search is cheaper.  Tests
+raise it to 1.0 to run the sweep on small stocks."""
 
 
 def join(add: Union[bool, np.ndarray], x: np.ndarray, y: np.ndarray) -> np.ndarray:
@@ -115,6 +119,7 @@ class ThreePartSearch:
 
     def __init__(self, ix, shapes: Sequence[tuple[bool, bool, int, np.ndarray, np.ndarray]]):
         self.ix = ix
+        self.token = not getattr(ix, "all_networks", True)
         self.per_shape = []  # (s, pool_pos, pool_val, a_lines, seg_lo, row_lo, row_hi)
         pools, rows_s, rows_a, seg_lo, seg_hi = [], [], [], [], []
         start = 0
@@ -126,12 +131,32 @@ class ThreePartSearch:
             n = len(pool_pos)
             if n == 0 or len(a_lines) == 0:
                 continue  # no network of this shape
-            self.per_shape.append((s, pool_pos, ix.entry_values[pool_pos], a_lines, start, r0, r0 + len(a_lines)))
+            pv = ix.entry_values[pool_pos]
+            lo_i, hi_i = np.zeros(len(a_lines), np.int64), np.full(len(a_lines), n, np.int64)
+            if self.token:
+                # Token-part rule, a necessary part of it: at the outer joint the single's share
+                # and the pair's share are both >= h >= max(tol(a), smallest tolerance)/2, and for
+                # every shape that means min(a, p)/(a + p) >= h (see ``rule``), i.e. the pair value
+                # p lies in [a·h/(1-h), a·(1-h)/h]. Each row keeps only that slice of its pool
+                # (widened against rounding); the full rule is still checked per network.
+                tol = ix.line_tolerances
+                h = np.maximum(tol[a_lines], tol.min()) / 2
+                av = ix.line_values[a_lines]
+                with np.errstate(divide="ignore", invalid="ignore"):
+                    p_lo = np.where(h < 0.5, av * h / (1 - h), np.inf) * (1 - 1e-9)
+                    p_hi = np.where(h > 0, av * (1 - h) / np.where(h > 0, h, 1.0), np.inf) * (1 + 1e-9)
+                lo_i = np.searchsorted(pv, p_lo, side="left")
+                hi_i = np.searchsorted(pv, p_hi, side="right")
+                keep = lo_i < hi_i
+                a_lines, lo_i, hi_i = a_lines[keep], lo_i[keep], hi_i[keep]
+                if len(a_lines) == 0:
+                    continue
+            self.per_shape.append((s, pool_pos, pv, a_lines, start, r0, r0 + len(a_lines)))
             pools.append(pool_pos)
             rows_s.append(np.full(len(a_lines), s, dtype=np.int64))
             rows_a.append(a_lines)
-            seg_lo.append(np.full(len(a_lines), start, dtype=np.int64))
-            seg_hi.append(np.full(len(a_lines), start + n, dtype=np.int64))
+            seg_lo.append(start + lo_i)
+            seg_hi.append(start + hi_i)
             start += n
             r0 += len(a_lines)
         self.pool_pos = np.concatenate(pools) if pools else np.zeros(0, np.int64)
@@ -150,19 +175,47 @@ class ThreePartSearch:
         cap = ix.capacity()
         self.row_vmin = join(self.row_add, self.row_av, self.pool_val[self.row_lo]) if self.nrows else np.zeros(0)
         self.row_vmax = join(self.row_add, self.row_av, self.pool_val[self.row_hi - 1]) if self.nrows else np.zeros(0)
-        self.row_ok_first = self.ok_at(self.row_a, self.row_lo, cap) if self.nrows else np.zeros(0, bool)
-        self.row_ok_last = self.ok_at(self.row_a, self.row_hi - 1, cap) if self.nrows else np.zeros(0, bool)
+        self.row_ok_first = self.ok_at(self.row_a, self.row_lo, cap, self.row_s) if self.nrows else np.zeros(0, bool)
+        self.row_ok_last = self.ok_at(self.row_a, self.row_hi - 1, cap, self.row_s) if self.nrows else np.zeros(0, bool)
         self.shape_rows = np.array([r0 for *_x, r0, _r1 in self.per_shape] + [self.nrows], dtype=np.int64)
 
     # ------------------------------------------------------------------ plumbing
-    def ok(self, a: np.ndarray, pos: np.ndarray, cap: np.ndarray) -> np.ndarray:
-        """Quantity rule for single ``a`` added to pair ``pos`` (the pair alone is allowed)."""
+    def ok(self, a: np.ndarray, pos: np.ndarray, cap: np.ndarray, s) -> np.ndarray:
+        """Quantity rule for single ``a`` added to pair ``pos`` (the pair alone is allowed), and
+        the token-part rule of the 3-part network of shape ``s`` unless every network is wanted."""
         ix = self.ix
-        return 1 + (ix.entry_lines[0][pos] == a) + (ix.entry_lines[1][pos] == a) <= cap[a]
+        good = 1 + (ix.entry_lines[0][pos] == a) + (ix.entry_lines[1][pos] == a) <= cap[a]
+        if self.token:
+            good = good & self.rule(s, a, pos)
+        return good
 
-    def ok_at(self, a: np.ndarray, at: np.ndarray, cap: np.ndarray) -> np.ndarray:
-        """The same rule for the pair at pool index ``at``."""
-        return 1 + (self.pool_li[at] == a) + (self.pool_lj[at] == a) <= cap[a]
+    def ok_at(self, a: np.ndarray, at: np.ndarray, cap: np.ndarray, s) -> np.ndarray:
+        """The same rules for the pair at pool index ``at``."""
+        good = 1 + (self.pool_li[at] == a) + (self.pool_lj[at] == a) <= cap[a]
+        if self.token:
+            good = good & self.rule(s, a, self.pool_pos[at])
+        return good
+
+    def rule(self, s, a: np.ndarray, pos: np.ndarray) -> np.ndarray:
+        """Token-part rule at the outer joint of 3-part networks (shape s, single a, pair pos);
+        the inner pair already passed it when the pair array was built.  series3 / parallel3
+        are ONE joint of three branches: the smallest share is min(v)/sum(v) where the joint
+        adds values and (1/max(v))/sum(1/v) where it adds reciprocals.  The mixed shapes have
+        two branches, the single and the pair: min(a, p)/(a + p) for either joint.  The bar is
+        half the largest tolerance among all three parts."""
+        ix = self.ix
+        v, tol = ix.line_values, ix.line_tolerances
+        li, lj = ix.entry_lines[0][pos], ix.entry_lines[1][pos]
+        va, vb, vc = v[a], v[li], v[lj]
+        h = np.maximum(tol[a], np.maximum(tol[li], tol[lj])) / 2
+        s = np.asarray(s)
+        sym, add = self.symmetric[s], self.outer_add[s]
+        p = ix.entry_values[pos]
+        lo3 = np.minimum(va, np.minimum(vb, vc))
+        hi3 = np.maximum(va, np.maximum(vb, vc))
+        flat = np.where(add, lo3 / (va + vb + vc), (1.0 / hi3) / (1.0 / va + 1.0 / vb + 1.0 / vc))
+        share = np.where(sym, flat, np.minimum(va, p) / (va + p))
+        return share >= h
 
     def canonical(self, s: np.ndarray, a: np.ndarray, pos: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
         """Canonical ids and values of networks given as (shape s, single a, pair pos)."""
@@ -194,8 +247,9 @@ class ThreePartSearch:
                 right = _zone_end(pv, left, p_hi)
             else:
                 right = np.searchsorted(pv, p_hi, side="right")
-            zl[r0:r1] = left + seg
-            zh[r0:r1] = right + seg
+            rl, rh = self.row_lo[r0:r1, None], self.row_hi[r0:r1, None]  # the row's slice of its pool
+            zl[r0:r1] = np.clip(left + seg, rl, rh)
+            zh[r0:r1] = np.clip(right + seg, rl, rh)
         return zl, zh
 
     def point_zones(self, rows: np.ndarray, t: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
@@ -213,8 +267,9 @@ class ThreePartSearch:
             left = np.searchsorted(pv, preimage(add, av, tt * (1.0 - EPS)))
             p_hi = preimage(add, av, tt * (1.0 + EPS))
             right = _zone_end(pv, left, p_hi)  # only pairs within the slack: step over them
-            zl[c0:c1] = left + seg
-            zh[c0:c1] = right + seg
+            rl, rh = self.row_lo[rows[c0:c1]], self.row_hi[rows[c0:c1]]
+            zl[c0:c1] = np.clip(left + seg, rl, rh)
+            zh[c0:c1] = np.clip(right + seg, rl, rh)
         return zl, zh
 
     def windows(self, rows: np.ndarray, zl: np.ndarray, zh: np.ndarray, k: int, below: bool,
@@ -223,7 +278,7 @@ class ThreePartSearch:
         pairs beyond it on one side (below: indices < zl; above: >= zh), widening until found or
         the row's pool ends.  Returns (index into the inputs, pair position)."""
         out_i, out_p = [], []
-        lo_b, hi_b, a = self.row_lo[rows], self.row_hi[rows], self.row_a[rows]
+        lo_b, hi_b, a, rs = self.row_lo[rows], self.row_hi[rows], self.row_a[rows], self.row_s[rows]
         pending = np.arange(len(rows))
         w = k + 2
         while pending.size:
@@ -241,7 +296,7 @@ class ThreePartSearch:
                     idx = pl[:, None] + np.arange(width)[None, :]
                     inside = idx < sh[:, None]
                 at = np.clip(idx, 0, max(len(self.pool_pos) - 1, 0))
-                good = inside & self.ok_at(pa[:, None], at, cap)
+                good = inside & self.ok_at(pa[:, None], at, cap, rs[pend][:, None])
                 pos = self.pool_pos[at]
                 if below:
                     beyond = np.sum(good & (idx < pl[:, None]), axis=1)
@@ -316,7 +371,7 @@ class ThreePartSearch:
                     lb = np.where(above_all, edge, np.inf)
                     ub = np.where(above_all & self.row_ok_first[:, None], edge, np.inf)
             lb.ravel()[act] = np.where(have, np.maximum(ratio, 1.0), np.inf)
-            good = have & (ratio >= 1.0) & self.ok_at(self.row_a[ar], pc, cap)
+            good = have & (ratio >= 1.0) & self.ok_at(self.row_a[ar], pc, cap, self.row_s[ar])
             ub.ravel()[act] = np.where(good, ratio, np.inf)
             u = np.exp(bounds[0 if below else 1])
             if self.nrows >= 3 * k:
@@ -348,16 +403,79 @@ class ThreePartSearch:
         r, e = ranges_concat(zl.ravel(), np.maximum(zh, zl).ravel())
         row, t = r // m, r % m
         s, a, pos = self.row_s[row], self.row_a[row], self.pool_pos[e]
-        good = self.ok(a, pos, cap) & (~self.symmetric[s] | (a <= ix.entry_lines[0][pos]))  # canonical copy only
+        good = self.ok(a, pos, cap, s) & (~self.symmetric[s] | (a <= ix.entry_lines[0][pos]))  # canonical copy only
         s, a, pos, t = s[good], a[good], pos[good], t[good]
         vals = join(self.outer_add[s], ix.line_values[a], ix.entry_values[pos])
         inr = (vals >= lo[t]) & (vals <= hi[t])
         return t[inr], ix.triple_ids(s[inr], a[inr], pos[inr]), vals[inr]
 
+    def values_within(self, lo: np.ndarray, hi: np.ndarray) -> np.ndarray | None:
+        """Sorted values of 3-part networks (quantity rule applied) that include EVERY such value
+        lying in some interval [lo[i], hi[i]], plus possibly some nearby others; None when the
+        intervals are too wide for the sweep to pay (the caller then searches slice by slice).
+
+        One sweep over the rows instead of one look-up per interval.  A positive double's bit
+        pattern read as an integer is increasing in the value, so its top bits (``>> shift``)
+        cut the value axis into bins of equal relative width (2**-b per octave, b = 52 - shift).
+        The bins touched by any (slightly widened) interval are marked; then every row's values
+        (single joined to its whole pool) are binned and only those in marked bins are kept.  A
+        value inside an interval lies in a marked bin, so none is lost; extra values only make
+        the caller's later checks do a little more work."""
+        if self.nrows == 0 or len(self.pool_pos) == 0 or len(lo) == 0:
+            return np.zeros(0)
+        lo = np.asarray(lo, dtype=float) * (1.0 - 4 * EPS)
+        hi = np.asarray(hi, dtype=float) * (1.0 + 4 * EPS)
+        use = (lo <= hi) & (hi > 0)
+        lo, hi = np.maximum(lo[use], 1e-300), hi[use]
+        if lo.size == 0:
+            return np.zeros(0)
+        if not np.all(np.isfinite(hi)):
+            return None
+        octaves = float(np.log2(hi.max() / lo.min())) + 2
+        spread = float(np.sum(np.log2(hi / lo))) + 1e-300  # octaves the intervals cover in all
+        b = int(min(22, max(0, np.floor(np.log2(min(2 ** 26 / octaves, 2 ** 23 / spread))))))
+        shift = 52 - b
+        kmin = int(np.array(lo.min()).view(np.int64) >> shift)
+        kl = (lo.view(np.int64) >> shift) - kmin
+        kh = (hi.view(np.int64) >> shift) - kmin
+        nb = int(kh.max()) + 1
+        if nb > 2 ** 27:
+            return None
+        marked = np.zeros(nb + 2, dtype=bool)  # [0] and [-1]: outside every interval
+        _r, el = ranges_concat(kl + 1, kh + 2)
+        marked[el] = True
+        if int(np.count_nonzero(marked)) > nb * SWEEP_MAX_SHARE:
+            return None  # wide intervals: most values would come back, a sweep does not pay
+        cap = self.ix.capacity()
+        out = []
+        gmin, gmax = lo.min(), hi.max()
+        for s, pool_pos, pv, a_lines, _seg, r0, r1 in self.per_shape:
+            add = bool(self.outer_add[s])
+            live = (self.row_vmax[r0:r1] >= gmin) & (self.row_vmin[r0:r1] <= gmax)
+            rows = np.flatnonzero(live)
+            n = len(pv)
+            step = max(1, _CELLS // max(n, 1))
+            for c0 in range(0, len(rows), step):
+                blk = rows[c0:c0 + step]
+                av = self.ix.line_values[a_lines[blk]][:, None]
+                vals = join(add, av, pv[None, :])
+                k = (vals.view(np.int64) >> shift) - (kmin - 1)
+                np.clip(k, 0, nb + 1, out=k)
+                hit = np.flatnonzero(marked[k])
+                if hit.size == 0:
+                    continue
+                r, col = hit // n, hit % n
+                a = a_lines[blk][r]
+                good = self.ok(a, pool_pos[col], cap, s)
+                out.append(vals.ravel()[hit[good]])
+        return np.sort(np.concatenate(out)) if out else np.zeros(0)
+
     def count(self) -> int:
         """Exact number of distinct 3-part networks, counted without building them."""
         ix = self.ix
         cap, L, n3 = ix.capacity(), ix.line_count, 0
+        if self.token:
+            return self._count_enumerated()
         for s, pool_pos, _pv, a_lines, _seg, _r0, _r1 in self.per_shape:
             pi, pj = ix.entry_lines[0][pool_pos], ix.entry_lines[1][pool_pos]
             diff = pi != pj
@@ -370,4 +488,22 @@ class ThreePartSearch:
                 n3 += int(np.sum(ge - short2 * first_other[a_lines] - short3 * own[a_lines]))
             else:
                 n3 += int(len(a_lines) * len(pi) - np.sum(short2 * other[a_lines] + short3 * own[a_lines]))
+        return n3
+
+    def _count_enumerated(self) -> int:
+        """The count with the token-part rule: every canonical network in each row's slice
+        checked, in blocks (no closed form: the rule depends on all three parts)."""
+        cap, n3 = self.ix.capacity(), 0
+        li0 = self.ix.entry_lines[0]
+        for s, _pool_pos, _pv, _a, _seg, r0, r1 in self.per_shape:
+            length = self.row_hi[r0:r1] - self.row_lo[r0:r1]
+            step = max(1, _CELLS // max(int(length.max()), 1))
+            for c0 in range(r0, r1, step):
+                c1 = min(r1, c0 + step)
+                r, e = ranges_concat(self.row_lo[c0:c1], self.row_hi[c0:c1])
+                a, pos = self.row_a[c0:c1][r], self.pool_pos[e]
+                good = self.ok(a, pos, cap, s)
+                if self.symmetric[s]:
+                    good &= a <= li0[pos]
+                n3 += int(np.count_nonzero(good))
         return n3

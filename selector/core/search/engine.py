@@ -52,6 +52,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass, field
+from collections.abc import Mapping
 from typing import Callable, Optional, Sequence
 
 from selector.core import circuits
@@ -188,7 +189,7 @@ class SearchResult:
 def search_timing(r_lines: Sequence, c_lines: Sequence, target: Target, connections: Sequence[str],
                   limits: dict, max_parts: int = 2, boards: int = 1, pool: int = 20,
                   progress: Optional[ProgressFn] = None, indexes: Optional[dict] = None,
-                  c_max_parts: Optional[int] = None) -> SearchResult:
+                  c_max_parts: Optional[int] = None, all_networks: bool = True) -> SearchResult:
     """Search every connection in ``connections`` (``limits[connection]`` holds its Limits) over
     the networks of up to ``max_parts`` parts the stock allows for ``boards`` boards.
 
@@ -198,7 +199,9 @@ def search_timing(r_lines: Sequence, c_lines: Sequence, target: Target, connecti
     NothingFeasible (naming the limits and what they excluded) when nothing is left.
     ``indexes`` may map budget -> (r_index, c_index) to reuse indexes already built;
     ``c_max_parts`` caps the capacitor networks below ``max_parts`` (e.g. 3-part resistor
-    networks with 1-2-part capacitors)."""
+    networks with 1-2-part capacitors). ``all_networks=False`` leaves token-part networks out
+    of both indexes (``networks.index.token_share``); the search is then exact over the
+    networks offered."""
     ex = Exclusions()
     found: dict[tuple, FoundOption] = {}
     weights = {p: 10.0 ** (p - 1) for p in range(1, max_parts + 1)}
@@ -206,8 +209,8 @@ def search_timing(r_lines: Sequence, c_lines: Sequence, target: Target, connecti
     done_w = 0.0
     counts = {}
     for budget in range(1, max_parts + 1):
-        r_index, c_index = _indexes(r_lines, c_lines, budget, boards, indexes, c_max_parts, ex)
-        counts[budget] = (_size(r_index), _size(c_index))
+        r_index, c_index = _indexes(r_lines, c_lines, budget, boards, indexes, c_max_parts, ex, all_networks)
+        counts[budget] = (r_index, c_index)
         for conn in connections:
             pex = ex if budget == max_parts else Exclusions()  # count each exclusion once
 
@@ -232,11 +235,11 @@ def search_timing(r_lines: Sequence, c_lines: Sequence, target: Target, connecti
     if not options:
         what = target.mode if target.mode != "astable" else "astable (" + ", ".join(connections) + ")"
         raise NothingFeasible(ex.message(what))
-    return SearchResult(options, ex, tuple(connections), counts, folded)
+    return SearchResult(options, ex, tuple(connections), NetworkCounts(counts), folded)
 
 
 def _indexes(r_lines, c_lines, budget: int, boards: int, indexes: Optional[dict],
-             c_max_parts: Optional[int], ex: Exclusions):
+             c_max_parts: Optional[int], ex: Exclusions, all_networks: bool = True):
     """The resistor and capacitor indexes of one parts budget (reused when given); an empty one
     is noted for the NothingFeasible message."""
     from selector.core.networks import build_index
@@ -244,13 +247,15 @@ def _indexes(r_lines, c_lines, budget: int, boards: int, indexes: Optional[dict]
     if indexes and budget in indexes:
         r_index, c_index = indexes[budget]
     else:
-        r_index = build_index(r_lines, max_parts=budget, boards=boards, kind="resistor")
+        r_index = build_index(r_lines, max_parts=budget, boards=boards, kind="resistor",
+                              all_networks=all_networks)
         c_parts = budget if c_max_parts is None else max(1, min(budget, int(c_max_parts)))
-        c_index = build_index(c_lines, max_parts=c_parts, boards=boards, kind="capacitor")
+        c_index = build_index(c_lines, max_parts=c_parts, boards=boards, kind="capacitor",
+                              all_networks=all_networks)
     per = f" for {boards} boards" if boards > 1 else ""
-    if len(r_index) == 0:
+    if r_index.empty:
         ex.note(f"no resistor in stock{per}")
-    if len(c_index) == 0:
+    if c_index.empty:
         ex.note(f"no capacitor in stock{per}")
     return r_index, c_index
 
@@ -282,6 +287,28 @@ def _one_pass(kind, target: Target, lim: Limits, r_index, c_index, pool: int, bu
             nets[role] = r_index.network(r_id)
         out.append(FoundOption(kind.key, nets, hit.error, hit.t_high, hit.t_low, hit.time, budget))
     return out
+
+
+class NetworkCounts(Mapping):
+    """budget -> (resistor networks, capacitor networks) searched, counted on first read: with
+    the token-part rule an exact 3-part count checks every candidate network (seconds on a large
+    stock), which a search that never shows the count should not pay."""
+
+    def __init__(self, indexes: dict):
+        self._indexes = indexes
+        self._done: dict = {}
+
+    def __getitem__(self, budget):
+        if budget not in self._done:
+            r_index, c_index = self._indexes[budget]
+            self._done[budget] = (_size(r_index), _size(c_index))
+        return self._done[budget]
+
+    def __iter__(self):
+        return iter(self._indexes)
+
+    def __len__(self) -> int:
+        return len(self._indexes)
 
 
 def _size(index) -> int:

@@ -205,7 +205,7 @@ class _Pass:
 
     def _resistors_usable(self) -> bool:
         """False (and counted) when no resistor network reaches the minimum RA / R at all."""
-        if len(self.r) == 0:
+        if self.r.empty:
             return False  # noted by the caller ("no resistor in stock")
         if self.lim.min_r_ohm > 0:
             _b, above = self.r.nearest_sides(np.array([self.lim.min_r_ohm * (1 - _SLACK)]), 1)
@@ -238,18 +238,62 @@ class _Pass:
         if not found:
             found, bound, _enough = self._phase1(pool, progress)
         # Phase 2: every RB in the certified slice, each with its best RA.
+        if self.r.max_parts >= 3 and self._phase2_ordered(found, bound, pool, rb_star, rb_hi_all, progress):
+            return self._collect(found, pool, two=True)
         for sl in _chunks(nc, self.chunk):
-            lo = rb_star[sl] * (1 - bound)
-            hi = np.minimum(rb_star[sl] * (1 + bound), rb_hi_all[sl])
-            offsets, ids = self.r.between(lo, np.maximum(hi, lo))
-            counts = np.diff(offsets)
-            ci = np.repeat(np.arange(sl.start, sl.stop), counts)
-            ids = np.asarray(ids, dtype=np.int64)
-            for sub in _chunks(ids.size, 200_000):
-                found.append(self._eval_pairs(ci[sub], ids[sub], bound))
+            found.extend(self._phase2(np.arange(sl.start, sl.stop), bound, rb_star, rb_hi_all))
             if progress:
                 progress()
         return self._collect(found, pool, two=True)
+
+    def _phase2(self, pos, bound: float, rb_star, rb_hi_all) -> list[tuple]:
+        """Every RB in the certified slice of each capacitor network at ``pos``, with its best RA
+        within ``bound``."""
+        lo = rb_star[pos] * (1 - bound)
+        hi = np.minimum(rb_star[pos] * (1 + bound), rb_hi_all[pos])
+        offsets, ids = self.r.between(lo, np.maximum(hi, lo))
+        ci = np.repeat(pos, np.diff(offsets))
+        ids = np.asarray(ids, dtype=np.int64)
+        return [self._eval_pairs(ci[sub], ids[sub], bound) for sub in _chunks(ids.size, 200_000)]
+
+    def _phase2_ordered(self, found: list, bound: float, pool: int, rb_star, rb_hi_all,
+                        progress=None) -> bool:
+        """Phase 2 as branch and bound (3-part resistor networks); False when the sweep does not
+        pay and the caller should run the plain phase 2 instead.
+
+        Why it is exact.  Phase 2 for a capacitor network c with bound B evaluates the slice
+        S(c, B) = {RB : |RB/RB*(c) - 1| <= B} (clamped above); every option of c with error <= B
+        has its RB there (e_low <= B).  LB(c) = min over all resistor networks of
+        |RB/RB*(c) - 1| is computed from one sweep (``values_within``: every network value inside
+        any S(c, B0) is in the swept set, so the nearest swept value on each side of RB*(c) is the
+        true nearest whenever that is within B0, and is farther than B0 otherwise).  If LB(c) > B
+        the slice is empty and c has no option within B.  The capacitor networks are taken in
+        order of LB; after each chunk B becomes the pool-th smallest error among the distinct
+        (c, RB) pairs found so far (real options, so still an upper bound on the pool-th best;
+        never larger than before).  The loop stops at the first c with LB(c) > B: that c and
+        every later one has an empty slice under the current B.  Every option with error <= the
+        final B (which includes the exact pool best) therefore came from a processed c that was
+        searched with a bound at least as large: the result equals the plain phase 2's."""
+        rb_lo = rb_star * (1 - bound)
+        rb_hi = np.minimum(rb_star * (1 + bound), rb_hi_all)
+        have = rb_lo <= rb_hi * (1 + _SLACK)
+        cand = self.r.values_within(rb_lo[have], rb_hi[have])
+        if cand is None:
+            return False
+        lb = _distance_floor(cand, rb_star)
+        lb[~have] = INF
+        live = np.flatnonzero(lb <= bound * (1 + 1e-9) + 1e-15)
+        order = live[np.argsort(lb[live], kind="stable")]
+        b, start, size = bound, 0, 256
+        while start < order.size and lb[order[start]] <= b * (1 + 1e-9) + 1e-15:
+            pos = order[start:start + size]
+            found.extend(self._phase2(pos, b, rb_star, rb_hi_all))
+            b = min(b, _kth_distinct(found, pool, 3))
+            start += size
+            size = min(2 * size, self.chunk)
+            if progress:
+                progress()
+        return True
 
     def _phase1(self, pool: int, progress=None, subset=None) -> tuple[list, float, bool]:
         """Provisional bound: the nearest RB on each side of RB*(c), each with its best RA; B is
@@ -280,32 +324,107 @@ class _Pass:
         return found, bound, errs.size >= pool
 
     # ---- one-resistor connections
-    def run1(self, pool: int, progress: Optional[Callable[[], None]] = None) -> list[Hit]:
+    def run1(self, pool: int, progress: Optional[Callable[[], None]] = None,
+             sample: Optional[int] = None) -> list[Hit]:
+        """The best feasible R on each side of R*(c) for every capacitor network c (see the
+        engine's argument).  With 3-part resistor networks the capacitor networks are taken in
+        order of a lower bound instead and the search stops once no later one can enter the
+        pool (``_run1_ordered``)."""
         p = self.p
         nc = self.c_ids.size
         if nc == 0 or not self._resistors_usable():
             return []
+        sample = PHASE1_SAMPLE if sample is None else int(sample)
+        if self.r.max_parts >= 3 and nc > 2 * sample:
+            subset = np.unique(np.linspace(0, nc - 1, sample).astype(np.int64))
+            found = self._one_chunk(subset, count=False)
+            bound = _kth_distinct(found, pool, 2)
+            if math.isfinite(bound) and self._run1_ordered(found, bound, pool, progress):
+                lo, hi = p.r_bounds1(self.c_vals)
+                self.ex.add("C networks needing R outside the allowed range", (lo > hi * (1 + _SLACK)).sum())
+                return self._collect(found, pool, two=False)
         found = []
         for sl in _chunks(nc, self.chunk):
-            ci = np.arange(sl.start, sl.stop)
-            cv = self.c_vals[sl]
-            r_star = p.r_ideal(cv)
-            lo, hi = p.r_bounds1(cv)
-            empty = lo > hi * (1 + _SLACK)
-            self.ex.add("C networks needing R outside the allowed range", empty.sum())
-            below, above = _nearest_feasible(self.r, r_star, lo, hi, lambda ids, rows: self.power.ok(ids))
-            self.ex.add("C networks with no R in range within its power rating",
-                        ((below < 0) & (above < 0) & ~empty).sum())
-            for side in (below, above):
-                has = side >= 0
-                if not has.any():
-                    continue
-                e, th, tl, tt = p.error1(self.r.values(side[has]), cv[has])
-                keep = np.abs(e) <= MAX_ERROR
-                found.append((ci[has][keep], side[has][keep], e[keep], th[keep], tl[keep], tt[keep]))
+            found.extend(self._one_chunk(np.arange(sl.start, sl.stop)))
             if progress:
                 progress()
         return self._collect(found, pool, two=False)
+
+    def _one_chunk(self, ci, count: bool = True) -> list[tuple]:
+        """The nearest feasible R on each side of clamp(R*(c)) for the capacitor networks ``ci``."""
+        p = self.p
+        cv = self.c_vals[ci]
+        r_star = p.r_ideal(cv)
+        lo, hi = p.r_bounds1(cv)
+        empty = lo > hi * (1 + _SLACK)
+        below, above = _nearest_feasible(self.r, r_star, lo, hi, lambda ids, rows: self.power.ok(ids))
+        if count:
+            self.ex.add("C networks needing R outside the allowed range", empty.sum())
+            self.ex.add("C networks with no R in range within its power rating",
+                        ((below < 0) & (above < 0) & ~empty).sum())
+        found = []
+        for side in (below, above):
+            has = side >= 0
+            if not has.any():
+                continue
+            e, th, tl, tt = p.error1(self.r.values(side[has]), cv[has])
+            keep = np.abs(e) <= MAX_ERROR
+            found.append((ci[has][keep], side[has][keep], e[keep], th[keep], tl[keep], tt[keep]))
+        return found
+
+    def _run1_ordered(self, found: list, bound: float, pool: int, progress=None) -> bool:
+        """Branch and bound over the capacitor networks; False when the sweep does not pay.
+
+        Why it is exact.  For each c the error is V-shaped in R around R*(c) (engine argument), so
+        W(c) = {R : |e(R, c)| <= B0} is an interval around R*; it is found by bisection on each
+        side and kept on its outer end (a superset).  ``values_within`` returns every resistor
+        network value inside any W(c) ∩ [lo, hi] (and maybe more).  LB(c) = the smaller |e| of the
+        swept values nearest to q = clamp(R*, lo, hi) on each side: any network v in that window
+        is swept, and the nearest swept value on v's side of q lies between v and q, on the same
+        branch of the V, so LB(c) <= |e(v, c)|.  Hence c has no option within B when LB(c) > B.
+        The capacitor networks are processed in order of LB with the exact per-c look-up; B
+        becomes the pool-th smallest |error| of the distinct (c, R) found (never larger); the
+        loop stops at the first LB(c) >= B, and every later c has no option that can improve the
+        pool: the same pool errors as the plain pass (among options tied at exactly the pool-th
+        error, which ones are kept may differ)."""
+        p = self.p
+        cv = self.c_vals
+        r_star = p.r_ideal(cv)
+        lo, hi = p.r_bounds1(cv)
+        with np.errstate(all="ignore"):
+            odd = ~(np.isfinite(r_star) & (r_star > 0))
+            rs = np.where(odd, 1.0, r_star)
+            wl, wh = _window1(p, rs, cv, bound)
+            a, b = np.maximum(lo, wl), np.minimum(hi, wh)
+            have = ~odd & (a <= b * (1 + _SLACK))
+            cand = self.r.values_within(a[have], b[have])
+            if cand is None:
+                return False
+            q = np.clip(rs, lo, np.maximum(hi, lo))
+            i = np.searchsorted(cand, q)
+            lb = np.full(cv.size, INF)
+            for j, ok in ((i - 1, i > 0), (i, i < cand.size)):
+                v = cand[np.clip(j, 0, max(cand.size - 1, 0))] if cand.size else np.full(cv.size, np.nan)
+                e = np.abs(p.error1(v, cv)[0])
+                lb = np.minimum(lb, np.where(ok & np.isfinite(e), e, INF))
+        lb[~have] = INF
+        lb[odd] = 0.0  # no ideal R known: always searched
+        live = np.flatnonzero(lb <= bound * (1 + 1e-9) + 1e-15)
+        order = live[np.argsort(lb[live], kind="stable")]
+        # The pool is already full (the sample gave >= pool options), so an option whose |error|
+        # EQUALS the current pool-th best cannot change the pool's errors: the loop stops at
+        # LB >= B. No rounding slack is needed here: LB is the circuit's own error1 on the same
+        # value (same join of the same parts), so it equals that option's |error| bit for bit.
+        # (Many exact hits, e.g. an RC target of 0 error, would otherwise all be visited.)
+        b, start, size = _kth_distinct(found, pool, 2, slack=False), 0, 256
+        while start < order.size and lb[order[start]] < b:
+            found.extend(self._one_chunk(order[start:start + size], count=False))
+            b = min(b, _kth_distinct(found, pool, 2, slack=False))
+            start += size
+            size = min(2 * size, self.chunk)
+            if progress:
+                progress()
+        return True
 
     def _collect(self, found, pool: int, two: bool) -> list[tuple]:
         if not found:
@@ -330,3 +449,72 @@ class _Pass:
                 out.append(Hit(int(self.c_ids[ci[j]]), (int(r[j]),), float(err[j]),
                                float(th[j]), float(tl[j]), float(tt[j])))
         return out
+
+
+# --------------------------------------------------------------------------- bounds
+
+
+def _kth_distinct(found: list, pool: int, col: int, slack: bool = True) -> float:
+    """The pool-th smallest |error| over the distinct (capacitor, first resistor) pairs in
+    ``found`` (tuples of arrays: positions, resistor ids, ..., errors in column ``col``: 3 for
+    the two-resistor pass, 2 for the one-resistor pass), slightly widened; inf when fewer pairs
+    exist. Duplicates must not count twice or the bound would be too low."""
+    if not found:
+        return INF
+    ci = np.concatenate([f[0] for f in found]).astype(np.int64)
+    rid = np.concatenate([f[1] for f in found]).astype(np.int64)
+    err = np.abs(np.concatenate([f[col] for f in found]))
+    if ci.size < pool:
+        return INF
+    key = ci * (int(rid.max()) + 1) + rid
+    _u, first = np.unique(key, return_index=True)
+    if first.size < pool:
+        return INF
+    kth = float(np.partition(err[first], pool - 1)[pool - 1])
+    return min(kth, MAX_ERROR) * (1 + _SLACK) + 1e-15 if slack else kth
+
+
+def _distance_floor(sorted_vals: np.ndarray, t: np.ndarray) -> np.ndarray:
+    """min |v/t - 1| over the nearest value of ``sorted_vals`` on each side of each t."""
+    out = np.full(t.shape, INF)
+    if sorted_vals.size == 0:
+        return out
+    i = np.searchsorted(sorted_vals, t)
+    with np.errstate(all="ignore"):
+        below = np.where(i > 0, 1.0 - sorted_vals[np.maximum(i - 1, 0)] / t, INF)
+        above = np.where(i < sorted_vals.size, sorted_vals[np.minimum(i, sorted_vals.size - 1)] / t - 1.0, INF)
+    return np.where(np.isfinite(t), np.minimum(np.abs(below), np.abs(above)), 0.0)
+
+
+def _window1(p, r_star: np.ndarray, c: np.ndarray, bound: float) -> tuple[np.ndarray, np.ndarray]:
+    """A superset [wl, wh] of {R : |e(R, c)| <= bound} for one-resistor circuits (V-shaped around
+    R*): on each side, double the log-distance until the error exceeds the bound, then bisect,
+    keeping the outer end. Empty (wl > wh) where even R* misses the bound."""
+    e0 = np.abs(p.error1(r_star, c)[0])
+    inside = e0 <= bound
+    ends = []
+    for sign in (-1.0, 1.0):
+        x_in = np.zeros(r_star.shape)
+        x_out = np.full(r_star.shape, max(bound, 1e-12))
+        grow = inside.copy()
+        for _ in range(80):
+            if not grow.any():
+                break
+            e = np.abs(p.error1(r_star[grow] * np.exp(sign * x_out[grow]), c[grow])[0])
+            still = e <= bound
+            idx = np.flatnonzero(grow)
+            x_in[idx[still]] = x_out[idx[still]]
+            x_out[idx[still]] *= 2.0
+            grow[idx[~still]] = False
+            grow &= x_out < 700.0
+        for _ in range(40):
+            mid = 0.5 * (x_in + x_out)
+            e = np.abs(p.error1(r_star * np.exp(sign * mid), c)[0])
+            ok = e <= bound
+            x_in = np.where(ok, mid, x_in)
+            x_out = np.where(ok, x_out, mid)
+        end = r_star * np.exp(sign * x_out)
+        ends.append(np.where(x_out >= 700.0, 0.0 if sign < 0 else INF, end))
+    wl = np.where(inside, ends[0], INF)
+    wh = np.where(inside, ends[1], 0.0)
+    return wl, wh

@@ -162,13 +162,15 @@ class SortedView:
 
     def __init__(self, index):
         self._index = index
-        self._len = len(index)
-        self.sorted_values = index.sorted_values() if self._len else None
+        self._len = None  # counted on first use: a 3-part count with the token-part rule is costly
+        self.sorted_values = None if index.empty else index.sorted_values()
 
     def __getattr__(self, name):
         return getattr(self._index, name)
 
     def __len__(self) -> int:
+        if self._len is None:
+            self._len = len(self._index)
         return self._len
 
     def values(self, ids):
@@ -208,7 +210,7 @@ def _nearest_feasible(index, target, lo, hi, ok_fn, k0: int = 2, kmax: int = 1 <
     or the side is proven empty (it ran out of networks, or its next one is outside [lo, hi])."""
     n = len(target)
     out = [np.full(n, -1, dtype=np.int64), np.full(n, -1, dtype=np.int64)]
-    if len(index) == 0:
+    if index.empty:
         return out[0], out[1]
     target = np.asarray(target, dtype=float)
     good = ~np.isnan(target) & (lo <= hi * (1 + _SLACK))

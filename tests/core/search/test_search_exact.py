@@ -136,13 +136,46 @@ def fits(nets, lines, boards):
     return all(c * boards <= qty[lid] for lid, c in total.items())
 
 
-def reference_best(r_lines, c_lines, target, connection, lim, max_parts, boards):
-    """Smallest |error| over every allowed option, or None when nothing is allowed."""
+def token_ok(net) -> bool:
+    """The token-part rule written out per shape (issue 11 item 1, our own rule): at each joint
+    every branch's share of the joint's sum (R for series R, 1/R for parallel R, C for parallel
+    C, 1/C for series C) is at least half the largest tolerance of the parts under the joint."""
+    _v, shape, combo, _p = net
+    res = combo[0].kind == "resistor"
+
+    def ser(*xs):
+        return sum(xs) if res else 1.0 / sum(1.0 / x for x in xs)
+
+    def par(*xs):
+        return 1.0 / sum(1.0 / x for x in xs) if res else sum(xs)
+
+    def joint_ok(series, branch_values, parts):
+        summed = [x if series == res else 1.0 / x for x in branch_values]
+        bar = max(max(ln.tol_minus, ln.tol_plus) for ln in parts) / 2
+        return all(q / sum(summed) >= bar for q in summed)
+
+    v = [ln.value for ln in combo]
+    if shape == "single":
+        return True
+    if shape in ("series", "series3"):
+        return joint_ok(True, v, combo)
+    if shape in ("parallel", "parallel3"):
+        return joint_ok(False, v, combo)
+    if shape == "series+parallel":  # (a ∥ b) + c
+        return joint_ok(False, v[:2], combo[:2]) and joint_ok(True, [par(*v[:2]), v[2]], combo)
+    if shape == "parallel+series":  # (a + b) ∥ c
+        return joint_ok(True, v[:2], combo[:2]) and joint_ok(False, [ser(*v[:2]), v[2]], combo)
+    raise ValueError(shape)
+
+
+def reference_best(r_lines, c_lines, target, connection, lim, max_parts, boards, all_networks=True):
+    """Smallest |error| over every allowed option, or None when nothing is allowed
+    (``all_networks=False``: only networks that pass ``token_ok``)."""
     from selector.core import timing  # physics only (diode charge), see module docstring
 
-    rn = plain_networks(r_lines, max_parts, boards)
+    rn = [n for n in plain_networks(r_lines, max_parts, boards) if all_networks or token_ok(n)]
     cn = [n for n in plain_networks(c_lines, max_parts, boards) if cap_ok(n, lim)
-          and leak_ok(n, lim, target, connection)]
+          and leak_ok(n, lim, target, connection) and (all_networks or token_ok(n))]
     best = None
     if connection in ("standard", "diode"):
         ra_ok = [n for n in rn if n[0] >= lim.min_r_ohm * (1 - 1e-9)
@@ -387,7 +420,10 @@ def test_ranked_options_keep_the_exact_best(case, top, connection):
     req = TimingRequest(mode="astable", freq_hz=freq, duty=duty, connection=connection, vcc=9.0,
                         max_parts=max_parts, boards=boards, top=top)
     lim = resolve_limits(connection, "bipolar", 9.0, req.vf)
-    expected = reference_best(r_lines, c_lines, Target.astable(freq, duty), connection, lim, max_parts, boards)
+    # the find commands leave token-part networks out by default: the reference applies the same
+    # rule (token_ok, written out in this file)
+    expected = reference_best(r_lines, c_lines, Target.astable(freq, duty), connection, lim, max_parts, boards,
+                              all_networks=False)
     try:
         rep = plan_timing(r_lines, c_lines, req)
     except NothingFeasible:
@@ -396,3 +432,86 @@ def test_ranked_options_keep_the_exact_best(case, top, connection):
     assert expected is not None and len(rep.options) <= top
     got = min(abs(o["error"]) for o in rep.options)
     assert abs(got - expected) <= 1e-12 + 1e-9 * expected
+
+
+@settings(**_SETTINGS)
+@given(cases("monostable", max_parts_max=3), st.sampled_from(["monostable", "rc", "output-fed"]))
+def test_sampled_one_resistor_bound_is_still_exact(case, connection):
+    """The one-resistor pass with 3-part resistor networks takes the capacitor networks in order
+    of a lower bound after a sample; force that path on small stocks (sample of 2) and compare
+    with the exhaustive reference."""
+    import selector.core.networks.nearest as nearest
+    import selector.core.search.kernels as sk
+
+    r_lines, c_lines, target, lim, max_parts, boards, pool = case
+    if connection == "rc":
+        target = Target("rc", tau=target.width)
+    elif connection == "output-fed":
+        target = Target("astable", t_high=target.width, t_low=target.width * 0.9)
+    old, old_share = sk.PHASE1_SAMPLE, nearest.SWEEP_MAX_SHARE
+    sk.PHASE1_SAMPLE, nearest.SWEEP_MAX_SHARE = 2, 1.0
+    try:
+        _check((r_lines, c_lines, target, lim, 3, boards, min(pool, 2)), connection)
+    finally:
+        sk.PHASE1_SAMPLE, nearest.SWEEP_MAX_SHARE = old, old_share
+
+
+@settings(**_SETTINGS)
+@given(cases("standard", max_parts_max=3), st.sampled_from(["standard", "diode"]))
+def test_swept_lower_bound_order_is_still_exact(case, connection):
+    """The same with the value sweep forced on (it normally gives up on wide intervals), so the
+    branch and bound over capacitor networks runs on small stocks too."""
+    import selector.core.networks.nearest as nearest
+    import selector.core.search.kernels as sk
+
+    r_lines, c_lines, target, lim, max_parts, boards, pool = case
+    old, old_share = sk.PHASE1_SAMPLE, nearest.SWEEP_MAX_SHARE
+    sk.PHASE1_SAMPLE, nearest.SWEEP_MAX_SHARE = 2, 1.0
+    try:
+        _check((r_lines, c_lines, target, lim, 3, boards, min(pool, 2)), connection)
+    finally:
+        sk.PHASE1_SAMPLE, nearest.SWEEP_MAX_SHARE = old, old_share
+
+
+def _check_rule(case, connection):
+    r_lines, c_lines, target, lim, max_parts, boards, pool = case
+    expected = reference_best(r_lines, c_lines, target, connection, lim, max_parts, boards, all_networks=False)
+    try:
+        res = search_timing(r_lines, c_lines, target, (connection,), {connection: lim},
+                            max_parts=max_parts, boards=boards, pool=pool, all_networks=False)
+    except NothingFeasible:
+        assert expected is None, f"search found nothing, the reference found {expected}"
+        return
+    assert expected is not None, f"search found {res.best_error}, the reference nothing"
+    assert abs(abs(res.best_error) - expected) <= 1e-12 + 1e-9 * expected
+    from reference_networks import token_ok as network_token_ok  # the rule on Network records
+
+    assert all(network_token_ok(n) for o in res.options for n in o.networks.values())
+
+
+@settings(**_SETTINGS)
+@given(st.sampled_from(["standard", "diode", "output-fed", "monostable", "rc"]).flatmap(
+    lambda c: st.tuples(cases(c), st.just(c))))
+def test_token_rule_search_matches_exhaustive(case_conn):
+    """With the token-part rule on (the default of every find command), the search is exact
+    over the networks offered: the reference applies the same rule, written out per shape."""
+    case, connection = case_conn
+    _check_rule(case, connection)
+
+
+@settings(**_SETTINGS)
+@given(cases("standard", max_parts_max=3), st.sampled_from(["standard", "monostable"]))
+def test_token_rule_with_the_sweep_forced_is_exact(case, connection):
+    """The rule inside the 3-part branch and bound (sample of 2, sweep forced on)."""
+    import selector.core.networks.nearest as nearest
+    import selector.core.search.kernels as sk
+
+    r_lines, c_lines, target, lim, max_parts, boards, pool = case
+    if connection == "monostable":
+        target = Target("monostable", width=target.t_low * 1.3)
+    old, old_share = sk.PHASE1_SAMPLE, nearest.SWEEP_MAX_SHARE
+    sk.PHASE1_SAMPLE, nearest.SWEEP_MAX_SHARE = 2, 1.0
+    try:
+        _check_rule((r_lines, c_lines, target, lim, 3, boards, min(pool, 2)), connection)
+    finally:
+        sk.PHASE1_SAMPLE, nearest.SWEEP_MAX_SHARE = old, old_share
