@@ -56,36 +56,65 @@ def percent_text(fraction: float) -> str:
     return f"{text} %"
 
 
-def value_table(kind: str, target: float, options: Sequence["Network"],
-                alternatives: Sequence[Sequence["Network"]] | None = None) -> "Table":
-    """The ranked ``find value`` table."""
-    from rich.table import Table
+def _range(kind: str, lo: float, hi: float) -> str:
+    a, b = value_text(kind, lo), value_text(kind, hi)
+    na, _, ua = a.rpartition(" ")
+    nb, _, ub = b.rpartition(" ")
+    return f"{na}–{nb} {ua}" if ua == ub and na and nb else f"{a}–{b}"
 
-    table = Table(title=f"Networks nearest to {value_text(kind, target)} ({kind}s)", header_style="bold")
-    for name, justify in (("#", "right"), ("network", "left"), ("value", "right"), ("error", "right"),
-                          ("worst case", "left"), ("parts", "right"), ("pick from", "left")):
-        table.add_column(name, justify=justify, overflow="fold")
+
+def _pick_cell(net: "Network", alts: Sequence["Network"]) -> str:
+    pick = pick_text(net)
+    if alts:
+        pick += "; or " + "; or ".join(pick_text(a) for a in alts[:2])
+        if len(alts) > 2:
+            pick += f" (+{len(alts) - 2} more)"
+    return pick
+
+
+def value_lines(kind: str, target: float, options: Sequence["Network"],
+                alternatives: Sequence[Sequence["Network"]] | None = None, width: int = 80) -> list:
+    """The ranked ``find value`` options: one row each from 110 columns when it fits, else the
+    row without the drawers and a ``pick from`` line under it (wrapped between drawers)."""
+    from selector.render.layout import WIDE, Col, fits, table_lines, table_parts, wrap_items
+    from selector.render.safe import printable
+
     alternatives = list(alternatives or [])
+    title = f"Networks nearest to {value_text(kind, target)} ({kind}s)"
+    rows, picks = [], []
     for rank, net in enumerate(options, start=1):
-        pick = pick_text(net)
         alts = alternatives[rank - 1] if rank - 1 < len(alternatives) else []
-        if alts:
-            pick += "; or " + "; or ".join(pick_text(a) for a in alts[:2])
-            if len(alts) > 2:
-                pick += f" (+{len(alts) - 2} more)"
-        from selector.render.safe import cell
+        rows.append([str(rank), network_text(net), value_text(kind, net.value),
+                     percent_text(net.value / target - 1.0), _range(kind, net.vmin, net.vmax), str(net.nparts)])
+        picks.append(printable(_pick_cell(net, alts)))
+    cols = [Col("#", right=True), Col("network"), Col("value", right=True), Col("error", right=True),
+            Col("worst case"), Col("parts", right=True)]
+    if width >= WIDE and fits(cols + [Col("pick from")], [r + ["A1 (line 10)"] for r in rows], width):
+        return table_lines(cols + [Col("pick from", wrap=True, sep="; ")],
+                           [r + [p] for r, p in zip(rows, picks)], width, title=title)
+    head, groups = table_parts(cols, rows, width, title=title)
+    from rich.text import Text
 
-        table.add_row(*map(cell, (rank, network_text(net), value_text(kind, net.value),
-                                  percent_text(net.value / target - 1.0),
-                                  f"{value_text(kind, net.vmin)} … {value_text(kind, net.vmax)}",
-                                  net.nparts, pick)))
-    return table
+    indent = " " * (max(len(r[0]) for r in rows) + 2)
+    out = list(head)
+    for group, pick in zip(groups, picks):
+        out += group
+        import re
+
+        tokens = re.split(r"(?<=[,;]) ", "pick from " + pick)  # break only after a drawer
+        out += [Text(indent + line) for line in wrap_items(tokens, width - len(indent), " ")]
+    return out
 
 
 def print_value_report(console: "Console", report) -> None:
     """Table, legend, and the notes and cautions of a ``find value`` report."""
+    from selector.render.layout import paragraph, print_lines
+
+    width = console.width
+    lines: list = []
     if report.options:
-        console.print(value_table(report.kind, report.target, report.options, report.alternatives))
-        console.print(LEGEND)
+        lines += value_lines(report.kind, report.target, report.options, report.alternatives, width)
+        lines += paragraph(LEGEND + " (capacitors too: 1 nF + 1 nF = 0.5 nF)", width)
     for note in report.notes:
-        console.print(note)
+        lines += paragraph(note, width)
+    print_lines(console, lines)
