@@ -50,6 +50,7 @@ class Col:
     drop: int = 0
     min_wrap: int = 8
     sep: str = " "  # where a wrapping cell may break: between words, or between list items (", ")
+    hide_empty: bool = False  # left out when no row has anything in it
 
 
 def wrap_items(items: Sequence[str], width: int, sep: str = " ") -> list[str]:
@@ -93,7 +94,7 @@ def wrap_words(text: str, width: int) -> list[str]:
 
 
 def _longest_word(text: str) -> int:
-    return max((cell_len(w) for w in text.split(" ")), default=0)
+    return max((cell_len(w) for w in keep_values(text).split(" ")), default=0)
 
 
 def table_lines(cols: Sequence[Col], rows: Iterable[Sequence[Any]], width: int,
@@ -117,7 +118,7 @@ def table_parts(cols: Sequence[Col], rows: Iterable[Sequence[Any]], width: int,
     from rich.text import Text
 
     rows = [list(r) for r in rows]
-    keep = list(range(len(cols)))
+    keep = [i for i, c in enumerate(cols) if not (c.hide_empty and rows and not any(plain(r[i]) for r in rows))]
 
     def natural(i: int) -> int:
         return max([cell_len(cols[i].name)] + [cell_len(plain(r[i])) for r in rows])
@@ -213,11 +214,18 @@ def print_lines(console, lines: Iterable[Any]) -> None:
 
 
 def paragraph(text: str, width: int, indent: str = "") -> list[str]:
-    """A sentence wrapped between words, continuation lines indented."""
-    first = wrap_words(text, width)
-    if not indent or len(first) == 1:
-        return first
-    out = [first[0]]
-    rest = text[len(first[0]):].strip()
-    out += [indent + s for s in wrap_words(rest, width - cell_len(indent))]
-    return out
+    """A sentence wrapped between words (never between a number and its unit), its leading
+    spaces kept, continuation lines indented by ``indent``."""
+    body = text.lstrip(" ")
+    lead = text[:len(text) - len(body)]
+    words = [w for w in keep_values(body).split(" ") if w]
+    lines: list[str] = []
+    cur = lead
+    for w in words:
+        if cur.strip() and cell_len(cur) + 1 + cell_len(w) > width:
+            lines.append(cur)
+            cur = indent + w
+        else:
+            cur = (cur + " " + w) if cur.strip() else cur + w
+    lines.append(cur)
+    return [line.replace(_NBSP, " ") for line in lines]
