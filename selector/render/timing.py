@@ -11,6 +11,7 @@ yield / parts / drawers). Errors are in the asker's terms: frequency in %, duty 
 from __future__ import annotations
 
 import math
+import re
 import time
 from typing import TYPE_CHECKING, Any, Mapping, Optional, Sequence
 
@@ -302,7 +303,15 @@ def compact_lines(report, width: int) -> list:
         e = errors_of(mode, target, opt)
         body.append(["", predicted_text(mode, opt["predicted"])] + [error_text(k, e.get(k)) for k in errs]
                     + [yield_text(opt.get("yield")), str(nparts(opt)), ", ".join(drawers(opt))])
+    own_line = not fits(cols[:-1] + [Col("drawer")], [r[:-1] + ["D1, D2"] for r in body], width)
+    if own_line:  # a narrow terminal: the drawers go on a line of their own
+        cols = cols[:-1]
+        places = [r.pop() for r in body]
     head, groups = table_parts(cols, body, width, title=title(report))
+    if own_line:
+        indent = " " * (n + 2)
+        for group, where in zip(groups, places):
+            group += [Text(indent + s) for s in wrap_items(re.split(r"(?<=,) ", "drawers " + where), width - n - 2, " ")]
     indent = " " * (n + 2)
     first = Text(f"{'#':>{n}}  connection: networks by role")
     out = head[:-2] + [first] + head[-2:]
@@ -338,7 +347,7 @@ def _accept_text(accept: float) -> str:
     return f"±{accept * 100:g} %"
 
 
-def assumptions(report) -> str:
+def assumptions(report, width: int = 80) -> str:
     """One line: the device and supply the limits came from, and what the yield counts."""
     req = report.request
     kinds = [_kind(c) for c in report.connections]
@@ -351,7 +360,10 @@ def assumptions(report) -> str:
         dev = f"parts rated for {req.vcc:g} V"
     spread = [u.label or u.name for k in kinds for u in k.uncertain(report.limits[k.key])]
     what = ", ".join(["part tolerances"] + spread)
-    return f"{dev}; yield = builds within {_accept_text(req.accept)} ({what})."
+    long = f"{dev}; yield = builds within {_accept_text(req.accept)} ({what})."
+    if len(long) <= width:
+        return long
+    return f"{dev}; yield ±{req.accept * 100:g} % ({', '.join(['parts'] + spread)})."
 
 
 def _caution_keys(report) -> list[str]:
@@ -401,7 +413,7 @@ def footer_lines(report, width: int = 80) -> list[str]:
     if len(legend) > width:
         legend = LEGEND_SHORT + ("; * = closest" if best else "")
     out = paragraph(legend, width)
-    out += paragraph(assumptions(report), width)
+    out += paragraph(assumptions(report, width), width)
     more = "More: selector show N." if report.search_id is not None else ""
     out += caution_lines(_caution_keys(report), width, budget=max(1, 4 - len(out)), more=more)
     return out
@@ -417,7 +429,7 @@ def explain_lines(report, width: int) -> list[str]:
     from selector.core import chips, ranking
 
     req = report.request
-    paras = []
+    paras = [LEGEND]
     paras.append("Formulas: " + "; ".join(_kind(c).formula for c in report.connections)
                  + ("; f = 1/(t_high + t_low), duty = t_high/(t_high + t_low) = the fraction of the "
                     "period the output is HIGH." if req.mode == "astable" else "."))
