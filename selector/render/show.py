@@ -136,7 +136,7 @@ def prediction_lines(report, width: int) -> list[str]:
         if err_key in shown and err_key in errors:
             t = target.get(_TARGET_KEY[err_key])
             cells[2] = error_text(err_key, errors[err_key])
-            cells[3] = f"target {_quantity_text(_TARGET_KEY[err_key], t)}" if t is not None else ""
+            cells[3] = _quantity_text(_TARGET_KEY[err_key], t) if t is not None else ""
         rng = (opt.get("range") or {}).get(key)
         if rng:
             cells.append(_span(_quantity_text(key, rng[0]), _quantity_text(key, rng[1])))
@@ -145,7 +145,8 @@ def prediction_lines(report, width: int) -> list[str]:
         rows.append(cells)
     out = ["Predicted"]
     out += ["  " + str(line) for line in table_lines(
-        [Col("quantity"), Col("predicted", right=True), Col("error", right=True), Col("of"), Col("worst case")],
+        [Col("quantity"), Col("predicted", right=True), Col("error", right=True), Col("target", right=True),
+         Col("worst case")],
         rows, width - 2)]
     p = report.params
     accept = float(p.get("accept") or 0.05)
