@@ -96,6 +96,9 @@ def print_bom(console: Console, report) -> None:
         lines += [Text(x, style="red") for x in paragraph(
             f"Short: stock line {s.line_id} holds {s.on_hand}, the BOM needs {s.needed} ({s.missing} missing).",
             width)]
+    note = getattr(report, "alternatives_note", "")
+    if report.shortages and note:  # the same build from other drawers (one row per build)
+        lines += paragraph(printable("T" + note[3:] + "."), width)
     for note in bom.notes:
         lines += paragraph(printable(note), width)
     print_lines(console, lines)

@@ -73,7 +73,8 @@ def _pick_cell(net: "Network", alts: Sequence["Network"]) -> str:
 
 
 def value_lines(kind: str, target: float, options: Sequence["Network"],
-                alternatives: Sequence[Sequence["Network"]] | None = None, width: int = 80) -> list:
+                alternatives: Sequence[Sequence["Network"]] | None = None, width: int = 80,
+                yields: Sequence[float] = (), whys: Sequence[str] = ()) -> list:
     """The ranked ``find value`` options: one row each from 110 columns when it fits, else the
     row without the drawers and a ``pick from`` line under it (wrapped between drawers)."""
     from selector.render.layout import WIDE, Col, fits, table_lines, table_parts, wrap_items
@@ -84,14 +85,24 @@ def value_lines(kind: str, target: float, options: Sequence["Network"],
     rows, picks = [], []
     for rank, net in enumerate(options, start=1):
         alts = alternatives[rank - 1] if rank - 1 < len(alternatives) else []
-        rows.append([str(rank), network_text(net), value_text(kind, net.value),
-                     percent_text(net.value / target - 1.0), _range(kind, net.vmin, net.vmax), str(net.nparts)])
+        row = [str(rank), network_text(net), value_text(kind, net.value),
+               percent_text(net.value / target - 1.0), _range(kind, net.vmin, net.vmax)]
+        if yields:
+            row.append(f"{yields[rank - 1] * 100:.1f} %" if rank - 1 < len(yields) else "")
+        rows.append(row + [str(net.nparts)])
         picks.append(printable(_pick_cell(net, alts)))
+    why = [printable(whys[i]) if i < len(whys) and whys[i] else "" for i in range(len(rows))]
     cols = [Col("#", right=True), Col("network"), Col("value", right=True), Col("error", right=True),
-            Col("worst case"), Col("parts", right=True)]
+            Col("worst case")] + ([Col("in spec", right=True)] if yields else []) + [Col("parts", right=True)]
+    if any(why):
+        cols.append(Col("why"))
+        rows = [r + [w] for r, w in zip(rows, why)]
     if width >= WIDE and fits(cols + [Col("pick from")], [r + ["A1 (line 10)"] for r in rows], width):
         return table_lines(cols + [Col("pick from", wrap=True, sep="; ")],
                            [r + [p] for r, p in zip(rows, picks)], width, title=title)
+    if any(why) and not fits(cols, rows, width):  # the reason goes before the drawers instead
+        cols, rows = cols[:-1], [r[:-1] for r in rows]
+        picks = [f"({w}) {p}" if w else p for w, p in zip(why, picks)]
     head, groups = table_parts(cols, rows, width, title=title)
     from rich.text import Text
 
@@ -113,8 +124,18 @@ def print_value_report(console: "Console", report) -> None:
     width = console.width
     lines: list = []
     if report.options:
-        lines += value_lines(report.kind, report.target, report.options, report.alternatives, width)
+        yields = list(getattr(report, "yields", ()) or ())
+        lines += value_lines(report.kind, report.target, report.options, report.alternatives, width,
+                             yields, list(getattr(report, "whys", ()) or ()))
         lines += paragraph(LEGEND + " (capacitors too: 1 nF + 1 nF = 0.5 nF)", width)
+        req = getattr(report, "request", None)
+        if yields and req is not None:
+            lines += paragraph(f"In spec: share of {req.samples:,} simulated builds (parts uniform within "
+                               f"tolerance) within ±{req.accept * 100:g} % of the target; ranked by it "
+                               "(within 2 points counts as equal), then fewer parts, then error.", width)
     for note in report.notes:
         lines += paragraph(note, width)
+    if getattr(report, "search_id", None) is not None:
+        lines += paragraph(f"Saved as search {report.search_id}; `selector bom N` lists the parts of option N.",
+                           width)
     print_lines(console, lines)

@@ -337,6 +337,52 @@ def option_lines(report, width: int) -> list:
     return compact_lines(report, width)
 
 
+# ----------------------------------------------------------------------------- cannot reach
+
+_ERROR_LABELS = {"frequency": "f", "duty_points": "d", "width": "", "tau": "", "corner": ""}
+
+
+def errors_text(opt) -> str:
+    """The nominal errors in one short phrase, for a sentence: ``f -0.6 % d -1.4 pt`` (astable),
+    ``+0.3 %``; an error that rounds to zero prints as ``0.0`` (no sign). ``opt`` is an option
+    dict or any object with an ``errors`` mapping (a ranked option, a purchase suggestion)."""
+    errors = opt.get("errors") if isinstance(opt, Mapping) else getattr(opt, "errors", None)
+
+    def signed(x: float) -> str:
+        text = f"{x:+.1f}"
+        return "0.0" if text in ("+0.0", "-0.0") else text
+
+    out = []
+    for key, v in dict(errors or {}).items():
+        if key == "duty_points":
+            out.append(f"d {signed(v * 100)} pt")
+        else:
+            label = _ERROR_LABELS.get(key, key)
+            out.append((label + " " if label else "") + f"{signed(v * 100)} %")
+    return " ".join(out)
+
+
+def reach_lines(report) -> list[str]:
+    """When no option is nominally within the acceptance (``report.within_acceptance`` False):
+    one line saying so with the closest error, and one line of parts to buy that would reach it
+    (``report.suggestions``), or that no single preferred value would."""
+    ranked = list(getattr(report, "ranked", []) or [])
+    if getattr(report, "within_acceptance", True) or not ranked:
+        return []
+    closest = min(ranked, key=lambda o: getattr(o, "asked_error", abs(o.error)))
+    out = [f"Nothing in stock within ±{report.request.accept * 100:g} %; closest {errors_text(closest)} "
+           f"(option {closest.rank})."]
+    suggestions = list(getattr(report, "suggestions", []) or [])
+    if suggestions:
+        unit = {"resistor": "Ω", "capacitor": "F"}
+        bits = [f"{s.role} {_fmt(s.value, unit[s.kind])} ({s.series}, instead of "
+                f"{_fmt(s.replaces, unit[s.kind])}): {errors_text(s)}" for s in suggestions]
+        out.append("To reach it, buy one of: " + "; ".join(bits) + ".")
+    else:
+        out.append("No single part of a preferred value (E12/E24/E96) would reach it either.")
+    return out
+
+
 # ----------------------------------------------------------------------------- footer
 
 LEGEND = "+ = in series, ∥ = in parallel (capacitors too: 1 nF + 1 nF = 0.5 nF)"
@@ -473,7 +519,12 @@ def explain_lines(report, width: int) -> list[str]:
     else:
         paras.append(f"Ratings checked at {req.vcc:g} V across the parts (resistor power ≤ 50 % of "
                      "rating, capacitor rating × derating ≥ the voltage).")
-    paras.append(getattr(ranking, "RANKING_RULE", RANKING_RULE))
+    if any(hasattr(o, "tier") for o in getattr(report, "ranked", []) or []):
+        paras.append(f"Ranking: options nominally within ±{req.accept * 50:g} % (half the acceptance; duty "
+                     "in points against that share of the target duty) first, then yield (within 2 "
+                     "points counts as equal), then fewer parts, then smaller error.")
+    else:
+        paras.append(getattr(ranking, "RANKING_RULE", RANKING_RULE))
     for k in _caution_keys(report):
         text = chips.CAUTIONS.get(k)
         if text:
@@ -492,10 +543,13 @@ def print_report(report, console: Optional[Console] = None, explain: bool = Fals
 
         console = Console()
     width = console.width
-    lines = option_lines(report, width)
+    lines: list = []
+    for line in reach_lines(report):
+        lines += paragraph(printable(line), width)
+    lines += option_lines(report, width)
     lines += explain_lines(report, width) if explain else footer_lines(report, width)
     if report.search_id is not None:
-        lines += paragraph(f"Saved as search {report.search_id}. Details: selector show N; parts: "
+        lines += paragraph(f"Saved as search {report.search_id}; details: selector show N; parts: "
                            "selector bom N.", width)
     print_lines(console, lines)
 
