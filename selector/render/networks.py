@@ -102,17 +102,19 @@ def value_lines(kind: str, target: float, options: Sequence["Network"],
                            [r + [p] for r, p in zip(rows, picks)], width, title=title)
     if any(why) and not fits(cols, rows, width):  # the reason goes before the drawers instead
         cols, rows = cols[:-1], [r[:-1] for r in rows]
-        picks = [f"({w}) {p}" if w else p for w, p in zip(why, picks)]
+        heads = [f"({w}) pick from " if w else "pick from " for w in why]
+    else:
+        heads = ["pick from "] * len(rows)
     head, groups = table_parts(cols, rows, width, title=title)
     from rich.text import Text
 
     indent = " " * (max(len(r[0]) for r in rows) + 2)
     out = list(head)
-    for group, pick in zip(groups, picks):
-        out += group
-        import re
+    import re
 
-        tokens = re.split(r"(?<=[,;]) ", "pick from " + pick)  # break only after a drawer
+    for group, head_words, pick in zip(groups, heads, picks):
+        out += group
+        tokens = re.split(r"(?<=[,;]) ", head_words + pick)  # break only after a drawer
         out += [Text(indent + line) for line in wrap_items(tokens, width - len(indent), " ")]
     return out
 

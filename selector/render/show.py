@@ -180,7 +180,8 @@ def alternative_lines(report, width: int) -> list[str]:
     alts = report.option.get("alternatives") or []
     if not alts:
         return []
-    out = ["Alternatives (same values from other drawers or dielectrics; bom and pull use the one above)"]
+    out = paragraph("Alternatives (same values from other drawers or dielectrics; bom and pull use the "
+                    "one above)", width)
     for i, alt in enumerate(alts, start=1):
         nets = alt.get("networks") or {}
         items = [f"{role} {network_json_text(role, nets[role])}" for role in ROLES if role in nets]
