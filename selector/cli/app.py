@@ -35,11 +35,12 @@ def _root(
 
 
 def _register_all() -> None:
-    from selector.cli import bom, find, simulate, stock
+    from selector.cli import bom, find, show, simulate, stock
 
     stock.register(app)
     find.register(app)
     bom.register(app)
+    show.register(app)
     simulate.register(app)
 
 

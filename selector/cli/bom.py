@@ -147,13 +147,13 @@ def ledger_command(
     if as_json:
         typer.echo(json_text([e.to_json() for e in entries], ensure_ascii=False))
         return
-    from selector.render.bom import ledger_table
+    from selector.render.bom import print_ledger
 
     console = _console()
     if not entries:
         console.print("The ledger is empty.")
         return
-    console.print(ledger_table(entries))
+    print_ledger(console, entries)
 
 
 @handles_errors

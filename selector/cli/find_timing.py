@@ -100,7 +100,7 @@ def _with_circuit_options(fn):
     return fn
 
 
-def _run(ctx: typer.Context, as_json: bool, **fields) -> None:
+def _run(ctx: typer.Context, as_json: bool, explain: bool = False, **fields) -> None:
     from selector.core.notation import VOLT
     from selector.render.timing import LazyProgress, print_report
     from selector.services.find_timing import TimingRequest, find_timing
@@ -122,7 +122,7 @@ def _run(ctx: typer.Context, as_json: bool, **fields) -> None:
     if as_json:
         typer.echo(json_text(report.json, indent=2))
     else:
-        print_report(report)
+        print_report(report, explain=explain)
 
 
 _COMMON_HELP = {
@@ -134,6 +134,7 @@ _COMMON_HELP = {
     "all_networks": "Also offer networks with a token part (one whose share at its joint is below half the largest tolerance there).",
     "accept": "Acceptance band for the yield, e.g. 5% or 0.05.",
     "json": "Print the options as JSON only.",
+    "explain": "Explain the figures under the table: formulas, errors, worst case and yield, limits, ranking, full cautions.",
     "distribution": "How part values spread inside their tolerance for the yield.",
     "seed": "Seed of the yield simulation (same seed, same figures).",
     "samples": "Simulated builds per option (at least 10000).",
@@ -162,6 +163,7 @@ def astable(
     samples: int = typer.Option(10_000, "--samples", parser=whole("--samples", 1, MAX_SAMPLES), metavar="N", help=_COMMON_HELP["samples"]),
     all_networks: bool = typer.Option(False, "--all-networks", help=_COMMON_HELP["all_networks"]),
     as_json: bool = typer.Option(False, "--json", help=_COMMON_HELP["json"]),
+    explain: bool = typer.Option(False, "--explain", help=_COMMON_HELP["explain"]),
     **circuit,
 ) -> None:
     """Find RA, RB and C networks in stock for an astable (free-running) 555 at a frequency and duty."""
@@ -183,7 +185,7 @@ def astable(
             fail(f"--diode-n {diode_n!r}: expected a number such as 1.9 (the diode's ideality factor)", 2)
     if vcc_tol is not None:
         options["vcc_tol"] = _fraction(vcc_tol, "--vcc-tol")
-    _run(ctx, as_json, mode="astable", freq_hz=_value(freq, "Hz", "--freq"),
+    _run(ctx, as_json, explain, mode="astable", freq_hz=_value(freq, "Hz", "--freq"),
          duty=_fraction(duty, "--duty") if duty is not None else None,
          connection=connection.value, chip=chip.value, vcc_text=vcc, vf_text=diode_vf,
          max_parts=max_parts, top=top, boards=boards, accept_text=accept, all_networks=all_networks,
@@ -205,10 +207,11 @@ def monostable(
     samples: int = typer.Option(10_000, "--samples", parser=whole("--samples", 1, MAX_SAMPLES), metavar="N", help=_COMMON_HELP["samples"]),
     all_networks: bool = typer.Option(False, "--all-networks", help=_COMMON_HELP["all_networks"]),
     as_json: bool = typer.Option(False, "--json", help=_COMMON_HELP["json"]),
+    explain: bool = typer.Option(False, "--explain", help=_COMMON_HELP["explain"]),
 ) -> None:
     """Find R and C networks in stock for a monostable (one-shot) 555 pulse width."""
     options = {"vcc_tol": _fraction(vcc_tol, "--vcc-tol")} if vcc_tol is not None else {}
-    _run(ctx, as_json, mode="monostable", width_s=_value(width, "s", "--width"), chip=chip.value,
+    _run(ctx, as_json, explain, mode="monostable", width_s=_value(width, "s", "--width"), chip=chip.value,
          vcc_text=vcc, max_parts=max_parts, top=top, boards=boards, accept_text=accept,
          distribution=distribution.value, seed=seed, samples=samples, options=options)
 
@@ -226,12 +229,13 @@ def rc(
     samples: int = typer.Option(10_000, "--samples", parser=whole("--samples", 1, MAX_SAMPLES), metavar="N", help=_COMMON_HELP["samples"]),
     all_networks: bool = typer.Option(False, "--all-networks", help=_COMMON_HELP["all_networks"]),
     as_json: bool = typer.Option(False, "--json", help=_COMMON_HELP["json"]),
+    explain: bool = typer.Option(False, "--explain", help=_COMMON_HELP["explain"]),
 ) -> None:
     """Find R and C networks in stock for an RC time constant or corner frequency (give one)."""
     if (tau is None) == (corner is None):
         typer.echo("Error: give exactly one of --tau or --corner", err=True)
         raise typer.Exit(2)
-    _run(ctx, as_json, mode="rc",
+    _run(ctx, as_json, explain, mode="rc",
          tau_s=_value(tau, "s", "--tau") if tau is not None else None,
          corner_hz=_value(corner, "Hz", "--corner") if corner is not None else None,
          vcc_text=vcc, max_parts=max_parts, top=top, boards=boards, accept_text=accept,

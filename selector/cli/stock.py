@@ -42,6 +42,7 @@ def import_command(
     file: Path = typer.Argument(..., metavar="FILE", help="CSV with a header row: kind, value, quantity and optionally tolerance, location, package, rating, dielectric, note."),
     dry_run: bool = typer.Option(False, "--dry-run", help="Show what would change and write nothing."),
     replace: bool = typer.Option(False, "--replace", help="Set matching lines to the file's quantities instead of adding; lines not in the file are left as they are."),
+    verbose: bool = typer.Option(False, "--verbose", help="List every stock line created or changed (a short import is always listed)."),
 ) -> None:
     """Add the parts listed in a CSV file to stock (one transaction; every change is ledgered).
 
@@ -56,7 +57,7 @@ def import_command(
         plan = import_stock(engine, file, replace=replace, dry_run=dry_run)
     finally:
         engine.dispose()
-    print_plan(_console(), plan, dry_run=dry_run)
+    print_plan(_console(), plan, dry_run=dry_run, verbose=verbose)
 
 
 def _parse_bound(text: Optional[str], kind: Optional[str], option: str) -> Optional[float]:
@@ -176,6 +177,7 @@ def kit_command(
     rating: Optional[str] = typer.Option(None, "--rating", help="Watts for resistors (1/4W), volts for capacitors (50V)."),
     package: str = typer.Option("", "--package", help="e.g. 0805, axial."),
     dry_run: bool = typer.Option(False, "--dry-run", help="Show what would change and write nothing."),
+    verbose: bool = typer.Option(False, "--verbose", help="List every stock line created or changed (a short kit is always listed)."),
 ) -> None:
     """Add one stock line per series value in a range (an assortment kit), merging with identical lines."""
     from selector.core.errors import UnparseableValue
@@ -206,7 +208,7 @@ def kit_command(
         plan = add_kit(engine, rows, reference, dry_run=dry_run)
     finally:
         engine.dispose()
-    print_plan(_console(), plan, dry_run=dry_run, verb="kit")
+    print_plan(_console(), plan, dry_run=dry_run, verb="kit", verbose=verbose)
 
 
 def register(app: typer.Typer) -> None:

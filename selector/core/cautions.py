@@ -62,3 +62,15 @@ CAUTIONS: dict[str, str] = {
         "within their voltage rating (a reversed or over-volted one can overheat, vent or burst)."
     ),
 }
+
+SHORT: dict[str, str] = {
+    # The same cautions in a few words, for the footer of a search at 80 columns (the full texts
+    # above are in `selector show N` and `--explain`).
+    "electrolytic_leakage": "Electrolytic timing capacitor: its leakage makes long times drift.",
+    "high_frequency": "Above ~100 kHz the real frequency runs below the formula.",
+    "bipolar_output_fed": "Output-fed on a bipolar 555: duty well above 50 %, may not start at 5 V.",
+    "class2": "X7R/X5R timing capacitors drift: use C0G or film.",
+    "cap_rating_unknown": "A timing capacitor has no rating in stock: check it exceeds VCC.",
+    "decoupling": "Decouple VCC close to a bipolar 555.",
+    "charged_and_mains": "discharge electrolytics; mains: local codes and qualified practice.",
+}

@@ -198,10 +198,10 @@ def timing_terms(fam: ChipFamily, astable: bool, vcc: float, vcc_tol: Optional[f
     init = fam.astable_initial_error if astable else fam.monostable_initial_error
     per_v = fam.astable_supply_per_v if astable else fam.monostable_supply_per_v
     drift = per_v * float(vcc) * tol
-    out = [("chip_initial", init, f"{fam.label} initial error ±{init * 100:g} %")]
+    out = [("chip_initial", init, f"chip initial error ±{init * 100:g} %")]
     if drift > 0:
         out.append(("supply_drift", drift,
-                    f"supply ±{tol * 100:g} % ({per_v * 100:g} %/V: ±{drift * 100:.2g} %)"))
+                    f"supply ±{tol * 100:g} % (±{drift * 100:.2g} % on the timing)"))
     return tuple(out)
 
 

@@ -656,3 +656,35 @@ def format_rkm(value: float, kind: str) -> str:
     if len(digits) == 1:
         return f"{digits}{letter}0"
     return f"{digits}{letter}"
+
+
+# --- reading on a bench ------------------------------------------------------------------------
+
+_MINUTE = 60.0
+_HOUR = 3600.0
+
+
+def _sig3(x: float) -> str:
+    """|x| to 3 significant digits without exponent or trailing zeros: 0.5 -> '0.5', 16.67 -> '16.7'."""
+    return _plain(_three_digits(x))
+
+
+def format_display(value: float, unit: str) -> str:
+    """A frequency or a time as a technician reads it at a glance (for people only; machine forms
+    keep :func:`format_value`). Frequencies below 1 Hz are written in hertz (``0.5 Hz``, never
+    ``500 mHz``, easily read as MHz); times of 1000 s and more in minutes or hours (``16.7 min``,
+    ``2.5 h``, never ``ks``). Everything else is :func:`format_value`:
+    0.5, "Hz" -> "0.5 Hz"; 1200, "Hz" -> "1.2 kHz"; 999, "s" -> "999 s"; 1000, "s" -> "16.7 min";
+    7200, "s" -> "2 h"; 0.15, "s" -> "150 ms"."""
+    if _non_finite(value) is not None or value == 0:
+        return format_value(value, unit)
+    sign = "-" if value < 0 else ""
+    mag = abs(value)
+    if unit == HERTZ and mag < 1.0 and float(_three_digits(mag)) < 1.0:
+        return f"{sign}{_sig3(mag)} {HERTZ}"
+    if unit == SECOND and float(_three_digits(mag)) >= 1000.0:
+        minutes = mag / _MINUTE
+        if float(_three_digits(minutes)) < 100.0:
+            return f"{sign}{_sig3(minutes)} min"
+        return f"{sign}{_sig3(mag / _HOUR)} h"
+    return format_value(value, unit)

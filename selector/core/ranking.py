@@ -10,8 +10,9 @@ For each option found by :mod:`selector.core.search`:
   ``accept``. Astable: frequency within ±accept of the target frequency AND duty within ±accept of
   the target duty, both relative (|f/F − 1| <= accept and |D/D0 − 1| <= accept). Monostable:
   |width/W − 1| <= accept. RC: |τ/T − 1| <= accept (or the corner, when a corner was asked).
-  Part tolerances only: the chip's own initial error (e.g. 2.25 % typ astable, bipolar [S1]) is
-  not included, and the footer says so.
+  Besides the parts, the yield draws the circuit's ``uncertain`` terms (the chip's initial timing
+  error, supply drift, the diode's Vf spread, logic thresholds); ``yield_parts_only`` is the same
+  Monte Carlo without them.
 
 Ranking rule (what a technician should pick first; the README states it in three sentences):
     tier   = 0 when every nominal error in the asker's terms (frequency, duty in points judged
@@ -40,6 +41,12 @@ SCORE_FLOOR = 1e-6
 BAND = 1.25  # score bands, used only to pick which options get the Monte Carlo (first cut)
 YIELD_EQUAL = 0.02
 """Yields within 2 points of each other are equal for ranking (issue 11)."""
+
+RANKING_RULE = ("Ranking: options nominally within half the acceptance (duty in points against that "
+                "share of the target duty) first, then within the acceptance; then yield (within 2 "
+                "points counts as equal), then fewer parts, then smaller error (outside the "
+                "acceptance: smaller error before fewer parts).")
+"""The rule above in one paragraph, for ``--explain`` and ``show``."""
 
 
 @dataclass

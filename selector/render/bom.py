@@ -4,12 +4,11 @@ from __future__ import annotations
 
 from typing import Sequence
 
-from rich import box
 from rich.console import Console
-from rich.table import Table
 from rich.text import Text
 
 from selector.core import bom as core_bom
+from selector.render.layout import WIDE, Col, paragraph, print_lines, table_lines
 from selector.render.safe import cell, printable
 
 
@@ -31,21 +30,16 @@ def _value(kind: str, value: float) -> str:
     return format_value(value, _unit(kind))
 
 
-def bom_table(bom: core_bom.Bom, width: int = 200) -> Table:
-    """One row per physical part. Below about 120 columns the package/dielectric column is left
-    out so that the quantities stay visible (the CSV and Markdown forms always carry it)."""
+def bom_lines(bom: core_bom.Bom, width: int = 200) -> list:
+    """One row per physical part. Below 110 columns package and dielectric are left out so that
+    the quantities stay visible (the CSV and Markdown forms always carry them)."""
     boards = f"{bom.boards} board{'s' if bom.boards != 1 else ''}"
-    wide = width >= 120
-    t = Table(title=f"BOM: option {bom.option} of search {bom.search_id}, {boards}", title_justify="left",
-              box=box.SIMPLE_HEAD, pad_edge=False)
-    short = {"no_wrap": True}
-    cols = [("ref", short), ("role", {"ratio": 2}), ("value", {"min_width": 7}), ("tol.", short)]
-    cols += [("part", {})] if wide else []
-    cols += [("rating", {"justify": "right", **short}), ("location", {}), ("line", {"justify": "right", **short}),
-             ("/board", {"justify": "right", **short}), ("total", {"justify": "right", **short}),
-             ("in stock", short)]
-    for name, kw in cols:
-        t.add_column(name, **kw)
+    wide = width >= WIDE
+    cols = [Col("ref"), Col("role", wrap=True, min_wrap=9), Col("value", wrap=True, min_wrap=7), Col("tol.")]
+    cols += [Col("part", wrap=True)] if wide else []
+    cols += [Col("rating", right=True), Col("location", wrap=True, min_wrap=8), Col("line", right=True),
+             Col("/board", right=True, drop=1), Col("total", right=True), Col("in stock")]
+    rows = []
     for row, bl in zip(core_bom.to_rows(bom), bom.lines):
         if bl.line_id is None:
             stock = Text("no", style="yellow")
@@ -55,57 +49,59 @@ def bom_table(bom: core_bom.Bom, width: int = 200) -> Table:
             stock = Text("yes")
         cells = [row["ref"], row["role"], row["value"], row["tolerance"]]
         cells += [", ".join(x for x in (row["package"], row["dielectric"]) if x)] if wide else []
-        cells += [row["rating"], row["location"], row["line_id"], row["per_board"], row["total"], stock]
-        t.add_row(*_cells(*cells))
-    return t
+        cells += [row["rating"], row["location"], row["line_id"], row["per_board"], row["total"]]
+        rows.append(_cells(*cells) + [stock])
+    return table_lines(cols, rows, width, title=f"BOM: option {bom.option} of search {bom.search_id}, {boards}")
 
 
-def pick_table(stops: Sequence[core_bom.PickStop]) -> Table:
+def pick_lines(stops: Sequence[core_bom.PickStop], width: int = 200) -> list:
     from selector.core.notation import format_tolerance
 
-    t = Table(title="Pick list (one visit per drawer)", title_justify="left", box=box.SIMPLE_HEAD,
-              pad_edge=False)
-    for name, kw in (("location", {}), ("line", {"justify": "right"}), ("value", {}), ("tolerance", {}),
-                     ("package", {}), ("take", {"justify": "right"}), ("on hand", {"justify": "right"}),
-                     ("refs", {})):
-        t.add_column(name, **kw)
+    cols = [Col("location", wrap=True, min_wrap=8), Col("line", right=True), Col("value"), Col("tolerance"),
+            Col("package", drop=1, wrap=True, min_wrap=7), Col("take", right=True),
+            Col("on hand", right=True), Col("refs", wrap=True, min_wrap=4)]
+    rows = []
     for stop in stops:
         first = True
         for it in stop.items:
             take = Text(str(it.quantity))
             if it.missing:
                 take = Text(f"{it.quantity} (short {it.missing})", style="bold red")
-            t.add_row(*_cells((stop.location or "(no location)") if first else "", it.line_id,
-                              _value(it.kind, it.value), format_tolerance(it.tol_minus, it.tol_plus),
-                              it.package, take, it.on_hand, " ".join(it.refs)))
+            rows.append(_cells((stop.location or "(no location)") if first else "", it.line_id,
+                               _value(it.kind, it.value), format_tolerance(it.tol_minus, it.tol_plus),
+                               it.package) + [take] + _cells(it.on_hand, " ".join(it.refs)))
             first = False
-    return t
+    return table_lines(cols, rows, width, title="Pick list (one visit per drawer)")
 
 
 def print_bom(console: Console, report) -> None:
     """The BOM table, the pick list, what to obtain elsewhere, then notes and cautions."""
     bom = report.bom
-    console.print(bom_table(bom, console.width))
+    width = console.width
+    lines = bom_lines(bom, width)
     for role, network in core_bom.wirings(bom):
         shape, _, formula = network.partition(": ")
-        console.print(f"Wiring: {role} = {formula} ({shape})", highlight=False, markup=False)
+        lines += paragraph(f"Wiring: {role} = {formula} ({shape})", width)
     if report.stops:
-        console.print(pick_table(report.stops))
+        lines.append("")
+        lines += pick_lines(report.stops, width)
     missing = core_bom.to_obtain(bom)
     if missing:
-        console.print("Not in stock (obtain before building):", highlight=False, markup=False)
+        lines.append("Not in stock (obtain before building):")
         for bl in missing:
             what = bl.description if bl.value is None else _value(bl.kind, bl.value)
-            console.print(printable(f"  {bl.ref} {bl.role}: {what} x{bl.total}" + (f" ({bl.note})" if bl.note else "")),
-                          highlight=False, markup=False)
+            lines += paragraph(printable(f"  {bl.ref} {bl.role}: {what} x{bl.total}"
+                                         + (f" ({bl.note})" if bl.note else "")), width, "    ")
     for s in report.shortages:
-        console.print(f"Short: stock line {s.line_id} holds {s.on_hand}, the BOM needs {s.needed} "
-                      f"({s.missing} missing).", style="red", highlight=False, markup=False)
-    if report.shortages and report.alternatives_note:
-        console.print(printable("T" + report.alternatives_note[3:] + "."), highlight=False,
-                      markup=False)
+        lines += [Text(x, style="red") for x in paragraph(
+            f"Short: stock line {s.line_id} holds {s.on_hand}, the BOM needs {s.needed} ({s.missing} missing).",
+            width)]
+    note = getattr(report, "alternatives_note", "")
+    if report.shortages and note:  # the same build from other drawers (one row per build)
+        lines += paragraph(printable("T" + note[3:] + "."), width)
     for note in bom.notes:
-        console.print(note, highlight=False, markup=False)
+        lines += paragraph(printable(note), width)
+    print_lines(console, lines)
 
 
 def print_pull(console: Console, result) -> None:
@@ -113,41 +109,41 @@ def print_pull(console: Console, result) -> None:
 
     by_id = {s.id: s for s in result.report.stock}
     head = "Dry run, nothing taken" if result.pull_id is None else f"Pull {result.pull_id}"
-    t = Table(title=f"{head}: option {result.option} of search {result.search_id}, "
-                    f"{result.boards} board{'s' if result.boards != 1 else ''}", title_justify="left",
-              box=box.SIMPLE_HEAD, pad_edge=False)
+    title = (f"{head}: option {result.option} of search {result.search_id}, "
+             f"{result.boards} board{'s' if result.boards != 1 else ''}")
     taken = "would take" if result.pull_id is None else "taken"
-    for name, kw in (("line", {"justify": "right"}), ("value", {}), ("location", {}),
-                     (taken, {"justify": "right"}), ("left", {"justify": "right"})):
-        t.add_column(name, **kw)
+    cols = [Col("line", right=True), Col("value"), Col("location", wrap=True), Col(taken, right=True),
+            Col("left", right=True)]
+    rows = []
     for line_id, n in result.taken:
         s = by_id[line_id]
-        left = s.quantity - n
-        t.add_row(*_cells(line_id, format_value(s.value, _unit(s.kind)), s.location, n, left))
-    console.print(t)
+        rows.append(_cells(line_id, format_value(s.value, _unit(s.kind)), s.location, n, s.quantity - n))
+    lines = table_lines(cols, rows, console.width, title=title)
     missing = core_bom.to_obtain(result.report.bom)
     if missing:
-        console.print("Not taken (not in stock): " + ", ".join(f"{bl.ref} {bl.role}" for bl in missing),
-                      highlight=False, markup=False)
+        lines += paragraph("Not taken (not in stock): " + ", ".join(f"{bl.ref} {bl.role}" for bl in missing),
+                           console.width)
     if result.pull_id is not None:
-        console.print(f"To put these parts back: selector undo {result.pull_id}", highlight=False, markup=False)
+        lines.append(f"To put these parts back: selector undo {result.pull_id}")
+    print_lines(console, lines)
 
 
 def print_undo(console: Console, result) -> None:
     total = sum(n for _, n in result.restored)
     lines = ", ".join(f"line {i} +{n}" for i, n in result.restored)
-    console.print(f"Undid pull {result.pull_id}: {total} part{'s' if total != 1 else ''} put back ({lines}).",
-                  highlight=False, markup=False)
+    print_lines(console, paragraph(
+        f"Undid pull {result.pull_id}: {total} part{'s' if total != 1 else ''} put back ({lines}).", console.width))
 
 
-def ledger_table(entries) -> Table:
-    t = Table(title="Ledger (newest first)", title_justify="left", box=box.SIMPLE_HEAD, pad_edge=False)
-    for name, kw in (("#", {"justify": "right"}), ("when (UTC)", {"no_wrap": True}), ("line", {"justify": "right"}),
-                     ("value", {}), ("location", {}), ("change", {"justify": "right"}), ("reason", {}),
-                     ("pull", {"justify": "right"}), ("reference", {"ratio": 1})):
-        t.add_column(name, **kw)
-    for e in entries:
-        t.add_row(*_cells(e.movement_id, e.at.strftime("%Y-%m-%d %H:%M"), e.line_id,
-                          _value(e.kind, e.value), e.location, f"{e.delta:+d}", e.reason,
-                          "" if e.pull_id is None else e.pull_id, e.reference))
-    return t
+def ledger_lines(entries, width: int = 200) -> list:
+    cols = [Col("#", right=True), Col("when (UTC)"), Col("line", right=True), Col("value"),
+            Col("location", wrap=True, min_wrap=8), Col("change", right=True), Col("reason"),
+            Col("pull", right=True, hide_empty=True), Col("reference", wrap=True, min_wrap=9, hide_empty=True)]
+    rows = [_cells(e.movement_id, e.at.strftime("%Y-%m-%d %H:%M"), e.line_id, _value(e.kind, e.value),
+                   e.location, f"{e.delta:+d}", e.reason, "" if e.pull_id is None else e.pull_id, e.reference)
+            for e in entries]
+    return table_lines(cols, rows, width, title="Ledger (newest first)")
+
+
+def print_ledger(console: Console, entries) -> None:
+    print_lines(console, ledger_lines(entries, console.width))

@@ -56,45 +56,88 @@ def percent_text(fraction: float) -> str:
     return f"{text} %"
 
 
-def value_table(kind: str, target: float, options: Sequence["Network"],
-                alternatives: Sequence[Sequence["Network"]] | None = None,
-                yields: Sequence[float] = (), whys: Sequence[str] = ()) -> "Table":
-    """The ranked ``find value`` table."""
-    from rich.table import Table
+def _range(kind: str, lo: float, hi: float) -> str:
+    a, b = value_text(kind, lo), value_text(kind, hi)
+    na, _, ua = a.rpartition(" ")
+    nb, _, ub = b.rpartition(" ")
+    return f"{na}–{nb} {ua}" if ua == ub and na and nb else f"{a}–{b}"
 
-    table = Table(title=f"Networks nearest to {value_text(kind, target)} ({kind}s)", header_style="bold")
-    for name, justify in (("#", "right"), ("network", "left"), ("value", "right"), ("error", "right"),
-                          ("worst case", "left"), ("in spec", "right"), ("parts", "right"), ("why", "left"),
-                          ("pick from", "left")):
-        table.add_column(name, justify=justify, overflow="fold")
+
+def _pick_cell(net: "Network", alts: Sequence["Network"]) -> str:
+    pick = pick_text(net)
+    if alts:
+        pick += "; or " + "; or ".join(pick_text(a) for a in alts[:2])
+        if len(alts) > 2:
+            pick += f" (+{len(alts) - 2} more)"
+    return pick
+
+
+def value_lines(kind: str, target: float, options: Sequence["Network"],
+                alternatives: Sequence[Sequence["Network"]] | None = None, width: int = 80,
+                yields: Sequence[float] = (), whys: Sequence[str] = ()) -> list:
+    """The ranked ``find value`` options: one row each from 110 columns when it fits, else the
+    row without the drawers and a ``pick from`` line under it (wrapped between drawers)."""
+    from selector.render.layout import WIDE, Col, fits, table_lines, table_parts, wrap_items
+    from selector.render.safe import printable
+
     alternatives = list(alternatives or [])
+    title = f"Networks nearest to {value_text(kind, target)} ({kind}s)"
+    rows, picks = [], []
     for rank, net in enumerate(options, start=1):
-        pick = pick_text(net)
         alts = alternatives[rank - 1] if rank - 1 < len(alternatives) else []
-        if alts:
-            pick += "; or " + "; or ".join(pick_text(a) for a in alts[:2])
-            if len(alts) > 2:
-                pick += f" (+{len(alts) - 2} more)"
-        from selector.render.safe import cell
+        row = [str(rank), network_text(net), value_text(kind, net.value),
+               percent_text(net.value / target - 1.0), _range(kind, net.vmin, net.vmax)]
+        if yields:
+            row.append(f"{yields[rank - 1] * 100:.1f} %" if rank - 1 < len(yields) else "")
+        rows.append(row + [str(net.nparts)])
+        picks.append(printable(_pick_cell(net, alts)))
+    why = [printable(whys[i]) if i < len(whys) and whys[i] else "" for i in range(len(rows))]
+    cols = [Col("#", right=True), Col("network"), Col("value", right=True), Col("error", right=True),
+            Col("worst case")] + ([Col("in spec", right=True)] if yields else []) + [Col("parts", right=True)]
+    if any(why):
+        cols.append(Col("why"))
+        rows = [r + [w] for r, w in zip(rows, why)]
+    if width >= WIDE and fits(cols + [Col("pick from")], [r + ["A1 (line 10)"] for r in rows], width):
+        return table_lines(cols + [Col("pick from", wrap=True, sep="; ")],
+                           [r + [p] for r, p in zip(rows, picks)], width, title=title)
+    if any(why) and not fits(cols, rows, width):  # the reason goes before the drawers instead
+        cols, rows = cols[:-1], [r[:-1] for r in rows]
+        heads = [f"({w}) pick from " if w else "pick from " for w in why]
+    else:
+        heads = ["pick from "] * len(rows)
+    head, groups = table_parts(cols, rows, width, title=title)
+    from rich.text import Text
 
-        table.add_row(*map(cell, (rank, network_text(net), value_text(kind, net.value),
-                                  percent_text(net.value / target - 1.0),
-                                  f"{value_text(kind, net.vmin)} … {value_text(kind, net.vmax)}",
-                                  f"{yields[rank - 1] * 100:.1f} %" if rank - 1 < len(yields) else "",
-                                  net.nparts, whys[rank - 1] if rank - 1 < len(whys) else "", pick)))
-    return table
+    indent = " " * (max(len(r[0]) for r in rows) + 2)
+    out = list(head)
+    import re
+
+    for group, head_words, pick in zip(groups, heads, picks):
+        out += group
+        tokens = re.split(r"(?<=[,;]) ", head_words + pick)  # break only after a drawer
+        out += [Text(indent + line) for line in wrap_items(tokens, width - len(indent), " ")]
+    return out
 
 
 def print_value_report(console: "Console", report) -> None:
     """Table, legend, and the notes and cautions of a ``find value`` report."""
+    from selector.render.layout import paragraph, print_lines
+
+    width = console.width
+    lines: list = []
     if report.options:
-        console.print(value_table(report.kind, report.target, report.options, report.alternatives,
-                                  getattr(report, "yields", ()), getattr(report, "whys", ())))
-        console.print(LEGEND)
-        console.print(f"In spec: share of {report.request.samples:,} simulated builds (parts uniform within "
-                      f"tolerance) within ±{report.request.accept * 100:g} % of the target; ranked by it "
-                      "(within 2 points counts as equal), then fewer parts, then error.")
+        yields = list(getattr(report, "yields", ()) or ())
+        lines += value_lines(report.kind, report.target, report.options, report.alternatives, width,
+                             yields, list(getattr(report, "whys", ()) or ()))
+        lines += paragraph(LEGEND + " (capacitors too: 1 nF + 1 nF = 0.5 nF)", width)
+        req = getattr(report, "request", None)
+        if yields and req is not None:
+            lines += paragraph(f"In spec: share of {req.samples:,} simulated builds (parts uniform within "
+                               f"tolerance) within ±{req.accept * 100:g} % of the target; ranked by it "
+                               "(within 2 points counts as equal), then fewer parts, then error.", width)
     for note in report.notes:
-        console.print(note)
-    if report.search_id is not None:
-        console.print(f"Saved as search {report.search_id}; `selector bom N` lists the parts of option N.")
+        lines += paragraph(note, width)
+    if getattr(report, "search_id", None) is not None:
+        lines += paragraph(f"Saved as search {report.search_id}; `selector bom N` lists the parts of option N.",
+                           width)
+    print_lines(console, lines)

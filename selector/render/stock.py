@@ -5,11 +5,11 @@ from __future__ import annotations
 from typing import Iterable, Sequence
 
 from rich.console import Console
-from rich.table import Table
 
 from selector.core.types import StockLine
 from selector.core.cautions import CAUTIONS as CAUTION_TEXTS
-from selector.render.safe import cell, printable
+from selector.render.layout import WIDE, Col, paragraph, print_lines, table_lines
+from selector.render.safe import printable
 
 POLARITY_CAUTION = CAUTION_TEXTS["polarity"]
 
@@ -40,31 +40,51 @@ def tolerance_text(minus: float, plus: float) -> str:
     return format_tolerance(minus, plus)
 
 
-def stock_table(lines: Sequence[StockLine], title: str | None = None) -> Table:
+STOCK_COLUMNS = (
+    # kind is implied by the value's unit (Ω or F): the first column to go at narrow widths
+    Col("id", right=True), Col("kind", drop=1), Col("value", right=True), Col("tolerance"),
+    Col("qty", right=True), Col("location", wrap=True, min_wrap=8), Col("package", wrap=True, min_wrap=7),
+    Col("rating", right=True), Col("dielectric", wrap=True, min_wrap=10), Col("note", wrap=True, min_wrap=8, hide_empty=True),
+)
+
+
+NARROW_STOCK_COLUMNS = (
+    Col("id", right=True), Col("value", right=True), Col("tolerance"), Col("qty", right=True),
+    Col("location", wrap=True, min_wrap=8), Col("part", wrap=True, min_wrap=12), Col("rating", right=True),
+    Col("note", wrap=True, min_wrap=8, hide_empty=True),
+)
+
+
+def stock_lines(lines: Sequence[StockLine], width: int) -> list:
     """One row per stock line: id, kind, value, tolerance, qty, location, package, rating,
-    dielectric, note."""
-    table = Table(title=title, show_lines=False, header_style="bold")
-    for name, justify in (("id", "right"), ("kind", "left"), ("value", "right"), ("tolerance", "left"),
-                          ("qty", "right"), ("location", "left"), ("package", "left"), ("rating", "right"),
-                          ("dielectric", "left"), ("note", "left")):
-        table.add_column(name, justify=justify, overflow="fold")
-    for ln in lines:
-        table.add_row(*map(cell, (
-            ln.id, ln.kind, value_text(ln.kind, ln.value), tolerance_text(ln.tol_minus, ln.tol_plus),
-            ln.quantity, ln.location, ln.package, rating_text(ln.kind, ln.rating),
-            ln.dielectric + (" (polarised)" if ln.polarized else ""), ln.note)))
-    return table
+    dielectric, note. Values never wrap; below 110 columns the kind goes (the value's unit says
+    it) and package and dielectric share one "part" column."""
+    def diel(ln):
+        return ln.dielectric + (" (polarised)" if ln.polarized else "")
+
+    if width < WIDE:
+        rows = [[printable(x) for x in (
+            ln.id, value_text(ln.kind, ln.value), tolerance_text(ln.tol_minus, ln.tol_plus), ln.quantity,
+            ln.location, " ".join(x for x in (ln.package, diel(ln)) if x), rating_text(ln.kind, ln.rating),
+            ln.note)] for ln in lines]
+        return table_lines(NARROW_STOCK_COLUMNS, rows, width)
+    rows = [[printable(x) for x in (
+        ln.id, ln.kind, value_text(ln.kind, ln.value), tolerance_text(ln.tol_minus, ln.tol_plus),
+        ln.quantity, ln.location, ln.package, rating_text(ln.kind, ln.rating), diel(ln), ln.note)]
+        for ln in lines]
+    return table_lines(STOCK_COLUMNS, rows, width)
 
 
 def print_stock(console: Console, lines: Sequence[StockLine]) -> None:
     if not lines:
         console.print("No stock lines match. Add parts with `selector stock import FILE` or `selector stock kit`.")
         return
-    console.print(stock_table(lines))
+    out = stock_lines(lines, console.width)
     parts = sum(ln.quantity for ln in lines)
-    console.print(f"{len(lines)} stock line{'s' if len(lines) != 1 else ''}, {parts} part{'s' if parts != 1 else ''}")
+    out.append(f"{len(lines)} stock line{'s' if len(lines) != 1 else ''}, {parts} part{'s' if parts != 1 else ''}")
     if any(ln.polarized for ln in lines):
-        console.print(POLARITY_CAUTION)
+        out += paragraph(POLARITY_CAUTION, console.width)
+    print_lines(console, out)
 
 
 def _spec_cells(kind, value, tol_minus, tol_plus, location, package, rating, dielectric) -> list[str]:
@@ -73,35 +93,39 @@ def _spec_cells(kind, value, tol_minus, tol_plus, location, package, rating, die
 
 
 PLAN_ROWS_SHOWN = 100
+PLAN_ROWS_SHORT = 20
+"""An import or kit plan of at most this many lines is listed without --verbose."""
+
+PLAN_COLUMNS = (
+    # at narrow widths the kind goes first (the unit says it), then the CSV rows, dielectric,
+    # rating and package (`stock list` and --verbose at full width show them)
+    Col("action"), Col("line", right=True), Col("kind", drop=5), Col("value", right=True), Col("tolerance"),
+    Col("location", wrap=True, min_wrap=8), Col("package", drop=1, wrap=True, min_wrap=7),
+    Col("rating", right=True, drop=2), Col("dielectric", drop=3, wrap=True, min_wrap=10), Col("qty", right=True),
+    Col("change", right=True), Col("rows", wrap=True, min_wrap=4, sep=", ", drop=4, hide_empty=True),
+)
 
 
-def plan_table(plan, limit: int = PLAN_ROWS_SHOWN) -> Table:
+def plan_lines(plan, width: int, limit: int = PLAN_ROWS_SHOWN) -> list:
     """The lines an import/kit plan creates or changes (ImportPlan from services/stock.py), at
     most ``limit`` of them (the summary line always counts all)."""
-    table = Table(header_style="bold")
-    for name, justify in (("action", "left"), ("line", "right"), ("kind", "left"), ("value", "right"),
-                          ("tolerance", "left"), ("location", "left"), ("package", "left"), ("rating", "right"),
-                          ("dielectric", "left"), ("qty", "right"), ("change", "right"), ("rows", "left")):
-        table.add_column(name, justify=justify, overflow="fold")
-    shown = 0
+    rows = []
     for n in plan.new_lines:
-        if shown == limit:
+        if len(rows) == limit:
             break
-        shown += 1
         s = n.spec
-        table.add_row(*map(cell, ("new", "", *_spec_cells(s.kind, s.value, s.tol_minus, s.tol_plus, s.location,
-                                                          s.package, s.rating, s.dielectric),
-                                  n.quantity, f"+{n.quantity}", _rows(n.rows))))
+        rows.append(["new", "", *_spec_cells(s.kind, s.value, s.tol_minus, s.tol_plus, s.location,
+                                             s.package, s.rating, s.dielectric),
+                     n.quantity, f"+{n.quantity}", _rows(n.rows)])
     for ch in plan.changes:
-        if shown == limit:
+        if len(rows) == limit:
             break
-        shown += 1
         ln = ch.line
-        table.add_row(*map(cell, ("set" if plan.replace else "add", ln.id,
-                                  *_spec_cells(ln.kind, ln.value, ln.tol_minus, ln.tol_plus, ln.location, ln.package,
-                                               ln.rating, ln.dielectric),
-                                  f"{ln.quantity} → {ch.new_quantity}", f"{ch.delta:+d}", _rows(ch.rows))))
-    return table
+        rows.append(["set" if plan.replace else "add", ln.id,
+                     *_spec_cells(ln.kind, ln.value, ln.tol_minus, ln.tol_plus, ln.location, ln.package,
+                                  ln.rating, ln.dielectric),
+                     f"{ln.quantity} → {ch.new_quantity}", f"{ch.delta:+d}", _rows(ch.rows)])
+    return table_lines(PLAN_COLUMNS, [[printable(x) for x in r] for r in rows], width)
 
 
 def _rows(rows: Iterable[int]) -> str:
@@ -109,21 +133,28 @@ def _rows(rows: Iterable[int]) -> str:
     return ", ".join(str(r) for r in rows)
 
 
-def print_plan(console: Console, plan, *, dry_run: bool, verb: str = "import") -> None:
-    """The plan table and one summary line saying what was (or would be) written."""
-    if plan.new_lines or plan.changes:
-        console.print(plan_table(plan))
-        hidden = len(plan.new_lines) + len(plan.changes) - PLAN_ROWS_SHOWN
+def print_plan(console: Console, plan, *, dry_run: bool, verb: str = "import", verbose: bool = False) -> None:
+    """One summary line saying what was (or would be) written; the plan's lines before it with
+    ``verbose`` or when there are few of them."""
+    count = len(plan.new_lines) + len(plan.changes)
+    out: list = []
+    if count and (verbose or count <= PLAN_ROWS_SHORT):
+        out += plan_lines(plan, console.width)
+        hidden = count - PLAN_ROWS_SHOWN
         if hidden > 0:
-            console.print(f"… and {hidden} more line{'s' if hidden != 1 else ''} not shown")
+            out.append(f"… and {hidden} more line{'s' if hidden != 1 else ''} not shown")
     summary = (f"{len(plan.new_lines)} new line{'s' if len(plan.new_lines) != 1 else ''}, "
                f"{len(plan.changes)} changed, {len(plan.unchanged)} unchanged; "
-               f"+{plan.parts_added} / -{plan.parts_removed} parts")
+               f"+{plan.parts_added}\u00a0/\u00a0-{plan.parts_removed}\u00a0parts")
     if dry_run:
-        console.print(f"Dry run ({verb} from {plan.source}): {summary}. Nothing was written.")
+        text = f"Dry run ({verb} from {plan.source}): {summary}. Nothing was written."
     else:
-        console.print(f"{verb.capitalize()}ed from {plan.source}: {summary}." if verb == "import"
-                      else f"Kit {plan.source}: {summary}.")
+        text = (f"{verb.capitalize()}ed from {plan.source}: {summary}." if verb == "import"
+                else f"Kit {plan.source}: {summary}.")
+    out += paragraph(printable(text), console.width)
+    if count > PLAN_ROWS_SHORT and not verbose:
+        out.append("`selector stock list` shows the stock; --verbose lists every line changed.")
+    print_lines(console, out)
 
 
 def print_change(console: Console, before: StockLine, after: StockLine) -> None:

@@ -56,7 +56,7 @@ def _check_shape(doc, roles, predicted_keys):
 
 
 def test_astable_table_on_the_sample_stock(cli, stocked):
-    r = cli("find", "astable", "--freq", "1.2k", "--duty", "65%", db=stocked)
+    r = cli("find", "astable", "--freq", "1.2k", "--duty", "65%", "--explain", db=stocked)
     assert r.returncode == 0, r.stderr
     out = r.stdout
     assert "search 1: astable 1.2 kHz" in out
@@ -98,7 +98,7 @@ def test_duty_below_half_uses_the_diode_connection(cli, stocked):
 
 
 def test_monostable_table_and_json(cli, stocked):
-    r = cli("find", "monostable", "--width", "150ms", db=stocked)
+    r = cli("find", "monostable", "--width", "150ms", "--explain", db=stocked)
     assert r.returncode == 0, r.stderr
     assert "monostable width 150 ms" in r.stdout and "ln3·R·C" in r.stdout
     doc = _json(cli, stocked, "monostable", "--width", "150ms")
