@@ -122,10 +122,16 @@ class _Pass:
             lo = np.maximum(lo, ra_f)
         else:
             freq_bound = np.zeros(n, dtype=bool)
-        hi = lim.max_total_r_ohm - rb
+        hi_total = lim.max_total_r_ohm - rb
+        max_ra = getattr(lim, "max_ra_ohm", math.inf)
+        ra_bound = max_ra < hi_total
+        hi = np.minimum(hi_total, max_ra)
         empty = lo > hi * (1 + _SLACK)
         if bound is None:
-            self.ex.add("RA/RB pairs over the total timing resistance limit", (empty & ~freq_bound).sum())
+            self.ex.add(f"RA/RB pairs needing RA above the {_fmt(max_ra, 'Ω')} maximum RA (threshold "
+                        "current through RA alone)", (empty & ~freq_bound & ra_bound).sum())
+            self.ex.add("RA/RB pairs over the total timing resistance limit",
+                        (empty & ~freq_bound & ~ra_bound).sum())
             self.ex.add(f"combinations above the {_fmt(lim.max_freq_hz, 'Hz')} maximum frequency",
                         (empty & freq_bound).sum())
 
@@ -159,7 +165,16 @@ class _Pass:
             th_out[idx] = th[better]
             tl_out[idx] = tl[better]
         nothing = (best_id < 0) & ~empty
-        self.ex.add("RA/RB pairs with no RA in range (over its power rating or sharing stock with RB)", nothing.sum())
+        over_ra = np.zeros(n, dtype=bool)
+        if nothing.any() and math.isfinite(max_ra):
+            rows = np.flatnonzero(nothing & ra_bound)
+            if rows.size:  # a network between the maximum RA and the total limit: that limit excluded it
+                offsets, _ids = self.r.between(np.full(rows.size, max_ra * (1 + 1e-9)), hi_total[rows])
+                over_ra[rows] = np.diff(offsets) > 0
+        self.ex.add(f"RA/RB pairs needing RA above the {_fmt(max_ra, 'Ω')} maximum RA (threshold "
+                    "current through RA alone)", over_ra.sum())
+        self.ex.add("RA/RB pairs with no RA in range (over its power rating or sharing stock with RB)",
+                    (nothing & ~over_ra).sum())
         return best_id, best_err, th_out, tl_out
 
     def _best_ra_window(self, cv, rb, lo, hi, empty, bound, ok):

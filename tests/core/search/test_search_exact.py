@@ -178,7 +178,7 @@ def reference_best(r_lines, c_lines, target, connection, lim, max_parts, boards,
           and leak_ok(n, lim, target, connection) and (all_networks or token_ok(n))]
     best = None
     if connection in ("standard", "diode"):
-        ra_ok = [n for n in rn if n[0] >= lim.min_r_ohm * (1 - 1e-9)
+        ra_ok = [n for n in rn if lim.min_r_ohm * (1 - 1e-9) <= n[0] <= lim.max_ra_ohm * (1 + 1e-9)
                  and power_ok(n, lim.r_power_volts, lim.r_power_derating)]
         for ra, rb in itertools.product(ra_ok, rn):
             if ra[0] + rb[0] > lim.max_total_r_ohm * (1 + 1e-9):
@@ -273,6 +273,7 @@ def cases(draw, connection, max_parts_max=3):
         diode_vf=draw(st.sampled_from([0.0, 0.3, 0.65])),
         voh=vcc - draw(st.sampled_from([0.0, 1.0])),
         vol=draw(st.sampled_from([0.0, 0.1])),
+        max_ra_ohm=draw(st.sampled_from([math.inf, 3e4, 2e5])),
     )
     # a target near something the stock can make, perturbed (so the best is not always exact)
     r1 = draw(st.sampled_from(r_lines)).value
