@@ -57,7 +57,9 @@ def test_just_inside_offered_just_outside_not():
 
 
 def test_nothing_left_names_the_limit():
-    lim = resolve_limits("diode", "bipolar", 5.0, VF)
+    # the DIS-current limit (tested in test_dis_current_limit.py) would exclude RB = 10 Ω first;
+    # lifted here so only the RA limit is left to name
+    lim = dataclasses.replace(resolve_limits("diode", "bipolar", 5.0, VF), dis_sink_a=math.inf)
     # RB = 10 Ω cannot serve as RA (the 1 kΩ minimum RA), so RA must be the 4.2 MΩ part
     r = [_res(1, 4.2e6), _res(2, 10.0)]
     target = Target("astable", t_high=4e-3, t_low=1e-8)
