@@ -50,6 +50,7 @@ class ChipFamily:
     part_text: str                   # how the BOM names the IC: "555 timer, <part_text>"
     spice_divider_ohms: float        # each of the three divider resistors in the SPICE model
     datasheet_discharge_ohms: float  # DIS saturation as a resistance (--discharge-ohms)
+    dis_sink_a: float                # largest DIS current the data sheet specifies (astable peak)
     control_pin_cap_f: Optional[float]   # CV (pin 5) capacitor fitted by the BOM; None: left open
     reservoir_f: Optional[tuple]     # (lo, hi) supply reservoir range; None: not listed
     bom_notes: tuple = ()            # notes the BOM adds for this family
@@ -112,6 +113,9 @@ BIPOLAR = ChipFamily(
     part_text="bipolar",
     spice_divider_ohms=5e3,           # [S12] bipolar 555 model netlists show 3 × 5 kΩ; [S14]
     datasheet_discharge_ohms=12.0,    # [S1] DIS saturation 180 mV typ at 15 mA (VCC 15 V) → 12 Ω
+    dis_sink_a=15e-3,                 # [S1] DIS saturation is specified at 15 mA (15 V); the data
+                                      # sheet gives no other DIS maximum than the package
+                                      # dissipation, so the tested current is the limit (common practice)
     control_pin_cap_f=10e-9,          # [S14] bypass CV with 10 nF when it is not used (facts §5)
     reservoir_f=(10e-6, 100e-6),      # [S3] 10–100 µF close to the IC: output current spikes
     sources={
@@ -131,6 +135,8 @@ BIPOLAR = ChipFamily(
         "monostable_supply_per_v": "[S1] bipolar 555 data sheet, monostable 0.1 %/V typ",
         "spice_divider_ohms": "[S12] bipolar 555 model netlists, 3 × 5 kΩ; [S14] tutorial",
         "datasheet_discharge_ohms": "[S1] bipolar 555 data sheet, DIS 180 mV typ at 15 mA",
+        "dis_sink_a": "[S1] bipolar 555 data sheet, DIS specified at 15 mA (no other DIS maximum; "
+                      "common practice to stay at the tested current)",
         "control_pin_cap_f": "[S14] bypass CV with 10 nF when it is not used",
     },
 )
@@ -157,6 +163,7 @@ CMOS = ChipFamily(
     part_text="CMOS",
     spice_divider_ohms=100e3,         # from memory, not confirmed: "near 100 kΩ each" (facts §5)
     datasheet_discharge_ohms=40.0,    # [S6] DIS ≤ 0.4 V at 10 mA, 5 V → at most 40 Ω
+    dis_sink_a=10e-3,                 # [S6] DIS specified at 10 mA (stored table garbled, verify)
     control_pin_cap_f=None,           # [S6] CV "need not be decoupled"
     reservoir_f=None,                 # [S6] "no crowbarring": no reservoir listed
     bom_notes=("CMOS timer: the control pin is left open (one CMOS 555 data sheet says it need not be "
@@ -178,6 +185,7 @@ CMOS = ChipFamily(
         "monostable_supply_per_v": "[S5] CMOS 555 data sheet B, 0.1 %/V typ",
         "spice_divider_ohms": "from memory, not confirmed (near 100 kΩ each, differs by maker)",
         "datasheet_discharge_ohms": "[S6] CMOS 555 data sheet C, DIS at most 0.4 V at 10 mA",
+        "dis_sink_a": "[S6] CMOS 555 data sheet C, DIS specified at 10 mA",
         "control_pin_cap_f": "[S6] CMOS 555 data sheet C, CV need not be decoupled",
     },
 )

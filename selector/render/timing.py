@@ -525,6 +525,9 @@ def explain_lines(report, width: int) -> list[str]:
             if any(k.uses_diode for k in kinds):
                 n = settings.options.get("diode_n")
                 bits.append(f"diode Vf {req.vf:g} V at 1 mA, n {n if n is not None else DIODE_N_DEFAULT:g}")
+                dl = report.limits.get("diode")
+                if dl is not None and dl.max_ra_ohm < lim.max_total_r_ohm:
+                    bits.append(f"diode-steered RA ≤ {_fmt(dl.max_ra_ohm, 'Ω')} (threshold current)")
         bits.append("resistor power ≤ 50 % of rating, capacitor rating × derating ≥ VCC")
         paras.append("Chip: " + "; ".join(bits) + f" ({chip_error}).")
     else:

@@ -76,6 +76,8 @@ class Limits:
     vcc: float
     min_r_ohm: float = 0.0  # RA (astable), R (monostable, output-fed)
     max_total_r_ohm: float = INF  # RA + RB, or R
+    max_ra_ohm: float = INF  # RA alone (diode-steered: RA alone carries the threshold current)
+    dis_sink_a: float = INF  # astable: peak DIS current (2VCC/3)/RB + VCC/RA at most this
     min_c_f: float = 0.0
     max_freq_hz: float = INF
     r_power_volts: float = 0.0  # volts across RA / R when it dissipates most (0: no power check)

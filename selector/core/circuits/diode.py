@@ -32,7 +32,21 @@ class Diode(Timer555, AstableKind):
 
         n = settings.options.get("diode_n")
         return Limits(**self.base_limits(settings, astable=True),
+                      max_ra_ohm=self.max_ra(settings),
                       extra={"diode_n": float(DIODE_N_DEFAULT if n is None else n)})
+
+    def max_ra(self, settings: Settings) -> float:
+        """Largest RA that still reaches the upper threshold: at that point the DIS node sits at
+        2VCC/3 + Vf, so RA alone has VCC/3 − Vf across it and must still pass the family's
+        threshold current: RA ≤ (VCC/3 − Vf)/I_th (derived as in facts.md §6's R ≤ VCC/(3·I_th),
+        [S1] 0.25 µA max bipolar; Vf taken at 1 mA, the --diode-vf figure, which over-states the
+        drop at this tiny current and so errs on the safe side)."""
+        from selector.core import chips
+
+        fam = chips.family(settings.chip)
+        vf = settings.diode_vf or 0.0
+        head = settings.vcc / 3.0 - vf
+        return head / fam.threshold_current_a if head > 0 else 0.0
 
     def uncertain(self, limits: Limits):
         from selector.core.circuits.base import Uncertain

@@ -186,6 +186,7 @@ class Timer555:
                    min_c_f=fam.min_timing_c_f, r_power_volts=vcc)
         if astable:
             lim["max_freq_hz"] = fam.max_astable_hz
+            lim["dis_sink_a"] = fam.dis_sink_a
         from selector.core.circuits.base import Uncertain
 
         lim["chip_terms"] = tuple(Uncertain(name, 1.0, band, band, label, in_parts_only=False)

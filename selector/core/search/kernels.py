@@ -110,6 +110,15 @@ class _Pass:
         t_low = p.t_low(rb, cv)
         ra_star = p.ra_for_high(np.full(n, tg.t_high), rb, cv)
         lo = np.full(n, lim.min_r_ohm, dtype=float)
+        sink = getattr(lim, "dis_sink_a", math.inf)
+        ra_dis = np.zeros(n)
+        if math.isfinite(sink):
+            # the DIS pin at turn-on takes C's discharge through RB, (2VCC/3)/RB, and RA's VCC/RA:
+            # their sum within the family's DIS figure is a lower bound on RA for this RB
+            room = sink - (2.0 * lim.vcc / 3.0) / rb
+            with np.errstate(divide="ignore"):
+                ra_dis = np.where(room > 0, lim.vcc / np.where(room > 0, room, 1.0), np.inf)
+            lo = np.maximum(lo, ra_dis)
         if math.isfinite(lim.max_freq_hz):
             need_high = 1.0 / lim.max_freq_hz - t_low  # period >= 1/fmax
             pos = need_high > 0
@@ -122,12 +131,22 @@ class _Pass:
             lo = np.maximum(lo, ra_f)
         else:
             freq_bound = np.zeros(n, dtype=bool)
-        hi = lim.max_total_r_ohm - rb
+        hi_total = lim.max_total_r_ohm - rb
+        max_ra = getattr(lim, "max_ra_ohm", math.inf)
+        ra_bound = max_ra < hi_total
+        hi = np.minimum(hi_total, max_ra)
         empty = lo > hi * (1 + _SLACK)
         if bound is None:
-            self.ex.add("RA/RB pairs over the total timing resistance limit", (empty & ~freq_bound).sum())
+            dis_empty = empty & (ra_dis > hi * (1 + _SLACK))
+            self.ex.add(f"RA/RB pairs over the {_fmt(sink, 'A')} DIS pin current ((2VCC/3)/RB + VCC/RA)",
+                        dis_empty.sum())
+            empty_rest = empty & ~dis_empty
+            self.ex.add(f"RA/RB pairs needing RA above the {_fmt(max_ra, 'Ω')} maximum RA (threshold "
+                        "current through RA alone)", (empty_rest & ~freq_bound & ra_bound).sum())
+            self.ex.add("RA/RB pairs over the total timing resistance limit",
+                        (empty_rest & ~freq_bound & ~ra_bound).sum())
             self.ex.add(f"combinations above the {_fmt(lim.max_freq_hz, 'Hz')} maximum frequency",
-                        (empty & freq_bound).sum())
+                        (empty_rest & freq_bound).sum())
 
         def ok(ids, rows):
             good = self.power.ok(ids)
@@ -159,7 +178,24 @@ class _Pass:
             th_out[idx] = th[better]
             tl_out[idx] = tl[better]
         nothing = (best_id < 0) & ~empty
-        self.ex.add("RA/RB pairs with no RA in range (over its power rating or sharing stock with RB)", nothing.sum())
+        over_ra = np.zeros(n, dtype=bool)
+        if nothing.any() and math.isfinite(max_ra):
+            rows = np.flatnonzero(nothing & ra_bound)
+            if rows.size:  # a network between the maximum RA and the total limit: that limit excluded it
+                offsets, _ids = self.r.between(np.full(rows.size, max_ra * (1 + 1e-9)), hi_total[rows])
+                over_ra[rows] = np.diff(offsets) > 0
+        over_dis = np.zeros(n, dtype=bool)
+        rows = np.flatnonzero(nothing & ~over_ra & (ra_dis > lim.min_r_ohm))
+        if rows.size:  # a network between the minimum RA and the DIS-current bound excluded
+            offsets, _ids = self.r.between(np.full(rows.size, lim.min_r_ohm),
+                                           np.minimum(ra_dis[rows], hi[rows]) * (1 - 1e-9))
+            over_dis[rows] = np.diff(offsets) > 0
+        self.ex.add(f"RA/RB pairs needing RA above the {_fmt(max_ra, 'Ω')} maximum RA (threshold "
+                    "current through RA alone)", over_ra.sum())
+        self.ex.add(f"RA/RB pairs over the {_fmt(sink, 'A')} DIS pin current ((2VCC/3)/RB + VCC/RA)",
+                    over_dis.sum())
+        self.ex.add("RA/RB pairs with no RA in range (over its power rating or sharing stock with RB)",
+                    (nothing & ~over_ra & ~over_dis).sum())
         return best_id, best_err, th_out, tl_out
 
     def _best_ra_window(self, cv, rb, lo, hi, empty, bound, ok):

@@ -178,12 +178,15 @@ def reference_best(r_lines, c_lines, target, connection, lim, max_parts, boards,
           and leak_ok(n, lim, target, connection) and (all_networks or token_ok(n))]
     best = None
     if connection in ("standard", "diode"):
-        ra_ok = [n for n in rn if n[0] >= lim.min_r_ohm * (1 - 1e-9)
+        ra_ok = [n for n in rn if lim.min_r_ohm * (1 - 1e-9) <= n[0] <= lim.max_ra_ohm * (1 + 1e-9)
                  and power_ok(n, lim.r_power_volts, lim.r_power_derating)]
         for ra, rb in itertools.product(ra_ok, rn):
             if ra[0] + rb[0] > lim.max_total_r_ohm * (1 + 1e-9):
                 continue
             if not fits([ra, rb], r_lines, boards):
+                continue
+            # DIS pin at turn-on: C through RB, (2VCC/3)/RB, plus VCC/RA (facts.md §6, derived)
+            if 2 * lim.vcc / 3 / rb[0] + lim.vcc / ra[0] > lim.dis_sink_a * (1 + 1e-9):
                 continue
             c = np.array([n[0] for n in cn])
             if c.size == 0:
@@ -273,6 +276,8 @@ def cases(draw, connection, max_parts_max=3):
         diode_vf=draw(st.sampled_from([0.0, 0.3, 0.65])),
         voh=vcc - draw(st.sampled_from([0.0, 1.0])),
         vol=draw(st.sampled_from([0.0, 0.1])),
+        max_ra_ohm=draw(st.sampled_from([math.inf, 3e4, 2e5])),
+        dis_sink_a=draw(st.sampled_from([math.inf, 15e-3, 2e-3])),
     )
     # a target near something the stock can make, perturbed (so the best is not always exact)
     r1 = draw(st.sampled_from(r_lines)).value
@@ -427,7 +432,9 @@ def test_ranked_options_keep_the_exact_best(case, top, connection):
     try:
         rep = plan_timing(r_lines, c_lines, req)
     except NothingFeasible:
-        assert expected is None
+        # README "Cannot reach": a frequency above the family's limit by more than --accept is
+        # refused up front, whatever the stock holds
+        assert expected is None or freq > lim.max_freq_hz * (1 + req.accept)
         return
     assert expected is not None and len(rep.options) <= top
     got = min(abs(o["error"]) for o in rep.options)

@@ -1,0 +1,68 @@
+"""Issue 10, item 2: in the diode-steered connection RA alone carries the threshold current.
+
+At the upper threshold the DIS node sits at 2VCC/3 + Vf, so RA has only VCC/3 − Vf across it and
+must still pass the threshold input current: RA ≤ (VCC/3 − Vf)/I_th (derived like facts.md §6's
+R ≤ VCC/(3·I_th)). I_th = 0.25 µA max: [S1] bipolar 555 data sheet (facts.md §6). The figures
+below are written out here, not taken from the code under test.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import math
+
+import pytest
+
+from selector.core import timing
+from selector.core.errors import NothingFeasible
+from selector.core.search import Target, resolve_limits, search_timing
+from selector.core.types import StockLine
+
+I_TH = 0.25e-6   # [S1] threshold current, max
+VF = 0.65        # the Vf at 1 mA the search is given
+
+
+def test_max_ra_figure():
+    # 5 V: (5/3 − 0.65)/0.25 µA = 4.07 MΩ (the issue measured "about 4 MΩ" as the ceiling)
+    lim = resolve_limits("diode", "bipolar", 5.0, VF)
+    assert lim.max_ra_ohm == pytest.approx((5.0 / 3 - VF) / I_TH, rel=1e-12)
+    assert 4.0e6 < lim.max_ra_ohm < 4.1e6
+    # the standard connection has no such limit (RA + RB both carry it: the total limit)
+    assert math.isinf(resolve_limits("standard", "bipolar", 5.0, VF).max_ra_ohm)
+
+
+def _res(i, v, q=1):
+    return StockLine(i, "resistor", v, 0.01, 0.01, q)
+
+
+def _cap(i, v):
+    return StockLine(100 + i, "capacitor", v, 0.05, 0.05, 1, dielectric="film")
+
+
+def test_just_inside_offered_just_outside_not():
+    lim = resolve_limits("diode", "bipolar", 5.0, VF)
+    inside, outside, rb = 4.0e6, 4.2e6, 100e3   # 4.07 MΩ limit between them
+    c = 1e-9
+    th = float(timing.diode_shockley_times(outside, rb, c, 5.0, VF, lim.extra["diode_n"])[0])
+    target = Target("astable", t_high=th, t_low=math.log(2) * rb * c)
+    r = [_res(1, inside), _res(2, outside), _res(3, rb)]
+    res = search_timing(r, [_cap(1, c)], target, ("diode",), {"diode": lim}, max_parts=1, pool=10)
+    ras = {round(o.networks["RA"].value) for o in res.options}
+    assert round(inside) in ras and round(outside) not in ras
+    # without the limit the 4.2 MΩ RA is the exact hit: the limit is what removed it
+    free = dataclasses.replace(lim, max_ra_ohm=math.inf)
+    res2 = search_timing(r, [_cap(1, c)], target, ("diode",), {"diode": free}, max_parts=1, pool=10)
+    assert round(res2.options[0].networks["RA"].value) == round(outside)
+    assert abs(res2.options[0].error) < 1e-9
+
+
+def test_nothing_left_names_the_limit():
+    # the DIS-current limit (tested in test_dis_current_limit.py) would exclude RB = 10 Ω first;
+    # lifted here so only the RA limit is left to name
+    lim = dataclasses.replace(resolve_limits("diode", "bipolar", 5.0, VF), dis_sink_a=math.inf)
+    # RB = 10 Ω cannot serve as RA (the 1 kΩ minimum RA), so RA must be the 4.2 MΩ part
+    r = [_res(1, 4.2e6), _res(2, 10.0)]
+    target = Target("astable", t_high=4e-3, t_low=1e-8)
+    with pytest.raises(NothingFeasible) as err:
+        search_timing(r, [_cap(1, 1e-9)], target, ("diode",), {"diode": lim}, max_parts=1, pool=5)
+    assert "maximum RA" in str(err.value) and "threshold current" in str(err.value)
