@@ -98,12 +98,18 @@ def _levels(mode: str, connection: str, params: dict, option: dict, lines: dict)
 
 def show_in_session(session, option: int, search_id: Optional[int] = None) -> ShowReport:
     from selector.core.circuits.base import Settings
+    from selector.core.errors import NothingFeasible
     from selector.services.bom import bom_in_session, load_saved_option
+    from selector.services.simulate import SIMULATED_MODES
     from selector.store.db import load_stock
     from selector.store.models import SearchRow
 
     saved = load_saved_option(session, option, search_id)
     search = session.get(SearchRow, saved.search_id)
+    if search.mode not in SIMULATED_MODES:  # a `find value` search: parts, no circuit to draw
+        raise NothingFeasible(f"search {saved.search_id} is a {search.mode} search: show needs a timing "
+                              f"search ({', '.join(SIMULATED_MODES)}); its parts: selector bom {option} "
+                              f"--search {saved.search_id}")
     target = json.loads(search.target_json or "{}")
     params = json.loads(search.params_json or "{}")
     bom = bom_in_session(session, option, saved.search_id)

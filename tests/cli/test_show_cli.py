@@ -111,6 +111,19 @@ def test_show_of_a_missing_option_is_one_line(shop):
     assert len(r.stderr.strip().splitlines()) == 1 and "has no option 99" in r.stderr
 
 
+def test_show_of_a_value_search_is_one_line_naming_bom(shop, tmp_path):
+    # `find value` saves a search with no circuit: show refuses in one line (it used to end in a
+    # KeyError traceback) and names the command that does list its parts.
+    _run(shop, "find", "value", "39k", "--top", "2")
+    sid = sqlite3.connect(shop).execute("SELECT MAX(id) FROM searches").fetchone()[0]
+    for extra in ((), ("--svg", str(tmp_path / "x.svg"))):
+        r = _run(shop, "show", "1", *extra, code=1)
+        assert r.stderr.strip().splitlines() == [
+            f"Error: search {sid} is a value search: show needs a timing search (astable, monostable, rc); "
+            f"its parts: selector bom 1 --search {sid}"]
+        assert "Traceback" not in r.stderr and not (tmp_path / "x.svg").exists()
+
+
 def test_show_and_find_render_the_agreed_keys_when_saved(shop):
     """The search may save ``errors``, ``why`` and ``alternatives`` (agreed JSON); the screens use
     them as given."""
