@@ -197,6 +197,7 @@ class CliResult:
     returncode: int
     stdout: str
     stderr: str
+    exception: BaseException | None = None  # in-process only: what escaped the command, if anything
 
 
 def _argv(args, db) -> list[str]:
@@ -268,7 +269,8 @@ def run_cli(*args: str, db: str | Path | None = None, input: str | None = None, 
     if result.exception is not None and not isinstance(result.exception, SystemExit):
         # What the interpreter prints for an uncaught exception, and its exit code 1.
         stderr += "".join(traceback.format_exception(*result.exc_info))
-    return CliResult(args=argv, returncode=result.exit_code, stdout=result.stdout, stderr=stderr)
+    return CliResult(args=argv, returncode=result.exit_code, stdout=result.stdout, stderr=stderr,
+                     exception=result.exception)
 
 
 @pytest.fixture

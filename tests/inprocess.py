@@ -1,6 +1,7 @@
-"""Run the CLI in this process (typer's CliRunner on selector.cli.app.app): fast enough for fuzzing,
-with the real exit codes and separate stdout/stderr. ``snapshot`` reads everything a command could
-change in a SQLite stock database, with the plain sqlite3 module."""
+"""The fuzz tests' view of an in-process CLI run: ``invoke`` is conftest's ``run_cli`` (the one
+in-process runner: real exit codes, separate stdout/stderr), seen as an ``Outcome`` that also says
+whether an exception escaped the command. ``snapshot`` reads everything a command could change in
+a SQLite stock database, with the plain sqlite3 module."""
 
 from __future__ import annotations
 
@@ -8,11 +9,7 @@ import sqlite3
 from dataclasses import dataclass
 from pathlib import Path
 
-from typer.testing import CliRunner
-
-from selector.cli.app import app
-
-_RUNNER = CliRunner()
+from conftest import run_cli
 
 
 @dataclass
@@ -32,8 +29,8 @@ class Outcome:
 
 
 def invoke(*args: str, db: str | Path, input: str | None = None) -> Outcome:
-    r = _RUNNER.invoke(app, ["--db", str(db), *args], input=input, env={"SELECTOR_DB": None})
-    return Outcome(r.exit_code, r.stdout, r.stderr, r.exception)
+    r = run_cli(*args, db=db, input=input)
+    return Outcome(r.returncode, r.stdout, r.stderr, r.exception)
 
 
 def snapshot(path: str | Path) -> list[str]:
