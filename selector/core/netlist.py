@@ -281,14 +281,6 @@ def diode_saturation_current(vf: float, current: float, n: float = DIODE_N) -> f
     return current / math.expm1(vf / (n * THERMAL_V))
 
 
-def diode_reference_current(vcc: float, vf: float, ra: float, rb: float) -> float:
-    """Mean diode current of a diode-steered charge: the RA current at the middle of the swing
-    (Vc = VCC/2) less the share RB takes (Vf/RB) (facts §2, derived; [S8] says take Vd near the
-    mean charging current)."""
-    i = (vcc / 2.0 - vf) / ra - vf / rb
-    return i if i > 0 else (vcc / 2.0 - vf) / ra
-
-
 # ----------------------------------------------------------------------------- netlists
 def _net(c: Circuit, label: str) -> Network:
     try:
