@@ -58,8 +58,6 @@ DISCHARGE_OFF_OHMS = 1e12
 pulse by 0.15 %; the formulas ignore it, as they ignore the threshold input current."""
 RESET_LEVEL_V = 0.7        # [S1] reset threshold 0.4 / 0.7 / 1.0 V (min/typ/max)
 LATCH_DELAY_R, LATCH_DELAY_C = 1e3, 1e-12   # 1 ns per gate: keeps the latch well-posed
-DIODE_N = 1.9              # emission coefficient of a small-signal Si diode (from memory, 1.7–2)
-THERMAL_V = 0.025852       # kT/q at 300 K (derived: 1.380649e-23·300/1.602177e-19)
 RC_FRACTION = 1.0 - math.exp(-1.0)          # 63.212 % of the step: reached after one τ (derived)
 MINUS_3DB = 20.0 * math.log10(1.0 / math.sqrt(2.0))  # −3.0103 dB: the corner of a first-order RC
 STEPS_PER_SEGMENT = 1000   # timestep limit: the shortest half-period / this (ecosystem §6: ≤ 0.1 %)
@@ -274,19 +272,6 @@ def subckt_555(chip: ChipModel) -> list[str]:
         f"Bout out gnd V = v(q,gnd) > 0.5 ? {_num(chip.voh)} : {_num(chip.vol)}",
         f".ends {name}",
     ]
-
-
-def diode_saturation_current(vf: float, current: float, n: float = DIODE_N) -> float:
-    """IS that makes a diode drop ``vf`` at ``current``: I = IS·(exp(V/(n·Vt)) − 1) (Shockley)."""
-    return current / math.expm1(vf / (n * THERMAL_V))
-
-
-def diode_reference_current(vcc: float, vf: float, ra: float, rb: float) -> float:
-    """Mean diode current of a diode-steered charge: the RA current at the middle of the swing
-    (Vc = VCC/2) less the share RB takes (Vf/RB) (facts §2, derived; [S8] says take Vd near the
-    mean charging current)."""
-    i = (vcc / 2.0 - vf) / ra - vf / rb
-    return i if i > 0 else (vcc / 2.0 - vf) / ra
 
 
 # ----------------------------------------------------------------------------- netlists

@@ -162,7 +162,6 @@ class NetworkIndex:
         starts = np.flatnonzero(new_run)
         ends = np.append(starts[1:], M) - 1
         self._order_desc = starts[run] + ends[run] - p
-        self._val_desc = self._val  # same values, same ascending order
         # (shape, li, lj) keys of the pairs are increasing in build order: no sort needed.
         inverse = np.empty(M, dtype=np.int64)
         inverse[order] = p
@@ -436,7 +435,7 @@ class NetworkIndex:
             return below, above
         if self._three is None:  # only materialised networks: both sides are plain slices
             step = np.arange(k)
-            ib = np.searchsorted(self._val_desc, T_in, side="right")[:, None] - 1 - step
+            ib = np.searchsorted(self._val, T_in, side="right")[:, None] - 1 - step
             ia = np.searchsorted(self._val, T_in, side="left")[:, None] + step
             below = np.where(ib >= 0, self._order_desc[np.maximum(ib, 0)], -1)
             above = np.where(ia < self._M, np.minimum(ia, self._M - 1), -1)
@@ -446,21 +445,20 @@ class NetworkIndex:
         for sl in self._chunks(len(T)):
             t = T[sl]
             n = len(t)
-            ib = np.searchsorted(self._val_desc, t, side="right")
+            ib = np.searchsorted(self._val, t, side="right")
             rb, eb = ranges_concat(np.maximum(ib - k, 0), ib)
             eb = self._order_desc[eb]
             ia = np.searchsorted(self._val, t, side="left")
             ra, ea = ranges_concat(ia, np.minimum(ia + k, self._M))
             vb, va = self._val[eb], self._val[ea]
-            if self._three is not None:
-                # the k-th best 1-2 part distance bounds the 3-part search (inf if fewer than k)
-                kb = np.where(ib >= k, self._val_desc[np.maximum(ib - k, 0)], 0.0)
-                ka = np.where(ia + k <= self._M, self._val[np.minimum(ia + k - 1, self._M - 1)], np.inf)
-                with np.errstate(divide="ignore"):
-                    bounds = (np.log(t / kb), np.log(ka / t))
-                (br, bi, bv), (ar, ai, av) = self._three.sides(t, k, bounds)
-                rb, eb, vb = np.concatenate([rb, br]), np.concatenate([eb, bi]), np.concatenate([vb, bv])
-                ra, ea, va = np.concatenate([ra, ar]), np.concatenate([ea, ai]), np.concatenate([va, av])
+            # the k-th best 1-2 part distance bounds the 3-part search (inf if fewer than k)
+            kb = np.where(ib >= k, self._val[np.maximum(ib - k, 0)], 0.0)
+            ka = np.where(ia + k <= self._M, self._val[np.minimum(ia + k - 1, self._M - 1)], np.inf)
+            with np.errstate(divide="ignore"):
+                bounds = (np.log(t / kb), np.log(ka / t))
+            (br, bi, bv), (ar, ai, av) = self._three.sides(t, k, bounds)
+            rb, eb, vb = np.concatenate([rb, br]), np.concatenate([eb, bi]), np.concatenate([vb, bv])
+            ra, ea, va = np.concatenate([ra, ar]), np.concatenate([ea, ai]), np.concatenate([va, av])
             below[order[sl]] = rank_rows(rb, eb, (-vb, self.nparts(eb)), n, k)
             above[order[sl]] = rank_rows(ra, ea, (va, self.nparts(ea)), n, k)
         return below, above
