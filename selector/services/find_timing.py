@@ -223,7 +223,7 @@ def plan_timing(r_lines, c_lines, req: TimingRequest,
                            all_networks=req.all_networks)
     ranked = evaluate_and_rank(result.options, target, limits, req.accept, req.top,
                                req.distribution, req.samples, req.seed,
-                               folded=getattr(result, "folded", ()),
+                               folded=result.folded,
                                stock=list(r_lines) + list(c_lines), boards=req.boards)
     options = [option_json(o) for o in ranked]
     from selector.core.search.lookup import LEAKAGE_REASON
