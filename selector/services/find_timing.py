@@ -155,9 +155,9 @@ def params_json(req: TimingRequest) -> dict:
 
 
 def network_json(net) -> dict:
-    return {"value": net.value, "shape": net.shape,
-            "parts": [{"line_id": ln.id, "value": ln.value, "count": cnt, "location": ln.location}
-                      for ln, cnt in net.parts]}
+    from selector.services.find_value import parts_json
+
+    return {"value": net.value, "shape": net.shape, "parts": parts_json(net)}
 
 
 def option_json(opt) -> dict:
