@@ -353,6 +353,17 @@ def _variant_id(found) -> tuple:
     return tuple((role, tuple(sorted(p.id for p in n.physical))) for role, n in sorted(found.networks.items()))
 
 
+def distinct_variants(variants: Sequence) -> list:
+    """The variants of one build best first (``variant_key``), each set of stock lines once."""
+    seen, unique = set(), []
+    for v in sorted(variants, key=variant_key):
+        vid = _variant_id(v)
+        if vid not in seen:
+            seen.add(vid)
+            unique.append(v)
+    return unique
+
+
 def fold_builds(found_options: Sequence, stock: Sequence = (), boards: int = 1,
                 limits_by_connection: Optional[dict] = None) -> tuple[list, dict]:
     """One option per build (its best variant by ``variant_key``) and, per shown variant's id,
@@ -366,12 +377,7 @@ def fold_builds(found_options: Sequence, stock: Sequence = (), boards: int = 1,
         if stock:
             lim = (limits_by_connection or {}).get(variants[0].connection)
             variants = variants + more_variants(variants[0], stock, boards, lim)
-        seen, unique = set(), []
-        for v in sorted(variants, key=variant_key):
-            vid = _variant_id(v)
-            if vid not in seen:
-                seen.add(vid)
-                unique.append(v)
+        unique = distinct_variants(variants)
         shown.append(unique[0])
         others[id(unique[0])] = unique[1:]
     return shown, others
@@ -430,13 +436,8 @@ def yield_groups(options: Sequence[RankedOption]) -> None:
     """Set ``yield_group`` within each tier: sorted by yield, a new group starts at the first
     option more than ``YIELD_EQUAL`` below the group's highest yield."""
     for tier in {o.tier for o in options}:
-        members = sorted((o for o in options if o.tier == tier), key=lambda o: -o.yield_value)
-        group, top_y = 0, None
-        for o in members:
-            if top_y is None:
-                top_y = o.yield_value
-            elif top_y - o.yield_value > YIELD_EQUAL + 1e-12:
-                group, top_y = group + 1, o.yield_value
+        members = [o for o in options if o.tier == tier]
+        for o, group in zip(members, yield_group_ids([o.yield_value for o in members])):
             o.yield_group = group
 
 

@@ -135,8 +135,11 @@ def bom_in_session(
     """The BOM of a saved option against the stock as this session sees it (no writes)."""
     from selector.store.db import load_stock
 
-    saved = load_saved_option(session, option, search_id)
-    stock = load_stock(session)
+    return bom_of_saved(load_saved_option(session, option, search_id), load_stock(session), boards)
+
+
+def bom_of_saved(saved: SavedOption, stock: list[StockLine], boards: Optional[int] = None) -> BomReport:
+    """The BOM of an option already read (``load_saved_option``) against ``stock`` (``load_stock``)."""
     n = saved.boards if boards is None else boards
     try:
         bom = core_bom.assemble_bom(saved.search_id, saved.rank, saved.spec, saved.data, stock, n,

@@ -155,9 +155,9 @@ def params_json(req: TimingRequest) -> dict:
 
 
 def network_json(net) -> dict:
-    return {"value": net.value, "shape": net.shape,
-            "parts": [{"line_id": ln.id, "value": ln.value, "count": cnt, "location": ln.location}
-                      for ln, cnt in net.parts]}
+    from selector.services.find_value import parts_json
+
+    return {"value": net.value, "shape": net.shape, "parts": parts_json(net)}
 
 
 def option_json(opt) -> dict:
@@ -223,7 +223,7 @@ def plan_timing(r_lines, c_lines, req: TimingRequest,
                            all_networks=req.all_networks)
     ranked = evaluate_and_rank(result.options, target, limits, req.accept, req.top,
                                req.distribution, req.samples, req.seed,
-                               folded=getattr(result, "folded", ()),
+                               folded=result.folded,
                                stock=list(r_lines) + list(c_lines), boards=req.boards)
     options = [option_json(o) for o in ranked]
     from selector.core.search.lookup import LEAKAGE_REASON

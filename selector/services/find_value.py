@@ -290,12 +290,7 @@ def _best_variants(options: list, alternatives: list, lines: Sequence, boards: i
     for net, more in zip(options, alternatives):
         wrap = [SimpleNamespace(networks={"X": n}) for n in [net] + list(more)]
         extra = ranking.more_variants(SimpleNamespace(networks={"X": net}, connection=""), lines, boards, None)
-        seen, unique = set(), []
-        for w in sorted(wrap + extra, key=ranking.variant_key):
-            vid = tuple(sorted(p.id for p in w.networks["X"].physical))
-            if vid not in seen:
-                seen.add(vid)
-                unique.append(w.networks["X"])
+        unique = [w.networks["X"] for w in ranking.distinct_variants(wrap + extra)]
         shown.append(unique[0])
         others.append(unique[1:1 + ranking.MAX_ALTERNATIVES])
     return shown, others

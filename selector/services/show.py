@@ -99,7 +99,7 @@ def _levels(mode: str, connection: str, params: dict, option: dict, lines: dict)
 def show_in_session(session, option: int, search_id: Optional[int] = None) -> ShowReport:
     from selector.core.circuits.base import Settings
     from selector.core.errors import NothingFeasible
-    from selector.services.bom import bom_in_session, load_saved_option
+    from selector.services.bom import bom_of_saved, load_saved_option
     from selector.services.simulate import SIMULATED_MODES
     from selector.store.db import load_stock
     from selector.store.models import SearchRow
@@ -112,10 +112,11 @@ def show_in_session(session, option: int, search_id: Optional[int] = None) -> Sh
                               f"--search {saved.search_id}")
     target = json.loads(search.target_json or "{}")
     params = json.loads(search.params_json or "{}")
-    bom = bom_in_session(session, option, saved.search_id)
+    stock = load_stock(session)
+    bom = bom_of_saved(saved, stock)
     used = {int(p["line_id"]) for raw in (saved.data.get("networks") or {}).values()
             for p in raw.get("parts") or [] if p.get("line_id") is not None}
-    lines: dict[int, StockLine] = {ln.id: ln for ln in load_stock(session) if ln.id in used}
+    lines: dict[int, StockLine] = {ln.id: ln for ln in stock if ln.id in used}
     mode, connection = search.mode, saved.spec.connection
     settings = Settings(saved.spec.chip, saved.spec.vcc or 0.0, saved.spec.diode_vf, dict(saved.spec.options))
     cautions = option_cautions(mode, connection, target, settings, saved.data, lines)

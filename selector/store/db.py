@@ -138,8 +138,10 @@ def make_engine(url: sa.URL | str, *, foreign_keys: bool = True, pooled: bool = 
                 # opening the same new file may hold for a moment.
                 cur.execute(f"PRAGMA busy_timeout={int(busy_timeout_ms)}")
                 # WAL is a lasting property of the file: never switch another program's database;
-                # open_engine then refuses it, unchanged.
-                if not memory and _sqlite_verdict(cur)[0] in ("empty", "ours"):
+                # open_engine then refuses it, unchanged. A file already in WAL (every later
+                # connection to ours) needs neither the switch nor the schema read behind it.
+                if not memory and str(cur.execute("PRAGMA journal_mode").fetchone()[0]).lower() != "wal" \
+                        and _sqlite_verdict(cur)[0] in ("empty", "ours"):
                     cur.execute("PRAGMA journal_mode=WAL")
                 cur.execute(f"PRAGMA foreign_keys={'ON' if foreign_keys else 'OFF'}")
             finally:
