@@ -85,7 +85,6 @@ def shortage_message(report: BomReport, shortages: list[core_bom.Shortage]) -> s
             f"nothing was taken{report.alternatives_note}")
 
 
-
 def _pull_in_session(
     session: Session, option: int, search_id: Optional[int], boards: Optional[int], dry_run: bool
 ) -> PullResult:
