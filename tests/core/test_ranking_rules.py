@@ -60,10 +60,25 @@ def _plan(case, top=6):
         return None
 
 
+def _net_value(net, kind):
+    """A network's value from its parts, by the textbook laws (facts.md §10): resistors in series
+    add, in parallel their conductances add; capacitors the other way round. The stocks here
+    allow at most 2 parts, so the shape is single, series or parallel."""
+    xs = [p["value"] for p in net["parts"] for _ in range(p["count"])]
+    adds = (net["shape"] == "series") == (kind == "resistor")
+    return sum(xs) if adds or len(xs) == 1 else 1.0 / sum(1.0 / x for x in xs)
+
+
 def _asked(opt, freq, duty):
-    """max(|f/F - 1|, |d - D| / D) from the option's own predictions (the issue's definition)."""
+    """max(|f/F - 1|, |d - D| / D) (the issue's definition), f and d from the option's parts by
+    the standard astable law (module docstring); the option's own prediction must agree."""
+    ra, rb = (_net_value(opt["networks"][k], "resistor") for k in ("RA", "RB"))
+    c = _net_value(opt["networks"]["C"], "capacitor")
+    th, tl = LN2 * (ra + rb) * c, LN2 * rb * c
+    f, d = 1.0 / (th + tl), th / (th + tl)
     p = opt["predicted"]
-    return max(abs(p["frequency_hz"] / freq - 1.0), abs(p["duty"] - duty) / duty)
+    assert math.isclose(p["frequency_hz"], f, rel_tol=1e-9) and math.isclose(p["duty"], d, rel_tol=1e-9), (p, f, d)
+    return max(abs(f / freq - 1.0), abs(d - duty) / duty)
 
 
 def _nparts(opt):
@@ -166,6 +181,7 @@ def test_every_row_says_why_in_two_or_three_words(case):
         assert 1 <= len(o["why"].split()) <= 3 and o["why"]
         # errors in the asker's terms, by hand from the prediction
         _r, _c, freq, duty, _a, _mp = case
+        _asked(o, freq, duty)   # the prediction is the standard law's figure for the parts
         assert math.isclose(o["errors"]["frequency"], o["predicted"]["frequency_hz"] / freq - 1,
                             rel_tol=1e-9, abs_tol=1e-12)
         assert math.isclose(o["errors"]["duty_points"], o["predicted"]["duty"] - duty,
