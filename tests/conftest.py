@@ -135,6 +135,26 @@ def url_of(target) -> str:
     return text if "://" in text else f"sqlite:///{text}"
 
 
+def stock_lines(target) -> dict:
+    """The stock lines of the database at ``target`` (a ``db_path`` value), keyed by line id."""
+    from selector.store.db import load_stock, open_engine, transaction
+
+    engine = open_engine(url_of(target))
+    try:
+        with transaction(engine) as s:
+            return {ln.id: ln for ln in load_stock(s)}
+    finally:
+        engine.dispose()
+
+
+@pytest.fixture
+def stocked(cli, db_path):
+    """``db_path`` with sample_stock.csv imported through the CLI (the import must succeed)."""
+    r = cli("stock", "import", str(SAMPLE), db=db_path)
+    assert r.returncode == 0, r.stderr
+    return db_path
+
+
 def plain_engine(target):
     """An engine without selector's hooks or schema check, to look at the raw rows."""
     import sqlalchemy as sa

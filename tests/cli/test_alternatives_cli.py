@@ -5,17 +5,6 @@ from __future__ import annotations
 
 import json
 
-import pytest
-
-from conftest import SAMPLE
-
-
-@pytest.fixture
-def stocked(cli, db_path):
-    r = cli("stock", "import", str(SAMPLE), db=db_path)
-    assert r.returncode == 0, r.stderr
-    return db_path
-
 
 def test_short_pull_names_the_alternatives(cli, stocked):
     r = cli("find", "astable", "--freq", "1.2k", "--duty", "65%", "--json", db=stocked)

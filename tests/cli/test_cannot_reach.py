@@ -15,17 +15,8 @@ import math
 
 import pytest
 
-from conftest import SAMPLE
-
 from selector.core.types import StockLine
 from selector.services.find_timing import TimingRequest, plan_timing
-
-
-@pytest.fixture
-def stocked(cli, db_path):
-    r = cli("stock", "import", str(SAMPLE), db=db_path)
-    assert r.returncode == 0, r.stderr
-    return db_path
 
 
 def _refused(cli, db, *args):

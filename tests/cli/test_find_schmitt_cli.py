@@ -11,16 +11,8 @@ import shutil
 
 import pytest
 
-from conftest import SAMPLE
 
 HC_VTM, HC_HYST = 0.356, 0.200   # 74HC-type typicals as fractions of VDD (from memory, see module)
-
-
-@pytest.fixture
-def stocked(cli, db_path):
-    r = cli("stock", "import", str(SAMPLE), db=db_path)
-    assert r.returncode == 0, r.stderr
-    return db_path
 
 
 def _find(cli, db, *extra):

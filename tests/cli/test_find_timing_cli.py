@@ -8,7 +8,7 @@ import math
 import pytest
 import sqlalchemy as sa
 
-from conftest import SAMPLE, url_of
+from conftest import url_of
 
 LN2, LN3 = math.log(2.0), math.log(3.0)
 
@@ -20,13 +20,6 @@ ADDED_OPTION_KEYS = {"errors", "why", "alternatives", "yield_parts_only"}  # iss
 ADDED_TOP_KEYS = {"search", "within_acceptance", "suggest_buy"}
 PARAM_KEYS = {"chip", "vcc", "diode_vf", "boards", "max_parts", "accept", "distribution", "seed",
               "connection", "top"}
-
-
-@pytest.fixture
-def stocked(cli, db_path):
-    r = cli("stock", "import", str(SAMPLE), db=db_path)
-    assert r.returncode == 0, r.stderr
-    return db_path
 
 
 def _json(cli, db, *args):

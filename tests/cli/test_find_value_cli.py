@@ -6,27 +6,9 @@ import json
 
 import pytest
 
-from conftest import SAMPLE, url_of
+from conftest import SAMPLE, stock_lines, url_of
 
 SERIES_LIKE = {"series", "series3", "series+parallel"}  # shapes where every part is in a series joint
-
-
-@pytest.fixture
-def stocked(cli, db_path):
-    r = cli("stock", "import", str(SAMPLE), db=db_path)
-    assert r.returncode == 0, r.stderr
-    return db_path
-
-
-def _lines(db_path):
-    from selector.store.db import load_stock, open_engine, transaction
-
-    engine = open_engine(url_of(db_path))
-    try:
-        with transaction(engine) as s:
-            return {ln.id: ln for ln in load_stock(s)}
-    finally:
-        engine.dispose()
 
 
 def _searches(db_path):
@@ -72,7 +54,7 @@ def test_json_shape_and_meaning(cli, stocked):
     assert data["target"] == pytest.approx(5100.0)
     opts = data["options"]
     assert [o["rank"] for o in opts] == list(range(1, len(opts) + 1)) and len(opts) == 6
-    lines = _lines(stocked)
+    lines = stock_lines(stocked)
     for o in opts:
         assert {"rank", "value", "error", "min", "max", "shape", "parts"} <= set(o) <= {
             "rank", "value", "error", "min", "max", "shape", "parts", "yield", "why"}
@@ -90,7 +72,7 @@ def test_json_shape_and_meaning(cli, stocked):
 
 
 def test_kind_from_unit_and_default_resistor(cli, stocked):
-    lines = _lines(stocked)
+    lines = stock_lines(stocked)
     for text, kind in (("150nF", "capacitor"), ("2u2", "capacitor"), ("33p", "capacitor"),
                        ("47k", "resistor"), ("4700", "resistor"), ("4k7", "resistor")):
         data = _json(cli, stocked, text, "--top", "3")
@@ -123,7 +105,7 @@ def test_far_target_says_so_and_still_shows_the_nearest(cli, stocked):
 
 
 def test_boards_multiply_the_quantity_rule(cli, stocked):
-    lines = _lines(stocked)
+    lines = stock_lines(stocked)
     for boards in (1, 12, 30):
         data = _json(cli, stocked, "6k", "--max-parts", "3", "--boards", str(boards), "--top", "15")
         assert data["options"]
@@ -133,7 +115,7 @@ def test_boards_multiply_the_quantity_rule(cli, stocked):
 
 
 def test_polarized_series_excluded_unless_allowed(cli, stocked):
-    lines = _lines(stocked)
+    lines = stock_lines(stocked)
 
     def polarized_series(o):
         return o["shape"] in SERIES_LIKE and any(lines[p["line_id"]].polarized for p in o["parts"])

@@ -11,25 +11,7 @@ import json
 
 import pytest
 
-from conftest import SAMPLE, url_of
-
-
-@pytest.fixture
-def stocked(cli, db_path):
-    r = cli("stock", "import", str(SAMPLE), db=db_path)
-    assert r.returncode == 0, r.stderr
-    return db_path
-
-
-def _lines(db_path):
-    from selector.store.db import load_stock, open_engine, transaction
-
-    engine = open_engine(url_of(db_path))
-    try:
-        with transaction(engine) as s:
-            return {ln.id: ln for ln in load_stock(s)}
-    finally:
-        engine.dispose()
+from conftest import stock_lines
 
 
 def _json(cli, db, *args):
@@ -78,7 +60,7 @@ def test_ranking_laws_on_the_json(cli, stocked):
 
 
 def test_filters(cli, stocked):
-    lines = _lines(stocked)
+    lines = stock_lines(stocked)
     doc = _json(cli, stocked, "4k7", "--tolerance", "1%", "--top", "5")
     assert doc["options"]
     assert all(max(lines[p["line_id"]].tol_minus, lines[p["line_id"]].tol_plus) <= 0.01 + 1e-12
@@ -118,7 +100,7 @@ def test_one_row_per_build(cli, stocked):
     """Issue 11: `find value 0.33uF --max-parts 3` showed one network (1 µF + 1 µF + 1 µF) five
     times from different drawers. Now each build (shape + part values) is one row; its other
     drawers are alternatives."""
-    lines = _lines(stocked)
+    lines = stock_lines(stocked)
     doc = _json(cli, stocked, "0.33uF", "--max-parts", "3", "--top", "8")
     builds = [(o["shape"], round(o["value"], 15),
                tuple(sorted(p["value"] for p in o["parts"] for _ in range(p["count"]))))

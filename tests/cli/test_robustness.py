@@ -144,13 +144,6 @@ def _hold(db: Path, seconds: float) -> subprocess.Popen:
     return proc
 
 
-@pytest.fixture
-def stocked(cli, db_path):
-    result = cli("stock", "import", str(SAMPLE), db=db_path)
-    assert result.returncode == 0, result.stderr
-    return db_path
-
-
 @sqlite_only
 def test_busy_for_two_seconds_waits_then_succeeds(cli, stocked):
     before = dict((r[0], r[5]) for r in _snapshot(stocked)["lines"])

@@ -23,30 +23,14 @@ scipy_optimize = pytest.importorskip("scipy.optimize")
 from selector.core import timing as T  # noqa: E402
 from selector.core.parts import THERMAL_V  # noqa: E402
 
+import reference_diode  # noqa: E402
+
 C = 10e-9
 
 
 def ode_t_high(ra, rb, vcc, vf, n):
-    """t_high by scipy: integrate dVc/dt until Vc reaches 2VCC/3 (event), brentq for the diode."""
-    nvt = n * THERMAL_V
-    isat = 1e-3 / math.expm1(vf / nvt)
-
-    def current(vc):
-        a = vcc - vc
-        g = lambda v: (a - v) / ra - isat * math.expm1(v / nvt) - v / rb  # noqa: E731
-        v = scipy_optimize.brentq(g, 0.0, a, xtol=1e-15, rtol=1e-14)
-        return (a - v) / ra
-
-    def rhs(_t, y):
-        return [current(y[0]) / C]
-
-    def reached(_t, y):
-        return y[0] - 2.0 * vcc / 3.0
-    reached.terminal = True
-    span = 50.0 * (ra + rb) * C
-    sol = scipy_integrate.solve_ivp(rhs, (0.0, span), [vcc / 3.0], method="DOP853", events=reached,
-                                    rtol=1e-11, atol=1e-12 * vcc)
-    return float(sol.t_events[0][0])
+    """t_high by scipy at this module's C (tests/reference_diode.py)."""
+    return reference_diode.ode_t_high(ra, rb, vcc, vf, n, C)
 
 
 GRID = [(vcc, ratio, i_ma) for vcc in (5.0, 9.0, 12.0, 15.0) for ratio in (0.3, 1.0, 3.0)

@@ -51,6 +51,23 @@ def _err(v: float, t: float) -> float:
     return abs(math.log(v / t))
 
 
+def check_nearest_few(index, ref, targets, k):
+    """``index.nearest_few(targets, k)`` against the exhaustive list ``ref``: per target the same
+    k smallest |ln(value/target)| (ties may swap networks, not errors), padded with -1 at the end."""
+    got = index.nearest_few(targets, k)
+    assert got.shape == (len(targets), k)
+    for t, row in zip(targets, got):
+        want = sorted((_err(r.value, t), len(r.physical)) for r in ref)[:k]
+        ids = row[row >= 0]
+        assert np.all(row[len(ids):] == -1)  # padding only at the end
+        assert len(ids) == len(want)
+        errs = [_err(v, t) for v in index.values(ids)]
+        # the same error sequence as the exhaustive ranking (ties may swap networks, not errors)
+        assert errs == pytest.approx([w[0] for w in want], rel=1e-9, abs=1e-12)
+        assert errs == sorted(errs) or np.allclose(errs, sorted(errs), rtol=1e-9, atol=1e-12)
+    return got
+
+
 @seed(20261202)
 @SETTINGS
 @given(stocks())
@@ -92,17 +109,7 @@ def test_nearest_few_matches_exhaustive_ranking(case, raw_targets, k):
     targets = np.array(raw_targets) * scale
     index = build_index(lines, max_parts=max_parts, boards=boards, allow_polarized_series=allow)
     ref = enumerate_all(lines, max_parts, boards, allow_polarized_series=allow)
-    got = index.nearest_few(targets, k)
-    assert got.shape == (len(targets), k)
-    for t, row in zip(targets, got):
-        want = sorted((_err(r.value, t), len(r.physical)) for r in ref)[:k]
-        ids = row[row >= 0]
-        assert np.all(row[len(ids):] == -1)  # padding only at the end
-        assert len(ids) == len(want)
-        errs = [_err(v, t) for v in index.values(ids)]
-        # the same error sequence as the exhaustive ranking (ties may swap networks, not errors)
-        assert errs == pytest.approx([w[0] for w in want], rel=1e-9, abs=1e-12)
-        assert errs == sorted(errs) or np.allclose(errs, sorted(errs), rtol=1e-9, atol=1e-12)
+    check_nearest_few(index, ref, targets, k)
 
 
 @seed(20261204)

@@ -15,7 +15,7 @@ from hypothesis import strategies as st
 from selector.core.networks import build_index
 from selector.core.types import StockLine
 from reference_networks import enumerate_all, network_key, token_ok
-from test_networks_exact import SETTINGS, stocks
+from test_networks_exact import SETTINGS, check_nearest_few, stocks
 
 
 def _index(lines, max_parts, boards, allow, kind):
@@ -51,12 +51,9 @@ def test_nearest_few_and_sides_match_the_reference_with_the_rule(case, raw_targe
     targets = np.array(raw_targets) * scale
     ref = enumerate_all(lines, max_parts, boards, allow_polarized_series=allow, kind=kind, all_networks=False)
     ix = _index(lines, max_parts, boards, allow, kind)
-    got = ix.nearest_few(targets, k)
+    check_nearest_few(ix, ref, targets, k)
     below, above = ix.nearest_sides(targets, k)
     for row, t in enumerate(targets):
-        want = sorted(abs(math.log(n.value / t)) for n in ref)[:k]
-        have = [abs(math.log(ix.values(np.array([i]))[0] / t)) for i in got[row] if i >= 0]
-        assert np.allclose(have, want, rtol=1e-9, atol=1e-12)
         want_b = sorted((t - n.value for n in ref if n.value <= t))[:k]
         have_b = [t - ix.values(np.array([i]))[0] for i in below[row] if i >= 0]
         assert np.allclose(have_b, want_b, rtol=1e-9, atol=1e-21)

@@ -326,34 +326,11 @@ _SETTINGS = dict(max_examples=60, deadline=None, derandomize=True,
                  suppress_health_check=[HealthCheck.too_slow, HealthCheck.data_too_large])
 
 
+@pytest.mark.parametrize("connection", ["standard", "diode", "output-fed", "monostable", "rc"])
 @settings(**_SETTINGS)
-@given(cases("standard"))
-def test_standard_astable_matches_exhaustive(case):
-    _check(case, "standard")
-
-
-@settings(**_SETTINGS)
-@given(cases("diode"))
-def test_diode_astable_matches_exhaustive(case):
-    _check(case, "diode")
-
-
-@settings(**_SETTINGS)
-@given(cases("output-fed"))
-def test_output_fed_astable_matches_exhaustive(case):
-    _check(case, "output-fed")
-
-
-@settings(**_SETTINGS)
-@given(cases("monostable"))
-def test_monostable_matches_exhaustive(case):
-    _check(case, "monostable")
-
-
-@settings(**_SETTINGS)
-@given(cases("rc"))
-def test_rc_matches_exhaustive(case):
-    _check(case, "rc")
+@given(data=st.data())
+def test_search_matches_exhaustive(connection, data):
+    _check(data.draw(cases(connection)), connection)
 
 
 def test_reference_enumerator_hand_checks():
