@@ -372,7 +372,7 @@ def reach_lines(report) -> list[str]:
     if report.within_acceptance or not ranked:
         return []
     closest = min(ranked, key=lambda o: o.asked_error)
-    out = [f"Nothing in stock within ±{report.request.accept * 100:g} %; closest {errors_text(closest)} "
+    out = [f"Nothing in stock within {_accept_text(report.request.accept)}; closest {errors_text(closest)} "
            f"(option {closest.rank})."]
     suggestions = report.suggestions
     if suggestions:
@@ -423,7 +423,7 @@ def assumptions(report, width: int = 80) -> str:
     long = f"{dev}; yield = builds within {_accept_text(req.accept)} ({what})."
     if len(long) <= width:
         return long
-    return f"{dev}; yield ±{req.accept * 100:g} % ({', '.join(['parts'] + spread)})."
+    return f"{dev}; yield {_accept_text(req.accept)} ({', '.join(['parts'] + spread)})."
 
 
 def _caution_keys(report) -> list[str]:
