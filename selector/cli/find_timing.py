@@ -78,7 +78,7 @@ def _circuit_options(connection: str, given: dict) -> dict:
 
 def _with_circuit_options(fn):
     """Give a command every option the astable circuit kinds declare (``CliOption``), in place
-    of its ``**circuit`` parameter; typer reads the signature."""
+    of its ``**`` parameter (which receives them); typer reads the signature."""
     sig = inspect.signature(fn)
     params = [p for p in sig.parameters.values() if p.kind is not inspect.Parameter.VAR_KEYWORD]
     seen = set()
@@ -100,17 +100,22 @@ def _with_circuit_options(fn):
     return fn
 
 
-def _run(ctx: typer.Context, as_json: bool, explain: bool = False, **fields) -> None:
+def _run(ctx: typer.Context, search: dict, vcc_tol: Optional[str], **fields) -> None:
     from selector.core.notation import VOLT
     from selector.render.timing import LazyProgress, print_report
     from selector.services.find_timing import TimingRequest, find_timing
     from selector.store.db import open_engine, resolve_url
 
+    if vcc_tol is not None:
+        fields.setdefault("options", {})["vcc_tol"] = _fraction(vcc_tol, "--vcc-tol")
     vcc = _value(fields.pop("vcc_text"), VOLT, "--vcc")
     vf_text = fields.pop("vf_text", None)
     vf = _value(vf_text, VOLT, "--diode-vf") if vf_text is not None else None
-    accept = _fraction(fields.pop("accept_text"), "--accept")
-    req = TimingRequest(vcc=vcc, diode_vf=vf, accept=accept, **fields)
+    search = dict(search)
+    as_json, explain = search.pop("as_json"), search.pop("explain")
+    accept = _fraction(search.pop("accept"), "--accept")
+    search["distribution"] = search["distribution"].value
+    req = TimingRequest(vcc=vcc, diode_vf=vf, accept=accept, **search, **fields)
     req.check()  # before the database is opened: a bad option changes nothing
     engine = open_engine(resolve_url(db_arg(ctx)))
     progress = LazyProgress()
@@ -154,17 +159,7 @@ def astable(
     diode_vf: Optional[str] = typer.Option(None, "--diode-vf", metavar="V", help=f"Forward drop of the steering diode at 1 mA (default {DIODE_VF_DEFAULT:g} V, small-signal silicon)."),
     diode_n: Optional[str] = typer.Option(None, "--diode-n", metavar="N", help=f"Ideality factor of the steering diode (default {DIODE_N_DEFAULT:g}; about 1.05 for a Schottky)."),
     diode_type: Optional[DiodeChoice] = typer.Option(None, "--diode", help="Steering diode type: sets --diode-vf and --diode-n unless they are given."),
-    max_parts: int = typer.Option(2, "--max-parts", parser=whole("--max-parts", 1, 3), metavar="N", help=_COMMON_HELP["max_parts"]),
-    top: int = typer.Option(10, "--top", parser=whole("--top", 1, MAX_TOP), metavar="K", help=_COMMON_HELP["top"]),
-    boards: int = typer.Option(1, "--boards", parser=whole("--boards", 1, MAX_BOARDS), metavar="B", help=_COMMON_HELP["boards"]),
-    accept: str = typer.Option("5%", "--accept", metavar="PCT", help=_COMMON_HELP["accept"]),
-    distribution: DistributionChoice = typer.Option(DistributionChoice.uniform, "--distribution", help=_COMMON_HELP["distribution"]),
-    seed: int = typer.Option(0, "--seed", parser=whole("--seed", 0, MAX_SEED), metavar="N", help=_COMMON_HELP["seed"]),
-    samples: int = typer.Option(10_000, "--samples", parser=whole("--samples", 1, MAX_SAMPLES), metavar="N", help=_COMMON_HELP["samples"]),
-    all_networks: bool = typer.Option(False, "--all-networks", help=_COMMON_HELP["all_networks"]),
-    as_json: bool = typer.Option(False, "--json", help=_COMMON_HELP["json"]),
-    explain: bool = typer.Option(False, "--explain", help=_COMMON_HELP["explain"]),
-    **circuit,
+    **more,
 ) -> None:
     """Find RA, RB and C networks in stock for an astable (free-running) 555 at a frequency and duty."""
     from selector.cli._common import fail
@@ -173,7 +168,8 @@ def astable(
     if duty is None and not (kind is not None and kind.duty_fixed):
         fail(f"--duty is required for --connection {connection.value} (only a circuit that fixes its "
              "own duty can do without)", 2)
-    options = _circuit_options(connection.value, circuit)
+    search = _search_values(more)
+    options = _circuit_options(connection.value, more)
     if diode_type is not None:
         vf_typ, n_typ = DIODE_TYPES[diode_type.value]
         diode_vf = f"{vf_typ:g}V" if diode_vf is None else diode_vf
@@ -183,13 +179,9 @@ def astable(
             options["diode_n"] = float(str(diode_n).strip())
         except ValueError:
             fail(f"--diode-n {diode_n!r}: expected a number such as 1.9 (the diode's ideality factor)", 2)
-    if vcc_tol is not None:
-        options["vcc_tol"] = _fraction(vcc_tol, "--vcc-tol")
-    _run(ctx, as_json, explain, mode="astable", freq_hz=_value(freq, "Hz", "--freq"),
+    _run(ctx, search, vcc_tol, mode="astable", freq_hz=_value(freq, "Hz", "--freq"),
          duty=_fraction(duty, "--duty") if duty is not None else None,
-         connection=connection.value, chip=chip.value, vcc_text=vcc, vf_text=diode_vf,
-         max_parts=max_parts, top=top, boards=boards, accept_text=accept, all_networks=all_networks,
-         distribution=distribution.value, seed=seed, samples=samples, options=options)
+         connection=connection.value, chip=chip.value, vcc_text=vcc, vf_text=diode_vf, options=options)
 
 
 def monostable(
@@ -198,53 +190,65 @@ def monostable(
     chip: ChipChoice = typer.Option(ChipChoice.bipolar, "--chip", help=_COMMON_HELP["chip"]),
     vcc: str = typer.Option("9V", "--vcc", metavar="V", help=_COMMON_HELP["vcc"]),
     vcc_tol: Optional[str] = typer.Option(None, "--vcc-tol", metavar="PCT", help=_COMMON_HELP["vcc_tol"]),
-    max_parts: int = typer.Option(2, "--max-parts", parser=whole("--max-parts", 1, 3), metavar="N", help=_COMMON_HELP["max_parts"]),
-    top: int = typer.Option(10, "--top", parser=whole("--top", 1, MAX_TOP), metavar="K", help=_COMMON_HELP["top"]),
-    boards: int = typer.Option(1, "--boards", parser=whole("--boards", 1, MAX_BOARDS), metavar="B", help=_COMMON_HELP["boards"]),
-    accept: str = typer.Option("5%", "--accept", metavar="PCT", help=_COMMON_HELP["accept"]),
-    distribution: DistributionChoice = typer.Option(DistributionChoice.uniform, "--distribution", help=_COMMON_HELP["distribution"]),
-    seed: int = typer.Option(0, "--seed", parser=whole("--seed", 0, MAX_SEED), metavar="N", help=_COMMON_HELP["seed"]),
-    samples: int = typer.Option(10_000, "--samples", parser=whole("--samples", 1, MAX_SAMPLES), metavar="N", help=_COMMON_HELP["samples"]),
-    all_networks: bool = typer.Option(False, "--all-networks", help=_COMMON_HELP["all_networks"]),
-    as_json: bool = typer.Option(False, "--json", help=_COMMON_HELP["json"]),
-    explain: bool = typer.Option(False, "--explain", help=_COMMON_HELP["explain"]),
+    **search,
 ) -> None:
     """Find R and C networks in stock for a monostable (one-shot) 555 pulse width."""
-    options = {"vcc_tol": _fraction(vcc_tol, "--vcc-tol")} if vcc_tol is not None else {}
-    _run(ctx, as_json, explain, mode="monostable", width_s=_value(width, "s", "--width"), chip=chip.value,
-         vcc_text=vcc, max_parts=max_parts, top=top, boards=boards, accept_text=accept,
-         distribution=distribution.value, seed=seed, samples=samples, options=options)
+    search.pop("all_networks")  # not passed on for this circuit (as before; see the review report)
+    _run(ctx, search, vcc_tol, mode="monostable", width_s=_value(width, "s", "--width"), chip=chip.value,
+         vcc_text=vcc)
+
 
 def rc(
     ctx: typer.Context,
     tau: Optional[str] = typer.Option(None, "--tau", metavar="T", help="Time constant R·C, e.g. 10ms."),
     corner: Optional[str] = typer.Option(None, "--corner", metavar="F", help="Corner frequency 1/(2π·R·C), e.g. 1kHz."),
     vcc: str = typer.Option("9V", "--vcc", metavar="V", help="Working voltage across the parts (for their ratings)."),
-    max_parts: int = typer.Option(2, "--max-parts", parser=whole("--max-parts", 1, 3), metavar="N", help=_COMMON_HELP["max_parts"]),
-    top: int = typer.Option(10, "--top", parser=whole("--top", 1, MAX_TOP), metavar="K", help=_COMMON_HELP["top"]),
-    boards: int = typer.Option(1, "--boards", parser=whole("--boards", 1, MAX_BOARDS), metavar="B", help=_COMMON_HELP["boards"]),
-    accept: str = typer.Option("5%", "--accept", metavar="PCT", help=_COMMON_HELP["accept"]),
-    distribution: DistributionChoice = typer.Option(DistributionChoice.uniform, "--distribution", help=_COMMON_HELP["distribution"]),
-    seed: int = typer.Option(0, "--seed", parser=whole("--seed", 0, MAX_SEED), metavar="N", help=_COMMON_HELP["seed"]),
-    samples: int = typer.Option(10_000, "--samples", parser=whole("--samples", 1, MAX_SAMPLES), metavar="N", help=_COMMON_HELP["samples"]),
-    all_networks: bool = typer.Option(False, "--all-networks", help=_COMMON_HELP["all_networks"]),
-    as_json: bool = typer.Option(False, "--json", help=_COMMON_HELP["json"]),
-    explain: bool = typer.Option(False, "--explain", help=_COMMON_HELP["explain"]),
+    **search,
 ) -> None:
     """Find R and C networks in stock for an RC time constant or corner frequency (give one)."""
     if (tau is None) == (corner is None):
         typer.echo("Error: give exactly one of --tau or --corner", err=True)
         raise typer.Exit(2)
-    _run(ctx, as_json, explain, mode="rc",
+    search.pop("all_networks")  # not passed on for this circuit (as before; see the review report)
+    _run(ctx, search, None, mode="rc",
          tau_s=_value(tau, "s", "--tau") if tau is not None else None,
          corner_hz=_value(corner, "Hz", "--corner") if corner is not None else None,
-         vcc_text=vcc, max_parts=max_parts, top=top, boards=boards, accept_text=accept,
-         distribution=distribution.value, seed=seed, samples=samples)
+         vcc_text=vcc)
+
+
+_SEARCH_OPTIONS = (  # (field, annotation, option): every timing search's options, in help order
+    ("max_parts", int, typer.Option(2, "--max-parts", parser=whole("--max-parts", 1, 3), metavar="N", help=_COMMON_HELP["max_parts"])),
+    ("top", int, typer.Option(10, "--top", parser=whole("--top", 1, MAX_TOP), metavar="K", help=_COMMON_HELP["top"])),
+    ("boards", int, typer.Option(1, "--boards", parser=whole("--boards", 1, MAX_BOARDS), metavar="B", help=_COMMON_HELP["boards"])),
+    ("accept", str, typer.Option("5%", "--accept", metavar="PCT", help=_COMMON_HELP["accept"])),
+    ("distribution", DistributionChoice, typer.Option(DistributionChoice.uniform, "--distribution", help=_COMMON_HELP["distribution"])),
+    ("seed", int, typer.Option(0, "--seed", parser=whole("--seed", 0, MAX_SEED), metavar="N", help=_COMMON_HELP["seed"])),
+    ("samples", int, typer.Option(10_000, "--samples", parser=whole("--samples", 1, MAX_SAMPLES), metavar="N", help=_COMMON_HELP["samples"])),
+    ("all_networks", bool, typer.Option(False, "--all-networks", help=_COMMON_HELP["all_networks"])),
+    ("as_json", bool, typer.Option(False, "--json", help=_COMMON_HELP["json"])),
+    ("explain", bool, typer.Option(False, "--explain", help=_COMMON_HELP["explain"])),
+)
+
+
+def _search_values(given: dict) -> dict:
+    """The shared search options out of a command's ``**`` parameters (the rest stay)."""
+    return {name: given.pop(name) for name, _, _ in _SEARCH_OPTIONS}
+
+
+def _with_search_options(fn):
+    """Give a command the options every timing search shares (``_SEARCH_OPTIONS``) after its own,
+    in place of its ``**`` parameter, which receives them; typer reads the signature."""
+    sig = inspect.signature(fn)
+    own = [p for p in sig.parameters.values() if p.kind is not inspect.Parameter.VAR_KEYWORD]
+    shared = [inspect.Parameter(name, inspect.Parameter.KEYWORD_ONLY, default=option, annotation=annotation)
+              for name, annotation, option in _SEARCH_OPTIONS]
+    fn.__signature__ = sig.replace(parameters=own + shared)
+    return fn
 
 
 def register(find_app: typer.Typer) -> None:
     """Attach this module's commands to the find group (astable with every circuit kind's own
     options added from the registry)."""
-    find_app.command("astable")(handles_errors(_with_circuit_options(astable)))
-    find_app.command("monostable")(handles_errors(monostable))
-    find_app.command("rc")(handles_errors(rc))
+    find_app.command("astable")(handles_errors(_with_circuit_options(_with_search_options(astable))))
+    find_app.command("monostable")(handles_errors(_with_search_options(monostable)))
+    find_app.command("rc")(handles_errors(_with_search_options(rc)))

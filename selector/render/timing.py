@@ -241,7 +241,7 @@ def title_of(mode: str, t: Mapping[str, Any], search_id: Optional[int]) -> str:
 
 def _rows(report):
     """(option JSON, ranked option or None) pairs, in rank order."""
-    ranked = list(getattr(report, "ranked", []) or [])
+    ranked = report.ranked
     out = []
     for i, opt in enumerate(report.options):
         out.append((opt, ranked[i] if i < len(ranked) else None))
@@ -251,7 +251,7 @@ def _rows(report):
 def _mark(opt: Mapping[str, Any], ranked_option) -> str:
     best = opt.get("is_best_error")
     if best is None and ranked_option is not None:
-        best = getattr(ranked_option, "is_best_error", False)
+        best = ranked_option.is_best_error
     return "*" if best else ""
 
 
@@ -368,13 +368,13 @@ def reach_lines(report) -> list[str]:
     """When no option is nominally within the acceptance (``report.within_acceptance`` False):
     one line saying so with the closest error, and one line of parts to buy that would reach it
     (``report.suggestions``), or that no single preferred value would."""
-    ranked = list(getattr(report, "ranked", []) or [])
-    if getattr(report, "within_acceptance", True) or not ranked:
+    ranked = report.ranked
+    if report.within_acceptance or not ranked:
         return []
-    closest = min(ranked, key=lambda o: getattr(o, "asked_error", abs(o.error)))
-    out = [f"Nothing in stock within ±{report.request.accept * 100:g} %; closest {errors_text(closest)} "
+    closest = min(ranked, key=lambda o: o.asked_error)
+    out = [f"Nothing in stock within {_accept_text(report.request.accept)}; closest {errors_text(closest)} "
            f"(option {closest.rank})."]
-    suggestions = list(getattr(report, "suggestions", []) or [])
+    suggestions = report.suggestions
     if suggestions:
         unit = {"resistor": "Ω", "capacitor": "F"}
         bits = [f"{s.role} {_fmt(s.value, unit[s.kind])} ({s.series}, instead of "
@@ -423,7 +423,7 @@ def assumptions(report, width: int = 80) -> str:
     long = f"{dev}; yield = builds within {_accept_text(req.accept)} ({what})."
     if len(long) <= width:
         return long
-    return f"{dev}; yield ±{req.accept * 100:g} % ({', '.join(['parts'] + spread)})."
+    return f"{dev}; yield {_accept_text(req.accept)} ({', '.join(['parts'] + spread)})."
 
 
 def _caution_keys(report) -> list[str]:
@@ -533,7 +533,7 @@ def explain_lines(report, width: int) -> list[str]:
     else:
         paras.append(f"Ratings checked at {req.vcc:g} V across the parts (resistor power ≤ 50 % of "
                      "rating, capacitor rating × derating ≥ the voltage).")
-    if getattr(report, "leakage_excluded", 0):
+    if report.leakage_excluded:
         paras.append(LEAKAGE_TEXT.format(n=report.leakage_excluded))
     paras.append(ranking.RANKING_RULE)
     for k in _caution_keys(report):
@@ -557,7 +557,7 @@ def print_report(report, console: Optional[Console] = None, explain: bool = Fals
     lines: list = []
     for line in reach_lines(report):
         lines += paragraph(printable(line), width)
-    if getattr(report, "leakage_excluded", 0) and not explain:
+    if report.leakage_excluded and not explain:
         lines += paragraph(LEAKAGE_SHORT.format(n=report.leakage_excluded), width)
     lines += option_lines(report, width)
     lines += explain_lines(report, width) if explain else footer_lines(report, width)
