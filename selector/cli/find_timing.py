@@ -9,7 +9,7 @@ from typing import Optional
 
 import typer
 
-from selector.cli._common import db_arg, handles_errors, json_text, whole
+from selector.cli._common import db_arg, fail, handles_errors, json_text, whole
 from selector.core import chips, circuits  # the family table and the registry: light, no numpy
 from selector.core.limits import MAX_BOARDS, MAX_SAMPLES, MAX_SEED, MAX_TOP
 from selector.core.parts import DIODE_N_DEFAULT, DIODE_TYPES, DIODE_VF_DEFAULT
@@ -59,7 +59,6 @@ def _fraction(text: str, option: str) -> float:
 def _circuit_options(connection: str, given: dict) -> dict:
     """Parse the circuit options given on the command line; an option of another circuit kind
     than the one searched is a usage error (exit 2)."""
-    from selector.cli._common import fail
 
     kind = circuits.REGISTRY.get(connection)
     own = {o.field for o in kind.options} if kind is not None else set()
@@ -162,7 +161,6 @@ def astable(
     **more,
 ) -> None:
     """Find RA, RB and C networks in stock for an astable (free-running) 555 at a frequency and duty."""
-    from selector.cli._common import fail
 
     kind = circuits.REGISTRY.get(connection.value)
     if duty is None and not (kind is not None and kind.duty_fixed):
@@ -193,7 +191,6 @@ def monostable(
     **search,
 ) -> None:
     """Find R and C networks in stock for a monostable (one-shot) 555 pulse width."""
-    search.pop("all_networks")  # not passed on for this circuit (as before; see the review report)
     _run(ctx, search, vcc_tol, mode="monostable", width_s=_value(width, "s", "--width"), chip=chip.value,
          vcc_text=vcc)
 
@@ -207,9 +204,7 @@ def rc(
 ) -> None:
     """Find R and C networks in stock for an RC time constant or corner frequency (give one)."""
     if (tau is None) == (corner is None):
-        typer.echo("Error: give exactly one of --tau or --corner", err=True)
-        raise typer.Exit(2)
-    search.pop("all_networks")  # not passed on for this circuit (as before; see the review report)
+        fail("give exactly one of --tau or --corner", 2)
     _run(ctx, search, None, mode="rc",
          tau_s=_value(tau, "s", "--tau") if tau is not None else None,
          corner_hz=_value(corner, "Hz", "--corner") if corner is not None else None,

@@ -164,3 +164,26 @@ def test_help_lists_the_timing_commands(cli):
     assert r.returncode == 0
     for name in ("astable", "monostable", "rc"):
         assert name in r.stdout
+
+
+@pytest.mark.parametrize("command", [("monostable", "--width"), ("rc", "--tau")])
+def test_all_networks_reaches_the_monostable_and_rc_searches(cli, db_path, tmp_path, command):
+    """47 Ω + 39 kΩ (5 %) with one 1 µF film capacitor: the 47 Ω share, 0.12 %, is below half the
+    tolerance (2.5 %; README "No token parts"), so by default the closest R is the 39 kΩ alone;
+    with --all-networks the exact 39.047 kΩ series pair is searched too. Targets by hand:
+    monostable width = ln3·R·C (555 data sheet), RC τ = R·C."""
+    csv = tmp_path / "token.csv"
+    csv.write_text("kind,value,tolerance,quantity,location,dielectric\n"
+                   "R,47,5%,5,A1,\nR,39k,5%,5,A1,\nC,1u,5%,5,D1,film-PP\n", encoding="utf-8")
+    assert cli("stock", "import", str(csv), db=db_path).returncode == 0
+    mode, option = command
+    r_exact = 39_047.0
+    target = (math.log(3.0) if mode == "monostable" else 1.0) * r_exact * 1e-6
+    shapes = {}
+    for extra in ((), ("--all-networks",)):
+        r = cli("find", mode, option, f"{target!r}s", "--json", *extra, db=db_path)
+        assert r.returncode == 0, r.stderr
+        (closest,) = [o for o in json.loads(r.stdout)["options"] if o["why"] == "closest"]
+        shapes[extra] = sorted(p["value"] for p in closest["networks"]["R"]["parts"])
+    assert shapes[()] == [39e3]
+    assert shapes[("--all-networks",)] == [47.0, 39e3]
