@@ -296,3 +296,12 @@ def test_export_to_an_impossible_place_is_one_line(cli, db_path, tmp_path):
     assert r.returncode == 1
     assert r.stderr.strip() == f"Error: cannot write {target}: No such file or directory"
     assert not target.parent.exists()
+
+
+def test_help_shows_no_type_label_beside_flags(cli_process):
+    # typer 0.29 prints "<bool>" beside every on/off flag, which reads as if the flag took a value;
+    # pyproject pins typer below 0.29 for that reason (a real process: the help formatter is typer's).
+    r = cli_process("stock", "list", "--help", env={"COLUMNS": "80"})
+    assert r.returncode == 0
+    assert "--json" in r.stdout
+    assert "<bool>" not in r.stdout
