@@ -28,7 +28,7 @@ from selector.core.errors import (
 from selector.core.limits import MAX_QUANTITY
 from selector.core.notation import quoted
 from selector.core.parts import default_tolerance, is_polarized, normalize_dielectric
-from selector.core.types import VALUELESS_KINDS, StockLine
+from selector.core.types import NETWORK_KINDS, VALUELESS_KINDS, StockLine
 
 _KIND_WORDS = {"resistor": "resistor", "r": "resistor", "capacitor": "capacitor", "c": "capacitor",
                "trimmer": "trimmer", "potentiometer": "trimmer", "pot": "trimmer", "ic": "ic", "diode": "diode"}
@@ -517,6 +517,15 @@ def import_stock(engine, path: str | Path, *, replace: bool = False, dry_run: bo
 
 # --------------------------------------------------------------------------- kits
 
+def check_kit_kind(kind: str) -> str:
+    """``kind`` when a kit can hold it; kits are E-series assortments, so trimmers, ICs and diodes
+    are refused (UnparseableValue naming the way to add them)."""
+    if kind not in NETWORK_KINDS:
+        raise UnparseableValue(f"--kind {kind}: a kit is an E-series assortment of resistors or capacitors; "
+                               f"add {kind} lines with `selector stock import FILE`")
+    return kind
+
+
 def kit_rows(series: str, kind: str, low: float, high: float, quantity: int, location: str, *,
              tolerance: Optional[tuple[float, float]] = None, dielectric: str = "",
              rating: Optional[float] = None, package: str = "", note: str = "") -> list[ImportRow]:
@@ -534,7 +543,7 @@ def kit_rows(series: str, kind: str, low: float, high: float, quantity: int, loc
     check_text(note, lines.c.note, "note")
     if not 0 <= quantity <= MAX_QUANTITY:
         raise UnparseableValue(f"--qty {quantity}: expected 0 to {MAX_QUANTITY} parts of each value")
-    kind = parse_kind(kind)
+    kind = check_kit_kind(parse_kind(kind))
     dielectric = normalize_dielectric(dielectric)
     if kind == "resistor" and dielectric:
         raise UnparseableValue(f'"{dielectric}": a resistor has no dielectric')
@@ -578,13 +587,19 @@ class StockFilter:
     location: Optional[str] = None
     min_value: Optional[float] = None
     max_value: Optional[float] = None
+    low: bool = False  # only lines at or below their reorder level
 
 
 def filter_lines(lines: Iterable[StockLine], f: StockFilter) -> list[StockLine]:
-    """Pure: the lines passing the filter (location compared without regard to case)."""
+    """Pure: the lines passing the filter (location compared without regard to case). A value
+    bound leaves out ICs and diodes, which have no value."""
     out = []
     for ln in lines:
         if f.kind and ln.kind != f.kind:
+            continue
+        if f.low and not ln.low:
+            continue
+        if (f.min_value is not None or f.max_value is not None) and ln.kind in VALUELESS_KINDS:
             continue
         if f.location is not None and ln.location.casefold() != f.location.strip().casefold():
             continue
@@ -604,11 +619,13 @@ def list_stock(engine, f: StockFilter = StockFilter()) -> list[StockLine]:
 
 
 def stock_json(lines: Iterable[StockLine]) -> list[dict]:
-    """The ``stock list --json`` records (SI values, tolerances as positive fractions)."""
+    """The ``stock list --json`` records (SI values, tolerances as positive fractions). An IC or
+    diode has value 0 and its part text in ``part``; ``low``: at or below ``reorder_at``."""
     return [
         {"line_id": ln.id, "kind": ln.kind, "value": ln.value, "tol_minus": ln.tol_minus, "tol_plus": ln.tol_plus,
          "quantity": ln.quantity, "location": ln.location, "package": ln.package, "rating": ln.rating,
-         "dielectric": ln.dielectric, "polarized": ln.polarized, "note": ln.note}
+         "dielectric": ln.dielectric, "polarized": ln.polarized, "note": ln.note, "part": ln.part,
+         "turns": ln.turns, "rating_current": ln.rating_current, "reorder_at": ln.reorder_at, "low": ln.low}
         for ln in lines
     ]
 
