@@ -45,7 +45,7 @@ from selector.core.bom_formats import (  # noqa: F401  (the output forms; same p
 )
 from selector.core.cautions import CAUTIONS as CAUTION_TEXTS
 from selector.core.bom_records import Bom, BomLine, CircuitSpec, PickItem, PickStop, Shortage
-from selector.core.stock_match import pick_line
+from selector.core.stock_match import matches, pick_line
 from selector.core.types import StockLine
 
 # ---------------------------------------------------------------------------------------------
@@ -315,6 +315,11 @@ def _extras(
         if line is None:
             out.append(BomLine(ref=o.ref, role=o.role, kind=o.kind, value=None, per_board=1, total=boards,
                                in_stock=False, description=o.description, note=o.note))
+            empty = [ln for ln in stock if o.want and matches(o.want, ln)]
+            if empty:
+                notes.append(f"{o.ref}: stock line{'s' if len(empty) > 1 else ''} "
+                             f"{', '.join(f'{ln.id} ({ln.part})' for ln in empty)} would supply it but "
+                             f"{'are' if len(empty) > 1 else 'is'} empty; restock or obtain the part.")
             continue
         taken[line.id] = taken.get(line.id, 0) + boards
         visited.add(line.location)

@@ -25,8 +25,8 @@ line is matched by its part text, read without regard to case, spaces, hyphens a
 Among the lines that match, the BOM takes one that holds every board's worth (after what the BOM
 already takes from it), then one in a drawer already on the pick list, then the lowest line id.
 When none holds enough, the one holding the most is taken, so the BOM shows it short and a pull
-refuses like for any other short line. A line holding nothing is not matched (the part is then
-listed to obtain, as before).
+refuses like for any other short line. A line holding nothing supplies nothing: the part is then
+listed to obtain, as before, and the BOM notes which matching line is empty.
 """
 
 from __future__ import annotations

@@ -107,3 +107,33 @@ def test_low_after_is_the_plain_rule():
              StockLine(3, "resistor", 2e3, 0.05, 0.05, 4, reorder_at=0)]
     assert [(ln.id, ln.quantity) for ln in low_after(stock, ((1, 2), (2, 5), (3, 3)))] == [(1, 3)]
     assert [(ln.id, ln.quantity) for ln in low_after(stock, ((1, 1), (3, 4)))] == [(3, 0)]
+
+
+def test_cli_pull_on_the_sample_stock_takes_the_74hc14_and_lists_it_low(cli, db_path):
+    """sample_stock.csv (invented demo data) holds one 74HC14 with reorder level 2: a Schmitt-
+    inverter oscillator's BOM takes it, `pull 1` leaves 0 and lists it low; after that the BOM
+    lists the IC to obtain (an empty line supplies nothing) and says the line is empty."""
+    import json
+
+    from conftest import SAMPLE
+
+    assert cli("stock", "import", str(SAMPLE), db=db_path).returncode == 0
+    r = cli("find", "astable", "--freq", "1kHz", "--vcc", "5", "--connection", "schmitt-inverter", db=db_path)
+    assert r.returncode == 0, r.stderr
+    hc14 = next(x for x in json.loads(cli("stock", "list", "--kind", "ic", "--json", db=db_path).stdout)
+                if x["part"] == "74HC14")
+    bom = json.loads(cli("bom", "1", "--format", "json", db=db_path).stdout)
+    u1 = next(x for x in bom["lines"] if x["ref"] == "U1")
+    assert (u1["line_id"], u1["part"], u1["in_stock"]) == (hc14["line_id"], "74HC14", True)
+    r = cli("pull", "1", "--json", db=db_path)
+    assert r.returncode == 0, r.stderr
+    low = json.loads(r.stdout)["low"]
+    assert [(x["line_id"], x["part"], x["quantity"], x["reorder_at"]) for x in low] == [
+        (hc14["line_id"], "74HC14", 0, 2)]
+    listed = json.loads(cli("stock", "list", "--low", "--json", db=db_path).stdout)
+    assert hc14["line_id"] in [x["line_id"] for x in listed]
+    r = cli("bom", "1", db=db_path)
+    assert r.returncode == 0, r.stderr
+    text = " ".join(r.stdout.split())
+    assert "Not in stock (obtain before building): U1 inverter IC: hex Schmitt-trigger inverter, 74HC14 type" in text
+    assert f"U1: stock line {hc14['line_id']} (74HC14) would supply it but is empty; restock or obtain the part." in text
