@@ -279,7 +279,7 @@ class Timer555:
 
     def spice_device(self, c, pins: str) -> list[str]:
         """The 555 instance (pins in data-sheet order after X555) and its subcircuit."""
-        return [f"X555 {pins} SEL555_" + c.chip.family.upper()] + sp.subckt_555(c.chip)
+        return [f"X555 {pins} " + sp.subckt_name(c.chip.family)] + sp.subckt_555(c.chip)
 
 
 class MonostableKind(ModeBase):
