@@ -187,8 +187,15 @@ class _Pass:
             if rows.size:  # a network between the maximum RA and the total limit: that limit excluded it
                 offsets, _ids = self.r.between(np.full(rows.size, max_ra * (1 + 1e-9)), hi_total[rows])
                 over_ra[rows] = np.diff(offsets) > 0
+        over_total = np.zeros(n, dtype=bool)
+        rows = np.flatnonzero(nothing & ~over_ra & ~ra_bound & np.isfinite(hi_total))
+        if rows.size:  # a network above RA + RB's ceiling (and no RA below it): that limit excluded it
+            _b, above = self.r.nearest_sides(hi_total[rows] * (1 + 1e-9), 1)
+            over_total[rows] = np.asarray(above).reshape(rows.size, -1)[:, 0] >= 0
+        self.ex.add(f"RA/RB pairs over the {_fmt(lim.max_total_r_ohm, 'Ω')} total timing resistance "
+                    f"limit{_why(lim, 'max_total_r_ohm')}", over_total.sum())
         over_dis = np.zeros(n, dtype=bool)
-        rows = np.flatnonzero(nothing & ~over_ra & (ra_dis > lim.min_r_ohm))
+        rows = np.flatnonzero(nothing & ~over_ra & ~over_total & (ra_dis > lim.min_r_ohm))
         if rows.size:  # a network between the minimum RA and the DIS-current bound excluded
             offsets, _ids = self.r.between(np.full(rows.size, lim.min_r_ohm),
                                            np.minimum(ra_dis[rows], hi[rows]) * (1 - 1e-9))
@@ -198,7 +205,7 @@ class _Pass:
         self.ex.add(f"RA/RB pairs over the {_fmt(sink, 'A')} DIS pin current ((2VCC/3)/RB + VCC/RA)",
                     over_dis.sum())
         self.ex.add("RA/RB pairs with no RA in range (over its power rating or sharing stock with RB)",
-                    (nothing & ~over_ra & ~over_dis).sum())
+                    (nothing & ~over_ra & ~over_total & ~over_dis).sum())
         return best_id, best_err, th_out, tl_out
 
     def _best_ra_window(self, cv, rb, lo, hi, empty, bound, ok):
