@@ -101,9 +101,12 @@ class ChipFamily:
     def check_vcc(self, vcc: float) -> None:
         """Raise :class:`OutOfRange` when ``vcc`` is outside the family's supply range."""
         if not (self.vcc_min <= float(vcc) <= self.vcc_max):
+            other = [k for k, f in FAMILIES.items() if f.vcc_min <= float(vcc) <= f.vcc_max]
+            hint = ("; --chip " + " or --chip ".join(other) + (" takes it" if len(other) == 1 else " take it")
+                    if other else "")
             raise OutOfRange(
                 f"VCC {float(vcc):g} V is outside the {self.label} range "
-                f"{self.vcc_min:g}–{self.vcc_max:g} V"
+                f"{self.vcc_min:g}–{self.vcc_max:g} V{hint}"
             )
 
 
@@ -141,7 +144,7 @@ BIPOLAR = ChipFamily(
         "vcc_max": "[S1] bipolar 555 data sheet, supply 4.5–16 V",
         "threshold_current_a": "[S1] bipolar 555 data sheet, threshold current 0.25 µA max",
         "trigger_current_a": "[S1] bipolar 555 data sheet, trigger current 2.0 µA max at 0 V",
-        "max_astable_hz": "common practice (about 100 kHz for formula-accurate work)",
+        "max_astable_hz": "common practice: about 100 kHz for formula-accurate work",
         "min_ra_ohm": "common practice (1 kΩ keeps DIS current at the [S1] 15 mA test level)",
         "min_timing_c_f": "[S25] C ≥ 100 pF against strays (common practice)",
         "voh_drop_v": "from memory, not confirmed (VCC − 1.4 V light load; [S1] VCC − 1.7 V at 100 mA)",
@@ -221,7 +224,7 @@ CMOS_2V = dataclasses.replace(
     label="CMOS 555 (2–15 V part)",
     vcc_min=2.0,                      # [S5] CMOS 555 data sheet B: 2–15 V
     vcc_max=15.0,                     # [S5]
-    part_text="CMOS, a type rated 2–15 V",
+    part_text="CMOS 2–15 V",
     sources={**CMOS.sources,
              "vcc_min": "[S5] CMOS 555 data sheet B, 2–15 V",
              "vcc_max": "[S5] CMOS 555 data sheet B, 2–15 V",
@@ -235,7 +238,7 @@ CMOS_3V = dataclasses.replace(
     vcc_min=3.0,                      # [S6] CMOS 555 data sheet C: 3–16 V guaranteed
     vcc_max=16.0,                     # [S6] (abs max 18 V)
     astable_supply_per_v=0.001,       # [S5] data sheet B's 0.1 %/V (C's figure is not in our sources)
-    part_text="CMOS, a type rated 3–16 V",
+    part_text="CMOS 3–16 V",
     sources={**CMOS.sources,
              "vcc_min": "[S6] CMOS 555 data sheet C, 3–16 V guaranteed",
              "vcc_max": "[S6] CMOS 555 data sheet C, 3–16 V guaranteed (abs max 18 V)",

@@ -62,7 +62,7 @@ def test_supply_ranges_and_message():
     assert str(e.value) == "VCC 20 V is outside the bipolar 555 range 4.5–16 V"
     with pytest.raises(OutOfRange) as e:
         chips.family("cmos").check_vcc(2.5)
-    assert str(e.value) == "VCC 2.5 V is outside the CMOS 555 range 3–15 V"
+    assert str(e.value) == "VCC 2.5 V is outside the CMOS 555 range 3–15 V; --chip cmos-2v takes it"
     with pytest.raises(OutOfRange) as e:
         chips.family("cmos-2v").check_vcc(1.5)
     assert str(e.value) == "VCC 1.5 V is outside the CMOS 555 (2–15 V part) range 2–15 V"
