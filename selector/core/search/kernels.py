@@ -411,8 +411,15 @@ class _Pass:
         below, above = _nearest_feasible(self.r, r_star, lo, hi, lambda ids, rows: self.power.ok(ids))
         if count:
             self.ex.add(_r_range_text(self.lim), empty.sum())
-            self.ex.add("C networks with no R in range within its power rating",
-                        ((below < 0) & (above < 0) & ~empty).sum())
+            none = (below < 0) & (above < 0) & ~empty
+            over = np.zeros(none.shape, dtype=bool)
+            rows = np.flatnonzero(none & np.isfinite(hi))
+            if rows.size:  # a network above the maximum R: that limit excluded it
+                _b, up = self.r.nearest_sides(hi[rows] * (1 + 1e-9), 1)
+                over[rows] = np.asarray(up).reshape(rows.size, -1)[:, 0] >= 0
+            self.ex.add(f"C networks whose R would be above the {_fmt(self.lim.max_total_r_ohm, 'Ω')} maximum R"
+                        f"{_why(self.lim, 'max_total_r_ohm')}", over.sum())
+            self.ex.add("C networks with no R in range within its power rating", (none & ~over).sum())
         found = []
         for side in (below, above):
             has = side >= 0

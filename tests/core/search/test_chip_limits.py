@@ -136,3 +136,22 @@ def test_cmos_families_supply_range_in_the_search():
     resolve_limits("standard", "cmos-3v", 16.0, 0.65)                # [S6] 3–16 V
     with pytest.raises(OutOfRange):
         resolve_limits("standard", "cmos-2v", 16.0, 0.65)
+
+
+def test_monostable_r_ceiling_just_inside_and_just_outside():
+    # 5 V: the charge runs from 0 to 2VCC/3 toward VCC: R·I ≤ (VCC/3)(q − 3)/(q − 1), q = 3^1.01,
+    # 0.25 µA [S1] → 108.67 kΩ (derived; scipy check in tests/reference/test_threshold_current_ceiling.py)
+    q3 = 3 ** 1.01
+    r_max = (5.0 / 3) * (q3 - 3) / (q3 - 1) / 0.25e-6
+    lim = resolve_limits("monostable", "bipolar", 5.0, 0.65)
+    assert lim.max_total_r_ohm == pytest.approx(r_max, rel=1e-12)
+    c = 1e-6
+    for r, offered in ((108e3, True), (110e3, False)):
+        target = Target("monostable", width=math.log(3.0) * r * c)
+        if offered:
+            res = _search("monostable", lim, [_r(1, r)], [_c(1, c)], target)
+            assert abs(res.options[0].error) < 1e-12
+        else:
+            with pytest.raises(NothingFeasible) as e:
+                _search("monostable", lim, [_r(1, r)], [_c(1, c)], target)
+            assert "109 kΩ maximum R" in str(e.value) and "threshold current" in str(e.value)
