@@ -10,6 +10,11 @@ before issue 10); "after" is the Shockley model the search uses now.
 
 Measured (2-core shared machine, 2 Dec 2026): before 48 ms, after 58 ms, 1.21x; a second run
 69 ms vs 92 ms, 1.34x (target ≤ 1.5x; the machine is shared, so runs vary).
+Chip limits as data (branch limits10, 3 Dec 2026; load average 6–9 on 2 CPUs): "after" 186 ms
+before the change, 227 / 288 ms after (wall, noisy); the same search timed by CPU time, old and new
+code alternating in one shell: 127 / 147 ms before, 129 / 151 ms after (min, two rounds): no change
+beyond noise. The best error moves (6.6e-7 → 1.1e-6) because at 5 V the new accuracy ceilings
+(RA ≤ 62.9 kΩ, RA + RB ≤ 91.5 kΩ) leave some of the earlier options out.
 """
 
 from __future__ import annotations

@@ -7,7 +7,8 @@ DIS to the capacitor; while the output is high C charges from VCC/3 to 2VCC/3 wi
 C·dVc/dt = (VCC − Vc − V)/RA, where (VCC − Vc − V)/RA = Is·(exp(V/(n·Vt)) − 1) + V/RB (Shockley),
 Is from Vf at 1 mA.
 
-    ode_t_high(ra, rb, vcc, vf, n, c) -> float   seconds (needs scipy)
+    ode_t_high(ra, rb, vcc, vf, n, c, sink_a=0.0) -> float   seconds (needs scipy); ``sink_a``
+    a constant current drawn from the capacitor node (the threshold input current)
 """
 
 from __future__ import annotations
@@ -17,7 +18,7 @@ import math
 from selector.core.parts import THERMAL_V
 
 
-def ode_t_high(ra, rb, vcc, vf, n, c):
+def ode_t_high(ra, rb, vcc, vf, n, c, sink_a=0.0):
     """t_high by scipy: integrate dVc/dt until Vc reaches 2VCC/3 (event), brentq for the diode."""
     from scipy import integrate, optimize
 
@@ -31,7 +32,7 @@ def ode_t_high(ra, rb, vcc, vf, n, c):
         return (a - v) / ra
 
     def rhs(_t, y):
-        return [current(y[0]) / c]
+        return [(current(y[0]) - sink_a) / c]
 
     def reached(_t, y):
         return y[0] - 2.0 * vcc / 3.0

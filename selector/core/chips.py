@@ -10,6 +10,7 @@ a test can insist that no number goes uncited.
 
 from __future__ import annotations
 
+import dataclasses
 from dataclasses import dataclass, field
 from typing import TYPE_CHECKING, Optional
 
@@ -54,6 +55,8 @@ class ChipFamily:
     control_pin_cap_f: Optional[float]   # CV (pin 5) capacitor fitted by the BOM; None: left open
     reservoir_f: Optional[tuple]     # (lo, hi) supply reservoir range; None: not listed
     bom_notes: tuple = ()            # notes the BOM adds for this family
+    output_source_ohms: Optional[float] = None  # OUT high-side resistance (output-fed R minimum)
+    output_sink_ohms: Optional[float] = None    # OUT low-side resistance
     sources: dict = field(default_factory=dict, compare=False, hash=False, repr=False)
 
     def voh(self, vcc) -> float:
@@ -80,12 +83,30 @@ class ChipFamily:
         vcc = np.asarray(vcc, dtype=float)
         return _plain(np.minimum(vcc / (3.0 * self.threshold_current_a), self.max_r_cap_ohm))
 
+    def accuracy_max_r_ohm(self, span_start_v: float, span_end_v: float) -> float:
+        """Largest charging resistance whose threshold input current moves the charge time by at
+        most :data:`TIMING_SHARE` (see :func:`sink_ceiling_ohm`; ``span_start_v`` = V∞ − V0,
+        ``span_end_v`` = V∞ − V1 of the charge, e.g. 2VCC/3 and VCC/3 for an astable)."""
+        return sink_ceiling_ohm(span_start_v, span_end_v, self.threshold_current_a)
+
+    def output_fed_min_r_ohm(self) -> float:
+        """Smallest output-fed R: the output's own resistance (source or sink, the larger) in
+        series with R lengthens a half-period by R_out/R (the half charges through R + R_out
+        toward the rail: the RC law with R + R_out, derived), so R ≥ R_out/:data:`TIMING_SHARE`
+        keeps each half within that share and the duty within a quarter of it (in points).
+        0 when the family gives no output resistance (the connection is then not offered)."""
+        worst = max(self.output_source_ohms or 0.0, self.output_sink_ohms or 0.0)
+        return worst / TIMING_SHARE
+
     def check_vcc(self, vcc: float) -> None:
         """Raise :class:`OutOfRange` when ``vcc`` is outside the family's supply range."""
         if not (self.vcc_min <= float(vcc) <= self.vcc_max):
+            other = [k for k, f in FAMILIES.items() if f.vcc_min <= float(vcc) <= f.vcc_max]
+            hint = ("; --chip " + " or --chip ".join(other) + (" takes it" if len(other) == 1 else " take it")
+                    if other else "")
             raise OutOfRange(
                 f"VCC {float(vcc):g} V is outside the {self.label} range "
-                f"{self.vcc_min:g}–{self.vcc_max:g} V"
+                f"{self.vcc_min:g}–{self.vcc_max:g} V{hint}"
             )
 
 
@@ -123,7 +144,7 @@ BIPOLAR = ChipFamily(
         "vcc_max": "[S1] bipolar 555 data sheet, supply 4.5–16 V",
         "threshold_current_a": "[S1] bipolar 555 data sheet, threshold current 0.25 µA max",
         "trigger_current_a": "[S1] bipolar 555 data sheet, trigger current 2.0 µA max at 0 V",
-        "max_astable_hz": "common practice (about 100 kHz for formula-accurate work)",
+        "max_astable_hz": "common practice: about 100 kHz for formula-accurate work",
         "min_ra_ohm": "common practice (1 kΩ keeps DIS current at the [S1] 15 mA test level)",
         "min_timing_c_f": "[S25] C ≥ 100 pF against strays (common practice)",
         "voh_drop_v": "from memory, not confirmed (VCC − 1.4 V light load; [S1] VCC − 1.7 V at 100 mA)",
@@ -144,8 +165,10 @@ BIPOLAR = ChipFamily(
 CMOS = ChipFamily(
     key="cmos",
     label="CMOS 555",
-    vcc_min=2.0,                      # [S5] CMOS 555 data sheet B: 2–15 V (C: 3–16 V [S6])
-    vcc_max=15.0,                     # [S5]
+    # generic "cmos": the narrowest range common to data sheets B [S5] 2–15 V and C [S6] 3–16 V,
+    # so any CMOS 555 works; the families "cmos-2v" and "cmos-3v" below are those two parts
+    vcc_min=3.0,                      # [S6] CMOS 555 data sheet C: 3 V minimum (B [S5]: 2 V)
+    vcc_max=15.0,                     # [S5] CMOS 555 data sheet B: 15 V maximum (C [S6]: 16 V)
     threshold_current_a=20e-12,       # [S6] CMOS 555 data sheet C: 20 pA typ
     trigger_current_a=20e-12,         # [S6] 20 pA typ
     max_astable_hz=100e3,             # [S5] the astable equations hold for f ≤ 100 kHz
@@ -166,11 +189,14 @@ CMOS = ChipFamily(
     dis_sink_a=10e-3,                 # [S6] DIS specified at 10 mA (stored table garbled, verify)
     control_pin_cap_f=None,           # [S6] CV "need not be decoupled"
     reservoir_f=None,                 # [S6] "no crowbarring": no reservoir listed
+    output_source_ohms=1000.0,        # [S6] VOH ≥ 4.0 V at −1 mA, 5 V: at most 1 V/1 mA (table
+                                      # garbled, verify); the 5 V figure is used at every supply
+    output_sink_ohms=125.0,           # [S6] VOL ≤ 0.4 V at 3.2 mA sink, 5 V: at most 125 Ω
     bom_notes=("CMOS timer: the control pin is left open (one CMOS 555 data sheet says it need not be "
                "decoupled); fit 10 nF to ground if your part's data sheet asks for it.",),
     sources={
-        "vcc_min": "[S5] CMOS 555 data sheet B, 2–15 V (data sheet C [S6]: 3–16 V)",
-        "vcc_max": "[S5] CMOS 555 data sheet B, 2–15 V",
+        "vcc_min": "[S5] 2–15 V and [S6] 3–16 V: the narrowest common range, 3–15 V",
+        "vcc_max": "[S5] 2–15 V and [S6] 3–16 V: the narrowest common range, 3–15 V",
         "threshold_current_a": "[S6] CMOS 555 data sheet C, 20 pA typ",
         "trigger_current_a": "[S6] CMOS 555 data sheet C, 20 pA typ",
         "max_astable_hz": "[S5] CMOS 555 data sheet B, equations hold for f ≤ 100 kHz",
@@ -187,10 +213,80 @@ CMOS = ChipFamily(
         "datasheet_discharge_ohms": "[S6] CMOS 555 data sheet C, DIS at most 0.4 V at 10 mA",
         "dis_sink_a": "[S6] CMOS 555 data sheet C, DIS specified at 10 mA",
         "control_pin_cap_f": "[S6] CMOS 555 data sheet C, CV need not be decoupled",
+        "output_source_ohms": "[S6] CMOS 555 data sheet C, VOH ≥ 4.0 V at −1 mA, 5 V (garbled, verify)",
+        "output_sink_ohms": "[S6] CMOS 555 data sheet C, VOL ≤ 0.4 V at 3.2 mA, 5 V",
     },
 )
 
-FAMILIES: dict[str, ChipFamily] = {f.key: f for f in (BIPOLAR, CMOS)}
+CMOS_2V = dataclasses.replace(
+    CMOS,
+    key="cmos-2v",
+    label="CMOS 555 (2–15 V part)",
+    vcc_min=2.0,                      # [S5] CMOS 555 data sheet B: 2–15 V
+    vcc_max=15.0,                     # [S5]
+    part_text="CMOS 2–15 V",
+    sources={**CMOS.sources,
+             "vcc_min": "[S5] CMOS 555 data sheet B, 2–15 V",
+             "vcc_max": "[S5] CMOS 555 data sheet B, 2–15 V",
+             "other": "figures data sheet B does not give in our sources are data sheet C's [S6]"},
+)
+
+CMOS_3V = dataclasses.replace(
+    CMOS,
+    key="cmos-3v",
+    label="CMOS 555 (3–16 V part)",
+    vcc_min=3.0,                      # [S6] CMOS 555 data sheet C: 3–16 V guaranteed
+    vcc_max=16.0,                     # [S6] (abs max 18 V)
+    astable_supply_per_v=0.001,       # [S5] data sheet B's 0.1 %/V (C's figure is not in our sources)
+    part_text="CMOS 3–16 V",
+    sources={**CMOS.sources,
+             "vcc_min": "[S6] CMOS 555 data sheet C, 3–16 V guaranteed",
+             "vcc_max": "[S6] CMOS 555 data sheet C, 3–16 V guaranteed (abs max 18 V)",
+             "astable_supply_per_v": "[S5] CMOS 555 data sheet B, 0.1 %/V typ (data sheet C's not "
+                                     "in our sources)",
+             "max_astable_hz": "[S5] equations hold for f ≤ 100 kHz (data sheet C's 500 kHz [S6] is "
+                               "the operating maximum, not the formula's accuracy)"},
+)
+
+FAMILIES: dict[str, ChipFamily] = {f.key: f for f in (BIPOLAR, CMOS, CMOS_2V, CMOS_3V)}
+
+TIMING_SHARE = 0.01
+"""The share of a timing that a chip effect the prediction leaves out may move it: the threshold
+input current (``sink_ceiling_ohm``), the output resistance (``ChipFamily.output_fed_min_r_ohm``).
+Our own choice: 1 %, small against the 2.25 % typ initial error of a bipolar astable [S1] and the
+5 % default acceptance."""
+
+DELAY_FREE_FRACTION = 0.2
+"""Share of the family's ``max_astable_hz`` up to which an astable is offered. Above it the
+comparator and latch delays lengthen the period noticeably and our sources give no delay figure
+to correct the prediction with, so the tool refuses instead. Derived from the one test point we
+have, CMOS data sheet B's fmax test (RA 470 Ω, RB 200 Ω, 200 pF: 2.1 MHz typ / 1.2 MHz min
+against 8.29 MHz ideal [S5]): the period is 0.36 µs typ / 0.71 µs worst longer than the formula,
+about 0.7 % typ / 1.4 % worst of the period at 20 % of 100 kHz (20 kHz). Bipolar parts: no figure
+in our sources; the same fraction is used (their 100 ns rise/fall [S1] is of the same order)."""
+
+
+def sink_ceiling_ohm(span_start_v, span_end_v, sink_a, share: float = TIMING_SHARE) -> float:
+    """Largest R for which a constant current ``sink_a`` drawn from the capacitor node moves a
+    charge's time by at most ``share`` (derived).
+
+    Derivation. C charges through R toward V∞ from V0 to V1; a constant sink I at the node gives
+    C·dV/dt = (V∞ − V)/R − I = (V∞ − R·I − V)/R: the same RC law with the asymptote lowered by
+    d = R·I, so t(d) = R·C·ln((a − d)/(b − d)) with a = V∞ − V0, b = V∞ − V1 (a > b > 0). The
+    time grows with d; t(d)/t(0) = 1 + share where (a − d)/(b − d) = q = (a/b)^(1+share), i.e.
+    d = (q·b − a)/(q − 1), and R_max = d/I. Standard astable (a = 2VCC/3, b = VCC/3): d ≈
+    0.01372·VCC/3 for 1 %, i.e. ε ≈ R·I/(2·ln2·VCC/3) to first order. The constant sink at the
+    data-sheet maximum is the worst case: a comparator input draws its bias current mostly near
+    its switching point (from memory, not confirmed), so the real shift is smaller. Checked
+    against a scipy ODE with the sink in tests/reference/test_threshold_current_ceiling.py."""
+    a, b = float(span_start_v), float(span_end_v)
+    if not (a > b > 0) or not (sink_a > 0):
+        return INF_OHM if b > 0 else 0.0
+    q = (a / b) ** (1.0 + share)
+    return (q * b - a) / ((q - 1.0) * sink_a)
+
+
+INF_OHM = float("inf")
 
 VCC_TOL_DEFAULT = 0.05
 """Supply tolerance the yield assumes unless ``--vcc-tol`` says otherwise: a regulated supply

@@ -238,9 +238,15 @@ def _eng(x: float, unit: str) -> str:
 
 
 # ----------------------------------------------------------------------------- the 555 model
+def subckt_name(family: str) -> str:
+    """The ``.subckt`` name of a family's 555 model: SEL555_ + the key in capitals, a "-" (as in
+    "cmos-2v") written "_" so every SPICE reader takes it as one plain name."""
+    return "SEL555_" + family.upper().replace("-", "_")
+
+
 def subckt_555(chip: ChipModel) -> list[str]:
     """Our behavioural 555 (see the module docstring) as a ``.subckt``."""
-    name = f"SEL555_{chip.family.upper()}"
+    name = subckt_name(chip.family)
     r, rd = _num(chip.divider_ohms), _num(chip.discharge_ohms)
     dr, dc = _num(LATCH_DELAY_R), _num(LATCH_DELAY_C)
     return [

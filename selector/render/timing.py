@@ -519,7 +519,9 @@ def explain_lines(report, width: int) -> list[str]:
     if chip_error is not None:
         lim = next(iter(report.limits.values()))
         bits = [f"{kinds[0].chip_label(settings)} at VCC {req.vcc:g} V", f"R/RA ≥ {_fmt(lim.min_r_ohm, 'Ω')}",
-                f"total timing R ≤ {_fmt(lim.max_total_r_ohm, 'Ω')}", f"C ≥ {_fmt(lim.min_c_f, 'F')}"]
+                f"total timing R ≤ {_fmt(lim.max_total_r_ohm, 'Ω')}"
+                + (" (threshold current)" if "threshold" in lim.why.get("max_total_r_ohm", "") else ""),
+                f"C ≥ {_fmt(lim.min_c_f, 'F')}"]
         if req.mode == "astable":
             bits.append(f"f ≤ {_fmt(lim.max_freq_hz, 'Hz')}")
             if any(k.uses_diode for k in kinds):
@@ -528,6 +530,9 @@ def explain_lines(report, width: int) -> list[str]:
                 dl = report.limits.get("diode")
                 if dl is not None and dl.max_ra_ohm < lim.max_total_r_ohm:
                     bits.append(f"diode-steered RA ≤ {_fmt(dl.max_ra_ohm, 'Ω')} (threshold current)")
+            ol = report.limits.get("output-fed")
+            if ol is not None and ol.min_r_ohm > lim.min_r_ohm:
+                bits.append(f"output-fed R ≥ {_fmt(ol.min_r_ohm, 'Ω')} (output resistance)")
         bits.append("resistor power ≤ 50 % of rating, capacitor rating × derating ≥ VCC")
         paras.append("Chip: " + "; ".join(bits) + f" ({chip_error}).")
     else:

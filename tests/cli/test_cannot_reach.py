@@ -55,9 +55,18 @@ def test_frequency_above_the_family_limit(cli, stocked, chip, freq):
 
 
 def test_just_above_the_limit_within_the_acceptance_is_searched(cli, stocked):
-    """104 kHz x (1 - 5 %) = 98.8 kHz <= 100 kHz: an option at the limit is within the acceptance."""
-    r = cli("find", "astable", "--freq", "104k", "--duty", "60%", "--json", db=stocked)
+    """Options are offered up to 20 % of the family's 100 kHz (the propagation delay is not
+    modelled, chips.DELAY_FREE_FRACTION): 21 kHz x (1 - 5 %) = 19.95 kHz <= 20 kHz, so an option at
+    that limit is within the acceptance."""
+    r = cli("find", "astable", "--freq", "21k", "--duty", "60%", "--json", db=stocked)
     assert r.returncode == 0, r.stderr
+
+
+@pytest.mark.parametrize("chip", ["bipolar", "cmos"])
+def test_between_the_offered_share_and_the_family_limit_names_the_delay(cli, stocked, chip):
+    """50 kHz x (1 - 5 %) = 47.5 kHz: below the family's 100 kHz, above the 20 kHz offered."""
+    line = _refused(cli, stocked, "--freq", "50k", "--duty", "60%", "--chip", chip)
+    assert "50 kHz is above the 20 kHz limit" in line and "propagation delay" in line
 
 
 def test_monostable_shorter_than_the_limits_allow(cli, stocked):

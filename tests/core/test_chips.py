@@ -53,20 +53,40 @@ def test_cmos_max_timing_resistance_is_the_practical_cap():
 def test_supply_ranges_and_message():
     chips.family("bipolar").check_vcc(4.5)       # [S1] 4.5–16 V, ends included
     chips.family("bipolar").check_vcc(16.0)
-    chips.family("cmos").check_vcc(2.0)          # [S5] 2–15 V
+    chips.family("cmos-2v").check_vcc(2.0)       # [S5] data sheet B: 2–15 V
+    chips.family("cmos-3v").check_vcc(16.0)      # [S6] data sheet C: 3–16 V
+    chips.family("cmos").check_vcc(3.0)          # generic: the common range, 3–15 V
+    chips.family("cmos").check_vcc(15.0)
     with pytest.raises(OutOfRange) as e:
         chips.family("bipolar").check_vcc(20)
     assert str(e.value) == "VCC 20 V is outside the bipolar 555 range 4.5–16 V"
     with pytest.raises(OutOfRange) as e:
-        chips.family("cmos").check_vcc(1.5)
-    assert str(e.value) == "VCC 1.5 V is outside the CMOS 555 range 2–15 V"
+        chips.family("cmos").check_vcc(2.5)
+    assert str(e.value) == "VCC 2.5 V is outside the CMOS 555 range 3–15 V; --chip cmos-2v takes it"
+    with pytest.raises(OutOfRange) as e:
+        chips.family("cmos-2v").check_vcc(1.5)
+    assert str(e.value) == "VCC 1.5 V is outside the CMOS 555 (2–15 V part) range 2–15 V"
+    with pytest.raises(OutOfRange):
+        chips.family("cmos-2v").check_vcc(16.0)
+    with pytest.raises(OutOfRange):
+        chips.family("cmos-3v").check_vcc(2.5)
+
+
+def test_cmos_families_differ_only_where_their_data_sheets_do():
+    # [S5] data sheet B 2–15 V, [S6] data sheet C 3–16 V; the generic key keeps the narrowest
+    # common range (3–15 V) so any CMOS 555 fits; each named family's BOM text says its range
+    g, b, c = (chips.family(k) for k in ("cmos", "cmos-2v", "cmos-3v"))
+    assert (b.vcc_min, b.vcc_max, c.vcc_min, c.vcc_max) == (2.0, 15.0, 3.0, 16.0)
+    assert (g.vcc_min, g.vcc_max) == (max(b.vcc_min, c.vcc_min), min(b.vcc_max, c.vcc_max))
+    assert "2–15 V" in b.part_text and "3–16 V" in c.part_text
+    assert "[S5]" in b.sources["vcc_min"] and "[S6]" in c.sources["vcc_min"]
 
 
 def test_family_lookup():
     assert chips.family(" CMOS ").key == "cmos"
     with pytest.raises(UnknownChipFamily) as e:
         chips.family("nmos")
-    assert str(e.value) == "unknown chip family 'nmos'; expected one of: bipolar, cmos"
+    assert str(e.value) == "unknown chip family 'nmos'; expected one of: bipolar, cmos, cmos-2v, cmos-3v"
     assert e.value.exit_code == 2
 
 

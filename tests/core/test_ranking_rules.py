@@ -136,17 +136,22 @@ def test_yields_within_two_points_are_equal_then_fewer_parts(case):
 def _reference_best(r_lines, c_lines, freq, duty):
     """Plain exhaustive search over 1-part RA, RB, C (quantities allow RA = RB only with 2 on
     hand): the smallest max(|t_high/T_high - 1|, |t_low/T_low - 1|) inside the limits the test
-    stock respects (all R >= 1 kΩ, 0.25 W; f <= 100 kHz; bipolar 555 at 9 V)."""
+    stock respects (all R >= 1 kΩ, 0.25 W; bipolar 555 at 9 V): RA + RB at most 164.6 kΩ, where
+    the 0.25 µA threshold current [S1] moves t_high by 1 % (a constant sink lowers the asymptote
+    by R·I: R·I ≤ (VCC/3)(q − 2)/(q − 1), q = 2^1.01, derived); f <= 20 kHz (20 % of the 100 kHz
+    family limit, common practice; the propagation delay is not modelled)."""
     th_t, tl_t = duty / freq, (1 - duty) / freq
+    q = 2 ** 1.01
+    r_max = 3.0 * (q - 2) / (q - 1) / 0.25e-6
     best = math.inf
     for ra, rb in itertools.product(r_lines, repeat=2):
         if ra.id == rb.id and ra.quantity < 2:
             continue
-        if ra.value + rb.value > 12e6:
+        if ra.value + rb.value > r_max * (1 + 1e-9):
             continue
         for c in c_lines:
             th, tl = LN2 * (ra.value + rb.value) * c.value, LN2 * rb.value * c.value
-            if 1.0 / (th + tl) > 100e3:
+            if 1.0 / (th + tl) > 20e3 * (1 + 1e-9):
                 continue
             e = max(abs(th / th_t - 1), abs(tl / tl_t - 1))
             best = min(best, e)

@@ -326,7 +326,9 @@ def found_engine(tmp_path_factory):
 # (request, how many of its top options to simulate, the connection the search must have used)
 FOUND_CASES = [
     (dict(mode="astable", freq_hz=1000.0, duty=0.6, chip="bipolar", vcc=9.0, connection="standard"), 2, "standard"),
-    (dict(mode="astable", freq_hz=40e3, duty=0.7, chip="cmos", vcc=5.0, connection="standard"), 1, "standard"),
+    # 18 kHz: within the 20 % of 100 kHz the astable is offered at (propagation delay not modelled);
+    # the named CMOS family's own SPICE subcircuit (SEL555_CMOS_3V)
+    (dict(mode="astable", freq_hz=18e3, duty=0.7, chip="cmos-3v", vcc=5.0, connection="standard"), 1, "standard"),
     (dict(mode="astable", freq_hz=0.5, duty=0.55, chip="bipolar", vcc=12.0, connection="standard"), 1, "standard"),
     (dict(mode="astable", freq_hz=2000.0, duty=0.3, chip="cmos", vcc=5.0, connection="diode"), 2, "diode"),
     (dict(mode="astable", freq_hz=10.0, duty=0.2, chip="bipolar", vcc=12.0, connection="diode"), 1, "diode"),

@@ -80,8 +80,10 @@ class Limits:
     dis_sink_a: float = INF  # astable: peak DIS current (2VCC/3)/RB + VCC/RA at most this
     min_c_f: float = 0.0
     max_freq_hz: float = INF
+    freq_ceiling_hz: float = INF  # the family's own maximum (max_freq_hz is offered, this refused)
     r_power_volts: float = 0.0  # volts across RA / R when it dissipates most (0: no power check)
     r_power_derating: float = 0.5  # allowed fraction of the rated power
+    rb_power_volts: float = 0.0  # volts across RB at its peak, 2VCC/3 at the start of the discharge
     cap_volts: float = 0.0  # working voltage across the timing capacitor (0: no rating check)
     cap_derating: Callable[[str], float] = field(default=lambda dielectric: 1.0)
     diode_vf: float = DIODE_VF_DEFAULT
@@ -89,6 +91,14 @@ class Limits:
     vol: float = math.nan
     chip_terms: tuple = ()  # the chip's own timing error and supply drift (``Uncertain``; 555 circuits)
     extra: Mapping[str, Any] = field(default_factory=dict, compare=False, hash=False)
+    why: Mapping[str, str] = field(default_factory=dict, compare=False, hash=False)
+    """What sets a limit, by field name (e.g. ``max_total_r_ohm``: "threshold current"), so the
+    "nothing feasible" message names the limit that excluded what."""
+
+    def reason(self, name: str) -> str:
+        """`` (what sets it)`` for the limit ``name``, or "" when nothing is recorded."""
+        text = self.why.get(name, "")
+        return f" ({text})" if text else ""
 
 
 @dataclass(frozen=True)
@@ -221,8 +231,10 @@ class CircuitKind:
         except (NothingFeasible, OutOfRange) as e:
             return str(e)
         if target.mode == "astable" and target.frequency * (1.0 - accept) > lim.max_freq_hz:
-            return (f"{format_value(target.frequency, 'Hz')} is above the {format_value(lim.max_freq_hz, 'Hz')} "
-                    f"limit of the {self.name} connection{self.limit_owner(settings)}")
+            # above the family's own maximum that maximum is to blame, else the offered share of it
+            top = "freq_ceiling_hz" if target.frequency * (1.0 - accept) > lim.freq_ceiling_hz else "max_freq_hz"
+            return (f"{format_value(target.frequency, 'Hz')} is above the {format_value(getattr(lim, top), 'Hz')} "
+                    f"limit of the {self.name} connection{self.limit_owner(settings)}{lim.reason(top)}")
         return None
 
     def limit_owner(self, settings: Settings) -> str:

@@ -31,9 +31,29 @@ class Diode(Timer555, AstableKind):
         from selector.core.parts import DIODE_N_DEFAULT
 
         n = settings.options.get("diode_n")
-        return Limits(**self.base_limits(settings, astable=True),
-                      max_ra_ohm=self.max_ra(settings),
+        lim = self.base_limits(settings, astable=True)
+        lim["why"]["max_ra_ohm"] = "threshold current through RA alone"
+        ra_acc = self.max_ra_accuracy(settings)
+        if ra_acc < self.max_ra(settings):
+            from selector.core import chips
+
+            lim["why"]["max_ra_ohm"] += f", at most {chips.TIMING_SHARE * 100:g} % of t_high"
+        return Limits(**lim, max_ra_ohm=min(self.max_ra(settings), ra_acc),
                       extra={"diode_n": float(DIODE_N_DEFAULT if n is None else n)})
+
+    def max_ra_accuracy(self, settings: Settings) -> float:
+        """Largest RA whose threshold current moves t_high by at most ``chips.TIMING_SHARE``:
+        with the diode conducting, C charges through RA toward VCC − Vf, so the sink ceiling of
+        ``chips.sink_ceiling_ohm`` applies with the spans 2VCC/3 − Vf and VCC/3 − Vf (constant-drop
+        model with Vf at 1 mA; at the µA currents near this ceiling the real drop is smaller, the
+        spans larger and the shift smaller, so the bound is safe - checked against a scipy ODE with
+        the Shockley diode in tests/reference/test_threshold_current_ceiling.py)."""
+        from selector.core import chips
+
+        vf, v3 = settings.diode_vf or 0.0, settings.vcc / 3.0
+        if not v3 - vf > 0:
+            return 0.0
+        return chips.family(settings.chip).accuracy_max_r_ohm(2.0 * v3 - vf, v3 - vf)
 
     def max_ra(self, settings: Settings) -> float:
         """Largest RA that still reaches the upper threshold: at that point the DIS node sits at

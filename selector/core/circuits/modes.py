@@ -148,6 +148,39 @@ class AstableKind(ModeBase):
         return []
 
 
+def chip_limits(fam, vcc: float, astable: bool) -> dict:
+    """The chip family's limits on the timing parts at ``vcc`` as ``Limits`` fields, each with
+    what sets it in ``why`` (the figures and their sources live in ``core.chips``):
+    - total timing R: the smaller of the oscillation ceiling VCC/(3·I_th) [S1] (capped in
+      practice) and the accuracy ceiling, where the threshold current moves the charge time by at
+      most ``chips.TIMING_SHARE`` (astable: charge from VCC/3 to 2VCC/3 toward VCC; monostable:
+      from 0 to 2VCC/3; ``chips.sink_ceiling_ohm``);
+    - astable: RB's peak power at 2VCC/3 across it (the start of the discharge; facts §7, derived),
+      the DIS pin current, and the frequency: offered up to ``chips.DELAY_FREE_FRACTION`` of the
+      family's maximum (propagation delay, not modelled), refused above the maximum itself."""
+    from selector.core import chips
+    from selector.core.notation import format_value
+
+    osc = float(fam.max_timing_r_ohm(vcc))
+    acc = fam.accuracy_max_r_ohm(2.0 * vcc / 3.0 if astable else vcc, vcc / 3.0)
+    share = f"{chips.TIMING_SHARE * 100:g} %"
+    why = {}
+    if acc < osc:
+        why["max_total_r_ohm"] = (f"threshold current {format_value(fam.threshold_current_a, 'A')} may move "
+                                  f"the timing by at most {share}")
+    else:
+        why["max_total_r_ohm"] = fam.sources.get("max_r_cap_ohm", "")
+    out = dict(max_total_r_ohm=min(osc, acc), why=why)
+    if astable:
+        frac = chips.DELAY_FREE_FRACTION
+        out.update(max_freq_hz=frac * fam.max_astable_hz, freq_ceiling_hz=fam.max_astable_hz,
+                   dis_sink_a=fam.dis_sink_a, rb_power_volts=2.0 * vcc / 3.0)
+        why["max_freq_hz"] = (f"{frac * 100:g} % of the {fam.label}'s {format_value(fam.max_astable_hz, 'Hz')}: "
+                              "above it the propagation delay lengthens the period and is not modelled")
+        why["freq_ceiling_hz"] = fam.sources.get("max_astable_hz", "")
+    return out
+
+
 class Timer555:
     """Mixin for the 555 circuits: the chip family's limits, BOM parts and SPICE device."""
 
@@ -182,11 +215,8 @@ class Timer555:
         vcc = settings.vcc
         lim = dict(vcc=vcc, r_power_derating=parts.RESISTOR_POWER_DERATING, cap_volts=vcc,
                    cap_derating=parts.voltage_derating, diode_vf=settings.diode_vf,
-                   min_r_ohm=fam.min_ra_ohm, max_total_r_ohm=float(fam.max_timing_r_ohm(vcc)),
-                   min_c_f=fam.min_timing_c_f, r_power_volts=vcc)
-        if astable:
-            lim["max_freq_hz"] = fam.max_astable_hz
-            lim["dis_sink_a"] = fam.dis_sink_a
+                   min_r_ohm=fam.min_ra_ohm, min_c_f=fam.min_timing_c_f, r_power_volts=vcc)
+        lim.update(chip_limits(fam, vcc, astable))
         from selector.core.circuits.base import Uncertain
 
         lim["chip_terms"] = tuple(Uncertain(name, 1.0, band, band, label, in_parts_only=False)
@@ -249,7 +279,7 @@ class Timer555:
 
     def spice_device(self, c, pins: str) -> list[str]:
         """The 555 instance (pins in data-sheet order after X555) and its subcircuit."""
-        return [f"X555 {pins} SEL555_" + c.chip.family.upper()] + sp.subckt_555(c.chip)
+        return [f"X555 {pins} " + sp.subckt_name(c.chip.family)] + sp.subckt_555(c.chip)
 
 
 class MonostableKind(ModeBase):

@@ -29,6 +29,11 @@ class OutputFed(Timer555, FixedRatioAstable):
         voh, vol = float(fam.voh(vcc)), float(fam.vol(vcc))
         lim.update(voh=voh, vol=vol,
                    r_power_volts=math.sqrt(float(timing.output_fed_power_w(1.0, voh, vol, vcc))))
+        r_out_min = fam.output_fed_min_r_ohm()  # output resistance ≤ TIMING_SHARE of each half
+        if r_out_min > lim["min_r_ohm"]:
+            lim["min_r_ohm"] = r_out_min
+            lim["why"]["min_r_ohm"] = (f"the output's own resistance may lengthen each half by at most "
+                                       f"{chips.TIMING_SHARE * 100:g} %")
         return Limits(**lim)
 
     def factors(self, limits: Limits) -> tuple[float, float]:

@@ -92,6 +92,9 @@ class _Pass:
         self.c_vals = c_index.values(c_ids) if c_ids.size else np.zeros(0)
         self.lim = limits
         self.power = power
+        # RB's own power check (issue 10): peak (2VCC/3)²/RB at the start of the discharge, per
+        # part, against rating × derating; a condition on RB alone, applied before a pair is scored
+        self.rb_power = PowerCheck(r_index, getattr(limits, "rb_power_volts", 0.0), limits.r_power_derating)
         self.ex = ex
         self.chunk = chunk
         # When every line holds enough for two networks of the largest size on every board, RA
@@ -143,10 +146,10 @@ class _Pass:
             empty_rest = empty & ~dis_empty
             self.ex.add(f"RA/RB pairs needing RA above the {_fmt(max_ra, 'Ω')} maximum RA (threshold "
                         "current through RA alone)", (empty_rest & ~freq_bound & ra_bound).sum())
-            self.ex.add("RA/RB pairs over the total timing resistance limit",
-                        (empty_rest & ~freq_bound & ~ra_bound).sum())
-            self.ex.add(f"combinations above the {_fmt(lim.max_freq_hz, 'Hz')} maximum frequency",
-                        (empty_rest & freq_bound).sum())
+            self.ex.add(f"RA/RB pairs over the {_fmt(lim.max_total_r_ohm, 'Ω')} total timing resistance "
+                        f"limit{_why(lim, 'max_total_r_ohm')}", (empty_rest & ~freq_bound & ~ra_bound).sum())
+            self.ex.add(f"combinations above the {_fmt(lim.max_freq_hz, 'Hz')} maximum frequency"
+                        f"{_why(lim, 'max_freq_hz')}", (empty_rest & freq_bound).sum())
 
         def ok(ids, rows):
             good = self.power.ok(ids)
@@ -184,8 +187,15 @@ class _Pass:
             if rows.size:  # a network between the maximum RA and the total limit: that limit excluded it
                 offsets, _ids = self.r.between(np.full(rows.size, max_ra * (1 + 1e-9)), hi_total[rows])
                 over_ra[rows] = np.diff(offsets) > 0
+        over_total = np.zeros(n, dtype=bool)
+        rows = np.flatnonzero(nothing & ~over_ra & ~ra_bound & np.isfinite(hi_total))
+        if rows.size:  # a network above RA + RB's ceiling (and no RA below it): that limit excluded it
+            _b, above = self.r.nearest_sides(hi_total[rows] * (1 + 1e-9), 1)
+            over_total[rows] = np.asarray(above).reshape(rows.size, -1)[:, 0] >= 0
+        self.ex.add(f"RA/RB pairs over the {_fmt(lim.max_total_r_ohm, 'Ω')} total timing resistance "
+                    f"limit{_why(lim, 'max_total_r_ohm')}", over_total.sum())
         over_dis = np.zeros(n, dtype=bool)
-        rows = np.flatnonzero(nothing & ~over_ra & (ra_dis > lim.min_r_ohm))
+        rows = np.flatnonzero(nothing & ~over_ra & ~over_total & (ra_dis > lim.min_r_ohm))
         if rows.size:  # a network between the minimum RA and the DIS-current bound excluded
             offsets, _ids = self.r.between(np.full(rows.size, lim.min_r_ohm),
                                            np.minimum(ra_dis[rows], hi[rows]) * (1 - 1e-9))
@@ -195,7 +205,7 @@ class _Pass:
         self.ex.add(f"RA/RB pairs over the {_fmt(sink, 'A')} DIS pin current ((2VCC/3)/RB + VCC/RA)",
                     over_dis.sum())
         self.ex.add("RA/RB pairs with no RA in range (over its power rating or sharing stock with RB)",
-                    (nothing & ~over_ra & ~over_dis).sum())
+                    (nothing & ~over_ra & ~over_total & ~over_dis).sum())
         return best_id, best_err, th_out, tl_out
 
     def _best_ra_window(self, cv, rb, lo, hi, empty, bound, ok):
@@ -233,6 +243,11 @@ class _Pass:
 
     def _eval_pairs(self, ci, rb_id, bound: Optional[float] = None):
         """Evaluate pairs given by positions ``ci`` into c_ids and RB ids; returns rows kept."""
+        good = self.rb_power.ok(rb_id)
+        if not good.all():
+            self.ex.add(f"(C, RB) pairs with RB over its power rating (peak (2VCC/3)²/RB above "
+                        f"{self.lim.r_power_derating:.0%} of the rating)", (~good).sum())
+            ci, rb_id = ci[good], rb_id[good]
         cv = self.c_vals[ci]
         rb = self.r.values(rb_id)
         ra_id, err, th, tl = self._best_ra(cv, rb_id, rb, bound)
@@ -247,7 +262,7 @@ class _Pass:
             _b, above = self.r.nearest_sides(np.array([self.lim.min_r_ohm * (1 - _SLACK)]), 1)
             if int(np.asarray(above).ravel()[0]) < 0:
                 self.ex.add(f"resistor networks below the {_fmt(self.lim.min_r_ohm, 'Ω')} minimum "
-                            "RA / R (all of them)", len(self.r))
+                            f"RA / R{_why(self.lim, 'min_r_ohm')} (all of them)", len(self.r))
                 return False
         return True
 
@@ -342,7 +357,7 @@ class _Pass:
         for sl in _chunks(pos.size, self.chunk):
             ci = pos[sl]
             below, above = _nearest_feasible(self.r, rb_star[sl], np.zeros(ci.size), rb_hi_all[sl],
-                                             lambda ids, rows: np.ones(ids.shape, dtype=bool))
+                                             lambda ids, rows: self.rb_power.ok(ids))
             above = np.where(above == below, -1, above)  # an exact hit is found on both sides
             cc = np.concatenate([ci[below >= 0], ci[above >= 0]])
             rr = np.concatenate([below[below >= 0], above[above >= 0]])
@@ -377,7 +392,7 @@ class _Pass:
             bound = _kth_distinct(found, pool, 2)
             if math.isfinite(bound) and self._run1_ordered(found, bound, pool, progress):
                 lo, hi = p.r_bounds1(self.c_vals)
-                self.ex.add("C networks needing R outside the allowed range", (lo > hi * (1 + _SLACK)).sum())
+                self.ex.add(_r_range_text(self.lim), (lo > hi * (1 + _SLACK)).sum())
                 return self._collect(found, pool, two=False)
         found = []
         for sl in _chunks(nc, self.chunk):
@@ -395,9 +410,16 @@ class _Pass:
         empty = lo > hi * (1 + _SLACK)
         below, above = _nearest_feasible(self.r, r_star, lo, hi, lambda ids, rows: self.power.ok(ids))
         if count:
-            self.ex.add("C networks needing R outside the allowed range", empty.sum())
-            self.ex.add("C networks with no R in range within its power rating",
-                        ((below < 0) & (above < 0) & ~empty).sum())
+            self.ex.add(_r_range_text(self.lim), empty.sum())
+            none = (below < 0) & (above < 0) & ~empty
+            over = np.zeros(none.shape, dtype=bool)
+            rows = np.flatnonzero(none & np.isfinite(hi))
+            if rows.size:  # a network above the maximum R: that limit excluded it
+                _b, up = self.r.nearest_sides(hi[rows] * (1 + 1e-9), 1)
+                over[rows] = np.asarray(up).reshape(rows.size, -1)[:, 0] >= 0
+            self.ex.add(f"C networks whose R would be above the {_fmt(self.lim.max_total_r_ohm, 'Ω')} maximum R"
+                        f"{_why(self.lim, 'max_total_r_ohm')}", over.sum())
+            self.ex.add("C networks with no R in range within its power rating", (none & ~over).sum())
         found = []
         for side in (below, above):
             has = side >= 0
@@ -485,6 +507,24 @@ class _Pass:
                 out.append(Hit(int(self.c_ids[ci[j]]), (int(r[j]),), float(err[j]),
                                float(th[j]), float(tl[j]), float(tt[j])))
         return out
+
+
+# --------------------------------------------------------------------------- limit wording
+
+
+def _why(lim, name: str) -> str:
+    """`` (what sets it)`` for a limit (``Limits.reason``; "" for limits without one)."""
+    reason = getattr(lim, "reason", None)
+    return reason(name) if reason is not None else ""
+
+
+def _r_range_text(lim) -> str:
+    """The one-resistor exclusion, naming the R range and what sets each end."""
+    text = (f"C networks needing R outside {_fmt(lim.min_r_ohm, 'Ω')}{_why(lim, 'min_r_ohm')} to "
+            f"{_fmt(lim.max_total_r_ohm, 'Ω')}{_why(lim, 'max_total_r_ohm')}")
+    if math.isfinite(lim.max_freq_hz):
+        text += f" or above the {_fmt(lim.max_freq_hz, 'Hz')} maximum frequency{_why(lim, 'max_freq_hz')}"
+    return text
 
 
 # --------------------------------------------------------------------------- bounds

@@ -180,7 +180,10 @@ def reference_best(r_lines, c_lines, target, connection, lim, max_parts, boards,
     if connection in ("standard", "diode"):
         ra_ok = [n for n in rn if lim.min_r_ohm * (1 - 1e-9) <= n[0] <= lim.max_ra_ohm * (1 + 1e-9)
                  and power_ok(n, lim.r_power_volts, lim.r_power_derating)]
-        for ra, rb in itertools.product(ra_ok, rn):
+        # RB's own power (issue 10): peak (2VCC/3)²/RB at the start of the discharge, every part
+        # within rating × derating (facts §7, derived; 50 % derating common practice)
+        rb_ok = [n for n in rn if power_ok(n, lim.rb_power_volts, lim.r_power_derating)]
+        for ra, rb in itertools.product(ra_ok, rb_ok):
             if ra[0] + rb[0] > lim.max_total_r_ohm * (1 + 1e-9):
                 continue
             if not fits([ra, rb], r_lines, boards):
@@ -270,6 +273,7 @@ def cases(draw, connection, max_parts_max=3):
         min_c_f=draw(st.sampled_from([0.0, 1e-10, 1e-9])),
         max_freq_hz=draw(st.sampled_from([math.inf, 1e5, 1e3])) if connection != "monostable" else math.inf,
         r_power_volts=draw(st.sampled_from([0.0, vcc, 3 * vcc])),
+        rb_power_volts=draw(st.sampled_from([0.0, 2 * vcc / 3, 6 * vcc])),
         r_power_derating=0.5,
         cap_volts=draw(st.sampled_from([0.0, vcc])),
         cap_derating=_derating,
