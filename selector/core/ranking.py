@@ -322,15 +322,23 @@ def _line_key(ln) -> tuple:
     return (round(max(ln.tol_minus, ln.tol_plus), 12), _dielectric_rank(ln), -ln.quantity, ln.id)
 
 
-def more_variants(found, stock: Sequence, boards: int, limits) -> list:
-    """Other variants of the same build from the stock: the best one assembled part by part
-    (each part from the tightest, best-dielectric, fullest line of its value that still has
-    ``boards`` parts left) and every variant that swaps one part of it for another line."""
+def lines_by_value(stock: Sequence) -> dict:
+    """The stock lines grouped by (kind, value), each group best line first (``_line_key``)."""
     by_value: dict = {}
     for ln in stock:
         by_value.setdefault((ln.kind, ln.value), []).append(ln)
     for v in by_value.values():
         v.sort(key=_line_key)
+    return by_value
+
+
+def more_variants(found, stock: Sequence, boards: int, limits, by_value: Optional[dict] = None) -> list:
+    """Other variants of the same build from the stock: the best one assembled part by part
+    (each part from the tightest, best-dielectric, fullest line of its value that still has
+    ``boards`` parts left) and every variant that swaps one part of it for another line.
+    ``by_value``: ``lines_by_value(stock)`` when the caller has it (one grouping for many builds)."""
+    if by_value is None:
+        by_value = lines_by_value(stock)
     roles = sorted(found.networks)
     used: dict = {}
     best: dict = {}
@@ -389,10 +397,11 @@ def fold_builds(found_options: Sequence, stock: Sequence = (), boards: int = 1,
     for o in found_options:
         groups.setdefault(build_key(o), []).append(o)
     shown, others = [], {}
+    by_value = lines_by_value(stock) if stock else {}
     for variants in groups.values():
         if stock:
             lim = (limits_by_connection or {}).get(variants[0].connection)
-            variants = variants + more_variants(variants[0], stock, boards, lim)
+            variants = variants + more_variants(variants[0], stock, boards, lim, by_value)
         unique = distinct_variants(variants)
         shown.append(unique[0])
         others[id(unique[0])] = unique[1:]
