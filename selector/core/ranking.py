@@ -172,20 +172,8 @@ def evaluate(found, target, limits, accept: float, distribution: str = "uniform"
     lows, highs = tolerance.band(nominal, tm, tp)
     cmin, cmax = tolerance.corners(fn, list(lows), list(highs))
     if monte_carlo:
-        rng = tolerance.rng_for(seed)
         n = int(samples) if screen else max(int(samples), tolerance.MIN_SAMPLES)
-        k = fn.n_parts_only
-        # parts (and a circuit's own thresholds) drawn first, exactly as a parts-only run draws
-        # them; the chip, supply and diode terms after them from the same generator
-        draws = tolerance.draw_parts(nominal[:k], tm[:k], tp[:k], n, rng, distribution)
-        if k < len(nominal):
-            rest = tolerance.draw_parts(nominal[k:], tm[k:], tp[k:], n, rng, distribution)
-            parts_outs = [np.asarray(o, dtype=float) for o in
-                          fn(*draws, *[np.full(n, v) for v in nominal[k:]])]
-            draws = np.concatenate([draws, rest])
-        outs = [np.asarray(o, dtype=float) for o in fn(*draws)]
-        if k == len(nominal):
-            parts_outs = outs
+        outs, parts_outs = _monte_carlo(fn, nominal, tm, tp, n, seed, distribution)
     else:
         outs = [np.array([np.nan]) for _ in names]
     predicted, rng_out = {}, {}
@@ -207,6 +195,39 @@ def evaluate(found, target, limits, accept: float, distribution: str = "uniform"
     return RankedOption(found, predicted, rng_out, y, spread, score, cautions(found, target, limits),
                         errors=errs, asked_error=asked, tier=tier_of(asked, accept),
                         yield_parts_only=y_parts, yield_samples=n if monte_carlo else 0)
+
+
+def _monte_carlo(fn, nominal, tm, tp, n: int, seed: int, distribution: str, parts_only: bool = True):
+    """(outputs with every term drawn, outputs with the parts alone or None) over ``n`` seeded
+    builds. Parts (and a circuit's own thresholds) are drawn first, exactly as a parts-only run
+    draws them; the chip, supply and diode terms after them from the same generator."""
+    from selector.core import tolerance
+
+    rng = tolerance.rng_for(seed)
+    k = fn.n_parts_only
+    draws = tolerance.draw_parts(nominal[:k], tm[:k], tp[:k], n, rng, distribution)
+    parts_outs = None
+    if k < len(nominal):
+        rest = tolerance.draw_parts(nominal[k:], tm[k:], tp[k:], n, rng, distribution)
+        if parts_only:
+            parts_outs = [np.asarray(o, dtype=float) for o in
+                          fn(*draws, *[np.full(n, v) for v in nominal[k:]])]
+        draws = np.concatenate([draws, rest])
+    outs = [np.asarray(o, dtype=float) for o in fn(*draws)]
+    if k == len(nominal):
+        parts_outs = outs
+    return outs, parts_outs
+
+
+def yield_only(found, target, limits, accept: float, distribution: str, samples: int, seed: int) -> float:
+    """The ``yield_fraction`` that ``evaluate(..., samples, seed, screen=True)`` gives, without the
+    nominal values, corners and parts-only run (for a listed option's alternatives)."""
+    fn, _names, inputs, kind = _model(found, target, limits)
+    nominal = np.array([x[0] for x in inputs], dtype=float)
+    tm = np.array([x[1] for x in inputs], dtype=float)
+    tp = np.array([x[2] for x in inputs], dtype=float)
+    outs, _ = _monte_carlo(fn, nominal, tm, tp, int(samples), seed, distribution, parts_only=False)
+    return float(np.mean(kind.in_spec(outs, target, accept)))
 
 
 def cautions(found, target, limits) -> list:
@@ -445,7 +466,7 @@ def evaluate_and_rank(found_options: Sequence, target, limits_by_connection: dic
     shown = rank(full, top)
     n_alt = min(int(samples), ALTERNATIVE_SAMPLES)
     for o in shown:
-        o.alternatives = [(v, simulate(v, n_alt).yield_fraction)
+        o.alternatives = [(v, simulate.yield_of(v, n_alt))
                           for v in others.get(id(o.found), [])[:MAX_ALTERNATIVES]]
         o.alternative_samples = simulate.samples_used(n_alt)
     return shown
@@ -482,6 +503,18 @@ class _Simulations:
         self.args = (target, limits_by_connection, accept, distribution, seed)
         self.full = samples
         self.memo: dict = {}
+
+    def yield_of(self, found, n: int) -> float:
+        """The yield alone (``yield_only``) on ``n`` builds, remembered like ``__call__``."""
+        key = (_electrical_key(found), n)
+        done = self.memo.get(key)
+        if done is not None:
+            return done.yield_fraction
+        key = ("yield",) + key
+        if key not in self.memo:
+            target, limits, accept, distribution, seed = self.args
+            self.memo[key] = yield_only(found, target, limits[found.connection], accept, distribution, n, seed)
+        return self.memo[key]
 
     def samples_used(self, n: int) -> int:
         """The builds a call with ``n`` actually draws (the full sample is at least MIN_SAMPLES)."""
