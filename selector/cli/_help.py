@@ -16,8 +16,12 @@ import re
 import textwrap
 from typing import Any, Sequence
 
-from typer._click.core import Context
-from typer._click.formatting import HelpFormatter, iter_rows, measure_table, term_len
+try:  # typer >= 0.2x carries its own click
+    from typer._click.core import Context
+    from typer._click.formatting import HelpFormatter, iter_rows, measure_table, term_len
+except ImportError:  # pragma: no cover - an older typer runs on the click package
+    from click.core import Context
+    from click.formatting import HelpFormatter, iter_rows, measure_table, term_len
 
 _NBSP = "\u00a0"  # a space textwrap does not break at; put back after wrapping
 _KEPT_WHOLE = re.compile(r"\[[^\[\]\n]{1,40}\]|`[^`\n]{1,40}`|\([^()\n]{1,24}\)")  # [default: 9V], `ngspice -b FILE`, (a - b)
