@@ -88,7 +88,12 @@ def _convert(param: Any) -> None:
 
 def install(command: Any) -> None:
     """Give every parameter of ``command`` and its sub-commands the direct conversion (the
-    ``--help`` option too, which click makes on first use)."""
+    ``--help`` option too, which click makes on first use), and plain help (``_help``)."""
+    from selector.cli import _help
+
+    _help.apply(command)
+    for sub in getattr(command, "commands", {}).values():
+        install(sub)
     if RuntimeParam is None:  # pragma: no cover
         return
     for param in getattr(command, "params", ()):
@@ -103,12 +108,11 @@ def install(command: Any) -> None:
             return option
 
         command.get_help_option = get_help_option
-    for sub in getattr(command, "commands", {}).values():
-        install(sub)
 
 
 class Group(typer.core.TyperGroup):
-    """The root group: installs the direct conversion on the whole command tree once it is built."""
+    """The root group: installs the direct conversion and plain help on the whole command tree
+    once it is built."""
 
     def __init__(self, *args: Any, **kwargs: Any) -> None:
         super().__init__(*args, **kwargs)

@@ -9,22 +9,23 @@ from typing import Optional
 
 import typer
 
+from selector.cli._choices import ASTABLE_CONNECTIONS, ASTABLE_OPTIONS, CHIP_FAMILIES
 from selector.cli._common import db_arg, fail, handles_errors, json_text, whole
-from selector.core import chips, circuits  # the family table and the registry: light, no numpy
 from selector.core.limits import MAX_BOARDS, MAX_SAMPLES, MAX_SEED, MAX_TOP
 from selector.core.parts import DIODE_N_DEFAULT, DIODE_TYPES, DIODE_VF_DEFAULT
 
-_ASTABLES = circuits.for_mode("astable")
+# The registry (core.circuits) and the chip table are imported only when a search runs: the
+# command line is built from their copy in _choices (checked against them by a test).
 
-ConnectionChoice = Enum("ConnectionChoice", {"auto": "auto", **{k.key.replace("-", "_"): k.key for k in _ASTABLES}},
+ConnectionChoice = Enum("ConnectionChoice",
+                        {"auto": "auto", **{key.replace("-", "_"): key for key, _ in ASTABLE_CONNECTIONS}},
                         type=str)
 """--connection choices: auto and every astable circuit kind in the registry."""
 
-_CONNECTION_HELP = ("Wiring: " + ", ".join(k.help for k in _ASTABLES if getattr(k, "help", ""))
-                    + ", or auto.")
+_CONNECTION_HELP = "Wiring: " + ", ".join(text for _, text in ASTABLE_CONNECTIONS if text) + ", or auto."
 
 
-ChipChoice = Enum("ChipChoice", {key: key for key in chips.FAMILIES}, type=str)
+ChipChoice = Enum("ChipChoice", {key: key for key in CHIP_FAMILIES}, type=str)
 """--chip choices: every 555 family in core.chips (a new family is one entry there)."""
 
 
@@ -60,10 +61,12 @@ def _circuit_options(connection: str, given: dict) -> dict:
     """Parse the circuit options given on the command line; an option of another circuit kind
     than the one searched is a usage error (exit 2)."""
 
+    from selector.core import circuits
+
     kind = circuits.REGISTRY.get(connection)
     own = {o.field for o in kind.options} if kind is not None else set()
     out = {}
-    for kind_ in _ASTABLES:
+    for kind_ in circuits.for_mode("astable"):
         for opt in kind_.options:
             raw = given.get(opt.field)
             if raw is None:
@@ -80,21 +83,15 @@ def _with_circuit_options(fn):
     of its ``**`` parameter (which receives them); typer reads the signature."""
     sig = inspect.signature(fn)
     params = [p for p in sig.parameters.values() if p.kind is not inspect.Parameter.VAR_KEYWORD]
-    seen = set()
-    for kind in _ASTABLES:
-        for opt in kind.options:
-            if opt.field in seen:
-                continue
-            seen.add(opt.field)
-            if opt.choices:
-                choice = Enum(opt.field + "Choice", {c: c for c in opt.choices}, type=str)
-                annotation = Optional[choice]
-            else:
-                annotation = Optional[str]
-            default = typer.Option(None, f"--{opt.name}", help=opt.help,
-                                   **({"metavar": opt.metavar} if not opt.choices else {}))
-            params.append(inspect.Parameter(opt.field, inspect.Parameter.KEYWORD_ONLY, default=default,
-                                            annotation=annotation))
+    for name, help_text, metavar, choices in ASTABLE_OPTIONS:
+        field = name.replace("-", "_")
+        if choices:
+            annotation = Optional[Enum(field + "Choice", {c: c for c in choices}, type=str)]
+        else:
+            annotation = Optional[str]
+        default = typer.Option(None, f"--{name}", help=help_text, **({"metavar": metavar} if not choices else {}))
+        params.append(inspect.Parameter(field, inspect.Parameter.KEYWORD_ONLY, default=default,
+                                        annotation=annotation))
     fn.__signature__ = sig.replace(parameters=params)
     return fn
 
@@ -161,6 +158,7 @@ def astable(
     **more,
 ) -> None:
     """Find RA, RB and C networks in stock for an astable (free-running) 555 at a frequency and duty."""
+    from selector.core import circuits
 
     kind = circuits.REGISTRY.get(connection.value)
     if duty is None and not (kind is not None and kind.duty_fixed):

@@ -69,6 +69,13 @@ class RankedOption:
     yield_group: int = 0
     alternatives: list = field(default_factory=list)  # (FoundOption, yield) of the same build
     yield_parts_only: float = math.nan   # the same Monte Carlo with the chip, supply and diode terms at nominal
+    yield_samples: int = 0   # Monte Carlo builds behind ``yield_fraction`` (0: not simulated)
+    alternative_samples: int = 0   # Monte Carlo builds behind each alternative's yield
+
+    @property
+    def yield_standard_error(self) -> float:
+        """Binomial standard error of ``yield_fraction``: sqrt(y(1 - y)/n) (nan when not simulated)."""
+        return binomial_se(self.yield_fraction, self.yield_samples)
 
     @property
     def connection(self) -> str:
@@ -95,6 +102,14 @@ class RankedOption:
         if self.tier < 2:
             return (self.tier, self.yield_group, self.nparts, self.asked_error, abs(self.error))
         return (self.tier, self.yield_group, self.asked_error, self.nparts, abs(self.error))
+
+
+def binomial_se(y: float, n: int) -> float:
+    """Standard error of a yield ``y`` measured on ``n`` independent builds: sqrt(y(1 - y)/n)
+    (nan when not simulated)."""
+    if not n or math.isnan(y):
+        return math.nan
+    return math.sqrt(y * (1.0 - y) / n)
 
 
 def tier_of(asked_error: float, accept: float) -> int:
@@ -143,9 +158,10 @@ def _model(found, target, limits):
 
 
 def evaluate(found, target, limits, accept: float, distribution: str = "uniform", samples: int = 10_000,
-             seed: int = 0, monte_carlo: bool = True) -> RankedOption:
+             seed: int = 0, monte_carlo: bool = True, screen: bool = False) -> RankedOption:
     """Predictions, worst-case range, Monte Carlo yield and cautions of one option
-    (``monte_carlo=False``: corners only, yield nan - for a first cut of a large pool)."""
+    (``monte_carlo=False``: corners only, yield nan - for a first cut of a large pool;
+    ``screen=True``: exactly ``samples`` builds, even below ``MIN_SAMPLES``, to screen contenders)."""
     from selector.core import tolerance
 
     fn, names, inputs, kind = _model(found, target, limits)
@@ -156,20 +172,8 @@ def evaluate(found, target, limits, accept: float, distribution: str = "uniform"
     lows, highs = tolerance.band(nominal, tm, tp)
     cmin, cmax = tolerance.corners(fn, list(lows), list(highs))
     if monte_carlo:
-        rng = tolerance.rng_for(seed)
-        n = max(int(samples), tolerance.MIN_SAMPLES)
-        k = fn.n_parts_only
-        # parts (and a circuit's own thresholds) drawn first, exactly as a parts-only run draws
-        # them; the chip, supply and diode terms after them from the same generator
-        draws = tolerance.draw_parts(nominal[:k], tm[:k], tp[:k], n, rng, distribution)
-        if k < len(nominal):
-            rest = tolerance.draw_parts(nominal[k:], tm[k:], tp[k:], n, rng, distribution)
-            parts_outs = [np.asarray(o, dtype=float) for o in
-                          fn(*draws, *[np.full(n, v) for v in nominal[k:]])]
-            draws = np.concatenate([draws, rest])
-        outs = [np.asarray(o, dtype=float) for o in fn(*draws)]
-        if k == len(nominal):
-            parts_outs = outs
+        n = int(samples) if screen else max(int(samples), tolerance.MIN_SAMPLES)
+        outs, parts_outs = _monte_carlo(fn, nominal, tm, tp, n, seed, distribution)
     else:
         outs = [np.array([np.nan]) for _ in names]
     predicted, rng_out = {}, {}
@@ -190,7 +194,40 @@ def evaluate(found, target, limits, accept: float, distribution: str = "uniform"
     asked = kind.asked_error(errs, target)
     return RankedOption(found, predicted, rng_out, y, spread, score, cautions(found, target, limits),
                         errors=errs, asked_error=asked, tier=tier_of(asked, accept),
-                        yield_parts_only=y_parts)
+                        yield_parts_only=y_parts, yield_samples=n if monte_carlo else 0)
+
+
+def _monte_carlo(fn, nominal, tm, tp, n: int, seed: int, distribution: str, parts_only: bool = True):
+    """(outputs with every term drawn, outputs with the parts alone or None) over ``n`` seeded
+    builds. Parts (and a circuit's own thresholds) are drawn first, exactly as a parts-only run
+    draws them; the chip, supply and diode terms after them from the same generator."""
+    from selector.core import tolerance
+
+    rng = tolerance.rng_for(seed)
+    k = fn.n_parts_only
+    draws = tolerance.draw_parts(nominal[:k], tm[:k], tp[:k], n, rng, distribution)
+    parts_outs = None
+    if k < len(nominal):
+        rest = tolerance.draw_parts(nominal[k:], tm[k:], tp[k:], n, rng, distribution)
+        if parts_only:
+            parts_outs = [np.asarray(o, dtype=float) for o in
+                          fn(*draws, *[np.full(n, v) for v in nominal[k:]])]
+        draws = np.concatenate([draws, rest])
+    outs = [np.asarray(o, dtype=float) for o in fn(*draws)]
+    if k == len(nominal):
+        parts_outs = outs
+    return outs, parts_outs
+
+
+def yield_only(found, target, limits, accept: float, distribution: str, samples: int, seed: int) -> float:
+    """The ``yield_fraction`` that ``evaluate(..., samples, seed, screen=True)`` gives, without the
+    nominal values, corners and parts-only run (for a listed option's alternatives)."""
+    fn, _names, inputs, kind = _model(found, target, limits)
+    nominal = np.array([x[0] for x in inputs], dtype=float)
+    tm = np.array([x[1] for x in inputs], dtype=float)
+    tp = np.array([x[2] for x in inputs], dtype=float)
+    outs, _ = _monte_carlo(fn, nominal, tm, tp, int(samples), seed, distribution, parts_only=False)
+    return float(np.mean(kind.in_spec(outs, target, accept)))
 
 
 def cautions(found, target, limits) -> list:
@@ -306,15 +343,23 @@ def _line_key(ln) -> tuple:
     return (round(max(ln.tol_minus, ln.tol_plus), 12), _dielectric_rank(ln), -ln.quantity, ln.id)
 
 
-def more_variants(found, stock: Sequence, boards: int, limits) -> list:
-    """Other variants of the same build from the stock: the best one assembled part by part
-    (each part from the tightest, best-dielectric, fullest line of its value that still has
-    ``boards`` parts left) and every variant that swaps one part of it for another line."""
+def lines_by_value(stock: Sequence) -> dict:
+    """The stock lines grouped by (kind, value), each group best line first (``_line_key``)."""
     by_value: dict = {}
     for ln in stock:
         by_value.setdefault((ln.kind, ln.value), []).append(ln)
     for v in by_value.values():
         v.sort(key=_line_key)
+    return by_value
+
+
+def more_variants(found, stock: Sequence, boards: int, limits, by_value: Optional[dict] = None) -> list:
+    """Other variants of the same build from the stock: the best one assembled part by part
+    (each part from the tightest, best-dielectric, fullest line of its value that still has
+    ``boards`` parts left) and every variant that swaps one part of it for another line.
+    ``by_value``: ``lines_by_value(stock)`` when the caller has it (one grouping for many builds)."""
+    if by_value is None:
+        by_value = lines_by_value(stock)
     roles = sorted(found.networks)
     used: dict = {}
     best: dict = {}
@@ -373,10 +418,11 @@ def fold_builds(found_options: Sequence, stock: Sequence = (), boards: int = 1,
     for o in found_options:
         groups.setdefault(build_key(o), []).append(o)
     shown, others = [], {}
+    by_value = lines_by_value(stock) if stock else {}
     for variants in groups.values():
         if stock:
             lim = (limits_by_connection or {}).get(variants[0].connection)
-            variants = variants + more_variants(variants[0], stock, boards, lim)
+            variants = variants + more_variants(variants[0], stock, boards, lim, by_value)
         unique = distinct_variants(variants)
         shown.append(unique[0])
         others[id(unique[0])] = unique[1:]
@@ -406,15 +452,89 @@ def evaluate_and_rank(found_options: Sequence, target, limits_by_connection: dic
     for o in by_parts[:k] + by_score[:k] + by_error[:k] + [best]:
         if o not in chosen:
             chosen.append(o)
-    full = [evaluate(o.found, target, limits_by_connection[o.connection], accept, distribution,
-                     samples, seed) for o in chosen]
+    simulate = _Simulations(target, limits_by_connection, accept, distribution, samples, seed)
+    if samples > SCREEN_SAMPLES and len(chosen) > top:
+        # screen every contender with a smaller sample, then the full sample only for the head
+        # of that order (the ones that can be listed) and the exact best; rank those
+        screened = rank([simulate(o.found, SCREEN_SAMPLES) for o in chosen], len(chosen))
+        head = [o.found for o in screened[:int(top) + SCREEN_MARGIN]]
+        if not any(f is best.found for f in head):
+            head.append(best.found)
+        full = [simulate(f, samples) for f in head]
+    else:
+        full = [simulate(o.found, samples) for o in chosen]
     shown = rank(full, top)
+    n_alt = min(int(samples), ALTERNATIVE_SAMPLES)
     for o in shown:
-        o.alternatives = [
-            (v, evaluate(v, target, limits_by_connection[v.connection], accept, distribution,
-                         samples, seed).yield_fraction)
-            for v in others.get(id(o.found), [])[:MAX_ALTERNATIVES]]
+        o.alternatives = [(v, simulate.yield_of(v, n_alt))
+                          for v in others.get(id(o.found), [])[:MAX_ALTERNATIVES]]
+        o.alternative_samples = simulate.samples_used(n_alt)
     return shown
+
+
+SCREEN_SAMPLES = 2_000
+"""Monte Carlo builds per contender when screening which options get the full sample (standard
+error at most 1.1 points, at a yield of 50 %)."""
+ALTERNATIVE_SAMPLES = SCREEN_SAMPLES
+"""Monte Carlo builds behind an alternative's yield (the same build from other drawers: it is
+listed beside its option, not ranked), stated in the JSON with its standard error."""
+SCREEN_MARGIN = 5
+"""Contenders beyond ``top`` (in the screened order) that get the full sample too, so an option
+that the smaller sample ranked just below the cut can still take its place."""
+
+
+def _electrical_key(found) -> tuple:
+    """What a Monte Carlo run of one option depends on besides the settings: the connection and,
+    per role, the network's structure and each physical part's value and tolerances in combine
+    order. Two variants with the same key (the same parts from other drawers) get the same draws
+    and so the same yield."""
+    return (found.connection,) + tuple(
+        (role, net.structure, tuple((p.value, p.tol_minus, p.tol_plus) for p in net.physical))
+        for role, net in sorted(found.networks.items()))
+
+
+class _Simulations:
+    """``evaluate`` with the Monte Carlo, remembered per (electrical key, sample count): the same
+    seed and inputs give the same figures, so a variant that differs only in its drawers is not
+    simulated again. The cautions depend on the stock lines (ratings, dielectric), so each call
+    still returns the option's own ``RankedOption``."""
+
+    def __init__(self, target, limits_by_connection, accept, distribution, samples, seed):
+        self.args = (target, limits_by_connection, accept, distribution, seed)
+        self.full = samples
+        self.memo: dict = {}
+
+    def yield_of(self, found, n: int) -> float:
+        """The yield alone (``yield_only``) on ``n`` builds, remembered like ``__call__``."""
+        key = (_electrical_key(found), n)
+        done = self.memo.get(key)
+        if done is not None:
+            return done.yield_fraction
+        key = ("yield",) + key
+        if key not in self.memo:
+            target, limits, accept, distribution, seed = self.args
+            self.memo[key] = yield_only(found, target, limits[found.connection], accept, distribution, n, seed)
+        return self.memo[key]
+
+    def samples_used(self, n: int) -> int:
+        """The builds a call with ``n`` actually draws (the full sample is at least MIN_SAMPLES)."""
+        from selector.core.tolerance import MIN_SAMPLES
+
+        return int(n) if n < self.full else max(int(n), MIN_SAMPLES)
+
+    def __call__(self, found, n: int) -> RankedOption:
+        import dataclasses
+
+        target, limits, accept, distribution, seed = self.args
+        key = (_electrical_key(found), n)
+        done = self.memo.get(key)
+        if done is None:
+            done = evaluate(found, target, limits[found.connection], accept, distribution, n, seed,
+                            screen=n < self.full)
+            self.memo[key] = done
+            return done
+        return dataclasses.replace(done, found=found, cautions=cautions(found, target, limits[found.connection]),
+                                   rank=0, is_best_error=False, why="", yield_group=0, alternatives=[])
 
 
 def yield_group_ids(yields: Sequence[float]) -> list[int]:

@@ -189,9 +189,18 @@ def alternative_lines(report, width: int) -> list[str]:
         lines_ = sorted({p["line_id"] for n in nets.values() for p in n.get("parts", []) if "line_id" in p})
         text = (f"  {i}. " + "  ".join(items) + f"  drawers {where}"
                 + (f" (lines {', '.join(map(str, lines_))})" if lines_ else "")
-                + (f", yield {yield_text(alt.get('yield'))}" if alt.get("yield") is not None else ""))
+                + (f", yield {yield_text(alt.get('yield'))}{_sample_note(alt)}" if alt.get("yield") is not None else ""))
         out += paragraph(text, width, "     ")
     return out
+
+
+def _sample_note(alt: dict) -> str:
+    """`` (±0.4 points, 2000 builds)`` for an alternative's yield drawn on fewer builds than its
+    option's (two standard errors, as the JSON's yield_standard_error states one); empty otherwise."""
+    n, se = alt.get("yield_samples"), alt.get("yield_standard_error")
+    if not isinstance(n, int) or not isinstance(se, float) or se != se:
+        return ""
+    return f" (±{2 * se * 100:.1f} points, {n} builds)"
 
 
 def waveform_lines(report, width: int) -> list[str]:

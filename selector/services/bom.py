@@ -160,6 +160,17 @@ def bom_of_saved(saved: SavedOption, stock: list[StockLine], boards: Optional[in
                      alternatives=tuple(a for a in alts if isinstance(a, dict)) if isinstance(alts, list) else ())
 
 
+def import_before_transaction() -> None:
+    """Import what reading a BOM needs (the network records and numpy under them, the chip table,
+    notation) before a transaction starts: an import costs tens of milliseconds, far more on a
+    loaded machine, and a pull would hold the database's write lock all that time while other
+    benches wait."""
+    import selector.core.chips  # noqa: F401
+    import selector.core.networks  # noqa: F401
+    import selector.core.notation  # noqa: F401
+    import selector.core.parts  # noqa: F401
+
+
 def build_bom(
     engine: Engine, option: int, search_id: Optional[int] = None, boards: Optional[int] = None
 ) -> BomReport:
@@ -167,4 +178,5 @@ def build_bom(
     ``boards`` boards (default: the board count the search was run for). One read transaction."""
     from selector.store.db import run_in_transaction
 
+    import_before_transaction()
     return run_in_transaction(engine, lambda s: bom_in_session(s, option, search_id, boards), write=False)

@@ -162,7 +162,7 @@ def network_json(net) -> dict:
 
 def option_json(opt) -> dict:
     """One option in the documented shape (SI units, signed error, yield as a fraction)."""
-    from selector.core.ranking import ROLE_ORDER as order
+    from selector.core.ranking import ROLE_ORDER as order, binomial_se
 
     nets = opt.found.networks
     return {
@@ -173,12 +173,15 @@ def option_json(opt) -> dict:
         "range": {k: list(v) for k, v in opt.range.items()},
         "yield": opt.yield_fraction,
         "yield_parts_only": opt.yield_parts_only,
+        "yield_samples": opt.yield_samples,  # Monte Carlo builds behind both yields
+        "yield_standard_error": opt.yield_standard_error,  # sqrt(y(1 - y)/n) of `yield`
         "networks": {role: network_json(nets[role]) for role in order if role in nets},
         "errors": dict(opt.errors),  # in the asker's terms (issue 11); `error` stays as it was
         "why": opt.why,
         "alternatives": [  # the same build from other drawers, tolerances or dielectrics
             {"networks": {role: network_json(alt.networks[role]) for role in order if role in alt.networks},
-             "yield": y}
+             "yield": y, "yield_samples": opt.alternative_samples,
+             "yield_standard_error": binomial_se(y, opt.alternative_samples)}
             for alt, y in opt.alternatives],
     }
 

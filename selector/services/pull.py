@@ -24,7 +24,7 @@ from sqlalchemy.orm import Session
 from selector.core import bom as core_bom
 from selector.core.errors import AlreadyUndone, InsufficientStock, UnknownPull
 from selector.core.types import StockLine
-from selector.services.bom import BomReport, bom_in_session
+from selector.services.bom import BomReport, bom_in_session, import_before_transaction
 from selector.store.models import MovementRow, PullRow, StockLineRow, utcnow
 
 
@@ -146,6 +146,7 @@ def pull_option(
     ``dry_run`` checks everything and returns the plan without writing."""
     from selector.store.db import run_in_transaction
 
+    import_before_transaction()  # not while holding the write lock
     return run_in_transaction(engine, lambda s: _pull_in_session(s, option, search_id, boards, dry_run))
 
 
@@ -181,6 +182,7 @@ def _undo_in_session(session: Session, pull_id: int) -> UndoResult:
 def undo_pull(engine: Engine, pull_id: int) -> UndoResult:
     """Put back exactly what pull ``pull_id`` took (ledger rows reason "undo"), in ONE transaction.
     Raises UnknownPull, or AlreadyUndone for a second undo of the same pull."""
+    import selector.services.stock  # noqa: F401  (imported before the write lock, not under it)
     from selector.store.db import run_in_transaction
 
     return run_in_transaction(engine, lambda s: _undo_in_session(s, pull_id))

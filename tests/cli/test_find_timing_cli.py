@@ -16,7 +16,8 @@ OPTION_KEYS = {"rank", "connection", "error", "predicted", "range", "yield", "ne
                "yield_parts_only"}  # added by issue 10 (wave-2 JSON contract)
 NETWORK_KEYS = {"value", "shape", "parts"}
 PART_KEYS = {"line_id", "value", "count", "location"}
-ADDED_OPTION_KEYS = {"errors", "why", "alternatives", "yield_parts_only"}  # issue 11 additions
+ADDED_OPTION_KEYS = {"errors", "why", "alternatives", "yield_parts_only",  # issue 11 additions
+                     "yield_samples", "yield_standard_error"}  # issue 12: the yield's sample and its SE
 ADDED_TOP_KEYS = {"search", "within_acceptance", "suggest_buy"}
 PARAM_KEYS = {"chip", "vcc", "diode_vf", "boards", "max_parts", "accept", "distribution", "seed",
               "connection", "top"}
@@ -46,6 +47,15 @@ def _check_shape(doc, roles, predicted_keys):
             lo, hi = opt["range"][k]
             assert lo <= opt["predicted"][k] * (1 + 1e-12) and opt["predicted"][k] <= hi * (1 + 1e-12)
         assert 0.0 <= opt["yield"] <= 1.0
+        # a listed option's yield is the full Monte Carlo (issue contract: at least 10 000 builds);
+        # its standard error is the binomial one, sqrt(y(1 - y)/n) (textbook, worked here by hand)
+        y, n = opt["yield"], opt["yield_samples"]
+        assert n >= 10_000
+        assert opt["yield_standard_error"] == pytest.approx((y * (1 - y) / n) ** 0.5, rel=1e-12, abs=1e-15)
+        for alt in opt["alternatives"]:
+            assert alt["yield_samples"] >= 1000
+            assert alt["yield_standard_error"] == pytest.approx(
+                (alt["yield"] * (1 - alt["yield"]) / alt["yield_samples"]) ** 0.5, rel=1e-12, abs=1e-15)
 
 
 def test_astable_table_on_the_sample_stock(cli, stocked):
