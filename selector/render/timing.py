@@ -161,10 +161,17 @@ def network_json_text(key: str, net: Mapping[str, Any]) -> str:
     kind = "capacitor" if key == "C" else "resistor"
     physical = [SimpleNamespace(value=float(p["value"]), kind=kind)
                 for p in net.get("parts") or [] for _ in range(int(p.get("count") or 1))]
+    trimmer = net.get("trimmer")
     if not physical:
         return format_value(float(net["value"]), FARAD if kind == "capacitor" else OHM)
-    order, template = wiring(str(net.get("shape") or "single"), physical, net.get("value"))
-    return template.format(*[format_value(p.value, FARAD if kind == "capacitor" else OHM) for p in order])
+    fixed_value = net.get("fixed_value", net.get("value")) if trimmer else net.get("value")
+    order, template = wiring(str(net.get("shape") or "single"), physical, fixed_value)
+    text = template.format(*[format_value(p.value, FARAD if kind == "capacitor" else OHM) for p in order])
+    if isinstance(trimmer, Mapping):  # a fixed network in series with a trimmer set on the bench
+        if len(physical) > 1:
+            text = f"({text})"
+        text += f" + {format_value(float(trimmer['value']), OHM)} trim"
+    return text
 
 
 def drawers(opt: Mapping[str, Any]) -> list[str]:
@@ -174,11 +181,18 @@ def drawers(opt: Mapping[str, Any]) -> list[str]:
             loc = printable(p.get("location") or "?")
             if loc not in seen:
                 seen.append(loc)
+        trimmer = (opt.get("networks") or {}).get(key, {}).get("trimmer")
+        if isinstance(trimmer, Mapping):
+            loc = printable(trimmer.get("location") or "?")
+            if loc not in seen:
+                seen.append(loc)
     return seen
 
 
 def nparts(opt: Mapping[str, Any]) -> int:
-    return sum(int(p.get("count") or 1) for net in (opt.get("networks") or {}).values() for p in net.get("parts", []))
+    nets = (opt.get("networks") or {}).values()
+    return (sum(int(p.get("count") or 1) for net in nets for p in net.get("parts", []))
+            + sum(1 for net in nets if isinstance(net.get("trimmer"), Mapping)))
 
 
 def _dielectrics(ranked_option, role: str) -> tuple:
@@ -465,6 +479,21 @@ def caution_lines(keys: Sequence[str], width: int, budget: int = 2, more: str = 
     return head + paragraph("Caution: " + " ".join(chosen), width)
 
 
+def trim_legend(report) -> str:
+    """One sentence on the trimmer options ('' when there are none): which rows, why they were
+    added, what their yield means and where the setting is told."""
+    from selector.core.trim import YIELD_THRESHOLD
+
+    ranks = [str(o["rank"]) for o in report.options if o.get("adjustable")]
+    if not ranks:
+        return ""
+    which = ("Option " if len(ranks) == 1 else "Options ") + ", ".join(ranks)
+    why = "" if report.request.trim else \
+        f" (no fixed option reaches a {YIELD_THRESHOLD * 100:.0f} % yield)"
+    return (f"{which}: a trimmer in series, set on the bench{why}; their yield is after setting it. "
+            f"How to set: selector show N.")
+
+
 def footer_lines(report, width: int = 80) -> list[str]:
     """At most four lines at 80 columns: legend, assumptions, cautions."""
     best = any(_mark(o, ro) for o, ro in _rows(report))
@@ -474,6 +503,7 @@ def footer_lines(report, width: int = 80) -> list[str]:
         legend = LEGEND_SHORT + ("; * = closest" if best else "")
     out = paragraph(legend, width)
     out += paragraph(assumptions(report, width), width)
+    out += paragraph(trim_legend(report), width) if trim_legend(report) else []
     more = "More: selector show N." if report.search_id is not None else ""
     out += caution_lines(_caution_keys(report), width, budget=max(1, 4 - len(out)), more=more)
     return out
