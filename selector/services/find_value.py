@@ -11,7 +11,7 @@ from dataclasses import dataclass, field
 from typing import Any, Optional, Sequence
 
 from selector.core.errors import NothingFeasible
-from selector.core.types import KINDS, StockLine
+from selector.core.types import NETWORK_KINDS, StockLine
 from selector.core.cautions import CAUTIONS as CAUTION_TEXTS
 
 FAR_LIMIT = 0.10  # "cannot get within 10 %" (issue 3 §5)
@@ -41,7 +41,7 @@ class ValueRequest:
     def check(self) -> None:
         from selector.core.errors import OutOfRange
 
-        if self.kind not in KINDS:
+        if self.kind not in NETWORK_KINDS:
             raise ValueError(f"unknown kind {self.kind!r}")
         if not (self.target > 0 and self.target < float("inf")):
             raise ValueError("target must be a positive value")

@@ -38,21 +38,22 @@ from sqlalchemy.orm.util import identity_key
 from sqlalchemy.pool import NullPool, StaticPool
 
 from selector.core.errors import DatabaseProblem, InsufficientStock, UnknownStockLine
-from selector.core.types import StockLine
+from selector.core.types import VALUELESS_KINDS, StockLine
 from selector.store.models import MovementRow, StockLineRow, utcnow
 
 T = TypeVar("T")
 
-SCHEMA_HEAD: str = "0003"
+SCHEMA_HEAD: str = "0004"
 """Revision id of the head migration (tests/store/test_migrations.py compares it with the scripts)."""
 
-KNOWN_REVISIONS: tuple[str, ...] = ("0001", "0002", "0003")
+KNOWN_REVISIONS: tuple[str, ...] = ("0001", "0002", "0003", "0004")
 """Every revision this version of the program can upgrade from, oldest first."""
 
 TABLES_AT: dict[str, frozenset[str]] = {
     "0001": frozenset({"stock_lines", "movements"}),
     "0002": frozenset({"stock_lines", "movements", "searches", "search_options", "pulls"}),
     "0003": frozenset({"stock_lines", "movements", "searches", "search_options", "pulls"}),
+    "0004": frozenset({"stock_lines", "movements", "searches", "search_options", "pulls"}),
 }
 """Our tables (besides alembic_version) at each known revision: a database at a known revision
 holding any other set of tables is not ours and is refused unchanged."""
@@ -485,6 +486,10 @@ def to_stock_line(row: StockLineRow) -> StockLine:
         dielectric=row.dielectric,
         polarized=bool(row.polarized),
         note=row.note,
+        part=row.part,
+        turns=row.turns,
+        rating_current=row.rating_current,
+        reorder_at=row.reorder_at,
     )
 
 
@@ -500,20 +505,25 @@ def lock_stock_for_plan(session: Session) -> None:
         session.execute(sa.text("SELECT pg_advisory_xact_lock(:k)"), {"k": _PG_STOCK_PLAN_LOCK})
 
 
-def load_stock(session: Session, kind: str | None = None) -> list[StockLine]:
-    """All stock lines (optionally of one kind), ordered by id."""
+def load_stock(session: Session, kind: str | tuple[str, ...] | None = None) -> list[StockLine]:
+    """All stock lines (optionally of one kind, or of the kinds in a tuple), ordered by id."""
     stmt = sa.select(StockLineRow).order_by(StockLineRow.id)
-    if kind is not None:
+    if isinstance(kind, tuple):
+        stmt = stmt.where(StockLineRow.kind.in_(kind))
+    elif kind is not None:
         stmt = stmt.where(StockLineRow.kind == kind)
     return [to_stock_line(r) for r in session.scalars(stmt)]
 
 
 def line_label(row: StockLineRow | StockLine) -> str:
-    """'stock line 7 (resistor 4.7 kΩ, A1)' — how messages name a line."""
+    """'stock line 7 (resistor 4.7 kΩ, A1)', 'stock line 9 (ic NE555P, B3)' — how messages name a line."""
+    if row.kind in VALUELESS_KINDS:
+        where = f", {row.location}" if row.location else ""
+        return f"stock line {row.id} ({row.kind} {row.part or '?'}{where})"
     try:
         from selector.core.notation import FARAD, OHM, format_value
 
-        shown = format_value(row.value, OHM if row.kind == "resistor" else FARAD)
+        shown = format_value(row.value, FARAD if row.kind == "capacitor" else OHM)
     except Exception:  # notation not available or value odd: fall back to the plain number
         shown = f"{row.value:g}"
     where = f", {row.location}" if row.location else ""

@@ -40,15 +40,26 @@ class Base(DeclarativeBase):
     metadata = MetaData(naming_convention=NAMING)
 
 
+KIND_CHECK = "kind IN ('resistor', 'capacitor', 'trimmer', 'ic', 'diode')"
+"""The kinds a stock line may have (core/types.py KINDS; migration 0004 writes the same text)."""
+
+VALUE_CHECK = "(kind IN ('ic', 'diode') AND value = 0) OR (kind NOT IN ('ic', 'diode') AND value > 0)"
+"""An IC or a diode is named by its part text and has no value (0); every other kind has a value
+above zero (migration 0004 writes the same text)."""
+
+
 class StockLineRow(Base):
     """One stock line: a part value with its attributes, in one location, with a quantity."""
 
     __tablename__ = "stock_lines"
     __table_args__ = (
         CheckConstraint("quantity >= 0", name="quantity_nonneg"),
-        CheckConstraint("kind IN ('resistor', 'capacitor')", name="kind_known"),
-        CheckConstraint("value > 0", name="value_positive"),
+        CheckConstraint(KIND_CHECK, name="kind_known"),
+        CheckConstraint(VALUE_CHECK, name="value_positive"),
         CheckConstraint("tol_minus >= 0 AND tol_minus < 1 AND tol_plus >= 0", name="tolerance_sane"),
+        CheckConstraint("turns IS NULL OR turns >= 1", name="turns_positive"),
+        CheckConstraint("rating_current IS NULL OR rating_current > 0", name="rating_current_positive"),
+        CheckConstraint("reorder_at IS NULL OR reorder_at >= 0", name="reorder_at_nonneg"),
     )
 
     id: Mapped[int] = mapped_column(Integer, primary_key=True)
@@ -59,10 +70,15 @@ class StockLineRow(Base):
     quantity: Mapped[int] = mapped_column(Integer, nullable=False, default=0)
     location: Mapped[str] = mapped_column(String(64), nullable=False, default="")
     package: Mapped[str] = mapped_column(String(64), nullable=False, default="")
-    rating: Mapped[Optional[float]] = mapped_column(Float, nullable=True)  # W (resistor) or V (capacitor)
+    rating: Mapped[Optional[float]] = mapped_column(Float, nullable=True)  # W (resistor, trimmer), V (capacitor,
+    #                                                       diode: forward drop at rating_current)
     dielectric: Mapped[str] = mapped_column(String(32), nullable=False, default="")
     polarized: Mapped[bool] = mapped_column(Boolean, nullable=False, default=False)
     note: Mapped[str] = mapped_column(Text, nullable=False, default="")
+    part: Mapped[str] = mapped_column(String(64), nullable=False, default="", server_default="")  # "NE555P"
+    turns: Mapped[Optional[int]] = mapped_column(Integer, nullable=True)  # trimmer: turns end to end
+    rating_current: Mapped[Optional[float]] = mapped_column(Float, nullable=True)  # A (diode's forward drop)
+    reorder_at: Mapped[Optional[int]] = mapped_column(Integer, nullable=True)  # low at or below this
     created_at: Mapped[datetime] = mapped_column(DateTime, nullable=False, default=utcnow)
     updated_at: Mapped[datetime] = mapped_column(DateTime, nullable=False, default=utcnow, onupdate=utcnow)
 
@@ -70,15 +86,18 @@ class StockLineRow(Base):
 
 
 IDENTITY_UNKNOWN_RATING = -1.0
-"""Stands for "no rating" in the identity index: a real rating is above zero (import validation),
-so it can never be mistaken for one. NULLs are distinct in a plain unique index on both
-backends, so the index uses COALESCE(rating, -1) instead of the nullable column."""
+"""Stands for "no rating" (and "no turns", "no rating current") in the identity index: a real
+rating, turn count or current is above zero (import validation and CHECKs), so it can never be
+mistaken for one. NULLs are distinct in a plain unique index on both backends, so the index uses
+COALESCE(column, -1) instead of the nullable column."""
 
 Index(
     "uq_stock_lines_identity",
     StockLineRow.kind, StockLineRow.value, StockLineRow.tol_minus, StockLineRow.tol_plus,
     StockLineRow.location, StockLineRow.package,
     func.coalesce(StockLineRow.rating, IDENTITY_UNKNOWN_RATING), StockLineRow.dielectric,
+    StockLineRow.part, func.coalesce(StockLineRow.turns, -1),
+    func.coalesce(StockLineRow.rating_current, IDENTITY_UNKNOWN_RATING),
     unique=True,
 )
 """The identity of a stock line (services/stock.py merges on exactly these): at most one line

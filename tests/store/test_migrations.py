@@ -265,6 +265,91 @@ def test_broken_references_stop_the_upgrade_and_leave_the_database_as_it_was(db_
     assert "pulls" not in _tables(db_path)
 
 
+_NEW_KIND_INSERT = (
+    "INSERT INTO stock_lines (kind, value, tol_minus, tol_plus, quantity, location, package, rating, dielectric,"
+    " polarized, note, part, turns, rating_current, reorder_at, created_at, updated_at) VALUES (:kind, :value,"
+    " :tm, :tp, :q, :loc, '', :rating, '', false, '', :part, :turns, :ic, :reorder, :at, :at)")
+
+
+def _new_kind_line(kind: str, value: float = 0.0, part: str = "", *, tol: float = 0.0, loc: str = "B3",
+                   rating=None, turns=None, rating_current=None, reorder=None) -> dict:
+    return {"kind": kind, "value": value, "tm": tol, "tp": tol, "q": 2, "loc": loc, "rating": rating,
+            "part": part, "turns": turns, "ic": rating_current, "reorder": reorder, "at": _AT}
+
+
+@pytest.mark.parametrize("revision", db.KNOWN_REVISIONS[:-1])
+def test_revision_0004_keeps_old_lines_and_takes_the_new_kinds(db_url, revision):
+    """From every older revision: the old lines come through with empty new columns (part '',
+    turns / rating_current / reorder_at NULL), and the upgraded table takes trimmer, IC and diode
+    lines; the identity index tells two ICs apart by their part text (and a diode by the current
+    its drop is stated at), and still refuses a second line for one identity."""
+    _migrate_raw(db_url, revision)
+    plain = _plain_engine(db_url)
+    try:
+        with plain.begin() as conn:
+            _fill(conn, revision)
+    finally:
+        plain.dispose()
+    db.open_engine(db_url).dispose()
+    plain = _plain_engine(db_url)
+    try:
+        with plain.connect() as conn:
+            assert _rows(conn, "SELECT id, part, turns, rating_current, reorder_at FROM stock_lines ORDER BY id") == [
+                (1, "", None, None, None), (2, "", None, None, None), (3, "", None, None, None)]
+        with plain.begin() as conn:
+            conn.execute(sa.text(_NEW_KIND_INSERT), [
+                _new_kind_line("ic", part="NE555P", reorder=1),
+                _new_kind_line("ic", part="555 CMOS"),  # same drawer, other part: another line
+                _new_kind_line("diode", part="1N4148", rating=0.62, rating_current=1e-3),
+                _new_kind_line("diode", part="1N4148", rating=0.62, rating_current=1e-2),
+                _new_kind_line("trimmer", 10e3, tol=0.2, rating=0.5, turns=25),
+                _new_kind_line("trimmer", 10e3, tol=0.2, rating=0.5, turns=1),
+            ])
+        with plain.connect() as conn:
+            assert _rows(conn, "SELECT kind, part, turns FROM stock_lines WHERE id > 3 ORDER BY id") == [
+                ("ic", "NE555P", None), ("ic", "555 CMOS", None), ("diode", "1N4148", None),
+                ("diode", "1N4148", None), ("trimmer", "", 25), ("trimmer", "", 1)]
+        refused = [
+            _new_kind_line("ic", part="NE555P"),  # the same identity as line 4
+            _new_kind_line("transistor", part="BC547"),  # kind CHECK
+            _new_kind_line("ic", 5.0, part="74HC14"),  # an IC has no value
+            _new_kind_line("trimmer", 0.0),  # a trimmer has one
+            _new_kind_line("trimmer", 1e3, turns=0),
+            _new_kind_line("diode", part="BAT85", rating=0.3, rating_current=0.0),
+            _new_kind_line("ic", part="40106", reorder=-1),
+        ]
+        for row in refused:
+            with pytest.raises(sa.exc.IntegrityError):
+                with plain.begin() as conn:
+                    conn.execute(sa.text(_NEW_KIND_INSERT), row)
+    finally:
+        plain.dispose()
+
+
+def test_downgrade_below_0004_is_refused_while_new_kinds_are_held(db_url):
+    """The older schema cannot hold an IC line; the downgrade stops with a message naming what is
+    held, and the database stays at 0004 with the line in it."""
+    db.open_engine(db_url).dispose()
+    plain = _plain_engine(db_url)
+    try:
+        with plain.begin() as conn:
+            conn.execute(sa.text(_NEW_KIND_INSERT), [_new_kind_line("ic", part="NE555P"),
+                                                     _new_kind_line("ic", part="74HC14")])
+    finally:
+        plain.dispose()
+    with pytest.raises(RuntimeError) as info:
+        _migrate_raw(db_url, "0003", "downgrade")
+    assert str(info.value) == ("cannot go below schema revision 0004: the stock holds 2 ic lines, which the older "
+                               "schema cannot store; export and delete them first (nothing was changed)")
+    plain = _plain_engine(db_url)
+    try:
+        with plain.connect() as conn:
+            assert _rows(conn, "SELECT version_num FROM alembic_version") == [("0004",)]
+            assert _rows(conn, "SELECT kind, part FROM stock_lines ORDER BY id") == [("ic", "NE555P"), ("ic", "74HC14")]
+    finally:
+        plain.dispose()
+
+
 def test_downgrade_to_0001_and_back(db_url):
     db.open_engine(db_url).dispose()
     _migrate_raw(db_url, "0001", "downgrade")

@@ -72,7 +72,7 @@ import numpy as np
 from selector.core.networks import shapes as _shapes
 from selector.core.networks.network import Network
 from selector.core.networks.nearest import ThreePartSearch, argsort_stable, join as _join, rank_rows, ranges_concat
-from selector.core.types import KINDS, StockLine
+from selector.core.types import NETWORK_KINDS, StockLine
 
 SHAPES: tuple[str, ...] = tuple(_shapes.SHAPES)  # the names; their meaning is in networks.shapes
 # 3-part shapes, in the order of their code in an id: (name, outer joint, inner joint, symmetric)
@@ -90,8 +90,8 @@ class NetworkIndex:
 
     def __init__(self, lines: Sequence[StockLine], kind: str, max_parts: int = 2, boards: int = 1,
                  allow_polarized_series: bool = False, all_networks: bool = True):
-        if kind not in KINDS:
-            raise ValueError(f"unknown part kind {kind!r}; expected one of {', '.join(KINDS)}")
+        if kind not in NETWORK_KINDS:
+            raise ValueError(f"unknown part kind {kind!r}; expected one of {', '.join(NETWORK_KINDS)}")
         if max_parts not in (1, 2, 3):
             raise ValueError(f"max_parts must be 1, 2 or 3, not {max_parts!r}")
         if int(boards) != boards or boards < 1:

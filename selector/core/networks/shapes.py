@@ -66,9 +66,9 @@ SHAPES3: tuple[Shape, ...] = tuple(sorted((s for s in SHAPES.values() if s.code3
 def adds(kind: str, joint: str) -> bool:
     """True when this joint adds the values themselves (resistors in series, capacitors in
     parallel); False when it adds reciprocals."""
-    from selector.core.types import KINDS
+    from selector.core.types import NETWORK_KINDS
 
-    if kind not in KINDS:
+    if kind not in NETWORK_KINDS:
         raise ValueError(f"unknown part kind {kind!r}")
     return (joint == "series") == (kind == "resistor")
 
