@@ -17,7 +17,7 @@ from selector.core.cells import neutralize_cell, without_controls  # noqa: E402,
 def _unit(kind: str) -> str:
     from selector.core.notation import FARAD, OHM
 
-    return OHM if kind == "resistor" else FARAD if kind == "capacitor" else ""
+    return OHM if kind in ("resistor", "trimmer") else FARAD if kind == "capacitor" else ""
 
 
 def value_text(bl: BomLine) -> str:
@@ -41,7 +41,7 @@ def rating_text(bl: BomLine) -> str:
         return ""
     from selector.core.notation import VOLT, WATT, format_value
 
-    return format_value(bl.rating, WATT if bl.kind == "resistor" else VOLT)
+    return format_value(bl.rating, WATT if bl.kind in ("resistor", "trimmer") else VOLT)
 
 
 def _number(x: Optional[float]) -> str:

@@ -21,7 +21,7 @@ def _cells(*values) -> list[Text]:
 def _unit(kind: str) -> str:
     from selector.core.notation import FARAD, OHM
 
-    return OHM if kind == "resistor" else FARAD if kind == "capacitor" else ""
+    return OHM if kind in ("resistor", "trimmer") else FARAD if kind == "capacitor" else ""
 
 
 def _value(kind: str, value: float) -> str:

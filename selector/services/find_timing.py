@@ -321,11 +321,11 @@ def find_timing(engine, req: TimingRequest,
     from selector.store.db import load_stock, run_in_transaction
 
     req.check()  # bad options fail before the database is touched
-    lines = run_in_transaction(engine, lambda s: load_stock(s, NETWORK_KINDS), write=False)
-    r_lines = [ln for ln in lines if ln.kind == "resistor"]
-    c_lines = [ln for ln in lines if ln.kind == "capacitor"]
     from selector.core.trim import TRIMMER_KIND
 
+    lines = run_in_transaction(engine, lambda s: load_stock(s, NETWORK_KINDS + (TRIMMER_KIND,)), write=False)
+    r_lines = [ln for ln in lines if ln.kind == "resistor"]
+    c_lines = [ln for ln in lines if ln.kind == "capacitor"]
     t_lines = [ln for ln in lines if ln.kind == TRIMMER_KIND]
     report = plan_timing(r_lines, c_lines, req, progress, t_lines)
     report.search_id = run_in_transaction(engine, lambda s: save_search(s, report))
