@@ -255,10 +255,19 @@ def title_of(mode: str, t: Mapping[str, Any], search_id: Optional[int]) -> str:
 
 def _rows(report):
     """(option JSON, ranked option or None) pairs, in rank order."""
+    from types import SimpleNamespace
+
     ranked = report.ranked
+    trims = list(getattr(report, "trims", None) or [])
     out = []
     for i, opt in enumerate(report.options):
-        out.append((opt, ranked[i] if i < len(ranked) else None))
+        if i < len(ranked):
+            out.append((opt, ranked[i]))
+        elif opt.get("adjustable") and i - len(ranked) < len(trims):  # a trimmer option (core.trim)
+            t = trims[i - len(ranked)]
+            out.append((opt, SimpleNamespace(found=SimpleNamespace(networks=t.networks), is_best_error=False)))
+        else:
+            out.append((opt, None))
     return out
 
 
