@@ -181,9 +181,9 @@ def drawers(opt: Mapping[str, Any]) -> list[str]:
             loc = printable(p.get("location") or "?")
             if loc not in seen:
                 seen.append(loc)
-        trimmer = (opt.get("networks") or {}).get(key, {}).get("trimmer")
-        if isinstance(trimmer, Mapping):
-            loc = printable(trimmer.get("location") or "?")
+        trim = opt.get("trim") if isinstance(opt.get("trim"), Mapping) else {}
+        if isinstance((opt.get("networks") or {}).get(key, {}).get("trimmer"), Mapping):
+            loc = printable(trim.get("location") or "?")
             if loc not in seen:
                 seen.append(loc)
     return seen

@@ -205,8 +205,7 @@ def trim_option_json(o, rank: int, target) -> dict:
             nets[role]["value"] = o.total
             nets[role]["fixed_value"] = o.networks[role].value
             nets[role]["trimmer"] = {"line_id": t.id, "value": t.value, "tol_minus": t.tol_minus,
-                                     "tol_plus": t.tol_plus, "setting": o.setting,
-                                     "location": t.location}
+                                     "tol_plus": t.tol_plus, "setting": o.setting}
     errs = kind.errors(o.predicted, target)
     lo, hi = o.setting_range
     return {
@@ -221,7 +220,7 @@ def trim_option_json(o, rank: int, target) -> dict:
         "errors": errs,
         "why": "adjustable",
         "adjustable": True,
-        "trim": {"role": o.role, "setting": o.setting, "setting_range": [lo, hi],
+        "trim": {"role": o.role, "location": o.trimmer.location, "setting": o.setting, "setting_range": [lo, hi],
                  "travel": o.travel, "travel_range": [lo / o.trimmer.value, hi / o.trimmer.value],
                  "margin": o.margin, "resolution": o.resolution, "moves": list(o.moves)},
         "alternatives": [],
