@@ -498,9 +498,8 @@ def trim_legend(report) -> str:
         return ""
     which = ("Option " if len(ranks) == 1 else "Options ") + ", ".join(ranks)
     why = "" if report.request.trim else \
-        f" (no fixed option reaches a {YIELD_THRESHOLD * 100:.0f} % yield)"
-    return (f"{which}: a trimmer in series, set on the bench{why}; their yield is after setting it. "
-            f"How to set: selector show N.")
+        f" (no fixed option reaches {YIELD_THRESHOLD * 100:.0f} % yield)"
+    return f"{which}: fixed part + trimmer, set on the bench{why}; yield after setting; how: selector show N."
 
 
 def footer_lines(report, width: int = 80) -> list[str]:
