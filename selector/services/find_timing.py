@@ -153,7 +153,8 @@ def params_json(req: TimingRequest) -> dict:
         out["options"] = options
     if req.all_networks:  # only when asked: token-part networks were searched too
         out["all_networks"] = True
-    out["trim"] = req.trim
+    if req.trim:  # only when asked: trimmer options were offered whatever the fixed yield
+        out["trim"] = True
     return out
 
 

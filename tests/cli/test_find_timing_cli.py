@@ -16,7 +16,8 @@ OPTION_KEYS = {"rank", "connection", "error", "predicted", "range", "yield", "ne
                "yield_parts_only"}  # added by issue 10 (wave-2 JSON contract)
 NETWORK_KEYS = {"value", "shape", "parts"}
 PART_KEYS = {"line_id", "value", "count", "location"}
-ADDED_OPTION_KEYS = {"errors", "why", "alternatives", "yield_parts_only"}  # issue 11 additions
+ADDED_OPTION_KEYS = {"errors", "why", "alternatives", "yield_parts_only",  # issue 11 additions
+                     "adjustable"}  # issue 14 (false on a fixed option; no trimmer in this stock)
 ADDED_TOP_KEYS = {"search", "within_acceptance", "suggest_buy"}
 PARAM_KEYS = {"chip", "vcc", "diode_vf", "boards", "max_parts", "accept", "distribution", "seed",
               "connection", "top"}
