@@ -5,10 +5,12 @@ Each use case that touches the database is one function and one transaction. Imp
 of the whole file collected), ``plan_import`` is a pure function of those specs and the current
 stock, and ``apply_plan`` writes the plan through the ledger. ``--dry-run`` stops after the plan.
 
-Identity of a stock line (what merges): kind, value, tolerance, location, package, rating and
-dielectric, compared exactly after rounding to 12 significant digits (so "4k7" and "4.7k" are the
-same part). The note is not part of the identity: a new line takes the note of the first file row
-for it, and an import never rewrites the note of an existing line.
+Identity of a stock line (what merges): kind, value, tolerance, location, package, rating,
+dielectric, part, turns and rating current, compared exactly after rounding to 12 significant
+digits (so "4k7" and "4.7k" are the same part). The note is not part of the identity: a new line
+takes the note of the first file row for it, and an import never rewrites the note of an existing
+line. Nor is the reorder level: a non-empty reorder_at cell sets the line's level (rows for one
+line must agree), an empty one leaves it.
 """
 
 from __future__ import annotations
@@ -16,7 +18,7 @@ from __future__ import annotations
 import io
 import re
 from decimal import Decimal
-from dataclasses import dataclass
+from dataclasses import dataclass, replace as replace_fields
 from pathlib import Path
 from typing import Iterable, Optional, Sequence
 
@@ -26,11 +28,23 @@ from selector.core.errors import (
 from selector.core.limits import MAX_QUANTITY
 from selector.core.notation import quoted
 from selector.core.parts import default_tolerance, is_polarized, normalize_dielectric
-from selector.core.types import StockLine
+from selector.core.types import VALUELESS_KINDS, StockLine
 
-_KIND_WORDS = {"resistor": "resistor", "r": "resistor", "capacitor": "capacitor", "c": "capacitor"}
+_KIND_WORDS = {"resistor": "resistor", "r": "resistor", "capacitor": "capacitor", "c": "capacitor",
+               "trimmer": "trimmer", "potentiometer": "trimmer", "pot": "trimmer", "ic": "ic", "diode": "diode"}
+_PART_EXAMPLE = {"ic": '"NE555P", "555 CMOS" or "74HC14"', "diode": '"1N4148" or "BAT85"'}
+
+TRIMMER_TOLERANCE = (0.2, 0.2)
+"""A trimmer line without a tolerance: ±20 % end to end, the usual grade of cermet trimmers
+(common practice; ±10 % and ±25-30 % grades exist, so a line should state its own)."""
+
+MAX_TURNS = 100
+"""The most turns end to end a trimmer line may state (multi-turn trimmers are 10-25 turns; a
+bigger number is a typing slip)."""
+
+_CURRENT_RANGE = (1e-9, 10.0)  # amperes: a diode's forward drop is stated somewhere in here
 _QTY_RE = re.compile(r"\+?([0-9]+)(?:\.0*)?")  # ASCII digits only
-_TEXT_COLUMNS = ("location", "package", "note")  # free text stored as written (textrules.py)
+_TEXT_COLUMNS = ("location", "package", "note")  # (part is checked with its kind)  # free text stored as written (textrules.py)
 
 
 def clean(x: float) -> float:
@@ -40,11 +54,51 @@ def clean(x: float) -> float:
 
 
 def parse_kind(text: str) -> str:
-    """'resistor'/'R' or 'capacitor'/'C' in any case → the canonical kind."""
+    """'resistor'/'R', 'capacitor'/'C', 'trimmer' (or 'pot', 'potentiometer'), 'ic' or 'diode' in
+    any case → the canonical kind."""
     try:
         return _KIND_WORDS[text.strip().lower()]
     except KeyError:
-        raise UnparseableValue(f"{quoted(text.strip())}: expected resistor or capacitor (or R / C)") from None
+        raise UnparseableValue(f"{quoted(text.strip())}: expected resistor, capacitor, trimmer, ic or diode "
+                               "(or R / C)") from None
+
+
+def parse_whole(text: str, low: int, high: int, what: str) -> int:
+    """A whole number from ``low`` to ``high`` ("25", "+25", "25.0"), else one line saying so."""
+    t = text.strip()
+    m = _QTY_RE.fullmatch(t)
+    digits = (m.group(1).lstrip("0") or "0") if m else ""
+    if not m or len(digits) > len(str(high)) or not low <= int(digits) <= high:
+        raise UnparseableValue(f"{quoted(t)}: expected a whole number of {what}, {low} to {high}")
+    return int(digits)
+
+
+def parse_forward_drop(text: str) -> tuple[float, Optional[float]]:
+    """A diode's rating: its forward drop in volts, optionally at a current: "0.62V@1mA",
+    "620mV @ 1 mA", "0.3V@10mA", "0.7" → (volts, amperes or None)."""
+    from selector.core.notation import VOLT, parse_value
+
+    t = text.strip()
+    volts_text, at, amps_text = t.partition("@")
+    expected = 'expected a forward drop in volts, optionally at a current, e.g. "0.62V@1mA" or "0.3V"'
+    try:
+        volts = parse_value(volts_text.strip(), None, VOLT)
+    except UnparseableValue:
+        raise UnparseableValue(f"{quoted(t)}: {expected}") from None
+    if not 0 < volts < 10:
+        raise UnparseableValue(f"{quoted(t)}: the drop must be above 0 V and below 10 V; {expected}")
+    if not at:
+        return volts, None
+    a = amps_text.strip()
+    a = a[:-1].rstrip() if a[-1:] in ("A", "a") else ""  # the unit A is required after @
+    try:
+        amps = parse_value(a, None, None) if a else None
+    except UnparseableValue:
+        amps = None
+    if amps is None or not _CURRENT_RANGE[0] <= amps <= _CURRENT_RANGE[1]:
+        raise UnparseableValue(f"{quoted(t)}: after @ expected a current from 1 nA to 10 A with its unit, "
+                               'e.g. "1mA" or "10 mA"')
+    return volts, amps
 
 
 def parse_quantity(text: str) -> int:
@@ -74,6 +128,10 @@ class PartSpec:
     rating: Optional[float] = None
     dielectric: str = ""
     note: str = ""
+    part: str = ""
+    turns: Optional[int] = None
+    rating_current: Optional[float] = None
+    reorder_at: Optional[int] = None  # like the note, not part of the identity
 
     @property
     def polarized(self) -> bool:
@@ -82,13 +140,14 @@ class PartSpec:
     @property
     def key(self) -> tuple:
         return (self.kind, self.value, self.tol_minus, self.tol_plus, self.location, self.package,
-                self.rating, self.dielectric)
+                self.rating, self.dielectric, self.part, self.turns, self.rating_current)
 
 
 def line_key(line: StockLine) -> tuple:
     """The identity of an existing stock line, comparable with PartSpec.key."""
     return (line.kind, clean(line.value), clean(line.tol_minus), clean(line.tol_plus), line.location,
-            line.package, None if line.rating is None else clean(line.rating), line.dielectric)
+            line.package, None if line.rating is None else clean(line.rating), line.dielectric, line.part,
+            line.turns, None if line.rating_current is None else clean(line.rating_current))
 
 
 @dataclass(frozen=True)
@@ -123,6 +182,16 @@ class LineChange:
 
 
 @dataclass(frozen=True)
+class ReorderChange:
+    """An existing stock line whose reorder level the file sets to another number (a level is a
+    setting of the line, not part of its identity; an empty cell leaves the level as it is)."""
+
+    line: StockLine
+    reorder_at: int
+    rows: tuple[int, ...]
+
+
+@dataclass(frozen=True)
 class ImportPlan:
     """What an import (or a kit) will do. ``unchanged`` are matched lines whose quantity stays."""
 
@@ -131,10 +200,11 @@ class ImportPlan:
     changes: tuple[LineChange, ...] = ()
     unchanged: tuple[StockLine, ...] = ()
     source: str = ""
+    reorders: tuple[ReorderChange, ...] = ()
 
     @property
     def is_empty(self) -> bool:
-        return not self.changes and not self.new_lines
+        return not self.changes and not self.new_lines and not self.reorders
 
     @property
     def parts_added(self) -> int:
@@ -145,10 +215,23 @@ class ImportPlan:
         return -sum(c.delta for c in self.changes if c.delta < 0)
 
 
+def _part_kind(kind: str) -> str:
+    """The kind whose notation rules read a cell: a trimmer's value, tolerance and rating read as a
+    resistor's (ohms, percent, watts)."""
+    return "resistor" if kind == "trimmer" else kind
+
+
 def validate_rows(raw_rows: Iterable) -> list[ImportRow]:
     """Turn csvio.RawRow text cells into ImportRows. Every problem of every row is collected; any
-    problem raises InvalidStockFile (nothing is half-read)."""
+    problem raises InvalidStockFile (nothing is half-read).
+
+    Per kind (README "Stock file"): resistor and capacitor as always (no part, turns); trimmer:
+    value = end-to-end ohms, tolerance default ±20 % (TRIMMER_TOLERANCE), rating watts, turns
+    (default 1), part optional (a model name); ic and diode: the part text from the part column
+    or, when that is empty, the value column; no tolerance, turns or dielectric; a diode's rating
+    is its forward drop, optionally at a current ("0.62V@1mA"). reorder_at: optional, any kind."""
     from selector.core.notation import FARAD, OHM, parse_rating, parse_tolerance, parse_value
+    from selector.store.csvio import COLUMNS as STOCK_COLUMNS
     from selector.store.models import StockLineRow
     from selector.store.textrules import text_problem
 
@@ -156,7 +239,7 @@ def validate_rows(raw_rows: Iterable) -> list[ImportRow]:
     problems: list[str] = []
     out: list[ImportRow] = []
     for raw in raw_rows:
-        c = raw.cells
+        c = {column: "" for column in STOCK_COLUMNS} | dict(raw.cells)
         errs: list[str] = []
 
         def bad(column: str, message: str) -> None:
@@ -168,6 +251,10 @@ def validate_rows(raw_rows: Iterable) -> list[ImportRow]:
                 return False
             return True
 
+        def refuse_cell(column: str, why: str) -> None:
+            if c[column]:
+                bad(column, f"{quoted(c[column])}: {why}; leave it empty")
+
         kind = value = None
         if need("kind"):
             try:
@@ -175,37 +262,86 @@ def validate_rows(raw_rows: Iterable) -> list[ImportRow]:
             except UnparseableValue as e:
                 bad("kind", str(e))
         dielectric = ""
-        try:
-            dielectric = normalize_dielectric(c["dielectric"])
-        except UnparseableValue as e:
-            bad("dielectric", str(e))
+        if kind in ("resistor", "capacitor"):
+            try:
+                dielectric = normalize_dielectric(c["dielectric"])
+            except UnparseableValue as e:
+                bad("dielectric", str(e))
         if kind == "resistor" and dielectric:
             bad("dielectric", f'{quoted(c["dielectric"])}: a resistor has no dielectric; leave it empty')
-        if kind and need("value"):
+        elif kind in ("trimmer", "ic", "diode"):
+            refuse_cell("dielectric", f"a dielectric is for capacitors, not a{'n' if kind == 'ic' else ''} {kind}")
+        part = ""
+        if kind in ("resistor", "capacitor"):
+            refuse_cell("part", f"a {kind} is named by its value; put other text in the note")
+        elif kind == "trimmer":
+            part = c["part"]
+        elif kind in VALUELESS_KINDS:
+            part = c["part"] or c["value"]
+            if c["part"] and c["value"] and c["part"] != c["value"]:
+                bad("value", f'{quoted(c["value"])}: the part column already names this {kind} '
+                             f'({quoted(c["part"])}); give the part text in one of the two')
+            elif not part:
+                bad("part", f"empty: an {kind} needs its part text (e.g. {_PART_EXAMPLE[kind]}) "
+                            "in the part or the value column")
+            else:
+                problem = text_problem(part, lines.c.part)
+                if problem:
+                    bad("part" if c["part"] else "value", problem)
+        if kind == "trimmer" and c["part"]:
+            problem = text_problem(c["part"], lines.c.part)
+            if problem:
+                bad("part", problem)
+        turns: Optional[int] = None
+        if kind == "trimmer":
+            turns = 1
+            if c["turns"]:
+                try:
+                    turns = parse_whole(c["turns"], 1, MAX_TURNS, "turns end to end")
+                except UnparseableValue as e:
+                    bad("turns", str(e))
+        elif kind:
+            refuse_cell("turns", "turns are for trimmers")
+        if kind in VALUELESS_KINDS:
+            value = 0.0
+        elif kind and need("value"):
+            pk = _part_kind(kind)
             try:
-                value = parse_value(c["value"], kind, OHM if kind == "resistor" else FARAD)
+                value = parse_value(c["value"], pk, OHM if pk == "resistor" else FARAD)
                 if not value > 0:
                     bad("value", f'{quoted(c["value"])}: expected a value above zero')
                     value = None
             except UnparseableValue as e:
                 bad("value", str(e))
         tol: Optional[tuple[float, float]] = None
-        if kind:
+        if kind in VALUELESS_KINDS:
+            tol = (0.0, 0.0)
+            refuse_cell("tolerance", f"a{'n' if kind == 'ic' else ''} {kind} has no value tolerance")
+        elif kind:
             if c["tolerance"]:
                 if value is not None:
                     try:
-                        tol = parse_tolerance(c["tolerance"], kind, value)
+                        tol = parse_tolerance(c["tolerance"], _part_kind(kind), value)
                         if not (0 <= tol[0] < 1 and tol[1] >= 0):
                             bad("tolerance", f'{quoted(c["tolerance"])}: expected less than 100 % below nominal')
                             tol = None
                     except UnparseableValue as e:
                         bad("tolerance", str(e))
+            elif kind == "trimmer":
+                tol = TRIMMER_TOLERANCE
             else:
                 tol = default_tolerance(kind, dielectric)
-        rating = None
-        if kind and c["rating"]:
+        rating = rating_current = None
+        if kind == "ic":
+            refuse_cell("rating", "an ic has no rating here; put its limits in the note")
+        elif kind == "diode" and c["rating"]:
             try:
-                rating = parse_rating(c["rating"], kind)
+                rating, rating_current = parse_forward_drop(c["rating"])
+            except UnparseableValue as e:
+                bad("rating", str(e))
+        elif kind and c["rating"]:
+            try:
+                rating = parse_rating(c["rating"], _part_kind(kind))
                 if not rating > 0:
                     bad("rating", f'{quoted(c["rating"])}: expected a rating above zero')
             except UnparseableValue as e:
@@ -216,6 +352,12 @@ def validate_rows(raw_rows: Iterable) -> list[ImportRow]:
                 quantity = parse_quantity(c["quantity"])
             except UnparseableValue as e:
                 bad("quantity", str(e))
+        reorder_at = None
+        if c["reorder_at"]:
+            try:
+                reorder_at = parse_whole(c["reorder_at"], 0, MAX_QUANTITY, "parts (the reorder level)")
+            except UnparseableValue as e:
+                bad("reorder_at", str(e))
         for column in _TEXT_COLUMNS:
             problem = text_problem(c[column], lines.c[column])
             if problem:
@@ -225,7 +367,9 @@ def validate_rows(raw_rows: Iterable) -> list[ImportRow]:
             continue
         assert kind and value is not None and tol is not None and quantity is not None
         spec = PartSpec(kind, clean(value), clean(tol[0]), clean(tol[1]), c["location"], c["package"],
-                        None if rating is None else clean(rating), dielectric, c["note"])
+                        None if rating is None else clean(rating), dielectric, c["note"], part=part, turns=turns,
+                        rating_current=None if rating_current is None else clean(rating_current),
+                        reorder_at=reorder_at)
         out.append(ImportRow(raw.row, spec, quantity))
     if problems:
         raise InvalidStockFile(problems)
@@ -239,14 +383,23 @@ def plan_import(rows: Sequence[ImportRow], current: Sequence[StockLine], *, repl
     ``replace`` the matching line's quantity is SET to the file's; lines the file does not mention
     are left as they are in both modes. A part with no matching line becomes a new line."""
     totals: dict[tuple, list] = {}
+    levels: dict[tuple, tuple[int, int]] = {}  # identity -> (first row giving a reorder level, level)
+    clashes: list[str] = []
     for r in rows:
         entry = totals.setdefault(r.spec.key, [r.spec, 0, []])
         entry[1] += r.quantity
         entry[2].append(r.row)
+        if r.spec.reorder_at is not None:
+            first = levels.setdefault(r.spec.key, (r.row, r.spec.reorder_at))
+            if first[1] != r.spec.reorder_at:
+                clashes.append(f"row {r.row}, column reorder_at: {r.spec.reorder_at} for the same part as row "
+                               f"{first[0]}, which gives {first[1]}; give one reorder level per stock line")
+    if clashes:
+        raise InvalidStockFile(clashes)
     existing: dict[tuple, StockLine] = {}
     for line in sorted(current, key=lambda ln: ln.id):
         existing.setdefault(line_key(line), line)
-    new_lines, changes, unchanged = [], [], []
+    new_lines, changes, unchanged, reorders = [], [], [], []
     over: list[str] = []
     for key, (spec, qty, rownums) in totals.items():
         line = existing.get(key)
@@ -254,9 +407,14 @@ def plan_import(rows: Sequence[ImportRow], current: Sequence[StockLine], *, repl
         if target > MAX_QUANTITY:
             over.append(_over_limit(spec, line, target, rownums, replace))
             continue
+        level = levels.get(key)
         if line is None:
+            if level is not None and spec.reorder_at != level[1]:
+                spec = replace_fields(spec, reorder_at=level[1])  # the first row may leave it empty
             new_lines.append(NewLine(spec, qty, tuple(rownums)))
             continue
+        if level is not None and level[1] != line.reorder_at:
+            reorders.append(ReorderChange(line, level[1], tuple(rownums)))
         if target == line.quantity:
             unchanged.append(line)
         else:
@@ -267,7 +425,8 @@ def plan_import(rows: Sequence[ImportRow], current: Sequence[StockLine], *, repl
                            "nothing was changed")
     changes.sort(key=lambda ch: ch.line.id)
     unchanged.sort(key=lambda ln: ln.id)
-    return ImportPlan(replace, tuple(new_lines), tuple(changes), tuple(unchanged), source)
+    reorders.sort(key=lambda ch: ch.line.id)
+    return ImportPlan(replace, tuple(new_lines), tuple(changes), tuple(unchanged), source, tuple(reorders))
 
 
 def _over_limit(spec: PartSpec, line: Optional[StockLine], target: int, rownums: Sequence[int],
@@ -278,7 +437,9 @@ def _over_limit(spec: PartSpec, line: Optional[StockLine], target: int, rownums:
     rows = [r for r in rownums if r]
     where = f" (row{'s' if len(rows) != 1 else ''} {', '.join(map(str, rows))})" if rows else ""
     if line is None:
-        what = f"{spec.kind} {format_value(spec.value, OHM if spec.kind == 'resistor' else FARAD)}"
+        shown = spec.part if spec.kind in VALUELESS_KINDS else \
+            format_value(spec.value, FARAD if spec.kind == "capacitor" else OHM)
+        what = f"{spec.kind} {shown}"
         return f"the new line for {what}{where} would hold {target}"
     if replace:
         return f"stock line {line.id}{where} would be set to {target}"
@@ -316,7 +477,8 @@ def apply_plan(session, plan: ImportPlan, reason: str, reference: str) -> list[i
         result = session.execute(sa.insert(lines).values(
             kind=s.kind, value=s.value, tol_minus=s.tol_minus, tol_plus=s.tol_plus, quantity=n.quantity,
             location=s.location, package=s.package, rating=s.rating, dielectric=s.dielectric,
-            polarized=s.polarized, note=s.note, created_at=now, updated_at=now))
+            polarized=s.polarized, note=s.note, part=s.part, turns=s.turns, rating_current=s.rating_current,
+            reorder_at=s.reorder_at, created_at=now, updated_at=now))
         line_id = result.inserted_primary_key[0]
         new_ids.append(line_id)
         if n.quantity:
@@ -326,6 +488,9 @@ def apply_plan(session, plan: ImportPlan, reason: str, reference: str) -> list[i
         session.execute(sa.insert(moves), ledger)
     for ch in plan.changes:
         move_within_limit(session, ch.line.id, ch.delta, reason, reference)
+    for rc in plan.reorders:  # a setting, not a quantity: no ledger row
+        session.execute(sa.update(lines).where(lines.c.id == rc.line.id).values(reorder_at=rc.reorder_at,
+                                                                                  updated_at=now))
     return new_ids
 
 
@@ -538,11 +703,28 @@ def export_cells(line: StockLine) -> dict[str, str]:
 def _export_cells(line: StockLine) -> dict[str, str]:
     from selector.core import notation as n
 
-    unit = n.OHM if line.kind == "resistor" else n.FARAD
+    extra = {"part": line.part, "turns": "" if line.turns is None else str(line.turns),
+             "reorder_at": "" if line.reorder_at is None else str(line.reorder_at)}
+    common = {"kind": line.kind, "quantity": str(line.quantity), "location": line.location,
+              "package": line.package, "dielectric": line.dielectric, "note": line.note, **extra}
+    if line.kind in VALUELESS_KINDS:  # named by the part column; a diode's rating is its forward drop
+        rating = ""
+        if line.rating is not None:
+            volts = _first_exact((lambda: n.format_value(line.rating, n.VOLT), lambda: f"{line.rating!r}V"),
+                                 lambda t: clean(parse_forward_drop(t)[0]), line.rating)
+            rating = volts
+            if line.rating_current is not None:
+                amps = _first_exact((lambda: n.format_value(line.rating_current, "A"),
+                                     lambda: f"{line.rating_current!r}A"),
+                                    lambda t: clean(parse_forward_drop(f"1V@{t}")[1]), line.rating_current)
+                rating = f"{volts}@{amps}".replace(" ", "")
+        return {**common, "value": "", "tolerance": "", "rating": rating}
+    kind = _part_kind(line.kind)
+    unit = n.OHM if kind == "resistor" else n.FARAD
     value = _first_exact(
-        (lambda: n.format_value(line.value, unit), lambda: repr(line.value) if line.kind == "resistor" else "",
+        (lambda: n.format_value(line.value, unit), lambda: repr(line.value) if kind == "resistor" else "",
          lambda: _minimal_exp(line.value)),
-        lambda t: clean(n.parse_value(t, line.kind, unit)), line.value)
+        lambda t: clean(n.parse_value(t, kind, unit)), line.value)
     tol = (line.tol_minus, line.tol_plus)
 
     def pct(x: float) -> str:  # percent in plain decimal digits, never an exponent
@@ -555,16 +737,14 @@ def _export_cells(line: StockLine) -> dict[str, str]:
         (lambda: n.format_tolerance(*tol), lambda: f"±{pct(tol[0])}%" if tol[0] == tol[1] else "",
          lambda: f"-{pct(tol[0])}/+{pct(tol[1])}%", lambda: frac(tol[0]) if tol[0] == tol[1] else "",
          lambda: f"-{frac(tol[0])}/+{frac(tol[1])}"),
-        lambda t: tuple(clean(x) for x in n.parse_tolerance(t, line.kind, line.value)), tol)
+        lambda t: tuple(clean(x) for x in n.parse_tolerance(t, kind, line.value)), tol)
     rating = ""
     if line.rating is not None:
-        runit = n.WATT if line.kind == "resistor" else n.VOLT
+        runit = n.WATT if kind == "resistor" else n.VOLT
         rating = _first_exact(
             (lambda: n.format_value(line.rating, runit), lambda: repr(line.rating)),
-            lambda t: clean(n.parse_rating(t, line.kind)), line.rating)
-    return {"kind": line.kind, "value": value, "tolerance": tolerance, "quantity": str(line.quantity),
-            "location": line.location, "package": line.package, "rating": rating,
-            "dielectric": line.dielectric, "note": line.note}
+            lambda t: clean(n.parse_rating(t, kind)), line.rating)
+    return {**common, "value": value, "tolerance": tolerance, "rating": rating}
 
 
 def export_stock(engine, path: str | Path) -> int:

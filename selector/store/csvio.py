@@ -25,7 +25,10 @@ from selector.core.errors import InvalidStockFile, UnreadableFile
 
 COLUMNS: tuple[str, ...] = (
     "kind", "value", "tolerance", "quantity", "location", "package", "rating", "dielectric", "note",
+    "part", "turns", "reorder_at",
 )
+"""Every column a stock file may have (README "Stock file"); a header cell is matched without
+regard to case, with spaces inside read as underscores ("Reorder At" is reorder_at)."""
 REQUIRED: tuple[str, ...] = ("kind", "value", "quantity")
 _DELIMITERS = (",", ";", "\t")
 _REJECTED = "\0rejected"  # a header cell already reported as unknown or duplicate
@@ -126,7 +129,7 @@ def _check_header(record: list[str], rownum: int, problems: list[str]) -> list[s
     names: list[str | None] = []
     seen: dict[str, int] = {}
     for i, cell in enumerate(record):
-        name = cell.strip().lower()
+        name = "_".join(cell.strip().lower().split())
         if not name:
             names.append(None)
             continue
@@ -146,7 +149,7 @@ def _check_header(record: list[str], rownum: int, problems: list[str]) -> list[s
             continue
         seen[name] = i
         names.append(name)
-    missing = [c for c in REQUIRED if c not in seen]
+    missing = [c for c in REQUIRED if c not in seen and not (c == "value" and "part" in seen)]  # ICs, diodes
     if missing:
         problems.append(
             f"row {rownum}: missing required column{'s' if len(missing) > 1 else ''} "

@@ -180,12 +180,12 @@ def test_set_is_ledgered_and_refuses_negative(cli, db_path, tmp_path):
 def test_import_errors_through_the_cli(cli, db_path, tmp_path):
     _import(cli, db_path, _write_csv(tmp_path, "kind,value,quantity\nR,1k,1\n", "ok.csv"))
     before = _dump(db_path)
-    bad = _write_csv(tmp_path, "kind,value,quantity\nR,1k,1\ndiode,1N4148,2\nR,2k2,-1\n", "bad.csv")
+    bad = _write_csv(tmp_path, "kind,value,quantity\nR,1k,1\ntransistor,BC547,2\nR,2k2,-1\n", "bad.csv")
     r = cli("stock", "import", str(bad), db=db_path)
     assert r.returncode == 1
     assert r.stderr.splitlines() == [
         "Error: 2 problems in the stock file; nothing was imported",
-        '  row 3, column kind: "diode": expected resistor or capacitor (or R / C)',
+        '  row 3, column kind: "transistor": expected resistor, capacitor, trimmer, ic or diode (or R / C)',
         '  row 4, column quantity: "-1": expected a whole number of parts, 0 or more',
     ]
     assert _dump(db_path) == before

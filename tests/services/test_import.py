@@ -133,8 +133,9 @@ def test_quoted_cells_with_the_delimiter_inside(memory_engine, tmp_path):
 # --------------------------------------------------------------------------- bad files
 
 def test_unknown_kind(memory_engine, tmp_path):
-    p = _write(tmp_path, "kind,value,quantity\ndiode,1N4148,3\n")
-    assert _problems(memory_engine, p) == ['row 2, column kind: "diode": expected resistor or capacitor (or R / C)']
+    p = _write(tmp_path, "kind,value,quantity\ntransistor,BC547,3\n")
+    assert _problems(memory_engine, p) == ['row 2, column kind: "transistor": expected resistor, capacitor, trimmer, '
+                                           'ic or diode (or R / C)']
 
 
 def test_negative_and_fractional_quantities(memory_engine, tmp_path):
@@ -183,7 +184,7 @@ def test_duplicate_and_unknown_headers(memory_engine, tmp_path):
     assert _problems(memory_engine, p) == [
         'row 1, column D: "Value": duplicate column (already column B); keep one of them',
         'row 1, column E: "colour": unknown column; expected some of kind, value, tolerance, quantity, location, '
-        'package, rating, dielectric, note',
+        'package, rating, dielectric, note, part, turns, reorder_at',
     ]
 
 
@@ -192,7 +193,7 @@ def test_empty_file(memory_engine, tmp_path, content):
     p = _write(tmp_path, content)
     assert _problems(memory_engine, p) == [
         "row 1: the file is empty: expected a header row naming the columns, e.g. "
-        "kind,value,tolerance,quantity,location,package,rating,dielectric,note"]
+        "kind,value,tolerance,quantity,location,package,rating,dielectric,note,part,turns,reorder_at"]
 
 
 def test_bytes_that_are_not_utf8(memory_engine, tmp_path):
