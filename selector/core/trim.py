@@ -59,9 +59,12 @@ MARGIN_STEP = 0.05
 """Worst-corner travel margins within the same 5-point step rank as equal."""
 MAX_OPTIONS = 3
 """At most this many trimmer options are added after the fixed ones."""
+MAX_FIXED_PARTS = 2
+"""The fixed network in series with a trimmer has 1-2 parts: a third part would chase a value the
+trimmer sets anyway (decision; it also keeps the pass cheap)."""
 FIXED_PER_TRIMMER = 6
 """Fixed networks tried per (other networks, role, trimmer): the best by margin, then parts."""
-_BISECT_STEPS = 64
+_BISECT_STEPS = 100
 _R_LO, _R_HI = 1e-3, 1e12
 
 
@@ -160,26 +163,55 @@ def _evaluator(kind, nets: Mapping, role: str, roles, unc, limits):
     return fn
 
 
-def solve_r(fn, inputs: np.ndarray, out_index: int, goal: float) -> np.ndarray:
+def solve_r(fn, inputs: np.ndarray, out_index: int, goal: float, guess: Optional[float] = None) -> np.ndarray:
     """Total resistance in the trimmed role that puts output ``out_index`` on ``goal`` for every
-    column of ``inputs`` (bisection in log R on the model, which is monotone in R); nan where
-    [1 mΩ, 1 TΩ] does not bracket the goal."""
+    column of ``inputs``; nan where no resistance in [1 mΩ, 1 TΩ] reaches it.
+
+    The model is monotone in R (``tolerance.corners``), so g(x) = ln(output/goal) with x = ln R has
+    one root, bracketed first by [guess/8, guess·8] (the base option's own value is close) and
+    else by [1 mΩ, 1 TΩ]; the Illinois variant of regula falsi then converges superlinearly (g is
+    nearly linear in x: every time is close to proportional to R), until the output is on the goal to a relative 1e-14 (or the bracket is 1e-13 wide)."""
     n = inputs.shape[1]
-    lo = np.full(n, math.log(_R_LO))
-    hi = np.full(n, math.log(_R_HI))
-    with np.errstate(all="ignore"):
-        f_lo = fn(np.exp(lo), inputs)[out_index] - goal
-        f_hi = fn(np.exp(hi), inputs)[out_index] - goal
-        ok = np.isfinite(f_lo) & np.isfinite(f_hi) & (np.sign(f_lo) != np.sign(f_hi))
-        rising = f_hi > f_lo
-        for _ in range(_BISECT_STEPS):
-            mid = 0.5 * (lo + hi)
-            f = fn(np.exp(mid), inputs)[out_index] - goal
-            above = (f > 0) == rising           # past the goal: the root is below mid
-            hi = np.where(above, mid, hi)
-            lo = np.where(above, lo, mid)
-    r = np.exp(0.5 * (lo + hi))
-    return np.where(ok, r, np.nan)
+
+    def g(x):
+        with np.errstate(all="ignore"):
+            return np.log(fn(np.exp(x), inputs)[out_index] / goal)
+
+    wide = (math.log(_R_LO), math.log(_R_HI))
+    a = np.full(n, wide[0])
+    b = np.full(n, wide[1])
+    if guess is not None and guess > 0:
+        a0 = np.full(n, math.log(guess / 8.0))
+        b0 = np.full(n, math.log(guess * 8.0))
+        ga0, gb0 = g(a0), g(b0)
+        near = np.isfinite(ga0) & np.isfinite(gb0) & (np.sign(ga0) != np.sign(gb0))
+        a = np.where(near, a0, a)
+        b = np.where(near, b0, b)
+    ga, gb = g(a), g(b)
+    ok = np.isfinite(ga) & np.isfinite(gb) & (np.sign(ga) != np.sign(gb))
+    ga = np.where(ok, ga, -1.0)
+    gb = np.where(ok, gb, 1.0)
+    side = np.zeros(n)
+    best, best_g = np.where(np.abs(ga) <= np.abs(gb), a, b), np.minimum(np.abs(ga), np.abs(gb))
+    for _ in range(_BISECT_STEPS):
+        with np.errstate(all="ignore"):
+            x = (a * gb - b * ga) / (gb - ga)
+        x = np.where(np.isfinite(x) & (x > np.minimum(a, b)) & (x < np.maximum(a, b)), x, 0.5 * (a + b))
+        gx = g(x)
+        gx = np.where(np.isfinite(gx), gx, 0.0)
+        same_a = np.sign(gx) == np.sign(ga)
+        # Illinois: halve the stale end's value when the same end is kept twice in a row
+        b_new = np.where(same_a, b, x)
+        a_new = np.where(same_a, x, a)
+        gb = np.where(same_a, np.where(side == 1, gb * 0.5, gb), gx)
+        ga = np.where(same_a, gx, np.where(side == -1, ga * 0.5, ga))
+        side = np.where(same_a, 1, -1)
+        a, b = a_new, b_new
+        best = np.where(np.abs(gx) < np.abs(best_g), x, best)
+        best_g = np.where(np.abs(gx) < np.abs(best_g), gx, best_g)
+        if np.all(~ok | (np.abs(b - a) < 1e-13) | (np.abs(best_g) <= 1e-14)):
+            break
+    return np.where(ok, np.exp(best), np.nan)
 
 
 def corner_grid(nominal: np.ndarray, lows: np.ndarray, highs: np.ndarray) -> np.ndarray:
@@ -212,7 +244,7 @@ def needed(kind, nets: Mapping, role: str, target, limits) -> Optional[Need]:
     roles, unc, nom, lo, hi = _corner_inputs(kind, nets, role, limits)
     fn = _evaluator(kind, nets, role, roles, unc, limits)
     grid = corner_grid(nom, lo, hi)
-    r = solve_r(fn, grid, out_i, goal)
+    r = solve_r(fn, grid, out_i, goal, nets[role].value if role in nets else None)
     if not np.all(np.isfinite(r)) or not np.all(r > 0):
         return None
     with np.errstate(all="ignore"):
@@ -338,9 +370,11 @@ def _with_trimmer(kind, role, others, base_nets, need: Need, tr: StockLine, targ
     t_nom = tr.value
     t_lo, t_hi = t_nom * (1 - tr.tol_minus), t_nom * (1 + tr.tol_plus)
     lo_band, hi_band = NOMINAL_BAND
-    f_lo = need.nominal - hi_band * t_nom     # the nominal setting within 20-80 % of travel
-    f_hi = need.nominal - lo_band * t_nom
-    if f_hi <= 0:
+    # the nominal setting within 20-80 % of travel, and (as F_min <= F <= F_max) the margin at
+    # the corners: a superset window of nominal F, filtered exactly below
+    f_lo = max(need.nominal - hi_band * t_nom, need.high - (1 - TRAVEL_MARGIN) * t_lo)
+    f_hi = min(need.nominal - lo_band * t_nom, need.low - TRAVEL_MARGIN * t_hi)
+    if f_hi <= 0 or f_hi < f_lo:
         return []
     offsets, ids = r_index.between(np.array([max(f_lo, 1e-12)]), np.array([f_hi]))
     if ids.size == 0:
@@ -391,4 +425,4 @@ def _option(kind, role, nets, fixed, tr, setting, need: Need, margin, target, li
 
 __all__ = ["TrimOption", "suggest", "needed", "solve_r", "travel_margin", "trimmer_lines", "wanted",
            "YIELD_THRESHOLD", "TRAVEL_MARGIN", "NOMINAL_BAND", "MARGIN_STEP", "MAX_OPTIONS",
-           "TRIMMER_KIND", "corner_grid", "main_target"]
+           "TRIMMER_KIND", "corner_grid", "main_target", "MAX_FIXED_PARTS"]

@@ -239,7 +239,8 @@ def _trim_options(req: TimingRequest, result, ranked, target, limits, t_lines) -
     trimmers = trim.trimmer_lines(t_lines, req.boards)
     if not trimmers:
         return []
-    r_index = result.network_counts.indexes(req.max_parts)[0]
+    # fixed networks of 1-2 parts: the trimmer takes up the slack a third part would chase
+    r_index = result.network_counts.indexes(min(req.max_parts, trim.MAX_FIXED_PARTS))[0]
     bases = [o.found for o in ranked] + list(result.options)
     return trim.suggest(bases, target, limits, trimmers, r_index, req.accept, req.boards)
 
