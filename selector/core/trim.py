@@ -59,6 +59,9 @@ MARGIN_STEP = 0.05
 """Worst-corner travel margins within the same 5-point step rank as equal."""
 MAX_OPTIONS = 3
 """At most this many trimmer options are added after the fixed ones."""
+MAX_BASES = 40
+"""Fixed options of the search whose other networks (capacitor, other resistor) are tried with a
+trimmer: the shown ones, then the pool by |error| (not exhaustive over capacitor networks)."""
 MAX_FIXED_PARTS = 2
 """The fixed network in series with a trimmer has 1-2 parts: a third part would chase a value the
 trimmer sets anyway (decision; it also keeps the pass cheap)."""
@@ -425,4 +428,4 @@ def _option(kind, role, nets, fixed, tr, setting, need: Need, margin, target, li
 
 __all__ = ["TrimOption", "suggest", "needed", "solve_r", "travel_margin", "trimmer_lines", "wanted",
            "YIELD_THRESHOLD", "TRAVEL_MARGIN", "NOMINAL_BAND", "MARGIN_STEP", "MAX_OPTIONS",
-           "TRIMMER_KIND", "corner_grid", "main_target", "MAX_FIXED_PARTS"]
+           "TRIMMER_KIND", "corner_grid", "main_target", "MAX_FIXED_PARTS", "MAX_BASES"]

@@ -241,7 +241,8 @@ def _trim_options(req: TimingRequest, result, ranked, target, limits, t_lines) -
         return []
     # fixed networks of 1-2 parts: the trimmer takes up the slack a third part would chase
     r_index = result.network_counts.indexes(min(req.max_parts, trim.MAX_FIXED_PARTS))[0]
-    bases = [o.found for o in ranked] + list(result.options)
+    # the shown options first, then the search's pool by |error|, up to MAX_BASES of them
+    bases = ([o.found for o in ranked] + list(result.options))[:trim.MAX_BASES]
     return trim.suggest(bases, target, limits, trimmers, r_index, req.accept, req.boards)
 
 
