@@ -356,8 +356,9 @@ def suggest(bases: Sequence, target, limits_by_connection: Mapping, trimmers: Se
     for o in out:
         # one option per trimmer and other networks: the best fixed network for them (a second
         # fixed value beside the same trimmer would be the same bench job)
-        b = (o.connection, o.role, o.trimmer.id) + tuple(
-            (r, n.shape, tuple(sorted(p.id for p in n.physical)))
+        # (by values, as the fixed rows: the same build from another drawer is not another option)
+        b = (o.connection, o.role, o.trimmer.value, o.trimmer.tol_minus, o.trimmer.tol_plus) + tuple(
+            (r, n.shape, tuple(sorted(f"{p.value:.9g}" for p in n.physical)))
             for r, n in sorted(o.networks.items()) if r != o.role)
         if b in builds:
             continue

@@ -138,6 +138,22 @@ def predicted_text(mode: str, p: Mapping[str, Any]) -> str:
     return f"τ {time_text(p['tau_s'])}, {freq_text(p['corner_hz'])}"
 
 
+def option_range_text(mode: str, opt: Mapping[str, Any]) -> str:
+    """The worst-case cell of an option; a trimmer option's adjusted quantity reads "set to …"
+    (its corners all land on the target once set; an astable's duty keeps its range)."""
+    r = opt["range"]
+    if not opt.get("adjustable"):
+        return range_text(mode, r)
+    if mode == "astable":
+        d0, d1 = r["duty"]
+        return f"set to {freq_text(r['frequency_hz'][0])}, {d0 * 100:.1f}–{d1 * 100:.1f} %"
+    if mode == "monostable":
+        return f"set to {time_text(r['width_s'][0])}"
+    if "corner_hz" in r and r["corner_hz"][0] == r["corner_hz"][1]:
+        return f"set to {freq_text(r['corner_hz'][0])}"
+    return f"set to τ {time_text(r['tau_s'][0])}"
+
+
 def range_text(mode: str, r: Mapping[str, Any]) -> str:
     if mode == "astable":
         f0, f1 = r["frequency_hz"]
@@ -301,7 +317,7 @@ def wide_lines(report, width: int) -> Optional[list]:
         cells = [f"{opt['rank']}{_mark(opt, ro)}", connection_name(opt["connection"])]
         cells += [texts.get(r, "") for r in roles]
         cells += [predicted_text(mode, opt["predicted"])] + [error_text(k, e.get(k)) for k in errs]
-        cells += [range_text(mode, opt["range"]), yield_text(opt.get("yield")), str(nparts(opt)),
+        cells += [option_range_text(mode, opt), yield_text(opt.get("yield")), str(nparts(opt)),
                   ", ".join(drawers(opt))]
         cells += [_why(opt)] if any_why else []
         body.append(cells)
