@@ -27,12 +27,16 @@ BENCH_STOCK: dict[int, tuple] = {
 
 def add_stock(engine, lines: dict[int, tuple]) -> None:
     """Insert stock lines with quantity 0, then bring each to its quantity through the ledger
-    (reason "import"), so the ledger sums to the stock from the start."""
+    (reason "import"), so the ledger sums to the stock from the start. A tuple may go on with
+    part, rating_current and reorder_at (for ic / diode lines and reorder levels)."""
     with transaction(engine) as s:
-        for line_id, (kind, value, tm, tp, qty, loc, pkg, rating, diel, note) in lines.items():
+        for line_id, spec in lines.items():
+            kind, value, tm, tp, qty, loc, pkg, rating, diel, note = spec[:10]
+            part, rating_current, reorder_at = (tuple(spec[10:]) + ("", None, None)[len(spec) - 10:])[:3]
             s.add(StockLineRow(id=line_id, kind=kind, value=value, tol_minus=tm, tol_plus=tp, quantity=0,
                                location=loc, package=pkg, rating=rating, dielectric=diel,
-                               polarized=diel in ("electrolytic", "tantalum"), note=note))
+                               polarized=diel in ("electrolytic", "tantalum"), note=note, part=part,
+                               rating_current=rating_current, reorder_at=reorder_at))
         s.flush()
         if s.get_bind().dialect.name == "postgresql":  # explicit ids do not move the sequence
             s.execute(sa.text("SELECT setval(pg_get_serial_sequence('stock_lines', 'id'), MAX(id)) FROM stock_lines"))

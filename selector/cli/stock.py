@@ -21,6 +21,9 @@ stock_app = typer.Typer(
 class KindChoice(str, Enum):
     resistor = "resistor"
     capacitor = "capacitor"
+    trimmer = "trimmer"
+    ic = "ic"
+    diode = "diode"
 
 
 def _engine(ctx: typer.Context):
@@ -39,7 +42,7 @@ def _console():
 @handles_errors
 def import_command(
     ctx: typer.Context,
-    file: Path = typer.Argument(..., metavar="FILE", help="CSV with a header row: kind, value, quantity and optionally tolerance, location, package, rating, dielectric, note."),
+    file: Path = typer.Argument(..., metavar="FILE", help="CSV with a header row: kind, value (or part), quantity and optionally tolerance, location, package, rating, dielectric, note, part, turns, reorder_at."),
     dry_run: bool = typer.Option(False, "--dry-run", help="Show what would change and write nothing."),
     replace: bool = typer.Option(False, "--replace", help="Set matching lines to the file's quantities instead of adding; lines not in the file are left as they are."),
     verbose: bool = typer.Option(False, "--verbose", help="List every stock line created or changed (a short import is always listed)."),
@@ -66,7 +69,9 @@ def _parse_bound(text: Optional[str], kind: Optional[str], option: str) -> Optio
     from selector.core.errors import UnparseableValue
     from selector.core.notation import FARAD, OHM, infer_kind, parse_value
 
-    k = kind or infer_kind(text)
+    if kind in ("ic", "diode"):
+        raise UnparseableValue(f"{option} {text}: an {kind} has no value to compare; list them with --kind {kind}")
+    k = "resistor" if kind == "trimmer" else kind or infer_kind(text)
     unit = {"resistor": OHM, "capacitor": FARAD}.get(k or "")
     try:
         return parse_value(text, k, unit)
@@ -78,18 +83,19 @@ def _parse_bound(text: Optional[str], kind: Optional[str], option: str) -> Optio
 @handles_errors
 def list_command(
     ctx: typer.Context,
-    kind: Optional[KindChoice] = typer.Option(None, "--kind", help="Only resistors or only capacitors."),
+    kind: Optional[KindChoice] = typer.Option(None, "--kind", help="Only this kind: resistor, capacitor, trimmer, ic or diode."),
     location: Optional[str] = typer.Option(None, "--location", help="Only this location (case does not matter)."),
     min_value: Optional[str] = typer.Option(None, "--min", metavar="VALUE", help="Smallest value to show, e.g. 1k or 10n."),
     max_value: Optional[str] = typer.Option(None, "--max", metavar="VALUE", help="Largest value to show, e.g. 100k or 1u."),
+    low: bool = typer.Option(False, "--low", help="Only lines at or below their reorder level (reorder_at)."),
     as_json: bool = typer.Option(False, "--json", help="Print a JSON list (SI values, tolerances as fractions)."),
 ) -> None:
-    """Show the stock lines (id, value, tolerance, quantity, location, ...)."""
+    """Show the stock lines (id, value or part, tolerance, quantity, location, ...)."""
     from selector.render.stock import print_stock
     from selector.services.stock import StockFilter, list_stock, stock_json
 
     k = kind.value if kind else None
-    f = StockFilter(k, location, _parse_bound(min_value, k, "--min"), _parse_bound(max_value, k, "--max"))
+    f = StockFilter(k, location, _parse_bound(min_value, k, "--min"), _parse_bound(max_value, k, "--max"), low)
     engine = _engine(ctx)
     try:
         lines = list_stock(engine, f)
@@ -98,7 +104,7 @@ def list_command(
     if as_json:
         typer.echo(json_text(stock_json(lines), indent=2, ensure_ascii=False))
     else:
-        print_stock(_console(), lines)
+        print_stock(_console(), lines, low_only=low)
 
 
 @stock_app.command("export")
@@ -167,7 +173,7 @@ def set_command(
 def kit_command(
     ctx: typer.Context,
     series: str = typer.Argument(..., metavar="SERIES", help="IEC 60063 series: E3, E6, E12, E24, E48, E96 or E192."),
-    kind: KindChoice = typer.Option(..., "--kind", help="resistor or capacitor."),
+    kind: KindChoice = typer.Option(..., "--kind", help="resistor or capacitor (kits hold no trimmers, ICs or diodes)."),
     low: str = typer.Option(..., "--from", metavar="VALUE", help="Lowest value, e.g. 10 or 1n."),
     high: str = typer.Option(..., "--to", metavar="VALUE", help="Highest value, e.g. 1M or 1u."),
     qty: int = typer.Option(..., "--qty", parser=whole("--qty", 0, MAX_QUANTITY), metavar="N", help="Parts of each value."),
@@ -183,9 +189,9 @@ def kit_command(
     from selector.core.errors import UnparseableValue
     from selector.core.notation import FARAD, OHM, parse_rating, parse_tolerance, parse_value
     from selector.render.stock import print_plan
-    from selector.services.stock import add_kit, kit_rows
+    from selector.services.stock import add_kit, check_kit_kind, kit_rows
 
-    k = kind.value
+    k = check_kit_kind(kind.value)
     unit = OHM if k == "resistor" else FARAD
 
     def read(text: str, option: str, fn):

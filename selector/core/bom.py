@@ -8,8 +8,9 @@ supply) and the current stock lines, build one BOM line per physical part:
 * the parts a 555 circuit needs beyond its timing network (decisions, with sources from
   facts.md):
   - the timer IC of the chosen family (U1) and, for the diode-steered connection, the steering
-    diode across RB (D1; anode at DIS, cathode at THR/TRIG) [S8]. Stock holds only resistors and
-    capacitors, so these two are always listed "not in stock";
+    diode across RB (D1; anode at DIS, cathode at THR/TRIG) [S8]; the Schmitt-inverter
+    oscillator's logic IC. Each is taken from an ic / diode stock line that matches it by the
+    rule in selector/core/stock_match.py, else listed "not in stock";
   - the control-pin (CV, pin 5) capacitor, 10 nF to ground, for the bipolar family only: bypass
     CV with 10 nF when it is not used [S14]. CMOS parts: not listed, because one CMOS 555 data
     sheet says CV "need not be decoupled" [S6]; the notes tell the technician to fit one if their
@@ -44,6 +45,7 @@ from selector.core.bom_formats import (  # noqa: F401  (the output forms; same p
 )
 from selector.core.cautions import CAUTIONS as CAUTION_TEXTS
 from selector.core.bom_records import Bom, BomLine, CircuitSpec, PickItem, PickStop, Shortage
+from selector.core.stock_match import matches, pick_line
 from selector.core.types import StockLine
 
 # ---------------------------------------------------------------------------------------------
@@ -331,13 +333,29 @@ def _extras(
     if kind is None:
         return []
     settings = _settings(spec)
-    out: list[BomLine] = [BomLine(
-        ref=o.ref, role=o.role, kind=o.kind, value=None, per_board=1, total=boards, in_stock=False,
-        description=o.description, note=o.note,
-    ) for o in kind.bom_obtain(settings)]
-
     taken = demand(so_far)
     visited = {bl.location for bl in so_far if bl.line_id is not None}
+    out: list[BomLine] = []
+    for o in kind.bom_obtain(settings):
+        line = pick_line(o.want, stock, taken, boards, visited) if o.want else None
+        if line is None:
+            out.append(BomLine(ref=o.ref, role=o.role, kind=o.kind, value=None, per_board=1, total=boards,
+                               in_stock=False, description=o.description, note=o.note))
+            empty = [ln for ln in stock if o.want and matches(o.want, ln)]
+            if empty:
+                notes.append(f"{o.ref}: stock line{'s' if len(empty) > 1 else ''} "
+                             f"{', '.join(f'{ln.id} ({ln.part})' for ln in empty)} would supply it but "
+                             f"{'are' if len(empty) > 1 else 'is'} empty; restock or obtain the part.")
+            continue
+        taken[line.id] = taken.get(line.id, 0) + boards
+        visited.add(line.location)
+        out.append(BomLine(
+            ref=o.ref, role=o.role, kind=line.kind, value=None, per_board=1, total=boards, in_stock=True,
+            line_id=line.id, location=line.location, package=line.package, rating=line.rating,
+            note="; ".join(x for x in (o.note, line.note) if x), description=o.description, part=line.part))
+        drift = _diode_drop_note(o.ref, line, spec.diode_vf) if line.kind == "diode" else None
+        if drift:
+            notes.append(drift)
     for want in kind.bom_extra_caps(settings):
         line, unknown_rating = _pick_extra(stock, taken, boards, spec.vcc, derating, want.fits, want.prefer,
                                            want.exclude, visited)
@@ -367,6 +385,24 @@ def _extras(
     return out
 
 
+DIODE_DROP_SLACK_V = 0.05
+"""A stock diode whose stated drop at 1 mA differs from the searched one by more than this gets a
+note (the diode-steered timing depends on it; our threshold)."""
+
+
+def _diode_drop_note(ref: str, line: StockLine, searched_vf: Optional[float]) -> Optional[str]:
+    """A note when the diode taken from stock states a forward drop at 1 mA (or at no stated
+    current) other than the one the search assumed (``--diode-vf`` is the drop at 1 mA)."""
+    if line.rating is None or searched_vf is None:
+        return None
+    if line.rating_current is not None and not math.isclose(line.rating_current, 1e-3, rel_tol=1e-6):
+        return None
+    if abs(line.rating - searched_vf) <= DIODE_DROP_SLACK_V:
+        return None
+    return (f"{ref}: stock line {line.id} ({line.part}) drops {line.rating:g} V at 1 mA; the search assumed "
+            f"{searched_vf:g} V. Search again with --diode-vf {line.rating:g} for the timing this diode gives.")
+
+
 class OptionOutdatedError(LookupError):
     """A stock line the option uses is gone (``now`` None) or holds another value."""
 
@@ -390,7 +426,7 @@ def natural_key(text: str) -> tuple:
 
 def pick_list(bom: Bom, stock: Sequence[StockLine]) -> list[PickStop]:
     """Stock parts grouped by drawer, drawers in natural order, each visited once; inside a
-    drawer resistors then capacitors, by value."""
+    drawer resistors, capacitors, trimmers, diodes, then ICs, by value."""
     by_id = {s.id: s for s in stock}
     need = demand(bom.lines)
     refs: dict[int, list[str]] = {}
@@ -402,11 +438,11 @@ def pick_list(bom: Bom, stock: Sequence[StockLine]) -> list[PickStop]:
         s = by_id[line_id]
         stops.setdefault(s.location, []).append(PickItem(
             line_id=s.id, kind=s.kind, value=s.value, tol_minus=s.tol_minus, tol_plus=s.tol_plus,
-            package=s.package, quantity=qty, on_hand=s.quantity, refs=tuple(refs[line_id]),
+            package=s.package, quantity=qty, on_hand=s.quantity, refs=tuple(refs[line_id]), part=s.part,
         ))
-    kind_order = {"resistor": 0, "trimmer": 1, "capacitor": 2}
+    kind_order = {"resistor": 0, "capacitor": 1, "trimmer": 2, "diode": 3, "ic": 4}
     return [
-        PickStop(loc, tuple(sorted(items, key=lambda it: (kind_order.get(it.kind, 2), it.value, it.line_id))))
+        PickStop(loc, tuple(sorted(items, key=lambda it: (kind_order.get(it.kind, 5), it.value, it.line_id))))
         for loc, items in sorted(stops.items(), key=lambda kv: natural_key(kv[0]))
     ]
 
@@ -421,7 +457,7 @@ def wirings(bom: Bom) -> list[tuple[str, str]]:
 
 
 def to_obtain(bom: Bom) -> list[BomLine]:
-    """Parts the stock does not supply (the IC, the diode, extras with no fitting line)."""
+    """Parts the stock does not supply (an IC or diode with no matching line, extras with no fitting line)."""
     return [bl for bl in bom.lines if bl.line_id is None]
 
 

@@ -24,7 +24,7 @@ def value_text(bl: BomLine) -> str:
     from selector.core.notation import format_value
 
     if bl.value is None:
-        return bl.description
+        return bl.part or bl.description
     return format_value(bl.value, _unit(bl.kind))
 
 
@@ -111,7 +111,8 @@ def to_markdown(bom: Bom, stops: Sequence[PickStop] = ()) -> str:
             for it in stop.items:
                 take = f"{it.quantity}" + (f" (short by {it.missing})" if it.missing else "")
                 out.append("| " + " | ".join(md_cell(x) for x in (
-                    stop.location or "(no location)", str(it.line_id), format_value(it.value, _unit(it.kind)),
+                    stop.location or "(no location)", str(it.line_id),
+                    it.part or format_value(it.value, _unit(it.kind)),
                     take, " ".join(it.refs))) + " |")
     if bom.notes:
         out.append("")
@@ -121,7 +122,8 @@ def to_markdown(bom: Bom, stops: Sequence[PickStop] = ()) -> str:
 
 def to_json(bom: Bom) -> dict[str, Any]:
     """``{"search", "option", "boards", "lines": [{"ref", "role", "kind", "value", "tolerance",
-    "line_id", "location", "per_board", "total", "in_stock"}]}`` in SI units."""
+    "line_id", "location", "per_board", "total", "in_stock", "part"}]}`` in SI units; ``part`` is
+    the part text of an IC or diode taken from stock ("" otherwise)."""
     return {
         "search": bom.search_id,
         "option": bom.option,
@@ -130,7 +132,7 @@ def to_json(bom: Bom) -> dict[str, Any]:
             {
                 "ref": bl.ref, "role": bl.role, "kind": bl.kind, "value": bl.value,
                 "tolerance": bl.tolerance, "line_id": bl.line_id, "location": bl.location,
-                "per_board": bl.per_board, "total": bl.total, "in_stock": bl.in_stock,
+                "per_board": bl.per_board, "total": bl.total, "in_stock": bl.in_stock, "part": bl.part,
             }
             for bl in bom.lines
         ],

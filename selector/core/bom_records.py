@@ -40,7 +40,7 @@ class BomLine:
     ref: str
     role: str
     kind: str  # "resistor" | "capacitor" | "ic" | "diode"
-    value: Optional[float]
+    value: Optional[float]  # None for an IC or a diode, in stock or not
     per_board: int
     total: int
     in_stock: bool
@@ -54,6 +54,7 @@ class BomLine:
     note: str = ""
     network: str = ""  # e.g. "series, part 1 of 2"; "" for a single part or an extra
     description: str = ""  # what to obtain, for parts without a value
+    part: str = ""  # the part text of the IC or diode line it comes from ("NE555P")
 
     @property
     def tolerance(self) -> Optional[dict[str, float]]:
@@ -85,6 +86,7 @@ class PickItem:
     quantity: int  # to take, all boards
     on_hand: int
     refs: tuple[str, ...]
+    part: str = ""  # an IC's or diode's part text (its value is 0)
 
     @property
     def missing(self) -> int:

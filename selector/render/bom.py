@@ -47,7 +47,8 @@ def bom_lines(bom: core_bom.Bom, width: int = 200) -> list:
             stock = Text("short", style="bold red")
         else:
             stock = Text("yes")
-        cells = [row["ref"], row["role"], row["value"], row["tolerance"]]
+        value = row["value"].replace(" ", "\u00a0") if bl.part else row["value"]  # a part text stays whole
+        cells = [row["ref"], row["role"], value, row["tolerance"]]
         cells += [", ".join(x for x in (row["package"], row["dielectric"]) if x)] if wide else []
         cells += [row["rating"], row["location"], row["line_id"], row["per_board"], row["total"]]
         rows.append(_cells(*cells) + [stock])
@@ -68,7 +69,8 @@ def pick_lines(stops: Sequence[core_bom.PickStop], width: int = 200) -> list:
             if it.missing:
                 take = Text(f"{it.quantity} (short {it.missing})", style="bold red")
             rows.append(_cells((stop.location or "(no location)") if first else "", it.line_id,
-                               _value(it.kind, it.value), format_tolerance(it.tol_minus, it.tol_plus),
+                               it.part or _value(it.kind, it.value),
+                               "" if it.part else format_tolerance(it.tol_minus, it.tol_plus),
                                it.package) + [take] + _cells(it.on_hand, " ".join(it.refs)))
             first = False
     return table_lines(cols, rows, width, title="Pick list (one visit per drawer)")
@@ -105,7 +107,7 @@ def print_bom(console: Console, report) -> None:
 
 
 def print_pull(console: Console, result) -> None:
-    from selector.core.notation import format_value
+    from selector.render.stock import line_value_text
 
     by_id = {s.id: s for s in result.report.stock}
     head = "Dry run, nothing taken" if result.pull_id is None else f"Pull {result.pull_id}"
@@ -117,12 +119,19 @@ def print_pull(console: Console, result) -> None:
     rows = []
     for line_id, n in result.taken:
         s = by_id[line_id]
-        rows.append(_cells(line_id, format_value(s.value, _unit(s.kind)), s.location, n, s.quantity - n))
+        rows.append(_cells(line_id, line_value_text(s), s.location, n, s.quantity - n))
     lines = table_lines(cols, rows, console.width, title=title)
     missing = core_bom.to_obtain(result.report.bom)
     if missing:
         lines += paragraph("Not taken (not in stock): " + ", ".join(f"{bl.ref} {bl.role}" for bl in missing),
                            console.width)
+    low = result.low
+    if low:
+        verb = ("would be" if result.pull_id is None else "are now" if len(low) != 1 else "is now")
+        lines += paragraph(printable(
+            f"Reorder: {len(low)} line{'s' if len(low) != 1 else ''} {verb} at or below the reorder level: "
+            + "; ".join(f"line {ln.id} {line_value_text(ln)}{f' in {ln.location}' if ln.location else ''}, "
+                        f"{ln.quantity} left (reorder at {ln.reorder_at})" for ln in low) + "."), console.width)
     if result.pull_id is not None:
         lines.append(f"To put these parts back: selector undo {result.pull_id}")
     print_lines(console, lines)
@@ -139,7 +148,7 @@ def ledger_lines(entries, width: int = 200) -> list:
     cols = [Col("#", right=True), Col("when (UTC)"), Col("line", right=True), Col("value"),
             Col("location", wrap=True, min_wrap=8), Col("change", right=True), Col("reason"),
             Col("pull", right=True, hide_empty=True), Col("reference", wrap=True, min_wrap=9, hide_empty=True)]
-    rows = [_cells(e.movement_id, e.at.strftime("%Y-%m-%d %H:%M"), e.line_id, _value(e.kind, e.value),
+    rows = [_cells(e.movement_id, e.at.strftime("%Y-%m-%d %H:%M"), e.line_id, e.part or _value(e.kind, e.value),
                    e.location, f"{e.delta:+d}", e.reason, "" if e.pull_id is None else e.pull_id, e.reference)
             for e in entries]
     return table_lines(cols, rows, width, title="Ledger (newest first)")

@@ -316,7 +316,12 @@ def waveform_lines(report, width: int) -> list[str]:
 def bom_preview(report, width: int) -> list[str]:
     rows = []
     for bl in report.bom.bom.lines:
-        value = _value(bl.kind, bl.value) if bl.value is not None else printable(bl.description)
+        if bl.value is not None:
+            value = _value(bl.kind, bl.value)
+        elif bl.part:  # an IC or diode from stock: its part text, kept whole
+            value = printable(bl.part).replace(" ", "\u00a0")
+        else:
+            value = printable(bl.description)
         stock = "no" if bl.line_id is None else ("short" if not bl.in_stock else "yes")
         rows.append([bl.ref, printable(bl.role), value, printable(bl.location),
                      "" if bl.line_id is None else str(bl.line_id), str(bl.total), stock])

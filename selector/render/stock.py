@@ -6,7 +6,7 @@ from typing import Iterable, Sequence
 
 from rich.console import Console
 
-from selector.core.types import StockLine
+from selector.core.types import VALUELESS_KINDS, StockLine
 from selector.core.cautions import CAUTIONS as CAUTION_TEXTS
 from selector.render.layout import WIDE, Col, paragraph, print_lines, table_lines
 from selector.render.safe import printable
@@ -17,7 +17,7 @@ POLARITY_CAUTION = CAUTION_TEXTS["polarity"]
 def _units(kind: str):
     from selector.core.notation import FARAD, OHM, VOLT, WATT
 
-    return (OHM, WATT) if kind == "resistor" else (FARAD, VOLT)
+    return (FARAD, VOLT) if kind == "capacitor" else (OHM, WATT) if kind in ("resistor", "trimmer") else ("", VOLT)
 
 
 def value_text(kind: str, value: float) -> str:
@@ -26,12 +26,37 @@ def value_text(kind: str, value: float) -> str:
     return format_value(value, _units(kind)[0])
 
 
-def rating_text(kind: str, rating: float | None) -> str:
+def rating_text(kind: str, rating: float | None, rating_current: float | None = None) -> str:
+    """Watts, volts, or a diode's forward drop with the current it is stated at ("620 mV @ 1 mA")."""
     if rating is None:
         return ""
     from selector.core.notation import format_value
 
-    return format_value(rating, _units(kind)[1])
+    text = format_value(rating, _units(kind)[1])
+    return text if rating_current is None else f"{text} @ {format_value(rating_current, 'A')}"
+
+
+def line_value_text(ln) -> str:
+    """What names a line in a table: its value, or the part text of an IC or diode."""
+    return ln.part if ln.kind in VALUELESS_KINDS else value_text(ln.kind, ln.value)
+
+
+def line_tolerance_text(ln) -> str:
+    return "" if ln.kind in VALUELESS_KINDS else tolerance_text(ln.tol_minus, ln.tol_plus)
+
+
+def reorder_text(ln) -> str:
+    """The reorder level, and "low" when the line is at or below it ("" without a level)."""
+    if ln.reorder_at is None:
+        return ""
+    return f"{ln.reorder_at} low" if ln.low else str(ln.reorder_at)
+
+
+def _details(ln) -> str:
+    """Package, dielectric (and polarity) and a trimmer's turns: the narrow layout's "part" column."""
+    diel = ln.dielectric + (" (polarised)" if ln.polarized else "")
+    turns = f"{ln.turns}-turn" if ln.turns is not None and ln.turns > 1 else ""  # single-turn goes unsaid
+    return " ".join(x for x in (ln.package, diel, turns) if x)
 
 
 def tolerance_text(minus: float, plus: float) -> str:
@@ -44,52 +69,61 @@ STOCK_COLUMNS = (
     # kind is implied by the value's unit (Ω or F): the first column to go at narrow widths
     Col("id", right=True), Col("kind", drop=1), Col("value", right=True), Col("tolerance"),
     Col("qty", right=True), Col("location", wrap=True, min_wrap=8), Col("package", wrap=True, min_wrap=7),
-    Col("rating", right=True), Col("dielectric", wrap=True, min_wrap=10), Col("note", wrap=True, min_wrap=8, hide_empty=True),
+    Col("rating", right=True), Col("dielectric", wrap=True, min_wrap=10), Col("turns", right=True, hide_empty=True),
+    Col("reorder", right=True, hide_empty=True), Col("note", wrap=True, min_wrap=8, hide_empty=True),
 )
 
 
 NARROW_STOCK_COLUMNS = (
     Col("id", right=True), Col("value", right=True), Col("tolerance"), Col("qty", right=True),
     Col("location", wrap=True, min_wrap=8), Col("part", wrap=True, min_wrap=12), Col("rating", right=True),
-    Col("note", wrap=True, min_wrap=8, hide_empty=True),
+    # the reorder level goes first when room is short (the footer then counts the low lines)
+    Col("reorder", right=True, hide_empty=True, drop=1), Col("note", wrap=True, min_wrap=8, hide_empty=True),
 )
 
 
 def stock_lines(lines: Sequence[StockLine], width: int) -> list:
-    """One row per stock line: id, kind, value, tolerance, qty, location, package, rating,
-    dielectric, note. Values never wrap; below 110 columns the kind goes (the value's unit says
-    it) and package and dielectric share one "part" column."""
+    """One row per stock line: id, kind, value (an IC's or diode's part text), tolerance, qty,
+    location, package, rating, dielectric, turns, reorder level, note. Values never wrap; below
+    110 columns the kind goes (the value's unit or part text says it) and package, dielectric and
+    turns share one "part" column."""
     def diel(ln):
         return ln.dielectric + (" (polarised)" if ln.polarized else "")
 
     if width < WIDE:
         rows = [[printable(x) for x in (
-            ln.id, value_text(ln.kind, ln.value), tolerance_text(ln.tol_minus, ln.tol_plus), ln.quantity,
-            ln.location, " ".join(x for x in (ln.package, diel(ln)) if x), rating_text(ln.kind, ln.rating),
-            ln.note)] for ln in lines]
+            ln.id, line_value_text(ln), line_tolerance_text(ln), ln.quantity, ln.location, _details(ln),
+            rating_text(ln.kind, ln.rating, ln.rating_current), reorder_text(ln), ln.note)] for ln in lines]
         return table_lines(NARROW_STOCK_COLUMNS, rows, width)
     rows = [[printable(x) for x in (
-        ln.id, ln.kind, value_text(ln.kind, ln.value), tolerance_text(ln.tol_minus, ln.tol_plus),
-        ln.quantity, ln.location, ln.package, rating_text(ln.kind, ln.rating), diel(ln), ln.note)]
+        ln.id, ln.kind, line_value_text(ln), line_tolerance_text(ln), ln.quantity, ln.location, ln.package,
+        rating_text(ln.kind, ln.rating, ln.rating_current), diel(ln), "" if ln.turns is None else ln.turns,
+        reorder_text(ln), ln.note)]
         for ln in lines]
     return table_lines(STOCK_COLUMNS, rows, width)
 
 
-def print_stock(console: Console, lines: Sequence[StockLine]) -> None:
+def print_stock(console: Console, lines: Sequence[StockLine], *, low_only: bool = False) -> None:
     if not lines:
-        console.print("No stock lines match. Add parts with `selector stock import FILE` or `selector stock kit`.")
+        console.print("No stock line is at or below its reorder level." if low_only else
+                      "No stock lines match. Add parts with `selector stock import FILE` or `selector stock kit`.")
         return
     out = stock_lines(lines, console.width)
     parts = sum(ln.quantity for ln in lines)
     out.append(f"{len(lines)} stock line{'s' if len(lines) != 1 else ''}, {parts} part{'s' if parts != 1 else ''}")
+    low = sum(ln.low for ln in lines)
+    if low and not low_only:
+        out += paragraph(f"{low} line{'s are' if low != 1 else ' is'} at or below {'their' if low != 1 else 'its'} "
+                         "reorder level; `selector stock list --low` lists them.", console.width)
     if any(ln.polarized for ln in lines):
         out += paragraph(POLARITY_CAUTION, console.width)
     print_lines(console, out)
 
 
-def _spec_cells(kind, value, tol_minus, tol_plus, location, package, rating, dielectric) -> list[str]:
-    return [kind, value_text(kind, value), tolerance_text(tol_minus, tol_plus), location, package,
-            rating_text(kind, rating), dielectric]
+def _spec_cells(x) -> list[str]:
+    """The plan's cells of a PartSpec or a StockLine (both carry the same fields)."""
+    return [x.kind, line_value_text(x), line_tolerance_text(x), x.location, x.package,
+            rating_text(x.kind, x.rating, x.rating_current), x.dielectric]
 
 
 PLAN_ROWS_SHOWN = 100
@@ -113,17 +147,13 @@ def plan_lines(plan, width: int, limit: int = PLAN_ROWS_SHOWN) -> list:
     for n in plan.new_lines:
         if len(rows) == limit:
             break
-        s = n.spec
-        rows.append(["new", "", *_spec_cells(s.kind, s.value, s.tol_minus, s.tol_plus, s.location,
-                                             s.package, s.rating, s.dielectric),
-                     n.quantity, f"+{n.quantity}", _rows(n.rows)])
+        rows.append(["new", "", *_spec_cells(n.spec), n.quantity, f"+{n.quantity}", _rows(n.rows)])
     for ch in plan.changes:
         if len(rows) == limit:
             break
         ln = ch.line
         rows.append(["set" if plan.replace else "add", ln.id,
-                     *_spec_cells(ln.kind, ln.value, ln.tol_minus, ln.tol_plus, ln.location, ln.package,
-                                  ln.rating, ln.dielectric),
+                     *_spec_cells(ln),
                      f"{ln.quantity} → {ch.new_quantity}", f"{ch.delta:+d}", _rows(ch.rows)])
     return table_lines(PLAN_COLUMNS, [[printable(x) for x in r] for r in rows], width)
 
@@ -162,7 +192,7 @@ def print_change(console: Console, before: StockLine, after: StockLine) -> None:
     delta = after.quantity - before.quantity
     where = f" in {after.location}" if after.location else ""
     console.print(printable(
-        f"Stock line {after.id} ({after.kind} {value_text(after.kind, after.value)}"
-        f" {tolerance_text(after.tol_minus, after.tol_plus)}{where}): {before.quantity} → {after.quantity}"
-        f" ({delta:+d})"
+        f"Stock line {after.id} ({' '.join(x for x in (after.kind, line_value_text(after), line_tolerance_text(after)) if x)}"
+        f"{where}): {before.quantity} → {after.quantity} ({delta:+d})"
+        + (f"; at or below its reorder level ({after.reorder_at})" if after.low else "")
     ), markup=False, highlight=False)

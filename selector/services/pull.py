@@ -7,11 +7,13 @@ the write lock from its first statement: BEGIN IMMEDIATE), so quantities are che
 at that moment, not as they were when the search ran. If any stock line holds too few, nothing is
 taken and the error names every short line. Every change is a ledger row (reason "pull", pull_id
 set); undo writes the opposite rows (reason "undo") and marks the pull undone, once only.
+The timer IC, steering diode and logic IC come along when the BOM matched them to ic / diode
+lines. After a pull, the lines it left at or below their reorder level are listed (``low``).
 """
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from datetime import datetime
 from typing import Optional
 
@@ -21,6 +23,7 @@ from sqlalchemy.orm import Session
 
 from selector.core import bom as core_bom
 from selector.core.errors import AlreadyUndone, InsufficientStock, UnknownPull
+from selector.core.types import StockLine
 from selector.services.bom import BomReport, bom_in_session
 from selector.store.models import MovementRow, PullRow, StockLineRow, utcnow
 
@@ -36,8 +39,25 @@ class PullResult:
     taken: tuple[tuple[int, int], ...]  # (line_id, parts taken), by line id
     report: BomReport
 
+    @property
+    def low(self) -> list[StockLine]:
+        """The lines this pull takes from that are then at or below their reorder level, as they
+        are after the pull (or would be, for a dry run), by line id."""
+        return low_after(self.report.stock, self.taken)
+
     def to_json(self) -> dict:
-        return {"pull_id": self.pull_id, "lines": [{"line_id": i, "taken": n} for i, n in self.taken]}
+        return {"pull_id": self.pull_id, "lines": [{"line_id": i, "taken": n} for i, n in self.taken],
+                "low": [{"line_id": ln.id, "kind": ln.kind, "value": ln.value, "part": ln.part,
+                         "location": ln.location, "quantity": ln.quantity, "reorder_at": ln.reorder_at}
+                        for ln in self.low]}
+
+
+def low_after(stock, taken) -> list[StockLine]:
+    """Pure: the stock lines that ``taken`` ((line_id, parts) pairs) leaves at or below their
+    reorder level, with their quantities after the taking."""
+    by_id = {s.id: s for s in stock}
+    after = [replace(by_id[i], quantity=by_id[i].quantity - n) for i, n in taken if i in by_id]
+    return [ln for ln in after if ln.low]
 
 
 @dataclass(frozen=True)
@@ -61,12 +81,14 @@ class LedgerEntry:
     reason: str
     reference: str
     pull_id: Optional[int]
+    part: str = ""  # an IC's or diode's part text
 
     def to_json(self) -> dict:
         return {
             "movement_id": self.movement_id, "at": self.at.isoformat(timespec="seconds") + "Z",
             "line_id": self.line_id, "kind": self.kind, "value": self.value, "location": self.location,
             "delta": self.delta, "reason": self.reason, "reference": self.reference, "pull_id": self.pull_id,
+            "part": self.part,
         }
 
 
@@ -183,7 +205,7 @@ def list_movements(
             stmt = stmt.where(MovementRow.pull_id == pull_id)
         return [
             LedgerEntry(m.id, m.created_at, m.line_id, s.kind, s.value, s.location, m.delta, m.reason,
-                        m.reference, m.pull_id)
+                        m.reference, m.pull_id, s.part)
             for m, s in session.execute(stmt).all()
         ]
 

@@ -65,7 +65,10 @@ def test_bom_netlist_and_simulate(cli, stocked):
     _find(cli, stocked, "--top", "3")
     bom = cli("bom", "1", db=stocked)
     assert bom.returncode == 0, bom.stderr
-    assert "74HC14 type" in bom.stdout and "unused inverters" in bom.stdout
+    # the sample stock holds a 74HC14 line: the BOM takes it (README "Timer ICs, diodes and trimmers in stock")
+    assert "74HC14" in bom.stdout and "unused inverters" in bom.stdout
+    u1 = next(x for x in json.loads(cli("bom", "1", "--format", "json", db=stocked).stdout)["lines"] if x["ref"] == "U1")
+    assert (u1["role"], u1["part"], u1["in_stock"]) == ("inverter IC", "74HC14", True)
     assert "decoupling" in bom.stdout
     nl = cli("netlist", "1", db=stocked)
     assert nl.returncode == 0, nl.stderr

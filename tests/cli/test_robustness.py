@@ -114,11 +114,11 @@ def test_a_missing_parent_folder_is_refused_for_an_import(cli, tmp_path):
     db.parent.mkdir(parents=True)
     result = cli("stock", "import", str(SAMPLE), db=db)
     assert result.returncode == 0, result.stderr
-    # sample_stock.csv has 100 data rows, each a distinct stock line (read from the file itself)
+    # sample_stock.csv has 111 data rows, each a distinct stock line (read from the file itself)
     with SAMPLE.open(newline="", encoding="utf-8") as f:
         rows = list(csv.DictReader(f))
     snap = _snapshot(db)
-    assert len(snap["lines"]) == len(rows) == 100
+    assert len(snap["lines"]) == len(rows) == 111
     assert sum(r[5] for r in snap["lines"]) == sum(int(r["Quantity"]) for r in rows)
 
 

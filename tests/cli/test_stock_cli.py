@@ -16,7 +16,7 @@ REPO = Path(__file__).resolve().parents[2]
 SAMPLE = REPO / "sample_stock.csv"
 
 JSON_KEYS = {"line_id", "kind", "value", "tol_minus", "tol_plus", "quantity", "location", "package", "rating",
-             "dielectric", "polarized", "note"}
+             "dielectric", "polarized", "note", "part", "turns", "rating_current", "reorder_at", "low"}
 
 
 def _json(cli, db, *args):
@@ -75,16 +75,22 @@ def test_import_sample_and_list_json_shape(cli, db_path):
     for ln in lines:
         assert set(ln) == JSON_KEYS
         assert isinstance(ln["line_id"], int) and isinstance(ln["quantity"], int)
-        assert ln["kind"] in ("resistor", "capacitor")
-        assert isinstance(ln["value"], float) and ln["value"] > 0
+        assert ln["kind"] in ("resistor", "capacitor", "trimmer", "ic", "diode")
+        if ln["kind"] in ("ic", "diode"):  # named by the part text, no value (README "Stock file")
+            assert ln["value"] == 0 and ln["part"] and ln["tol_minus"] == ln["tol_plus"] == 0
+        else:
+            assert isinstance(ln["value"], float) and ln["value"] > 0
         assert 0 <= ln["tol_minus"] < 1 and ln["tol_plus"] >= 0
+        assert (ln["turns"] is not None) == (ln["kind"] == "trimmer")
+        assert ln["low"] == (ln["reorder_at"] is not None and ln["quantity"] <= ln["reorder_at"])
         assert ln["rating"] is None or isinstance(ln["rating"], float)
         assert ln["polarized"] == (ln["dielectric"] in ("electrolytic", "tantalum"))
     by_note = [ln for ln in lines if ln["note"] == "salvaged"]
     # sample row "capacitor,10u,20%,12,bin 3,radial,35V,electrolytic,salvaged"
     assert by_note == [{"line_id": by_note[0]["line_id"], "kind": "capacitor", "value": 1e-5, "tol_minus": 0.2,
                         "tol_plus": 0.2, "quantity": 12, "location": "bin 3", "package": "radial", "rating": 35.0,
-                        "dielectric": "electrolytic", "polarized": True, "note": "salvaged"}]
+                        "dielectric": "electrolytic", "polarized": True, "note": "salvaged", "part": "",
+                        "turns": None, "rating_current": None, "reorder_at": None, "low": False}]
 
 
 def test_list_table_and_polarity_caution(cli, db_path):
@@ -109,6 +115,44 @@ def test_list_filters(cli, db_path):
     assert len(band) == sum(1 for ln in everything if 1000 <= ln["value"] <= 10000)  # ends included
     tiny = _json(cli, db_path, "--max", "1n")  # "n" says capacitance without --kind
     assert tiny and all(ln["kind"] == "capacitor" and ln["value"] <= 1e-9 for ln in tiny)
+
+
+def test_list_by_new_kind_and_low(cli, db_path):
+    """--kind picks trimmers, ICs or diodes; --low the lines at or below their reorder level. The
+    expected lines are the sample's own rows (invented demo data), read here by hand."""
+    _import(cli, db_path)
+    ics = _json(cli, db_path, "--kind", "ic")
+    assert [(ln["part"], ln["quantity"], ln["reorder_at"], ln["low"]) for ln in ics] == [
+        ("NE555P", 6, 2, False), ("555 CMOS", 4, 2, False), ("74HC14", 1, 2, True)]
+    diodes = _json(cli, db_path, "--kind", "diode")
+    assert [(ln["part"], ln["rating"], ln["rating_current"]) for ln in diodes] == [
+        ("1N4148", 0.62, 1e-3), ("BAT85", 0.32, 1e-3)]
+    trimmers = _json(cli, db_path, "--kind", "trimmer")
+    assert [(ln["value"], ln["turns"], ln["tol_minus"]) for ln in trimmers] == [
+        (1e3, 1, 0.2), (1e4, 1, 0.2), (1e5, 1, 0.2), (5e5, 1, 0.2), (1e6, 1, 0.2), (1e4, 25, 0.1)]
+    low = _json(cli, db_path, "--low")
+    assert [(ln["kind"], ln["part"] or ln["value"]) for ln in low] == [("trimmer", 1e6), ("ic", "74HC14")]
+    everything = _json(cli, db_path)
+    assert low == [ln for ln in everything if ln["reorder_at"] is not None and ln["quantity"] <= ln["reorder_at"]]
+    r = cli("stock", "list", "--low", db=db_path)
+    assert r.returncode == 0 and "74HC14" in r.stdout and "2 stock lines, 3 parts" in r.stdout
+
+
+def test_list_value_bound_on_a_kind_without_values_is_one_line(cli, db_path):
+    r = cli("stock", "list", "--kind", "ic", "--min", "1k", db=db_path)
+    assert r.returncode == 1
+    assert r.stderr.strip() == "Error: --min 1k: an ic has no value to compare; list them with --kind ic"
+
+
+def test_kit_refuses_the_new_kinds(cli, db_path):
+    _import(cli, db_path)
+    before = _dump(db_path)
+    r = cli("stock", "kit", "E12", "--kind", "trimmer", "--from", "1k", "--to", "10k", "--qty", "1",
+            "--location", "T1", db=db_path)
+    assert r.returncode == 1
+    assert r.stderr.strip() == ("Error: --kind trimmer: a kit is an E-series assortment of resistors or capacitors; "
+                                "add trimmer lines with `selector stock import FILE`")
+    assert _dump(db_path) == before
 
 
 def test_list_bad_bound_is_one_line(cli, db_path):

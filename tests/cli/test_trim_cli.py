@@ -1,39 +1,20 @@
-"""The trimmer flow of issue 14 on the sample stock with a drawer of trimmers: find offers a
-fixed + trimmer option when no fixed option reaches 90 % yield (or with --trim), show tells how
-to set it, bom takes it from its drawer and pull deducts it. The trimmer lines are demo data we
-invent (the usual single-turn and multiturn values)."""
+"""The trimmer flow of issue 14 on the sample stock (which holds a drawer of trimmers): find
+offers a fixed + trimmer option when no fixed option reaches 90 % yield (or with --trim), show
+tells how to set it, bom takes it from its drawer and pull deducts it."""
 
 from __future__ import annotations
 
 import json
 
-TRIMMERS = ((1e3, 0.2, 1), (10e3, 0.2, 1), (100e3, 0.2, 1), (500e3, 0.2, 1), (1e6, 0.2, 1), (10e3, 0.1, 25))
-
-
 def _stock(cli, db_path) -> dict[int, float]:
-    """Import the sample stock and add the trimmers (each with its ledger row); line id -> value."""
+    """Import the sample stock (it holds a drawer of trimmers); trimmer line id -> value."""
     from conftest import SAMPLE
 
-    from selector.store.db import open_engine, resolve_url, run_in_transaction
-    from selector.store.models import MovementRow, StockLineRow
-
     assert cli("stock", "import", str(SAMPLE), db=db_path).returncode == 0
-    engine = open_engine(resolve_url(str(db_path)))
-    ids = {}
-
-    def add(s):
-        for value, tol, turns in TRIMMERS:
-            row = StockLineRow(kind="trimmer", value=value, tol_minus=tol, tol_plus=tol, quantity=3,
-                               location="T1", package="trimmer", rating=0.5, turns=turns)
-            s.add(row)
-            s.flush()
-            s.add(MovementRow(line_id=row.id, delta=3, reason="import", reference="test"))
-            ids[row.id] = value
-
-    try:
-        run_in_transaction(engine, add)
-    finally:
-        engine.dispose()
+    r = cli("stock", "list", "--kind", "trimmer", "--json", db=db_path)
+    assert r.returncode == 0, r.stderr
+    ids = {x["line_id"]: x["value"] for x in json.loads(r.stdout)}
+    assert ids, "the sample stock should hold trimmers"
     return ids
 
 

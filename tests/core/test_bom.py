@@ -248,14 +248,15 @@ def test_json_shape_and_values():
     data = json.loads(json.dumps(B.to_json(bom)))
     assert set(data) == {"search", "option", "boards", "lines"}
     assert (data["search"], data["option"], data["boards"]) == (7, 1, 2)
-    keys = {"ref", "role", "kind", "value", "tolerance", "line_id", "location", "per_board", "total", "in_stock"}
+    keys = {"ref", "role", "kind", "value", "tolerance", "line_id", "location", "per_board", "total", "in_stock",
+            "part"}
     assert all(set(line) == keys for line in data["lines"])
     r1, d1 = data["lines"][0], data["lines"][4]
     assert r1 == {"ref": "R1", "role": "RA", "kind": "resistor", "value": 10000.0,
                   "tolerance": {"minus": 0.05, "plus": 0.05}, "line_id": 1, "location": "A1",
-                  "per_board": 1, "total": 2, "in_stock": True}
+                  "per_board": 1, "total": 2, "in_stock": True, "part": ""}
     assert d1 == {"ref": "D1", "role": "steering diode", "kind": "diode", "value": None, "tolerance": None,
-                  "line_id": None, "location": "", "per_board": 1, "total": 2, "in_stock": False}
+                  "line_id": None, "location": "", "per_board": 1, "total": 2, "in_stock": False, "part": ""}
 
 
 _UNESCAPED_PIPE = re.compile(r"(?<!\\)\|")

@@ -55,9 +55,11 @@ def _import_worker(url: str, path: str, barrier, results) -> None:
 
 
 def _file_parts() -> dict[str, int]:
-    """The sample file's quantity per row (each of its 100 rows is a distinct part)."""
+    """The sample file's quantity per row (each of its 111 rows is a distinct part; an IC or diode
+    may be named in the Part column instead of Value)."""
     with SAMPLE.open(newline="", encoding="utf-8") as f:
-        return {f"{r['Kind']}|{r['Value']}|{r['Location']}": int(r["Quantity"]) for r in csv.DictReader(f)}
+        return {f"{r['Kind']}|{r['Value']}|{r['Part']}|{r['Location']}": int(r["Quantity"])
+                for r in csv.DictReader(f)}
 
 
 def _ledger_matches(engine, q: dict[int, int]) -> bool:
@@ -69,17 +71,17 @@ def _ledger_matches(engine, q: dict[int, int]) -> bool:
 def test_four_benches_importing_one_file_at_once_merge_exactly(db_url):
     db.open_engine(db_url).dispose()  # the schema exists: this test is about the merge, not the first open
     file_qty = _file_parts()
-    assert len(file_qty) == 100
+    assert len(file_qty) == 111
     out = _run([(_import_worker, (db_url, str(SAMPLE)))] * 4)
     assert [o[0] for o in out] == ["ok"] * 4, out
     # exactly one import created the lines; the three others merged into them (a part whose file
     # quantity is 0 leaves its line unchanged, so it is no change)
     counted = sum(1 for n in file_qty.values() if n)
-    assert sorted((o[1], o[2]) for o in out) == [(0, counted)] * 3 + [(100, 0)]
+    assert sorted((o[1], o[2]) for o in out) == [(0, counted)] * 3 + [(111, 0)]
     engine = db.open_engine(db_url)
     try:
         q = quantities(engine)
-        assert len(q) == 100  # no duplicate stock lines
+        assert len(q) == 111  # no duplicate stock lines
         assert sorted(q.values()) == sorted(4 * n for n in file_qty.values())
         assert _ledger_matches(engine, q)
         # and a later --replace sets each part to the file's own quantity, so the totals are exact

@@ -333,11 +333,14 @@ def test_export_then_import_into_a_fresh_database_gives_identical_stock(tmp_path
 
 
 def test_sample_stock_shape():
-    """The demo file: 60-120 lines, both kinds, several drawers, some lines at 1 or 0."""
+    """The demo file: 60-130 lines, every kind (resistors and capacitors the most), several drawers,
+    some lines at 1 or 0, some with a reorder level and one of them low."""
     rows = read_stock_csv((REPO / "sample_stock.csv").read_bytes())
     lines = svc.validate_rows(rows)
-    kinds = {r.spec.kind for r in lines}
-    assert 60 <= len(lines) <= 120 and kinds == {"resistor", "capacitor"}
+    kinds = [r.spec.kind for r in lines]
+    assert 60 <= len(lines) <= 130 and set(kinds) == {"resistor", "capacitor", "trimmer", "ic", "diode"}
+    assert kinds.count("resistor") + kinds.count("capacitor") >= 60
+    assert any(r.spec.reorder_at is not None and r.quantity <= r.spec.reorder_at for r in lines)
     assert len({r.spec.location for r in lines}) >= 8
     assert {0, 1} <= {r.quantity for r in lines}
     values = [r.spec.value for r in lines if r.spec.kind == "resistor"]

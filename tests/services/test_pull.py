@@ -41,7 +41,8 @@ def test_pull_takes_the_whole_in_stock_bom_in_one_go(engine):
     expected = {i: 2 * n for i, n in STANDARD_PER_BOARD.items()}
     assert result.pull_id == 1
     assert dict(result.taken) == expected
-    assert result.to_json() == {"pull_id": 1, "lines": [{"line_id": i, "taken": n} for i, n in sorted(expected.items())]}
+    assert result.to_json() == {"pull_id": 1, "lines": [{"line_id": i, "taken": n} for i, n in sorted(expected.items())],
+                                "low": []}
     assert quantities(engine) == after(expected)
     assert ledger_sums(engine) == {i: q for i, q in after(expected).items()}
     pulls = [m for m in list_movements(engine, limit=100) if m.reason == "pull"]
@@ -165,7 +166,8 @@ def test_cli_pull_undo_round_trip_restores_an_identical_export(cli, engine, db_p
     r = cli("pull", "1", "--boards", "2", "--json", db=db_path)
     assert r.returncode == 0, r.stderr
     out = json.loads(r.stdout)
-    assert out == {"pull_id": 1, "lines": [{"line_id": i, "taken": 2 * n} for i, n in sorted(STANDARD_PER_BOARD.items())]}
+    assert out == {"pull_id": 1, "lines": [{"line_id": i, "taken": 2 * n} for i, n in sorted(STANDARD_PER_BOARD.items())],
+                   "low": []}
 
     listed = json.loads(cli("stock", "list", "--json", db=db_path).stdout)
     assert {x["line_id"]: x["quantity"] for x in listed} == after({i: 2 * n for i, n in STANDARD_PER_BOARD.items()})
@@ -200,7 +202,7 @@ def test_cli_pull_table_and_ledger(cli, engine, db_path):
     rows = json.loads(r.stdout)
     assert len(rows) == 2 and {x["reason"] for x in rows} == {"pull"} and {x["pull_id"] for x in rows} == {1}
     assert set(rows[0]) == {"movement_id", "at", "line_id", "kind", "value", "location", "delta", "reason",
-                            "reference", "pull_id"}
+                            "reference", "pull_id", "part"}
     r = cli("ledger", db=db_path)
     assert r.returncode == 0 and "Ledger (newest first)" in r.stdout
     r = cli("undo", "7", db=db_path)

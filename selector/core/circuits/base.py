@@ -117,14 +117,15 @@ class Uncertain:
 
 @dataclass(frozen=True)
 class Obtain:
-    """A part the BOM lists that stock does not hold (an IC, a diode)."""
+    """A part the BOM needs besides the networks (an IC, a diode): taken from a stock line that
+    matches ``want`` when there is one, else listed to obtain."""
 
     ref: str
     role: str
     kind: str  # "ic" | "diode"
     description: str
     note: str = ""
-
+    want: str = ""  # what a stock line must be to supply it (selector/core/stock_match.py); "" never
 
 @dataclass(frozen=True)
 class ExtraCap:

@@ -100,12 +100,15 @@ class Diode(Timer555, AstableKind):
 
     # ---- BOM
     def bom_obtain(self, settings: Settings):
+        from selector.core.stock_match import SCHOTTKY_BELOW_V
+
         vf_v = settings.diode_vf
-        schottky = vf_v is not None and vf_v < 0.45
+        schottky = vf_v is not None and vf_v < SCHOTTKY_BELOW_V
         what = "small-signal Schottky diode" if schottky else "small-signal silicon diode, 1N4148 class"
         vf = f"; Vf about {vf_v:g} V as searched" if vf_v is not None else ""
         return super().bom_obtain(settings) + (Obtain(
-            "D1", ROLE_DIODE, "diode", what, f"across RB, anode at DIS, cathode at THR/TRIG{vf}"),)
+            "D1", ROLE_DIODE, "diode", what, f"across RB, anode at DIS, cathode at THR/TRIG{vf}",
+            "diode:schottky" if schottky else "diode:silicon"),)
 
     # ---- SPICE
     def spice_body(self, c) -> list[str]:

@@ -211,7 +211,7 @@ class Timer555:
         from selector.core.circuits.base import Obtain
 
         fam = chips.family(settings.chip)
-        return (Obtain("U1", ROLE_IC, "ic", f"555 timer, {fam.part_text}"),)
+        return (Obtain("U1", ROLE_IC, "ic", f"555 timer, {fam.part_text}", want=f"555:{fam.key}"),)
 
     def bom_extra_caps(self, settings: Settings):
         """Control-pin capacitor and reservoir as the family's data say, decoupling always

@@ -197,7 +197,7 @@ class SchmittInverter(FixedRatioAstable):
     # ---- BOM: the inverter IC, its decoupling, the unused inputs
     def bom_obtain(self, settings: Settings):
         fam = logic_family(settings.options.get("logic") or "hc")
-        return (Obtain("U1", "inverter IC", "ic", fam.part, "one of its six inverters"),)
+        return (Obtain("U1", "inverter IC", "ic", fam.part, "one of its six inverters", f"schmitt:{fam.key}"),)
 
     def bom_extra_caps(self, settings: Settings):
         return (ExtraCap(ROLE_DECOUPLE, 100e-9, is_value(100e-9), CERAMIC + FILM, POLARIZED,
