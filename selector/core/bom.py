@@ -225,7 +225,8 @@ def assemble_bom(
         for bl in lines
     ]
     notes[:0] = connection_notes(spec)
-    notes.extend(f"{bl.ref}: {bl.note.split('; ')[-1]}, then adjust on the bench (selector show N)."
+    notes.extend(f"{bl.ref}: {bl.note.split('; ')[-1]}, then adjust on the bench (how: selector show "
+                 f"{option_rank} --search {search_id})."
                  for bl in lines if bl.kind == "trimmer" and bl.note)
     kind = _kind(spec)
     if kind is not None:
