@@ -511,6 +511,9 @@ def trim_legend(report) -> str:
 
     ranks = [str(o["rank"]) for o in report.options if o.get("adjustable")]
     if not ranks:
+        if report.request.trim:
+            return ("--trim: no trimmer in stock, with a fixed part of 1-2 parts, covers the target at every "
+                    "corner with 10 % of its travel to spare at each end.")
         return ""
     which = ("Option " if len(ranks) == 1 else "Options ") + ", ".join(ranks)
     why = "" if report.request.trim else \

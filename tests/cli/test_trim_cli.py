@@ -108,3 +108,14 @@ def test_trimmer_rows_read_whole_at_80_columns(cli, db_path):
     assert "fixed part + trimmer, set on the bench (no fixed option reaches 90 % yield)" in flat
     assert "how: selector show N." in flat
     assert all(len(line) <= 80 for line in r.stdout.splitlines()) and "…" not in r.stdout
+
+
+def test_trim_says_so_when_no_trimmer_fits(cli, db_path):
+    trimmers = _stock(cli, db_path)
+    for line_id in trimmers:  # every trimmer drawer empty
+        assert cli("stock", "set", str(line_id), "0", db=db_path).returncode == 0
+    r = cli("find", "monostable", "--width", "2s", "--trim", "--top", "2", db=db_path, env={"COLUMNS": "80"})
+    assert r.returncode == 0, r.stderr
+    flat = " ".join(r.stdout.split())
+    assert "--trim: no trimmer in stock, with a fixed part of 1-2 parts, covers the target" in flat
+    assert "(adjustable)" not in r.stdout
