@@ -41,7 +41,7 @@ network the stock can form: the suggestions are not exhaustive over capacitor ne
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 from typing import Mapping, Optional, Sequence
 
 import numpy as np
@@ -49,6 +49,16 @@ import numpy as np
 from selector.core.types import StockLine
 
 TRIMMER_KIND = "trimmer"
+TRIM_RULE = ("Trimmer options (offered when no fixed option reaches a 90 % yield, or with --trim): one "
+             "timing resistance is a fixed network of 1-2 parts in series with a trimmer from stock. "
+             "Offered only if, at every corner of the other parts, the chip terms, the fixed network "
+             "and the trimmer's own end-to-end tolerance, the setting that puts the target on value "
+             "leaves at least 10 % of the travel at each end, and the nominal setting lies within "
+             "20-80 % of the travel; the trimmer may dissipate at most VCC²/(4·fixed), kept within 50 % "
+             "of its rating (common practice). Ranked by the travel left at the worst corner (5-point "
+             "steps), then resolution (target change per 1 % of travel, finer first), then fewer parts. "
+             "The other networks come from the fixed search's options, not every capacitor network.")
+"""The rule above in one paragraph, for ``--explain`` (the README says the same at length)."""
 YIELD_THRESHOLD = 0.90
 """Trimmer options are offered unasked when the best fixed option's yield is below this (issue 14)."""
 TRAVEL_MARGIN = 0.10
@@ -87,7 +97,6 @@ class TrimOption:
     predicted: dict                     # outputs of the nominal build at ``setting``
     range: dict                         # outputs over every corner after adjustment
     moves: tuple[str, ...]              # outputs the trimmer moves ("frequency", "duty", ...)
-    cautions: list = field(default_factory=list)
 
     @property
     def nparts(self) -> int:
@@ -427,6 +436,6 @@ def _option(kind, role, nets, fixed, tr, setting, need: Need, margin, target, li
                       float(margin), float(resolution), dict(zip(names, pred)), rng, _moves(kind, role))
 
 
-__all__ = ["TrimOption", "suggest", "needed", "solve_r", "travel_margin", "trimmer_lines", "wanted",
+__all__ = ["TRIM_RULE", "TrimOption", "suggest", "needed", "solve_r", "travel_margin", "trimmer_lines", "wanted",
            "YIELD_THRESHOLD", "TRAVEL_MARGIN", "NOMINAL_BAND", "MARGIN_STEP", "MAX_OPTIONS",
            "TRIMMER_KIND", "corner_grid", "main_target", "MAX_FIXED_PARTS", "MAX_BASES"]

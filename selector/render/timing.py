@@ -593,6 +593,10 @@ def explain_lines(report, width: int) -> list[str]:
     if report.leakage_excluded:
         paras.append(LEAKAGE_TEXT.format(n=report.leakage_excluded))
     paras.append(ranking.RANKING_RULE)
+    if any(o.get("adjustable") for o in report.options) or req.trim:
+        from selector.core.trim import TRIM_RULE
+
+        paras.append(TRIM_RULE)
     for k in _caution_keys(report):
         text = chips.CAUTIONS.get(k)
         if text:
