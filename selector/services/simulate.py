@@ -285,6 +285,11 @@ def simulate_option(engine: Engine, rank: int, search_id: Optional[int] = None, 
             results.append(CornerResult(name, desc, pred, sim, spice.difference(pred, sim)))
     kind = circuits.get(circuit.connection)
     warnings = kind.spice_warnings(circuit)
+    if any(n.trim is not None for n in circuit.networks.values()):
+        warnings = list(warnings) + [
+            "the trimmer is simulated at its nominal setting" + (
+                " in every corner too (before adjustment: on the bench it is set on each build)"
+                if corners else "")]
     return SimulationReport(
         search_id=saved.search_id, rank=saved.rank, mode=mode, connection=circuit.connection,
         chip=circuit.chip.family, vcc=circuit.chip.vcc, predicted=predicted, simulated=simulated,
