@@ -99,78 +99,6 @@ def network_lines(report, width: int) -> list[str]:
     return out
 
 
-_MEASURE = {  # main output -> (what to measure and how, which way more resistance moves it)
-    "frequency_hz": ("the frequency at the output with a counter or a scope", "lowers the frequency"),
-    "width_s": ("the pulse width at the output with a scope (or a counter in pulse-width mode), "
-                "triggering it again after each pulse", "lengthens the pulse"),
-    "tau_s": ("the time the capacitor takes to reach 63 % of a voltage step, with a scope",
-              "lengthens τ"),
-    "corner_hz": ("the frequency where the output is 3 dB down, with a generator and a scope",
-                  "lowers the corner"),
-}
-
-
-def trim_lines(report, width: int) -> list[str]:
-    """How to set the trimmer of an adjustable option (``core.trim``): the nominal setting, its
-    range over every corner, what it moves, and the bench procedure."""
-    from selector.core.notation import OHM, format_value
-
-    opt = report.option
-    trim = opt.get("trim") or {}
-    role = trim.get("role")
-    net = (opt.get("networks") or {}).get(role) if role else None
-    t = (net or {}).get("trimmer")
-    if not opt.get("adjustable") or not isinstance(t, dict):
-        return []
-    kind = _kind(report)
-    rv = next((bl.ref for bl in report.bom.bom.lines if bl.line_id == t.get("line_id") and bl.kind == "trimmer"),
-              "the trimmer")
-    ln = report.lines.get(int(t["line_id"]))
-    value = float(t["value"])
-    setting = float(t["setting"])
-    lo, hi = (float(x) for x in trim.get("setting_range") or (setting, setting))
-    ohm = lambda v: format_value(v, OHM)  # noqa: E731
-    tol = f" {_tol(ln)}" if ln is not None else ""
-    out = paragraph(f"Setting the trimmer ({rv}, {ohm(value)}{tol} end to end, in series with the fixed "
-                    f"part of {role})", width, "  ")
-    out += paragraph(f"  Set to {ohm(setting)} ≈ {setting / value * 100:.0f} % of travel from the fixed end "
-                     "for the nominal build (wire it as a variable resistor: wiper and one end; the other "
-                     "end unused or joined to the wiper).", width, "    ")
-    out += paragraph(f"  Every tolerance corner of the other parts, the chip terms and the trimmer's own "
-                     f"tolerance needs {ohm(lo)} to {ohm(hi)} ({lo / value * 100:.0f}–{hi / value * 100:.0f} % of "
-                     f"travel); at least 10 % of the travel is left at each end on every build.", width, "    ")
-    main = kind.main_output(_target_of(report)) if kind is not None else ""
-    how, way = _MEASURE.get(main, ("the output", "changes the output"))
-    moves = trim.get("moves") or []
-    res = trim.get("resolution")
-    step = ""
-    if isinstance(res, (int, float)) and res > 0:
-        first = (trim.get("moves") or ["timing"])[0]
-        step = f"; the {first} changes about {res * 100:.2g} % per 1 % of travel"
-        if ln is not None and ln.turns and ln.turns > 1:
-            step += f" ({res * 100 * 100 / ln.turns:.2g} % per turn; {ln.turns} turns end to end)"
-    what = " and ".join(moves) if moves else "the timing"
-    moved = f"  {rv} moves the {what}"
-    if report.mode == "astable" and "duty" in moves:
-        d = (opt.get("range") or {}).get("duty")
-        if d:
-            moved += (f"; it is set for the frequency and the duty follows "
-                      f"({d[0] * 100:.1f}–{d[1] * 100:.1f} % over every corner)")
-    out += paragraph(moved + step + ".", width, "    ")
-    out += paragraph(f"  How to set: power the circuit, measure {how}, and turn {rv} toward the target: more "
-                     f"resistance {way}. Stop when the reading is on target; a drop of sealant or paint "
-                     "keeps the setting.", width, "    ")
-    out += paragraph("  The circuit is powered while you adjust: use an insulated trimming tool, and in "
-                     "mains-powered equipment follow the mains caution below.", width, "    ")
-    return out
-
-
-def _target_of(report):
-    from selector.services.show import _target
-
-    return _target(report.mode, report.target, _kind(report))
-
-
 def _value(kind: str, value: Optional[float]) -> str:
     from selector.core.notation import format_value
 
@@ -358,6 +286,8 @@ def show_lines(report, width: int) -> list:
     out += paragraph(f"{getattr(kind, 'name', report.connection)} connection{device}", width)
     if kind is not None and kind.formula:
         out += paragraph("Formula: " + kind.formula, width, "  ")
+    from selector.render.trim import trim_lines
+
     for block in (network_lines, trim_lines, prediction_lines, alternative_lines, waveform_lines, bom_preview, caution_lines):
         lines = block(report, width)
         if lines:

@@ -138,22 +138,6 @@ def predicted_text(mode: str, p: Mapping[str, Any]) -> str:
     return f"τ {time_text(p['tau_s'])}, {freq_text(p['corner_hz'])}"
 
 
-def option_range_text(mode: str, opt: Mapping[str, Any]) -> str:
-    """The worst-case cell of an option; a trimmer option's adjusted quantity reads "set to …"
-    (its corners all land on the target once set; an astable's duty keeps its range)."""
-    r = opt["range"]
-    if not opt.get("adjustable"):
-        return range_text(mode, r)
-    if mode == "astable":
-        d0, d1 = r["duty"]
-        return f"set to {freq_text(r['frequency_hz'][0])}, {d0 * 100:.1f}–{d1 * 100:.1f} %"
-    if mode == "monostable":
-        return f"set to {time_text(r['width_s'][0])}"
-    if "corner_hz" in r and r["corner_hz"][0] == r["corner_hz"][1]:
-        return f"set to {freq_text(r['corner_hz'][0])}"
-    return f"set to τ {time_text(r['tau_s'][0])}"
-
-
 def range_text(mode: str, r: Mapping[str, Any]) -> str:
     if mode == "astable":
         f0, f1 = r["frequency_hz"]
@@ -301,6 +285,8 @@ def _why(opt: Mapping[str, Any]) -> str:
 
 def wide_lines(report, width: int) -> Optional[list]:
     """One row per option, or None when it does not fit ``width`` whole."""
+    from selector.render import trim as trim_render
+
     mode, target = report.request.mode, report.target
     rows = _rows(report)
     roles = [r for r in ROLES if any(r in (o.get("networks") or {}) for o, _ in rows)]
@@ -317,7 +303,7 @@ def wide_lines(report, width: int) -> Optional[list]:
         cells = [f"{opt['rank']}{_mark(opt, ro)}", connection_name(opt["connection"])]
         cells += [texts.get(r, "") for r in roles]
         cells += [predicted_text(mode, opt["predicted"])] + [error_text(k, e.get(k)) for k in errs]
-        cells += [option_range_text(mode, opt), yield_text(opt.get("yield")), str(nparts(opt)),
+        cells += [trim_render.option_range_text(mode, opt), yield_text(opt.get("yield")), str(nparts(opt)),
                   ", ".join(drawers(opt))]
         cells += [_why(opt)] if any_why else []
         body.append(cells)
@@ -504,23 +490,6 @@ def caution_lines(keys: Sequence[str], width: int, budget: int = 2, more: str = 
     return head + paragraph("Caution: " + " ".join(chosen), width)
 
 
-def trim_legend(report) -> str:
-    """One sentence on the trimmer options ('' when there are none): which rows, why they were
-    added, what their yield means and where the setting is told."""
-    from selector.core.trim import YIELD_THRESHOLD
-
-    ranks = [str(o["rank"]) for o in report.options if o.get("adjustable")]
-    if not ranks:
-        if report.request.trim:
-            return ("--trim: no trimmer in stock, with a fixed part of 1-2 parts, covers the target at every "
-                    "corner with 10 % of its travel to spare at each end.")
-        return ""
-    which = ("Option " if len(ranks) == 1 else "Options ") + ", ".join(ranks)
-    why = "" if report.request.trim else \
-        f" (no fixed option reaches {YIELD_THRESHOLD * 100:.0f} % yield)"
-    return f"{which}: fixed part + trimmer, set on the bench{why}; yield after setting; how: selector show N."
-
-
 def footer_lines(report, width: int = 80) -> list[str]:
     """At most four lines at 80 columns: legend, assumptions, cautions."""
     best = any(_mark(o, ro) for o, ro in _rows(report))
@@ -530,7 +499,10 @@ def footer_lines(report, width: int = 80) -> list[str]:
         legend = LEGEND_SHORT + ("; * = closest" if best else "")
     out = paragraph(legend, width)
     out += paragraph(assumptions(report, width), width)
-    out += paragraph(trim_legend(report), width) if trim_legend(report) else []
+    from selector.render import trim as trim_render
+
+    legend_trim = trim_render.trim_legend(report)
+    out += paragraph(legend_trim, width) if legend_trim else []
     more = "More: selector show N." if report.search_id is not None else ""
     out += caution_lines(_caution_keys(report), width, budget=max(1, 4 - len(out)), more=more)
     return out
