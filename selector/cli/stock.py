@@ -83,7 +83,7 @@ def _parse_bound(text: Optional[str], kind: Optional[str], option: str) -> Optio
 @handles_errors
 def list_command(
     ctx: typer.Context,
-    kind: Optional[KindChoice] = typer.Option(None, "--kind", help="Only this kind: resistor, capacitor, trimmer, ic or diode."),
+    kind: Optional[KindChoice] = typer.Option(None, "--kind", metavar="KIND", help="Only this kind: resistor, capacitor, trimmer, ic or diode."),
     location: Optional[str] = typer.Option(None, "--location", help="Only this location (case does not matter)."),
     min_value: Optional[str] = typer.Option(None, "--min", metavar="VALUE", help="Smallest value to show, e.g. 1k or 10n."),
     max_value: Optional[str] = typer.Option(None, "--max", metavar="VALUE", help="Largest value to show, e.g. 100k or 1u."),
@@ -173,7 +173,7 @@ def set_command(
 def kit_command(
     ctx: typer.Context,
     series: str = typer.Argument(..., metavar="SERIES", help="IEC 60063 series: E3, E6, E12, E24, E48, E96 or E192."),
-    kind: KindChoice = typer.Option(..., "--kind", help="resistor or capacitor (kits hold no trimmers, ICs or diodes)."),
+    kind: KindChoice = typer.Option(..., "--kind", metavar="KIND", help="resistor or capacitor (kits hold no trimmers, ICs or diodes)."),
     low: str = typer.Option(..., "--from", metavar="VALUE", help="Lowest value, e.g. 10 or 1n."),
     high: str = typer.Option(..., "--to", metavar="VALUE", help="Highest value, e.g. 1M or 1u."),
     qty: int = typer.Option(..., "--qty", parser=whole("--qty", 0, MAX_QUANTITY), metavar="N", help="Parts of each value."),
