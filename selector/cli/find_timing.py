@@ -135,6 +135,7 @@ _COMMON_HELP = {
     "all_networks": "Also offer networks with a token part (one whose share at its joint is below half the largest tolerance there).",
     "accept": "Acceptance band for the yield, e.g. 5% or 0.05.",
     "json": "Print the options as JSON only.",
+    "trim": "Always add up to 3 options with a trimmer from stock in series with a fixed network, set on the bench (offered anyway when no fixed option reaches a 90 % yield).",
     "explain": "Explain the figures under the table: formulas, errors, worst case and yield, limits, ranking, full cautions.",
     "distribution": "How part values spread inside their tolerance for the yield.",
     "seed": "Seed of the yield simulation (same seed, same figures).",
@@ -218,6 +219,7 @@ _SEARCH_OPTIONS = (  # (field, annotation, option): every timing search's option
     ("seed", int, typer.Option(0, "--seed", parser=whole("--seed", 0, MAX_SEED), metavar="N", help=_COMMON_HELP["seed"])),
     ("samples", int, typer.Option(10_000, "--samples", parser=whole("--samples", 1, MAX_SAMPLES), metavar="N", help=_COMMON_HELP["samples"])),
     ("all_networks", bool, typer.Option(False, "--all-networks", help=_COMMON_HELP["all_networks"])),
+    ("trim", bool, typer.Option(False, "--trim", help=_COMMON_HELP["trim"])),
     ("as_json", bool, typer.Option(False, "--json", help=_COMMON_HELP["json"])),
     ("explain", bool, typer.Option(False, "--explain", help=_COMMON_HELP["explain"])),
 )

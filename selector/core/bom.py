@@ -202,12 +202,12 @@ def assemble_bom(
     if boards < 1:
         raise ValueError("boards must be at least 1")
     by_id = {s.id: s for s in stock}
-    counters = {"R": 0, "C": 0}
+    counters = {"R": 0, "C": 0, "RV": 0}
     lines: list[BomLine] = []
     notes: list[str] = []
 
     def next_ref(kind: str) -> str:
-        letter = "R" if kind == "resistor" else "C"
+        letter = "R" if kind == "resistor" else "RV" if kind == "trimmer" else "C"
         counters[letter] += 1
         return f"{letter}{counters[letter]}"
 
@@ -225,6 +225,9 @@ def assemble_bom(
         for bl in lines
     ]
     notes[:0] = connection_notes(spec)
+    notes.extend(f"{bl.ref}: {bl.note.split('; ')[-1]}, then adjust on the bench (how: selector show "
+                 f"{option_rank} --search {search_id})."
+                 for bl in lines if bl.kind == "trimmer" and bl.note)
     kind = _kind(spec)
     if kind is not None:
         notes.extend(kind.bom_chip_notes(_settings(spec)))
@@ -259,13 +262,37 @@ def _network_lines(key: str, net: Mapping[str, Any], spec: CircuitSpec, by_id: M
     out: list[BomLine] = []
     refs = [next_ref(line.kind) for line in physical]
     formula = template.format(*refs)
+    trim = net.get("trimmer")
+    trim_line = None
+    if isinstance(trim, Mapping):  # a trimmer in series with the fixed parts (core.trim)
+        trim_line = by_id.get(int(trim["line_id"]))
+        if trim_line is None or not math.isclose(trim_line.value, float(trim["value"]), rel_tol=_SAME_VALUE):
+            raise OptionOutdatedError(int(trim["line_id"]), None if trim_line is None else trim_line.value,
+                                      float(trim["value"]))
+        trim_ref = next_ref("trimmer")
+        fixed = f"({formula})" if len(physical) > 1 else formula
+        formula = f"{fixed} + {trim_ref}"
+    wired = f"{shape}: {formula}" if len(physical) > 1 else (f"series: {formula}" if trim_line else "")
     for ref, line in zip(refs, physical):
         out.append(BomLine(
             ref=ref, role=role, kind=line.kind, value=line.value,
             per_board=1, total=boards, in_stock=True, line_id=line.id,
             tol_minus=line.tol_minus, tol_plus=line.tol_plus, location=line.location,
             package=line.package, rating=line.rating, dielectric=line.dielectric,
-            note=line.note, network=f"{shape}: {formula}" if len(physical) > 1 else "",
+            note=line.note, network=wired,
+        ))
+    if trim_line is not None:
+        from selector.core.notation import OHM, format_value
+
+        setting = float(trim["setting"])
+        set_text = (f"set to {format_value(setting, OHM)} ≈ {setting / trim_line.value * 100:.0f} % of "
+                    "travel from the fixed end")
+        out.append(BomLine(
+            ref=trim_ref, role=role, kind=trim_line.kind, value=trim_line.value,
+            per_board=1, total=boards, in_stock=True, line_id=trim_line.id,
+            tol_minus=trim_line.tol_minus, tol_plus=trim_line.tol_plus, location=trim_line.location,
+            package=trim_line.package, rating=trim_line.rating, dielectric=trim_line.dielectric,
+            note="; ".join(x for x in (trim_line.note, set_text) if x), network=wired,
         ))
     return out
 

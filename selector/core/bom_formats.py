@@ -41,7 +41,7 @@ def rating_text(bl: BomLine) -> str:
         return ""
     from selector.core.notation import VOLT, WATT, format_value
 
-    return format_value(bl.rating, WATT if bl.kind == "resistor" else VOLT)
+    return format_value(bl.rating, WATT if bl.kind in ("resistor", "trimmer") else VOLT)
 
 
 def _number(x: Optional[float]) -> str:

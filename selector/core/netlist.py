@@ -84,6 +84,7 @@ class Network:
     shape: str
     parts: tuple[Part, ...]
     value: Optional[float] = None       # effective value as the search computed it (comments)
+    trim: Optional[Part] = None         # a trimmer in series, at its nominal setting (core.trim)
 
 
 @dataclass(frozen=True)
@@ -208,8 +209,12 @@ def network_lines(net: Network, a: str, b: str, ic: Optional[float] = None) -> l
     values = [p.value for p in net.parts]
     tree = shape_tree(net.shape, len(values))
     lines: list[str] = []
-    _wire(tree, a, b, net.label, values, lines, [0])
+    end = b if net.trim is None else f"{net.label.lower()}_trim"
+    _wire(tree, a, end, net.label, values, lines, [0])
     desc = ", ".join(_part_text(p, net.label) for p in net.parts)
+    if net.trim is not None:  # the fixed network, then the trimmer at its nominal setting
+        lines.append(f"RV{net.label}_1 {end} {b} {_num(net.trim.value)}")
+        desc += f", in series with a trimmer set to {_part_text(net.trim, net.label)}"
     head = f"* {net.label}: {net.shape} of {desc}"
     if net.value is not None:
         head += f" = {_eng(net.value, 'F' if net.label.startswith('C') else 'ohm')}"

@@ -104,7 +104,8 @@ def _value(kind: str, value: Optional[float]) -> str:
 
     if value is None:
         return ""
-    unit = {"resistor": "Ω", "capacitor": "F", "rating-resistor": "W", "rating-capacitor": "V"}.get(kind, "")
+    unit = {"resistor": "Ω", "capacitor": "F", "trimmer": "Ω", "rating-resistor": "W", "rating-capacitor": "V",
+            "rating-trimmer": "W"}.get(kind, "")
     return format_value(value, unit)
 
 
@@ -158,6 +159,15 @@ def prediction_lines(report, width: int) -> list[str]:
         except Exception:  # a settings record this version cannot resolve: parts only
             spread = []
     includes = "part tolerances" + ("" if not spread else " and the spread of " + " and ".join(spread))
+    if opt.get("adjustable"):
+        out += paragraph(f"  After the trimmer is set on target: every corner of every part's tolerance band "
+                         f"({includes}) can be set onto the target with travel to spare, so the worst case "
+                         "of the adjusted quantity is the target itself and the yield counts every build.",
+                         width, "    ")
+        if opt.get("why"):
+            out += paragraph(f"  Ranked {opt.get('rank')}: {printable(opt['why'])}, after the fixed options "
+                             "(trimmer options do not count against --top).", width, "    ")
+        return out
     out += paragraph(f"  Worst case: the corners of every part's tolerance band ({includes}).", width, "    ")
     y = opt.get("yield")
     what = "frequency and duty" if mode == "astable" and target.get("duty") is not None else \
@@ -285,7 +295,9 @@ def show_lines(report, width: int) -> list:
     out += paragraph(f"{getattr(kind, 'name', report.connection)} connection{device}", width)
     if kind is not None and kind.formula:
         out += paragraph("Formula: " + kind.formula, width, "  ")
-    for block in (network_lines, prediction_lines, alternative_lines, waveform_lines, bom_preview, caution_lines):
+    from selector.render.trim import trim_lines
+
+    for block in (network_lines, trim_lines, prediction_lines, alternative_lines, waveform_lines, bom_preview, caution_lines):
         lines = block(report, width)
         if lines:
             out.append("")

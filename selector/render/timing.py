@@ -161,10 +161,17 @@ def network_json_text(key: str, net: Mapping[str, Any]) -> str:
     kind = "capacitor" if key == "C" else "resistor"
     physical = [SimpleNamespace(value=float(p["value"]), kind=kind)
                 for p in net.get("parts") or [] for _ in range(int(p.get("count") or 1))]
+    trimmer = net.get("trimmer")
     if not physical:
         return format_value(float(net["value"]), FARAD if kind == "capacitor" else OHM)
-    order, template = wiring(str(net.get("shape") or "single"), physical, net.get("value"))
-    return template.format(*[format_value(p.value, FARAD if kind == "capacitor" else OHM) for p in order])
+    fixed_value = net.get("fixed_value", net.get("value")) if trimmer else net.get("value")
+    order, template = wiring(str(net.get("shape") or "single"), physical, fixed_value)
+    text = template.format(*[format_value(p.value, FARAD if kind == "capacitor" else OHM) for p in order])
+    if isinstance(trimmer, Mapping):  # a fixed network in series with a trimmer set on the bench
+        if len(physical) > 1:
+            text = f"({text})"
+        text += f" + {format_value(float(trimmer['value']), OHM)} trim"
+    return text
 
 
 def drawers(opt: Mapping[str, Any]) -> list[str]:
@@ -174,11 +181,18 @@ def drawers(opt: Mapping[str, Any]) -> list[str]:
             loc = printable(p.get("location") or "?")
             if loc not in seen:
                 seen.append(loc)
+        trim = opt.get("trim") if isinstance(opt.get("trim"), Mapping) else {}
+        if isinstance((opt.get("networks") or {}).get(key, {}).get("trimmer"), Mapping):
+            loc = printable(trim.get("location") or "?")
+            if loc not in seen:
+                seen.append(loc)
     return seen
 
 
 def nparts(opt: Mapping[str, Any]) -> int:
-    return sum(int(p.get("count") or 1) for net in (opt.get("networks") or {}).values() for p in net.get("parts", []))
+    nets = (opt.get("networks") or {}).values()
+    return (sum(int(p.get("count") or 1) for net in nets for p in net.get("parts", []))
+            + sum(1 for net in nets if isinstance(net.get("trimmer"), Mapping)))
 
 
 def _dielectrics(ranked_option, role: str) -> tuple:
@@ -241,10 +255,19 @@ def title_of(mode: str, t: Mapping[str, Any], search_id: Optional[int]) -> str:
 
 def _rows(report):
     """(option JSON, ranked option or None) pairs, in rank order."""
+    from types import SimpleNamespace
+
     ranked = report.ranked
+    trims = list(getattr(report, "trims", None) or [])
     out = []
     for i, opt in enumerate(report.options):
-        out.append((opt, ranked[i] if i < len(ranked) else None))
+        if i < len(ranked):
+            out.append((opt, ranked[i]))
+        elif opt.get("adjustable") and i - len(ranked) < len(trims):  # a trimmer option (core.trim)
+            t = trims[i - len(ranked)]
+            out.append((opt, SimpleNamespace(found=SimpleNamespace(networks=t.networks), is_best_error=False)))
+        else:
+            out.append((opt, None))
     return out
 
 
@@ -262,6 +285,8 @@ def _why(opt: Mapping[str, Any]) -> str:
 
 def wide_lines(report, width: int) -> Optional[list]:
     """One row per option, or None when it does not fit ``width`` whole."""
+    from selector.render import trim as trim_render
+
     mode, target = report.request.mode, report.target
     rows = _rows(report)
     roles = [r for r in ROLES if any(r in (o.get("networks") or {}) for o, _ in rows)]
@@ -278,7 +303,7 @@ def wide_lines(report, width: int) -> Optional[list]:
         cells = [f"{opt['rank']}{_mark(opt, ro)}", connection_name(opt["connection"])]
         cells += [texts.get(r, "") for r in roles]
         cells += [predicted_text(mode, opt["predicted"])] + [error_text(k, e.get(k)) for k in errs]
-        cells += [range_text(mode, opt["range"]), yield_text(opt.get("yield")), str(nparts(opt)),
+        cells += [trim_render.option_range_text(mode, opt), yield_text(opt.get("yield")), str(nparts(opt)),
                   ", ".join(drawers(opt))]
         cells += [_why(opt)] if any_why else []
         body.append(cells)
@@ -474,6 +499,10 @@ def footer_lines(report, width: int = 80) -> list[str]:
         legend = LEGEND_SHORT + ("; * = closest" if best else "")
     out = paragraph(legend, width)
     out += paragraph(assumptions(report, width), width)
+    from selector.render import trim as trim_render
+
+    legend_trim = trim_render.trim_legend(report)
+    out += paragraph(legend_trim, width) if legend_trim else []
     more = "More: selector show N." if report.search_id is not None else ""
     out += caution_lines(_caution_keys(report), width, budget=max(1, 4 - len(out)), more=more)
     return out
@@ -541,6 +570,10 @@ def explain_lines(report, width: int) -> list[str]:
     if report.leakage_excluded:
         paras.append(LEAKAGE_TEXT.format(n=report.leakage_excluded))
     paras.append(ranking.RANKING_RULE)
+    if any(o.get("adjustable") for o in report.options) or req.trim:
+        from selector.core.trim import TRIM_RULE
+
+        paras.append(TRIM_RULE)
     for k in _caution_keys(report):
         text = chips.CAUTIONS.get(k)
         if text:

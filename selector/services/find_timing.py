@@ -44,6 +44,7 @@ class TimingRequest:
     samples: int = 10_000
     options: dict = field(default_factory=dict)  # the circuit's own options (e.g. logic family)
     all_networks: bool = False  # True: also networks with a token part (--all-networks)
+    trim: bool = False  # True: always offer trimmer options (--trim); else only below the yield threshold
 
     @property
     def kind(self):
@@ -125,6 +126,7 @@ class TimingReport:
     within_acceptance: bool = True  # some option is nominally within --accept in every error
     suggestions: list = field(default_factory=list)  # core.suggest.Suggestion, when it is not
     leakage_excluded: int = 0  # capacitor networks the electrolytic leakage limit left out
+    trims: list = field(default_factory=list)  # core.trim.TrimOption, after the fixed options
 
     @property
     def json(self) -> dict:
@@ -151,6 +153,8 @@ def params_json(req: TimingRequest) -> dict:
         out["options"] = options
     if req.all_networks:  # only when asked: token-part networks were searched too
         out["all_networks"] = True
+    if req.trim:  # only when asked: trimmer options were offered whatever the fixed yield
+        out["trim"] = True
     return out
 
 
@@ -178,12 +182,71 @@ def option_json(opt) -> dict:
         "networks": {role: network_json(nets[role]) for role in order if role in nets},
         "errors": dict(opt.errors),  # in the asker's terms (issue 11); `error` stays as it was
         "why": opt.why,
+        "adjustable": False,
         "alternatives": [  # the same build from other drawers, tolerances or dielectrics
             {"networks": {role: network_json(alt.networks[role]) for role in order if role in alt.networks},
              "yield": y, "yield_samples": opt.alternative_samples,
              "yield_standard_error": binomial_se(y, opt.alternative_samples)}
             for alt, y in opt.alternatives],
     }
+
+
+def trim_option_json(o, rank: int, target) -> dict:
+    """A trimmer option (``core.trim.TrimOption``) in the option shape: the trimmed role's network
+    keeps its fixed parts in ``parts``, gains ``trimmer`` and its ``value`` is the nominal total at
+    the setting; the option is ``adjustable`` and carries how to set it under ``trim``."""
+    from selector.core import circuits
+    from selector.core.ranking import ROLE_ORDER as order
+
+    kind = circuits.get(o.connection)
+    nets = {}
+    for role in order:
+        if role not in o.networks:
+            continue
+        nets[role] = network_json(o.networks[role])
+        if role == o.role:
+            t = o.trimmer
+            nets[role]["value"] = o.total
+            nets[role]["fixed_value"] = o.networks[role].value
+            nets[role]["trimmer"] = {"line_id": t.id, "value": t.value, "tol_minus": t.tol_minus,
+                                     "tol_plus": t.tol_plus, "setting": o.setting}
+    errs = kind.errors(o.predicted, target)
+    lo, hi = o.setting_range
+    return {
+        "rank": rank,
+        "connection": o.connection,
+        "error": max(errs.values(), key=abs),  # left by the adjustment (duty points; ~0 on the main output)
+        "predicted": dict(o.predicted),
+        "range": {k: list(v) for k, v in o.range.items()},
+        "yield": 1.0,  # after adjustment every build within the stated terms is on target
+        "yield_parts_only": 1.0,
+        "networks": nets,
+        "errors": errs,
+        "why": "adjustable",
+        "adjustable": True,
+        "trim": {"role": o.role, "location": o.trimmer.location, "setting": o.setting, "setting_range": [lo, hi],
+                 "travel": o.travel, "travel_range": [lo / o.trimmer.value, hi / o.trimmer.value],
+                 "margin": o.margin, "resolution": o.resolution, "moves": list(o.moves)},
+        "alternatives": [],
+    }
+
+
+def _trim_options(req: TimingRequest, result, ranked, target, limits, t_lines) -> list:
+    """The trimmer pass (``core.trim``): when asked, or when the best fixed yield is below the
+    threshold; up to three options numbered after the fixed ones."""
+    from selector.core import trim
+
+    best = max((o.yield_fraction for o in ranked if o.yield_fraction == o.yield_fraction), default=None)
+    if not trim.wanted(best, req.trim):
+        return []
+    trimmers = trim.trimmer_lines(t_lines, req.boards)
+    if not trimmers:
+        return []
+    # fixed networks of 1-2 parts: the trimmer takes up the slack a third part would chase
+    r_index = result.network_counts.indexes(min(req.max_parts, trim.MAX_FIXED_PARTS))[0]
+    # the shown options first, then the search's pool by |error|, up to MAX_BASES of them
+    bases = ([o.found for o in ranked] + list(result.options))[:trim.MAX_BASES]
+    return trim.suggest(bases, target, limits, trimmers, r_index, req.accept, req.boards)
 
 
 def _reachable(req: TimingRequest, target, connections) -> tuple:
@@ -205,7 +268,7 @@ def _reachable(req: TimingRequest, target, connections) -> tuple:
 
 
 def plan_timing(r_lines, c_lines, req: TimingRequest,
-                progress: Optional[Callable[[float], None]] = None) -> TimingReport:
+                progress: Optional[Callable[[float], None]] = None, t_lines=()) -> TimingReport:
     """Search, evaluate and rank (pure: no database). Raises NothingFeasible when nothing fits."""
     from selector.core.ranking import evaluate_and_rank
     from selector.core.suggest import suggest_buy
@@ -229,6 +292,8 @@ def plan_timing(r_lines, c_lines, req: TimingRequest,
                                folded=result.folded,
                                stock=list(r_lines) + list(c_lines), boards=req.boards)
     options = [option_json(o) for o in ranked]
+    trims = _trim_options(req, result, ranked, target, limits, t_lines)
+    options += [trim_option_json(o, len(options) + i, target) for i, o in enumerate(trims, start=1)]
     from selector.core.search.lookup import LEAKAGE_REASON
 
     within = any(o.tier <= 1 for o in ranked)
@@ -236,7 +301,7 @@ def plan_timing(r_lines, c_lines, req: TimingRequest,
     return TimingReport(req, target_json(req, target), params_json(req), options, ranked,
                         tuple(connections), limits, result.network_counts,
                         within_acceptance=within, suggestions=buy,
-                        leakage_excluded=result.exclusions.counts.get(LEAKAGE_REASON, 0))
+                        leakage_excluded=result.exclusions.counts.get(LEAKAGE_REASON, 0), trims=trims)
 
 
 def save_search(session, report: TimingReport) -> int:
@@ -261,10 +326,13 @@ def find_timing(engine, req: TimingRequest,
     from selector.store.db import load_stock, run_in_transaction
 
     req.check()  # bad options fail before the database is touched
-    lines = run_in_transaction(engine, lambda s: load_stock(s, NETWORK_KINDS), write=False)
+    from selector.core.trim import TRIMMER_KIND
+
+    lines = run_in_transaction(engine, lambda s: load_stock(s, NETWORK_KINDS + (TRIMMER_KIND,)), write=False)
     r_lines = [ln for ln in lines if ln.kind == "resistor"]
     c_lines = [ln for ln in lines if ln.kind == "capacitor"]
-    report = plan_timing(r_lines, c_lines, req, progress)
+    t_lines = [ln for ln in lines if ln.kind == TRIMMER_KIND]
+    report = plan_timing(r_lines, c_lines, req, progress, t_lines)
     report.search_id = run_in_transaction(engine, lambda s: save_search(s, report))
     return report
 

@@ -116,6 +116,8 @@ def show_in_session(session, option: int, search_id: Optional[int] = None) -> Sh
     bom = bom_of_saved(saved, stock)
     used = {int(p["line_id"]) for raw in (saved.data.get("networks") or {}).values()
             for p in raw.get("parts") or [] if p.get("line_id") is not None}
+    used |= {int(raw["trimmer"]["line_id"]) for raw in (saved.data.get("networks") or {}).values()
+             if isinstance(raw.get("trimmer"), dict) and raw["trimmer"].get("line_id") is not None}
     lines: dict[int, StockLine] = {ln.id: ln for ln in stock if ln.id in used}
     mode, connection = search.mode, saved.spec.connection
     settings = Settings(saved.spec.chip, saved.spec.vcc or 0.0, saved.spec.diode_vf, dict(saved.spec.options))

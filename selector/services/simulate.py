@@ -118,8 +118,16 @@ def _network(label: str, raw: Mapping[str, Any], tolerances: Mapping[int, tuple[
     value = raw.get("value")
     value = None if value is None else _float(value, f"{label} value")
     kind = "C" if label.startswith("C") else "R"
-    ordered = spice.physical_order(shape, kind, parts, value)
-    return spice.Network(label=label, shape=shape, parts=ordered, value=value)
+    trim = raw.get("trimmer")
+    trim_part = None
+    fixed_value = value
+    if isinstance(trim, Mapping):  # a trimmer in series (core.trim): simulated at its nominal setting
+        setting = _float(trim.get("setting"), f"{label} trimmer setting")
+        trim_part = spice.Part(value=setting, line_id=None if trim.get("line_id") is None else int(trim["line_id"]),
+                               location=str(trim.get("location") or ""))
+        fixed_value = None if value is None else _float(raw.get("fixed_value", value - setting), f"{label} value")
+    ordered = spice.physical_order(shape, kind, parts, fixed_value)
+    return spice.Network(label=label, shape=shape, parts=ordered, value=value, trim=trim_part)
 
 
 def circuit_from_saved(mode: str, connection: str, params: Mapping[str, Any], data: Mapping[str, Any],
@@ -159,7 +167,8 @@ def predict(c: spice.Circuit) -> dict[str, float]:
     def val(label: str) -> float:
         n = c.networks[label]
         kind = "C" if label.startswith("C") else "R"
-        return spice.tree_value(spice.shape_tree(n.shape, len(n.parts)), [p.value for p in n.parts], kind)
+        fixed = spice.tree_value(spice.shape_tree(n.shape, len(n.parts)), [p.value for p in n.parts], kind)
+        return fixed + (n.trim.value if n.trim is not None else 0.0)
 
     kind = circuits.get(c.connection)
     limits = Limits(vcc=c.chip.vcc, diode_vf=c.diode_vf, voh=c.chip.voh, vol=c.chip.vol, extra=c.extra)
@@ -276,6 +285,11 @@ def simulate_option(engine: Engine, rank: int, search_id: Optional[int] = None, 
             results.append(CornerResult(name, desc, pred, sim, spice.difference(pred, sim)))
     kind = circuits.get(circuit.connection)
     warnings = kind.spice_warnings(circuit)
+    if any(n.trim is not None for n in circuit.networks.values()):
+        warnings = list(warnings) + [
+            "the trimmer is simulated at its nominal setting" + (
+                " in every corner too (before adjustment: on the bench it is set on each build)"
+                if corners else "")]
     return SimulationReport(
         search_id=saved.search_id, rank=saved.rank, mode=mode, connection=circuit.connection,
         chip=circuit.chip.family, vcc=circuit.chip.vcc, predicted=predicted, simulated=simulated,

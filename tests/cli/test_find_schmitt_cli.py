@@ -39,6 +39,9 @@ def test_table_json_and_the_rc_law(cli, stocked):
         assert opt["predicted"]["t_high_s"] == pytest.approx(th, rel=1e-12)
         assert opt["predicted"]["t_low_s"] == pytest.approx(tl, rel=1e-12)
         lo, hi = opt["range"]["frequency_hz"]
+        if opt.get("adjustable"):  # a trimmer option (issue 14): set onto the target at every corner
+            assert lo == hi == pytest.approx(10e3)
+            continue
         assert (hi - lo) / opt["predicted"]["frequency_hz"] > 0.3   # the thresholds' spread shows
     best = min(abs(o["error"]) for o in doc["options"])
     assert best < 0.01

@@ -16,8 +16,10 @@ OPTION_KEYS = {"rank", "connection", "error", "predicted", "range", "yield", "ne
                "yield_parts_only"}  # added by issue 10 (wave-2 JSON contract)
 NETWORK_KEYS = {"value", "shape", "parts"}
 PART_KEYS = {"line_id", "value", "count", "location"}
+TRIMMER_KEYS = {"line_id", "value", "tol_minus", "tol_plus", "setting"}  # issue 14 contract
 ADDED_OPTION_KEYS = {"errors", "why", "alternatives", "yield_parts_only",  # issue 11 additions
-                     "yield_samples", "yield_standard_error"}  # issue 12: the yield's sample and its SE
+                     "yield_samples", "yield_standard_error",  # issue 12: the yield's sample and its SE
+                     "adjustable"}  # issue 14 (false on a fixed option; no trimmer in this stock)
 ADDED_TOP_KEYS = {"search", "within_acceptance", "suggest_buy"}
 PARAM_KEYS = {"chip", "vcc", "diode_vf", "boards", "max_parts", "accept", "distribution", "seed",
               "connection", "top"}
@@ -33,10 +35,17 @@ def _check_shape(doc, roles, predicted_keys):
     assert {"target", "options"} <= set(doc) <= {"target", "options"} | ADDED_TOP_KEYS
     assert doc["options"], "no options"
     for i, opt in enumerate(doc["options"], start=1):
-        assert OPTION_KEYS <= set(opt) <= OPTION_KEYS | ADDED_OPTION_KEYS
+        trim = opt.get("adjustable") is True  # issue 14: a fixed network + a trimmer from stock
+        assert OPTION_KEYS <= set(opt) <= OPTION_KEYS | ADDED_OPTION_KEYS | ({"trim"} if trim else set())
         assert opt["rank"] == i
         assert set(opt["networks"]) == set(roles)
+        trimmed = [net for net in opt["networks"].values() if "trimmer" in net]
+        assert len(trimmed) == (1 if trim else 0)
         for net in opt["networks"].values():
+            if "trimmer" in net:
+                assert set(net) == NETWORK_KEYS | {"trimmer", "fixed_value"}
+                assert set(net["trimmer"]) == TRIMMER_KEYS
+                continue
             assert set(net) == NETWORK_KEYS
             assert net["parts"]
             for p in net["parts"]:

@@ -40,6 +40,11 @@ def _combine(net: dict, kind: str) -> float:
     return sum(vals) if adds_in_series else 1.0 / sum(1.0 / v for v in vals)
 
 
+def _total(net: dict, kind: str) -> float:
+    """A network's value with a trimmer (issue 14) in series at its nominal setting, if it has one."""
+    return _combine(net, kind) + (net["trimmer"]["setting"] if "trimmer" in net else 0.0)
+
+
 def _text_ok(text: str) -> None:
     assert "Traceback" not in text
     assert not _SCI.search(text), _SCI.search(text)
@@ -115,8 +120,8 @@ def test_find_value_3u3_capacitor_from_two_parts(shop):
 def _check_astable(opt, vcc=9.0):
     nets = opt["networks"]
     c = _combine(nets["C"], "capacitor")
-    rb = _combine(nets["RB"], "resistor")
-    ra = _combine(nets["RA"], "resistor")
+    rb = _total(nets["RB"], "resistor")
+    ra = _total(nets["RA"], "resistor")
     pred = opt["predicted"]
     assert pred["t_low_s"] == pytest.approx(math.log(2) * rb * c, rel=1e-6)  # data sheet, both wirings
     if opt["connection"] == "standard":
@@ -150,7 +155,7 @@ def test_find_astable_duty_below_half_uses_the_diode(shop):
 def test_find_monostable_150ms(shop):
     data = json.loads(_run(shop, "find", "monostable", "--width", "150ms", "--json").stdout)
     for opt in data["options"]:
-        r = _combine(opt["networks"]["R"], "resistor")
+        r = _total(opt["networks"]["R"], "resistor")
         c = _combine(opt["networks"]["C"], "capacitor")
         assert opt["predicted"]["width_s"] == pytest.approx(math.log(3) * r * c, rel=1e-6)
     assert min(abs(o["error"]) for o in data["options"]) <= 0.01
@@ -159,7 +164,7 @@ def test_find_monostable_150ms(shop):
 def test_find_rc_corner_1khz(shop):
     data = json.loads(_run(shop, "find", "rc", "--corner", "1kHz", "--json").stdout)
     for opt in data["options"]:
-        r = _combine(opt["networks"]["R"], "resistor")
+        r = _total(opt["networks"]["R"], "resistor")
         c = _combine(opt["networks"]["C"], "capacitor")
         assert opt["predicted"]["corner_hz"] == pytest.approx(1 / (2 * math.pi * r * c), rel=1e-6)
         assert opt["predicted"]["tau_s"] == pytest.approx(r * c, rel=1e-6)

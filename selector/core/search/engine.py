@@ -310,6 +310,10 @@ class NetworkCounts(Mapping):
     def __len__(self) -> int:
         return len(self._indexes)
 
+    def indexes(self, budget):
+        """(resistor index, capacitor index) the pass with this parts budget searched."""
+        return self._indexes[budget]
+
 
 def _size(index) -> int:
     return int(sum(index.size_by_parts().values()))
