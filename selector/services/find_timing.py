@@ -220,6 +220,8 @@ def trim_option_json(o, rank: int, target) -> dict:
         "range": {k: list(v) for k, v in o.range.items()},
         "yield": 1.0,  # after adjustment every build within the stated terms is on target
         "yield_parts_only": 1.0,
+        "yield_samples": 0,  # not a Monte Carlo: every build is set onto the target by construction
+        "yield_standard_error": 0.0,
         "networks": nets,
         "errors": errs,
         "why": "adjustable",
