@@ -53,7 +53,7 @@ def reorder_text(ln) -> str:
 
 
 def _details(ln) -> str:
-    """Package, dielectric (and polarity) and a trimmer's turns: the narrow layout's "part" column."""
+    """Package, dielectric (and polarity) and a trimmer's turns: the narrow layout's "type" column."""
     diel = ln.dielectric + (" (polarised)" if ln.polarized else "")
     turns = f"{ln.turns}-turn" if ln.turns is not None and ln.turns > 1 else ""  # single-turn goes unsaid
     return " ".join(x for x in (ln.package, diel, turns) if x)
@@ -76,7 +76,7 @@ STOCK_COLUMNS = (
 
 NARROW_STOCK_COLUMNS = (
     Col("id", right=True), Col("value", right=True), Col("tolerance"), Col("qty", right=True),
-    Col("location", wrap=True, min_wrap=8), Col("part", wrap=True, min_wrap=12), Col("rating", right=True),
+    Col("location", wrap=True, min_wrap=8), Col("type", wrap=True, min_wrap=12), Col("rating", right=True),
     # the reorder level goes first when room is short (the footer then counts the low lines)
     Col("reorder", right=True, hide_empty=True, drop=1), Col("note", wrap=True, min_wrap=8, hide_empty=True),
 )
@@ -86,7 +86,7 @@ def stock_lines(lines: Sequence[StockLine], width: int) -> list:
     """One row per stock line: id, kind, value (an IC's or diode's part text), tolerance, qty,
     location, package, rating, dielectric, turns, reorder level, note. Values never wrap; below
     110 columns the kind goes (the value's unit or part text says it) and package, dielectric and
-    turns share one "part" column."""
+    turns share one "type" column."""
     def diel(ln):
         return ln.dielectric + (" (polarised)" if ln.polarized else "")
 
