@@ -343,8 +343,8 @@ def test_export_to_an_impossible_place_is_one_line(cli, db_path, tmp_path):
 
 
 def test_help_shows_no_type_label_beside_flags(cli_process):
-    # typer 0.29 prints "<bool>" beside every on/off flag, which reads as if the flag took a value;
-    # pyproject pins typer below 0.29 for that reason (a real process: the help formatter is typer's).
+    # typer 0.29's rich help printed "<bool>" beside every on/off flag, which reads as if the flag
+    # took a value; our plain help (cli/_help.py) must not (a real process, as a technician runs it).
     r = cli_process("stock", "list", "--help", env={"COLUMNS": "80"})
     assert r.returncode == 0
     assert "--json" in r.stdout
