@@ -24,8 +24,8 @@ class Diode(Timer555, AstableKind):
     duty_corners = True
     uses_diode = True
     formula = ("diode-steered: t_high = C·∫dVc/I, I through RA and the Shockley diode (Vf at 1 mA, "
-               "ideality n) in parallel with RB; t_low = (RB + RA∥RD)·C·ln((2VCC/3 − d)/(VCC/3 − d)), "
-               "d = VCC·RD/(RA+RD) (≈ ln2·RB·C)")
+               "ideality n) in parallel with RB; t_low = (RB+RA∥RD)·C·ln((2VCC/3−d)/(VCC/3−d)) "
+               "≈ ln2·RB·C, d = VCC·RD/(RA+RD), RD the discharge switch")
     wiring = ("Connections: RA from VCC to DIS; RB from DIS to THR and TRIG with the steering diode across "
               "it (anode at DIS, cathode at THR/TRIG); timing capacitor from THR/TRIG to GND.")
     help = "diode (diode across RB, any duty)"
@@ -103,6 +103,13 @@ class Diode(Timer555, AstableKind):
         from selector.core import timing
 
         return timing.diode_shockley_ideal_ra(t_high, rb, c, limits.vcc, limits.diode_vf, _n(limits))
+
+    def ra_guess(self, t_high, rb, c, limits: Limits):
+        """A cheap RA near ``ra_for_high`` (constant-drop closed form, facts §2 [S8]) for the
+        kernel's phase-1 guess, where any value is correct and only speed matters."""
+        from selector.core import timing
+
+        return timing.diode_ideal_ra(t_high, rb, c, limits.vcc, limits.diode_vf)
 
     def times2(self, ra, rb, c, limits: Limits):
         from selector.core import timing

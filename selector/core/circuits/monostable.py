@@ -17,7 +17,7 @@ class Monostable(Timer555, MonostableKind):
     name = "monostable"
     roles = ("R", "C")
     kernel = ONE_RESISTOR
-    formula = "monostable: width = R·C·ln(3R/(R+RD)) ≈ ln3·R·C ≈ 1.1·R·C"
+    formula = "monostable: width = R·C·ln(3R/(R+RD)) ≈ ln3·R·C ≈ 1.1·R·C, RD the discharge switch"
     wiring = ("Connections: R from VCC to DIS and THR; timing capacitor from THR to GND; the trigger "
               "pulse goes to TRIG (take it close to 0 V and keep it shorter than the pulse width).")
 
@@ -78,7 +78,10 @@ class Monostable(Timer555, MonostableKind):
         tw = float(c.expected.get("width_s") or 0)
         if not (tw > 0 and math.isfinite(tw)):
             raise sp.SimulationFailed("the monostable option has no predicted width_s to size the run")
-        td, pw, edge = tw / 10.0, tw / 10.0, tw / 1e4
+        # the trigger comes once C has settled where the closed discharge switch holds it,
+        # VCC·RD/(R+RD): 30 time constants (R∥RD)·C <= 30·RD·C after the start (derived)
+        c_val = sp.tree_value(sp.shape_tree(cn.shape, len(cn.parts)), [p.value for p in cn.parts], "C")
+        td, pw, edge = tw / 10.0 + 30.0 * chip.discharge_ohms * c_val, tw / 10.0, tw / 1e4
         L += sp.network_lines(sp._net(c, "R"), "vcc", "cap")
         L += sp.network_lines(cn, "cap", "0", ic=0.0)
         L += [f"* trigger: TRIG rests at VCC, pulled to 0 V for {sp._eng(pw, 's')} (shorter than the width)",

@@ -20,8 +20,8 @@ class Standard(Timer555, AstableKind):
     in_auto = True
     charging_roles = ("RA", "RB")
     duty_corners = True
-    formula = ("standard: t_high = ln2·(RA+RB)·C, t_low = (RB + RA∥RD)·C·ln((2VCC/3 − d)/(VCC/3 − d)), "
-               "d = VCC·RD/(RA+RD) (≈ ln2·RB·C)")
+    formula = ("standard: t_high = ln2·(RA+RB)·C, t_low = (RB+RA∥RD)·C·ln((2VCC/3−d)/(VCC/3−d)) "
+               "≈ ln2·RB·C, d = VCC·RD/(RA+RD), RD the discharge switch")
     wiring = ("Connections: RA from VCC to DIS; RB from DIS to THR and TRIG; timing capacitor from "
               "THR/TRIG to GND.")
     help = "standard (duty above 50 %)"

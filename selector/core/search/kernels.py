@@ -18,9 +18,17 @@ PHASE1_SAMPLE = 400
 """Capacitor networks sampled for the provisional bound when 3-part resistor networks are searched
 (see ``_Pass.run2``); tests lower it to exercise that path on small stocks."""
 
-_BOX_ROUNDS = 3
-"""Rounds of narrowing the RA and RB ranges against each other in ``_Pass._box`` (each round keeps
-them certified; three bring them close to their fixed point)."""
+_BOX_ROUNDS = 8
+"""Most rounds of narrowing the RA and RB ranges against each other in ``_Pass._box`` (each round
+keeps them certified). The width shrinks geometrically (t_low moves with RA only to order RD/RA,
+t_high with RB by at most 1:1), so a few rounds bring the RB range near the 2·B·RB the bound alone
+allows; a capacitor network drops out of the rounds once its RB range is within 1.5× of that
+(the diode's RA inverse is the costly step)."""
+
+_BOX_ROUNDS_2 = 1
+"""The same with 1-2 part resistor networks only, where no branch and bound reads the ranges: there
+a slightly wider RB slice costs less than more rounds of the diode's RA inverse (measured on the
+large benchmark stock)."""
 
 MAX_ERROR = 1.0
 """Options more than 100 % off target (a factor of two on a time) are never offered; exactness is
@@ -53,14 +61,15 @@ class _Bound:
         """RB of the pair that meets both halves exactly, for phase 1's guess only (any value is
         correct there). With RD = 0 it is the circuit's closed form; otherwise t_low also
         depends on RA, and a few rounds of RA from t_high, RB from t_low settle it (t_low
-        hardly moves with RA: the dependence is of order (RD/RA)²)."""
+        hardly moves with RA: the dependence is of order (RD/RA)²), so one round does."""
         tg = self.target
         rb = np.asarray(self.kind.rb_ideal(tg, c), dtype=float)
         if not self.limits.discharge_ohms > 0:
             return rb
         th, tl = np.full(rb.shape, tg.t_high), np.full(rb.shape, tg.t_low)
-        for _ in range(6):
-            ra = self.ra_for_high(th, rb, c)
+        guess = getattr(self.kind, "ra_guess", None)   # a cheap RA where the circuit has one
+        for _ in range(1):   # one round is already within (RD/RA)² of the fixed point
+            ra = guess(th, rb, c, self.limits) if guess else self.ra_for_high(th, rb, c)
             ra = np.where(np.isfinite(ra) & (ra > 0), ra, np.inf)
             new = self.rb_for_low(tl, ra, c)
             rb = np.where(np.isfinite(new) & (new > 0), new, rb)
@@ -354,22 +363,32 @@ class _Pass:
         tl_lo, tl_hi = np.full(n, tg.t_low * (1 - bound)), np.full(n, tg.t_low * (1 + bound))
         th_lo, th_hi = np.full(n, tg.t_high * (1 - bound)), np.full(n, tg.t_high * (1 + bound))
         lo_s, hi_s = 1 - _SLACK, 1 + _SLACK
+        active = np.arange(n)
         with np.errstate(all="ignore"):
-            for rnd in range(_BOX_ROUNDS + 1):
+            rounds = _BOX_ROUNDS if self.r.max_parts >= 3 else _BOX_ROUNDS_2
+            for rnd in range(rounds + 1):
+                i = active
                 # t_low is non-increasing in RA and increasing in RB
-                rb_lo = np.maximum(rb_lo, np.nan_to_num(p.rb_for_low(tl_lo, ra_lo, cv), nan=-np.inf) * lo_s)
-                rb_hi = np.minimum(rb_hi, np.nan_to_num(p.rb_for_low(tl_hi, ra_hi, cv), nan=np.inf) * hi_s)
-                rb_hi = np.minimum(rb_hi, (lim.max_total_r_ohm - ra_lo) * hi_s)
-                if rnd == _BOX_ROUNDS:
+                rb_lo[i] = np.maximum(rb_lo[i], np.nan_to_num(p.rb_for_low(tl_lo[i], ra_lo[i], cv[i]),
+                                                              nan=-np.inf) * lo_s)
+                rb_hi[i] = np.minimum(rb_hi[i], np.nan_to_num(p.rb_for_low(tl_hi[i], ra_hi[i], cv[i]),
+                                                              nan=np.inf) * hi_s)
+                rb_hi[i] = np.minimum(rb_hi[i], (lim.max_total_r_ohm - ra_lo[i]) * hi_s)
+                if rnd == rounds or rd == 0.0:
+                    break   # (RD = 0: t_low does not depend on RA, the RB range is already exact)
+                # rows still worth narrowing: not empty, and the RB range wider than 1.5× what
+                # the bound alone allows
+                w = rb_hi[i] - rb_lo[i]
+                keep = (w >= 0) & (ra_lo[i] <= ra_hi[i]) & (rb_lo[i] > 0) & (w > 3.0 * bound * rb_hi[i] + 1e-9 * rb_hi[i])
+                active = i[keep]
+                if active.size == 0:
                     break
+                i = active
                 # t_high is increasing in RA and non-decreasing in RB
-                live = np.flatnonzero((rb_lo <= rb_hi) & (ra_lo <= ra_hi) & (rb_lo > 0))
-                if live.size == 0:
-                    break
-                a = p.ra_for_high(th_lo[live], rb_hi[live], cv[live])
-                b = p.ra_for_high(th_hi[live], rb_lo[live], cv[live])
-                ra_lo[live] = np.maximum(ra_lo[live], np.nan_to_num(a, nan=-np.inf) * lo_s)
-                ra_hi[live] = np.minimum(ra_hi[live], np.nan_to_num(b, nan=np.inf) * hi_s)
+                a = p.ra_for_high(th_lo[i], rb_hi[i], cv[i])
+                b = p.ra_for_high(th_hi[i], rb_lo[i], cv[i])
+                ra_lo[i] = np.maximum(ra_lo[i], np.nan_to_num(a, nan=-np.inf) * lo_s)
+                ra_hi[i] = np.minimum(ra_hi[i], np.nan_to_num(b, nan=np.inf) * hi_s)
         return rb_lo, rb_hi, ra_lo, ra_hi
 
     def _phase2(self, pos, bound: float) -> list[tuple]:
@@ -381,7 +400,7 @@ class _Pass:
         ids = np.asarray(ids, dtype=np.int64)
         return [self._eval_pairs(ci[sub], ids[sub], bound) for sub in _chunks(ids.size, 200_000)]
 
-    def _low_floor(self, cand, ra_lo, ra_hi) -> np.ndarray:
+    def _low_floor(self, cand, ra_lo, ra_hi, pos=None) -> np.ndarray:
         """LB(c): a lower bound on the low-time error of any option of each capacitor network
         whose RB is one of ``cand`` (sorted) and whose RA lies in [ra_lo, ra_hi]. t_low of such an
         option lies in [t_low(ra_hi, RB), t_low(ra_lo, RB)], so e_low >= max(0,
@@ -389,7 +408,7 @@ class _Pass:
         (the RB meeting T_low at ra_lo and at ra_hi), falls toward za from below and rises
         from zb upward: the minimum over ``cand`` is at the nearest value on each side."""
         p, tg = self.p, self.p.target
-        cv = self.c_vals
+        cv = self.c_vals if pos is None else self.c_vals[pos]
         out = np.full(cv.size, INF)
         if cand.size == 0:
             return out
@@ -438,6 +457,7 @@ class _Pass:
         live = np.flatnonzero(lb <= bound * (1 + 1e-9) + 1e-15)
         order = live[np.argsort(lb[live], kind="stable")]
         b, start, size = bound, 0, 256
+        lb_at = bound   # the bound the floors were computed for
         while start < order.size and lb[order[start]] <= b * (1 + 1e-9) + 1e-15:
             pos = order[start:start + size]
             found.extend(self._phase2(pos, b))
@@ -446,6 +466,20 @@ class _Pass:
             size = min(2 * size, self.chunk)
             if progress:
                 progress()
+            if self.lim.discharge_ohms > 0 and b < 0.1 * lb_at and start < order.size:
+                # With RD > 0 the floor is blurred by the width of the RA range at the bound it
+                # was computed for; recompute it for the networks not yet visited with the
+                # ranges at the current b (still a lower bound for every option with error <= b,
+                # and the swept values still cover their slices, which only narrow), re-order
+                # them and go on: the stopping argument above holds for the new order.
+                rest = order[start:]
+                rest = rest[lb[rest] <= b * (1 + 1e-9) + 1e-15]
+                _l, _h, r_lo, r_hi = self._box(rest, b)
+                sub = self._low_floor(np.asarray(cand, dtype=float), r_lo, r_hi, rest)
+                sub[~((_l <= _h * (1 + _SLACK)) & (r_lo <= r_hi * (1 + _SLACK)))] = INF
+                lb[rest] = sub
+                order = rest[np.argsort(sub, kind="stable")]
+                start, lb_at = 0, b
         return True
 
     def _phase1(self, pool: int, progress=None, subset=None) -> tuple[list, float, bool]:
