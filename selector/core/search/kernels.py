@@ -423,8 +423,10 @@ class _Pass:
             above = cand[np.clip(i, 0, cand.size - 1)]
             lb_below = 1.0 - p.t_low(ra_lo, below, cv) / tg.t_low
             lb_above = p.t_low(ra_hi, above, cv) / tg.t_low - 1.0
-            lb_below = np.where((i > 0) & np.isfinite(lb_below), lb_below, INF)
-            lb_above = np.where((i < cand.size) & np.isfinite(lb_above), lb_above, INF)
+            # a value that is not a number bounds nothing: 0 (never skips a network); +inf
+            # above means RA <= 2·RD, where no option has a finite low time
+            lb_below = np.where(i > 0, np.nan_to_num(lb_below, nan=0.0, neginf=0.0, posinf=INF), INF)
+            lb_above = np.where(i < cand.size, np.nan_to_num(lb_above, nan=0.0, neginf=0.0, posinf=INF), INF)
             out = np.maximum(np.minimum(lb_below, lb_above), 0.0)
             out = np.where(inside, 0.0, out * (1 - 1e-12))   # rounding: never above the true error
         return out
