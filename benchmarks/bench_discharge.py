@@ -7,8 +7,16 @@ figures, nothing is asserted.
 Stock and targets as in bench_timing.py (E96 10 Ω–1 MΩ, E12 100 pF–100 µF, 10 each; bipolar 555
 at 9 V; standard 1234.5 Hz / 65.43 %, diode-steered 1234.5 Hz / 34.56 %). CPU seconds of this
 process (time.process_time), min / median over the runs after one warm-up. Run it in a checkout
-before and after a change to compare (the figures of issue 10 are in the module docstring of
-bench_diode.py and in the report).
+before and after a change to compare.
+
+Measured (2-core machine shared by several people, load average 4-6, 3 Dec 2026), "before" = the
+commit before the discharge switch entered t_low (RD 0, t_low from RB alone), "after" = RD of the
+bipolar family (12 ohm) with the RA/RB box of kernels.py; N=2 runs interleaved, min / median ms:
+    standard N=2  before 63.3 / 72.7, 54.0 / 64.5   after 65.9 / 78.2, 71.2 / 79.1   (1.08-1.23x)
+    diode    N=2  before 108 / 130, 93.8 / 105       after 123 / 139, 126 / 148       (1.07-1.41x;
+                                                                                   target <= 1.5x)
+    standard N=3  before 5.33 / 5.62 s               after 5.46 / 6.14 s
+    diode    N=3  before 6.15 / 6.36 s               after 5.85 / 6.66 s
 """
 
 from __future__ import annotations

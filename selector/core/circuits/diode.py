@@ -104,13 +104,6 @@ class Diode(Timer555, AstableKind):
 
         return timing.diode_shockley_ideal_ra(t_high, rb, c, limits.vcc, limits.diode_vf, _n(limits))
 
-    def ra_guess(self, t_high, rb, c, limits: Limits):
-        """A cheap RA near ``ra_for_high`` (constant-drop closed form, facts §2 [S8]) for the
-        kernel's phase-1 guess, where any value is correct and only speed matters."""
-        from selector.core import timing
-
-        return timing.diode_ideal_ra(t_high, rb, c, limits.vcc, limits.diode_vf)
-
     def times2(self, ra, rb, c, limits: Limits):
         from selector.core import timing
 
