@@ -95,9 +95,15 @@ def exhaustive_best(rl, cl, lim):
     cs = cs[cs >= lim.min_c_f]
     ra_ok = ra[ra >= lim.min_r_ohm]
     best = math.inf
+    # t_low with the discharge switch RD (issue 10): C falls through RB + RA∥RD toward
+    # d = VCC·RD/(RA+RD) (Thevenin of VCC–RA–RD at DIS), written out here on a 1 V supply
+    rd = lim.discharge_ohms
+    d = rd / (ra_ok + rd)
+    par = ra_ok * rd / (ra_ok + rd)
+    big_l = np.log((2 / 3 - d) / (1 / 3 - d))
     for c in cs:
         th = LN2 * (ra_ok[:, None] + rb[None, :]) * c
-        tl = LN2 * rb[None, :] * c
+        tl = (rb[None, :] + par[:, None]) * c * big_l[:, None]
         ok = (ra_ok[:, None] + rb[None, :] <= lim.max_total_r_ohm) & (1.0 / (th + tl) <= lim.max_freq_hz)
         e = np.maximum(np.abs(th / TARGET.t_high - 1), np.abs(tl / TARGET.t_low - 1))
         e = np.where(ok, e, np.inf)

@@ -38,8 +38,15 @@ def _ohms(text: Optional[str]) -> Optional[float]:
 _OPTION_HELP = "Option number of the search (1 = the first listed)."
 _SEARCH_HELP = "Search id (default: the latest search)."
 _CYCLES_HELP = "Astable cycles to measure after the first one (their mean is shown)."
-_RD_HELP = ("On-resistance of the 555's discharge switch in ohms (default 1, near-ideal like the "
-            "formulas; a bipolar part's data sheet gives about 12).")
+def _rd_help() -> str:
+    from selector.core.chips import FAMILIES
+
+    figures = ", ".join(f"{f.datasheet_discharge_ohms:g} {f.key}" for f in FAMILIES.values())
+    return ("On-resistance of the 555's discharge switch in ohms, used by the run and the prediction "
+            f"alike (default: the chip family's data-sheet figure: {figures}).")
+
+
+_RD_HELP = _rd_help()
 
 
 @handles_errors

@@ -50,18 +50,70 @@ def crossing_time(r, c, v_inf, v0, v1) -> np.ndarray:
 
 
 # --------------------------------------------------------------------------- standard astable
-def standard_times(ra, rb, c) -> tuple[np.ndarray, np.ndarray]:
+def standard_times(ra, rb, c, rd=0.0) -> tuple[np.ndarray, np.ndarray]:
     """Standard two-resistor astable (RA: VCC→DIS, RB: DIS→THR/TRIG, C: THR→GND).
 
-    t_high = ln2·(RA+RB)·C (C charges through RA+RB from VCC/3 to 2VCC/3),
-    t_low = ln2·RB·C (C discharges through RB into DIS) [S2, S3 bipolar 555 data sheet].
-    Duty is always above 50 % because t_high − t_low = ln2·RA·C > 0.
+    t_high = ln2·(RA+RB)·C (C charges through RA+RB from VCC/3 to 2VCC/3) [S2, S3 bipolar 555
+    data sheet]; t_low with the discharge switch's on-resistance ``rd`` is :func:`discharge_low`
+    (rd = 0: the data sheets' ln2·RB·C). Duty is always above 50 % because t_high − t_low ≥
+    ln2·RA·C − (RA∥RD-term) > 0 for RA > 2·RD.
     """
     ra, rb = _f(ra), _f(rb)
     t_high = crossing_time(ra + rb, c, _V_FULL, _V_LOW, _V_UP)
-    t_low = crossing_time(rb, c, 0.0, _V_UP, _V_LOW)
+    t_low = discharge_low(ra, rb, c, rd)
     t_high, t_low = np.broadcast_arrays(t_high, t_low)
     return np.array(t_high, dtype=float), np.array(t_low, dtype=float)
+
+
+# --------------------------------------------------------------------------- the discharge half
+# While the output is LOW the discharge switch (on-resistance RD) ties DIS to ground. RA still
+# feeds DIS from VCC, so seen from DIS (the RB node) the pair VCC–RA–RD is a source of
+#     d = VCC·RD/(RA+RD)   behind   RA∥RD = RA·RD/(RA+RD)      (Thevenin; derived)
+# and C discharges through RB + RA∥RD toward d, from 2VCC/3 to VCC/3 (facts §0 law):
+#     t_low = (RB + RA∥RD)·C·ln((2VCC/3 − d)/(VCC/3 − d)),   with δ = d/VCC = RD/(RA+RD):
+#           = (RB + RA∥RD)·C·ln((2 − 3δ)/(1 − 3δ)).
+# VCC cancels. It needs d < VCC/3 (RA > 2·RD), else C never falls to the trigger level (inf).
+# RD = 0 gives ln2·RB·C [S2, S3]; RA → ∞ gives ln2·(RB+RD)·C, the data sheet's t_L =
+# 0.693(R_B+R_D)C [S2]. Putting RD only in series with RB (that form) runs short: RA's current
+# through RD also lifts the floor C discharges toward (ngspice: 1.4 % at a CMOS part, 5 V, 40 kHz).
+# The diode-steered astable discharges the same way: its diode is reverse biased (DIS sits below
+# the capacitor while C discharges), so the same law holds there.
+#
+# Monotonicity (used by the exact search; derived): t_low is linear and increasing in RB; in RA
+# it is strictly DECREASING for RD > 0. Write g = (RB + RD(1 − δ))·L(δ), L = ln((2−3δ)/(1−3δ)),
+# δ falling with RA. dg/dδ = (RB + RD(1−δ))·L'(δ) − RD·L(δ) ≥ RD·h(δ), h = (1−δ)L' − L;
+# h(0) = 3/2 − ln2 > 0 and, with u = 1 − 3δ, h'(δ) = (1/u − 1/(u+1))·(3(2+u)(1/u + 1/(u+1)) − 6)
+# > 0 on 0 ≤ δ < 1/3, so h > 0 and g grows with δ, i.e. falls as RA grows.
+
+
+def _discharge_terms(ra, rd):
+    """(RA∥RD, L) of the discharge law: t_low = (RB + RA∥RD)·C·L; L = ln((2−3δ)/(1−3δ)),
+    δ = RD/(RA+RD); L = inf where RA ≤ 2·RD. RA = inf gives (RD, ln 2); RD = 0 gives (0, ln 2)."""
+    ra, rd = np.broadcast_arrays(_f(ra), _f(rd))
+    with np.errstate(divide="ignore", invalid="ignore"):
+        finite = np.isfinite(ra)
+        rs = np.where(finite, ra, 1.0)
+        on = rd > 0
+        delta = np.where(on & finite, rd / (rs + rd), 0.0)
+        par = np.where(on, np.where(finite, rs * rd / (rs + rd), rd), 0.0)
+        # (2 − 3δ)/(1 − 3δ) on the 3-unit supply, so δ = 0 gives ln 2 bit-exact
+        big_l = crossing_time(1.0, 1.0, 3.0 * delta, _V_UP, _V_LOW)
+    return par, np.where(delta < 1.0 / 3.0, big_l, np.inf)
+
+
+def discharge_low(ra, rb, c, rd=0.0) -> np.ndarray:
+    """t_low of the standard and diode-steered astables with the discharge switch's on-resistance
+    ``rd`` (see the law above): (RB + RA∥RD)·C·ln((2 − 3δ)/(1 − 3δ)), δ = RD/(RA+RD); inf where
+    RA ≤ 2·RD (the capacitor never falls to VCC/3). RA may be inf (then ln2·(RB+RD)·C)."""
+    par, big_l = _discharge_terms(ra, rd)
+    return (_f(rb) + par) * _f(c) * big_l
+
+
+def discharge_rb_for_low(t_low, ra, c, rd=0.0) -> np.ndarray:
+    """RB giving exactly ``t_low`` with this RA, C and RD (:func:`discharge_low` is linear in RB):
+    t_low/(C·L) − RA∥RD. May be ≤ 0 (no positive RB); −RA∥RD where RA ≤ 2·RD (L = inf)."""
+    par, big_l = _discharge_terms(ra, rd)
+    return _f(t_low) / (_f(c) * big_l) - par
 
 
 def standard_ideal(t_high, t_low, c) -> tuple[np.ndarray, np.ndarray]:
@@ -290,12 +342,13 @@ def _shockley_high_slope(ra, rb, c, vcc, vf, n):
     return t, slope
 
 
-def diode_shockley_times(ra, rb, c, vcc, vf, n) -> tuple[np.ndarray, np.ndarray]:
-    """(t_high, t_low) of the diode-steered astable with a Shockley diode; t_low = ln2·RB·C (the
-    diode is reverse biased while C discharges; DIS on-resistance not included here)."""
+def diode_shockley_times(ra, rb, c, vcc, vf, n, rd=0.0) -> tuple[np.ndarray, np.ndarray]:
+    """(t_high, t_low) of the diode-steered astable with a Shockley diode; t_low is
+    :func:`discharge_low` with the discharge switch's on-resistance ``rd`` (the diode is reverse
+    biased while C discharges; rd = 0: ln2·RB·C)."""
     vcc, vf = _check_supply_and_drop(vcc, vf)
     t_high = diode_shockley_high(ra, rb, c, vcc, vf, n)
-    t_low = crossing_time(rb, c, 0.0, _V_UP, _V_LOW)
+    t_low = discharge_low(ra, rb, c, rd)
     t_high, t_low = np.broadcast_arrays(t_high, t_low)
     return np.array(t_high, dtype=float), np.array(t_low, dtype=float)
 
@@ -362,14 +415,38 @@ def output_fed_times(r, c, voh, vol, vcc) -> tuple[np.ndarray, np.ndarray]:
 
 
 # --------------------------------------------------------------------------- monostable, RC
-def monostable_width(r, c) -> np.ndarray:
-    """Monostable pulse width ln3·R·C ≈ 1.1·R·C [S3, S5]: C charges from 0 toward VCC to 2VCC/3."""
-    return crossing_time(r, c, _V_FULL, 0.0, _V_UP)
+def monostable_width(r, c, rd=0.0) -> np.ndarray:
+    """Monostable pulse width: C charges through R toward VCC up to 2VCC/3 [S3, S5]. Before the
+    trigger the discharge switch (on-resistance ``rd``) holds C at v0 = VCC·RD/(R+RD), not at 0
+    (R and RD divide VCC; derived), so the width is R·C·ln((VCC − v0)/(VCC/3)) =
+    R·C·ln(3R/(R+RD)); rd = 0 gives ln3·R·C ≈ 1.1·R·C. inf where R ≤ RD/2 (C already sits at
+    the threshold: no pulse)."""
+    r, rd = _f(r), _f(rd)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        v0 = np.where(rd > 0, _V_FULL * rd / (r + rd), 0.0)
+    return crossing_time(r, c, _V_FULL, v0, _V_UP)
 
 
-def monostable_ideal_r(width, c) -> np.ndarray:
-    """R = width/(ln3·C), the exact inverse of :func:`monostable_width`."""
-    return _f(width) / (LN3 * _f(c))
+def monostable_ideal_r(width, c, rd=0.0) -> np.ndarray:
+    """The exact inverse of :func:`monostable_width` in R. rd = 0: width/(ln3·C). Otherwise
+    f(R) = R·ln(3R/(R+RD)) = width/C is solved by Newton's method: f is increasing
+    (f' = ln(3R/(R+RD)) + RD/(R+RD) > 0 for R > RD/2) and convex (f'' = RD²/(R(R+RD)²) > 0),
+    and f(R) ≥ R·ln3 − RD (ln(1+x) ≤ x), so R0 = (width/C + RD)/ln3 lies right of the root and
+    Newton from there falls monotonically onto it (derived)."""
+    w, c, rd = np.broadcast_arrays(_f(width) / _f(c), _f(c), _f(rd))
+    w, rd = np.array(w, dtype=float), np.array(rd, dtype=float)
+    x = (w + rd) / LN3
+    on = rd > 0
+    if np.any(on):
+        for _ in range(60):
+            with np.errstate(divide="ignore", invalid="ignore"):
+                lg = np.log(3.0 * x / (x + rd))
+                step = (x * lg - w) / (lg + rd / (x + rd))
+            step = np.where(on & np.isfinite(step), step, 0.0)
+            x = x - step
+            if not np.any(np.abs(step) > 1e-15 * x):
+                break
+    return np.where(on, x, w / LN3)
 
 
 def rc_tau(r, c) -> np.ndarray:

@@ -102,7 +102,13 @@ def corners(fn: Callable, lows: Sequence, highs: Sequence) -> tuple[np.ndarray, 
     dt_high/dRB = C·ln x > 0, x = (VCC − Vc*)/(VCC/3) ∈ (1, 2) (piecewise region); the duty falls
     with RB because th/C > RB·ln x. So the corners are exact there too. Series and parallel
     networks are increasing in every part, so evaluating over the PHYSICAL parts through a
-    network's combine keeps the corners exact. The diode drop Vf is not toleranced. For any other
+    network's combine keeps the corners exact. The diode drop Vf is not toleranced. With the
+    discharge switch's RD in t_low (``timing.discharge_low``: falling with RA, rising with RB and C)
+    the duty still rises with RA and falls with RB, and t_low, t_high, the width move one way
+    with each part; the period's slope in RA, C·(ln2 − about 1.5·RB·RD/RA²), changes sign only
+    where RA² ≈ 2.2·RB·RD, where the period is flat in RA: there the corners can miss a bulge of
+    about 1.1·RD·t²/RA of the period (t the RA tolerance; 4e-5 at RD 40 Ω, 5 %, RA 2.9 kΩ;
+    derived), far below any tolerance shown. For any other
     ``fn`` that is not monotone, use :func:`grid_extremes` or the Monte Carlo samples as well.
     """
     if len(lows) != len(highs):

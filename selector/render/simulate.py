@@ -89,7 +89,8 @@ def footer(report) -> Text:
     lines = corner_notes(report) + ["difference = (ngspice - predicted) / predicted.",
                                     report.model_note or MODEL_NOTE]
     if report.has_discharge:
-        lines.append(f"Discharge switch on-resistance {report.discharge_ohms:g} ohm (--discharge-ohms to change).")
+        lines.append(f"Discharge switch on-resistance {report.discharge_ohms:g} ohm, in the prediction too "
+                     "(--discharge-ohms to change).")
     if report.diode_vf is not None:
         lines.append(f"Steering diode: Shockley model dropping {report.diode_vf:g} V at 1 mA, the same law "
                      "as the prediction.")

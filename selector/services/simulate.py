@@ -171,7 +171,11 @@ def predict(c: spice.Circuit) -> dict[str, float]:
         return fixed + (n.trim.value if n.trim is not None else 0.0)
 
     kind = circuits.get(c.connection)
-    limits = Limits(vcc=c.chip.vcc, diode_vf=c.diode_vf, voh=c.chip.voh, vol=c.chip.vol, extra=c.extra)
+    # the netlist's discharge switch on-resistance goes into the prediction too (t_low, and the
+    # monostable's start level), so the two agree for the same reason
+    rd = c.chip.discharge_ohms if kind.has_discharge_switch else 0.0
+    limits = Limits(vcc=c.chip.vcc, diode_vf=c.diode_vf, voh=c.chip.voh, vol=c.chip.vol, extra=c.extra,
+                    discharge_ohms=rd)
     outs = kind.model({label: val(label) for label in c.networks}, limits, {})
     return {name: float(x) for name, x in zip(kind.outputs, outs)}
 
@@ -275,7 +279,9 @@ def simulate_option(engine: Engine, rank: int, search_id: Optional[int] = None, 
     found, _ = spice.parse_measurements(out)
     simulated = spice.reduce_measurements(circuit, found, netlist.cycles)
     wave = _waveform(circuit, wave_text) if waveform else None
-    predicted = {k: v for k, v in circuit.expected.items() if k in simulated}
+    # the prediction with the run's own discharge resistance (the chip family's data-sheet figure,
+    # or --discharge-ohms): the same model the search used when the figure is the family's
+    predicted = {k: v for k, v in predict(circuit).items() if k in simulated}
     results = []
     if corners:
         for name, desc, cc in spice.corner_circuits(circuit):

@@ -70,19 +70,22 @@ def test_between_the_offered_share_and_the_family_limit_names_the_delay(cli, sto
 
 
 def test_monostable_shorter_than_the_limits_allow(cli, stocked):
-    """Shortest pulse = ln3 x 1 kΩ x 100 pF = 109.9 ns (bipolar 555 table: R >= 1 kΩ, C >= 100 pF);
-    100 ns x 1.05 = 105 ns is below it."""
+    """Shortest pulse = 1 kΩ x 100 pF x ln(3R/(R+RD)) = 108.7 ns with the discharge switch's
+    12 Ω (DIS 180 mV at 15 mA [S1]; ln3·R·C = 109.9 ns without it) (bipolar 555 table: R >= 1 kΩ,
+    C >= 100 pF); 100 ns x 1.05 = 105 ns is below it."""
     r = cli("find", "monostable", "--width", "100ns", db=stocked)
     assert r.returncode == 1
     line = r.stderr.strip()
-    assert line == ("Error: a 100 ns pulse is below the shortest the limits allow, 110 ns (R ≥ 1 kΩ, "
+    assert line == ("Error: a 100 ns pulse is below the shortest the limits allow, 109 ns (R ≥ 1 kΩ, "
                     "C ≥ 100 pF with a bipolar 555 at 9 V); no chip family here reaches it")
 
 
 def test_stock_cannot_reach_shows_the_closest_and_what_to_buy():
     """Only 10 kΩ (x5) and 100 nF: RA = RB = 10 kΩ gives f = 1/(ln2·30 kΩ·100 nF) = 480.9 Hz,
-    duty 2/3. Target 400 Hz, duty 2/3: +20.2 % off, nothing within ±5 %. One new capacitor
-    C = 1/(ln2·30 kΩ·400 Hz) = 120.2 nF, the E12 value 120 nF, gives 400.7 Hz (+0.19 %)."""
+    duty 2/3, by the data-sheet formulas [S2, S3]; with the discharge switch's 12 Ω (DIS 180 mV
+    at 15 mA [S1]) t_low = (RB + RA∥RD)·C·ln((2/3 − d)/(1/3 − d)), d = RD/(RA+RD) (derived), so
+    480.3 Hz and duty 66.58 %. Target 400 Hz, duty 2/3: +20.1 % off, nothing within ±5 %. One
+    new capacitor C ≈ 120 nF (E12) gives 400.2 Hz (+0.06 %)."""
     r = [StockLine(1, "resistor", 10e3, 0.01, 0.01, 5, location="A1", rating=0.25)]
     c = [StockLine(2, "capacitor", 100e-9, 0.05, 0.05, 2, location="C1", rating=50.0,
                    dielectric="film-PET")]
@@ -90,18 +93,22 @@ def test_stock_cannot_reach_shows_the_closest_and_what_to_buy():
                                           connection="standard", max_parts=1))
     doc = rep.json
     assert doc["within_acceptance"] is False
-    f0 = 1 / (math.log(2) * 30e3 * 100e-9)
+    def freq(c, ra=10e3, rb=10e3, rd=0.180 / 15e-3):
+        d = rd / (ra + rd)
+        return 1 / (math.log(2) * (ra + rb) * c + (rb + ra * rd / (ra + rd)) * c * math.log((2 / 3 - d) / (1 / 3 - d)))
+
+    f0 = freq(100e-9)
     assert math.isclose(doc["options"][0]["errors"]["frequency"], f0 / 400 - 1, rel_tol=1e-9)
     first = doc["suggest_buy"][0]
     assert first["role"] == "C" and first["series"] == "E12"
     assert math.isclose(first["value"], 120e-9, rel_tol=1e-12)
-    f1 = 1 / (math.log(2) * 30e3 * 120e-9)
+    f1 = freq(120e-9)
     assert math.isclose(first["errors"]["frequency"], f1 / 400 - 1, rel_tol=1e-9)
     from selector.render.timing import reach_lines
 
     lines = reach_lines(rep)
-    assert lines[0] == "Nothing in stock within ±5 %; closest f +20.2 % d 0.0 pt (option 1)."
-    assert "C 120 nF (E12, instead of 100 nF): f +0.2 %" in lines[1]
+    assert lines[0] == "Nothing in stock within ±5 %; closest f +20.1 % d -0.1 pt (option 1)."
+    assert "C 120 nF (E12, instead of 100 nF): f +0.1 %" in lines[1]
 
 
 def test_stock_reaches_on_the_sample(cli, stocked):

@@ -12,6 +12,21 @@ from conftest import url_of
 
 LN2, LN3 = math.log(2.0), math.log(3.0)
 
+RD_BIPOLAR = 0.180 / 15e-3   # bipolar 555 discharge switch: DIS 180 mV typ at 15 mA [S1] → 12 Ω
+
+
+def t_low_rd(ra, rb, c, rd=RD_BIPOLAR):
+    """t_low with the discharge switch RD: C falls through RB + RA∥RD toward d = VCC·RD/(RA+RD)
+    (Thevenin of VCC–RA–RD at DIS; derived, tests/reference/test_discharge_reference.py), from
+    2VCC/3 to VCC/3; RA → ∞ gives the data sheet's ln2·(RB+RD)·C [S2]."""
+    d = rd / (ra + rd)
+    return (rb + ra * rd / (ra + rd)) * c * math.log((2 / 3 - d) / (1 / 3 - d))
+
+
+def width_rd(r, c, rd=RD_BIPOLAR):
+    """Monostable width from the level the closed switch holds C at, VCC·RD/(R+RD): R·C·ln(3R/(R+RD))."""
+    return r * c * math.log(3 * r / (r + rd))
+
 OPTION_KEYS = {"rank", "connection", "error", "predicted", "range", "yield", "networks",
                "yield_parts_only"}  # added by issue 10 (wave-2 JSON contract)
 NETWORK_KEYS = {"value", "shape", "parts"}
@@ -92,9 +107,9 @@ def test_astable_json_shape_and_physics(cli, stocked):
         ra, rb, c = n["RA"]["value"], n["RB"]["value"], n["C"]["value"]
         p = opt["predicted"]
         if opt["connection"] == "standard":
-            # bipolar 555 data sheet [S2, S3]: t_high = ln2·(RA+RB)·C, t_low = ln2·RB·C
+            # bipolar 555 data sheet [S2, S3]: t_high = ln2·(RA+RB)·C, t_low ≈ ln2·RB·C (with RD)
             assert p["t_high_s"] == pytest.approx(LN2 * (ra + rb) * c, rel=1e-12)
-        assert p["t_low_s"] == pytest.approx(LN2 * rb * c, rel=1e-12)
+        assert p["t_low_s"] == pytest.approx(t_low_rd(ra, rb, c), rel=1e-12)
         assert p["frequency_hz"] == pytest.approx(1 / (p["t_high_s"] + p["t_low_s"]), rel=1e-12)
         eh = p["t_high_s"] / t["t_high_s"] - 1
         el = p["t_low_s"] / t["t_low_s"] - 1
@@ -121,8 +136,8 @@ def test_monostable_table_and_json(cli, stocked):
     for opt in doc["options"]:
         assert opt["connection"] == "monostable"
         rr, c = opt["networks"]["R"]["value"], opt["networks"]["C"]["value"]
-        # monostable width ln3·R·C ≈ 1.1·R·C [S3, S5]
-        assert opt["predicted"]["width_s"] == pytest.approx(LN3 * rr * c, rel=1e-12)
+        # monostable width ln3·R·C ≈ 1.1·R·C [S3, S5], from the switch's start level
+        assert opt["predicted"]["width_s"] == pytest.approx(width_rd(rr, c), rel=1e-12)
 
 
 def test_rc_corner_table_and_json(cli, stocked):

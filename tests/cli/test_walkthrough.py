@@ -117,13 +117,29 @@ def test_find_value_3u3_capacitor_from_two_parts(shop):
     assert abs(best["error"]) == pytest.approx(_brute_best(_stock(db), "capacitor", 3.3e-6), abs=1e-12)
 
 
+RD_BIPOLAR = 0.180 / 15e-3   # bipolar 555 discharge switch: DIS 180 mV typ at 15 mA [S1] → 12 Ω
+
+
+def t_low_rd(ra, rb, c, rd=RD_BIPOLAR):
+    """t_low with the discharge switch RD: C falls through RB + RA∥RD toward d = VCC·RD/(RA+RD)
+    (Thevenin of VCC–RA–RD at DIS; derived, tests/reference/test_discharge_reference.py), from
+    2VCC/3 to VCC/3; RA → ∞ gives the data sheet's ln2·(RB+RD)·C [S2]."""
+    d = rd / (ra + rd)
+    return (rb + ra * rd / (ra + rd)) * c * math.log((2 / 3 - d) / (1 / 3 - d))
+
+
+def width_rd(r, c, rd=RD_BIPOLAR):
+    """Monostable width from the level the closed switch holds C at, VCC·RD/(R+RD): R·C·ln(3R/(R+RD))."""
+    return r * c * math.log(3 * r / (r + rd))
+
+
 def _check_astable(opt, vcc=9.0):
     nets = opt["networks"]
     c = _combine(nets["C"], "capacitor")
     rb = _total(nets["RB"], "resistor")
     ra = _total(nets["RA"], "resistor")
     pred = opt["predicted"]
-    assert pred["t_low_s"] == pytest.approx(math.log(2) * rb * c, rel=1e-6)  # data sheet, both wirings
+    assert pred["t_low_s"] == pytest.approx(t_low_rd(ra, rb, c), rel=1e-6)  # data sheet + RD, both wirings
     if opt["connection"] == "standard":
         assert pred["t_high_s"] == pytest.approx(math.log(2) * (ra + rb) * c, rel=1e-6)
     f = 1 / (pred["t_high_s"] + pred["t_low_s"])
@@ -157,7 +173,7 @@ def test_find_monostable_150ms(shop):
     for opt in data["options"]:
         r = _total(opt["networks"]["R"], "resistor")
         c = _combine(opt["networks"]["C"], "capacitor")
-        assert opt["predicted"]["width_s"] == pytest.approx(math.log(3) * r * c, rel=1e-6)
+        assert opt["predicted"]["width_s"] == pytest.approx(width_rd(r, c), rel=1e-6)
     assert min(abs(o["error"]) for o in data["options"]) <= 0.01
 
 

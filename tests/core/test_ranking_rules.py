@@ -2,7 +2,8 @@
 
 Every expected figure is computed here from the JSON of the options and from the standard
 astable law t_high = ln2·(RA+RB)·C, t_low = ln2·RB·C (555 data sheets, e.g. TI NE555 SLFS022,
-"astable operation"), never read from the ranking code:
+"astable operation"; t_low with the discharge switch's 12 Ω written out in t_low_rd), never read
+from the ranking code:
 - an option whose nominal errors are all within HALF the acceptance (duty judged in points against
   the same figure x the target duty) ranks above every option that is not;
 - within that grouping, an option more than 2 points of yield better ranks higher; among yields
@@ -24,6 +25,14 @@ from selector.core.types import StockLine
 from selector.services.find_timing import TimingRequest, plan_timing
 
 LN2 = math.log(2.0)
+RD = 0.180 / 15e-3   # bipolar 555 discharge switch: DIS 180 mV typ at 15 mA [S1] → 12 Ω
+
+
+def t_low_rd(ra, rb, c, rd=RD):
+    """t_low with the discharge switch: C falls through RB + RA∥RD toward d = VCC·RD/(RA+RD)
+    (Thevenin of VCC–RA–RD at DIS; derived, tests/reference/test_discharge_reference.py)."""
+    d = rd / (ra + rd)
+    return (rb + ra * rd / (ra + rd)) * c * math.log((2 / 3 - d) / (1 / 3 - d))
 E12 = (1.0, 1.2, 1.5, 1.8, 2.2, 2.7, 3.3, 3.9, 4.7, 5.6, 6.8, 8.2)  # IEC 60063 E12
 
 
@@ -74,7 +83,7 @@ def _asked(opt, freq, duty):
     the standard astable law (module docstring); the option's own prediction must agree."""
     ra, rb = (_net_value(opt["networks"][k], "resistor") for k in ("RA", "RB"))
     c = _net_value(opt["networks"]["C"], "capacitor")
-    th, tl = LN2 * (ra + rb) * c, LN2 * rb * c
+    th, tl = LN2 * (ra + rb) * c, t_low_rd(ra, rb, c)
     f, d = 1.0 / (th + tl), th / (th + tl)
     p = opt["predicted"]
     assert math.isclose(p["frequency_hz"], f, rel_tol=1e-9) and math.isclose(p["duty"], d, rel_tol=1e-9), (p, f, d)
@@ -150,7 +159,7 @@ def _reference_best(r_lines, c_lines, freq, duty):
         if ra.value + rb.value > r_max * (1 + 1e-9):
             continue
         for c in c_lines:
-            th, tl = LN2 * (ra.value + rb.value) * c.value, LN2 * rb.value * c.value
+            th, tl = LN2 * (ra.value + rb.value) * c.value, t_low_rd(ra.value, rb.value, c.value)
             if 1.0 / (th + tl) > 20e3 * (1 + 1e-9):
                 continue
             e = max(abs(th / th_t - 1), abs(tl / tl_t - 1))

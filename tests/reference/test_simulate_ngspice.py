@@ -7,8 +7,10 @@ compares ngspice with the search's own saved prediction.
 
 Margins (ngspice vs formula), and why:
 - standard, output-fed, monostable: 0.5 %. Measured ≤ 0.1 %: the timestep is 1/1000 of the
-  shorter half-period (a comparator flips up to one step late), the 1 Ω discharge switch adds
-  RD/RB to t_low and leaves C a few mV above 0 V [S2: formula ignores RD].
+  shorter half-period (a comparator flips up to one step late); the hand-built circuits of part 1
+  use a 1 Ω discharge switch against formulas without one (it adds about RD/RB to t_low [S2]),
+  while the saved options of parts 2–3 run with the family's data-sheet switch, which the
+  prediction includes.
 - diode-steered t_high in part 1: 3 %. There the formula written out holds Vf constant (facts §2)
   while the netlist's diode is exponential (Vf moves about n·Vt·ln(I1/I2) over the charge).
   Found options (part 3): 0.5 %, as the standard connection: the prediction and the netlist use the
@@ -224,6 +226,31 @@ def test_cli_simulate_json_has_the_three_blocks(cli, saved_db):
         assert out["difference"][k] == pytest.approx(
             (out["simulated"][k] - out["predicted"][k]) / out["predicted"][k], rel=1e-9)
         assert abs(out["difference"][k]) < M_555
+
+
+def _t_low_rd(ra, rb, c, rd):
+    """C falls through RB + RA∥RD toward d = VCC·RD/(RA+RD) from 2VCC/3 to VCC/3 (units of VCC;
+    the Thevenin of VCC–RA–RD at DIS, derived; tests/reference/test_discharge_reference.py)."""
+    d = rd / (ra + rd)
+    return (rb + ra * rd / (ra + rd)) * c * math.log((2 / 3 - d) / (1 / 3 - d))
+
+
+def test_cli_simulate_uses_the_family_discharge_resistance_and_the_option(cli, saved_db):
+    # default: the bipolar data sheet's DIS saturation, 180 mV typ at 15 mA → 12 Ω [S1]; the run
+    # and the prediction both use it, so they agree within 0.2 %
+    base = json.loads(cli("simulate", "1", "--json", db=saved_db).stdout)
+    assert base["model"]["discharge_ohms"] == pytest.approx(0.180 / 15e-3)
+    ra, rb, c = 14.7e3, 47e3, 10e-9
+    assert base["predicted"]["t_low_s"] == pytest.approx(_t_low_rd(ra, rb, c, 12.0), rel=1e-9)
+    assert all(abs(d) <= 0.002 for d in base["difference"].values()), base["difference"]
+    # --discharge-ohms moves both: the prediction by the law, ngspice with it
+    r = cli("simulate", "1", "--json", "--discharge-ohms", "300", db=saved_db)
+    assert r.returncode == 0, r.stderr
+    out = json.loads(r.stdout)
+    assert out["model"]["discharge_ohms"] == 300.0
+    assert out["predicted"]["t_low_s"] == pytest.approx(_t_low_rd(ra, rb, c, 300.0), rel=1e-9)
+    assert out["simulated"]["t_low_s"] > base["simulated"]["t_low_s"] * 1.03
+    assert all(abs(d) <= 0.002 for d in out["difference"].values()), out["difference"]
 
 
 def test_cli_simulate_table_shows_both_figures(cli, saved_db):

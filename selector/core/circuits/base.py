@@ -20,7 +20,8 @@ INF = float("inf")
 ONE_RESISTOR = "one-resistor"
 """Kernel for circuits with one timing resistor R and a capacitor C (``search.kernels``)."""
 TWO_RESISTOR = "two-resistor"
-"""Kernel for circuits with RA, RB and C where t_low = ln2·RB·C (``search.kernels``)."""
+"""Kernel for circuits with RA, RB and C: t_high increasing in RA and non-decreasing in RB, t_low
+the discharge law (increasing in RB, non-increasing in RA; ``search.kernels``)."""
 KERNELS = (ONE_RESISTOR, TWO_RESISTOR)
 
 # Dielectric groups the BOM prefers or avoids for extra capacitors (names as in core.parts).
@@ -78,6 +79,7 @@ class Limits:
     max_total_r_ohm: float = INF  # RA + RB, or R
     max_ra_ohm: float = INF  # RA alone (diode-steered: RA alone carries the threshold current)
     dis_sink_a: float = INF  # astable: peak DIS current (2VCC/3)/RB + VCC/RA at most this
+    discharge_ohms: float = 0.0  # 555 discharge switch on-resistance RD (t_low; monostable start level)
     min_c_f: float = 0.0
     max_freq_hz: float = INF
     freq_ceiling_hz: float = INF  # the family's own maximum (max_freq_hz is offered, this refused)

@@ -1,7 +1,9 @@
 """Diode-steered 555 astable: a diode across RB (anode at DIS) so C charges through RA alone and
 discharges through RB; any duty. The steering diode is a Shockley diode (Vf at 1 mA and the
 ideality n, ``parts.DIODE_VF_DEFAULT``) in parallel with RB and in series with RA; t_high is the
-exact charge integral (``timing.diode_shockley_times``; topology facts.md §2 [S8]). Its Vf spread
+exact charge integral (``timing.diode_shockley_times``; topology facts.md §2 [S8]); t_low has the
+discharge switch's on-resistance RD (``timing.discharge_low``, as in the standard connection: the
+diode is reverse biased while C discharges). Its Vf spread
 enters the worst case and the yield as an uncertain input."""
 
 from __future__ import annotations
@@ -22,7 +24,8 @@ class Diode(Timer555, AstableKind):
     duty_corners = True
     uses_diode = True
     formula = ("diode-steered: t_high = C·∫dVc/I, I through RA and the Shockley diode (Vf at 1 mA, "
-               "ideality n) in parallel with RB; t_low = ln2·RB·C")
+               "ideality n) in parallel with RB; t_low = (RB+RA∥RD)·C·ln((2VCC/3−d)/(VCC/3−d)) "
+               "≈ ln2·RB·C, d = VCC·RD/(RA+RD), RD the discharge switch")
     wiring = ("Connections: RA from VCC to DIS; RB from DIS to THR and TRIG with the steering diode across "
               "it (anode at DIS, cathode at THR/TRIG); timing capacitor from THR/TRIG to GND.")
     help = "diode (diode across RB, any duty)"
@@ -95,15 +98,23 @@ class Diode(Timer555, AstableKind):
         from selector.core import timing
 
         return timing.diode_shockley_times(v["RA"], v["RB"], v["C"], limits.vcc,
-                                           (extra or {}).get("diode_vf", limits.diode_vf), _n(limits))
+                                           (extra or {}).get("diode_vf", limits.diode_vf), _n(limits),
+                                           limits.discharge_ohms)
 
-    # ---- two-resistor kernel
-    def t_low(self, rb, c):
+    # ---- two-resistor kernel: t_high increasing in RA and in RB (a larger RB leaves more of the
+    # current to the diode, whose drop then rises, so C charges more slowly at every level)
+    def t_low(self, ra, rb, c, limits: Limits):
         from selector.core import timing
 
-        return timing.standard_times(0.0, rb, c)[1]
+        return timing.discharge_low(ra, rb, c, limits.discharge_ohms)
+
+    def rb_for_low(self, t_low, ra, c, limits: Limits):
+        from selector.core import timing
+
+        return timing.discharge_rb_for_low(t_low, ra, c, limits.discharge_ohms)
 
     def rb_ideal(self, target: Target, c):
+        """RB for t_low with an ideal discharge switch (RD = 0): the kernel's first guess."""
         from selector.core import timing
 
         return timing.standard_ideal(target.t_high, target.t_low, c)[1]
@@ -116,7 +127,8 @@ class Diode(Timer555, AstableKind):
     def times2(self, ra, rb, c, limits: Limits):
         from selector.core import timing
 
-        return timing.diode_shockley_times(ra, rb, c, limits.vcc, limits.diode_vf, _n(limits))
+        return timing.diode_shockley_times(ra, rb, c, limits.vcc, limits.diode_vf, _n(limits),
+                                           limits.discharge_ohms)
 
     # ---- BOM
     def bom_obtain(self, settings: Settings):

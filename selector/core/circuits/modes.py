@@ -215,7 +215,8 @@ class Timer555:
         vcc = settings.vcc
         lim = dict(vcc=vcc, r_power_derating=parts.RESISTOR_POWER_DERATING, cap_volts=vcc,
                    cap_derating=parts.voltage_derating, diode_vf=settings.diode_vf,
-                   min_r_ohm=fam.min_ra_ohm, min_c_f=fam.min_timing_c_f, r_power_volts=vcc)
+                   min_r_ohm=fam.min_ra_ohm, min_c_f=fam.min_timing_c_f, r_power_volts=vcc,
+                   discharge_ohms=fam.datasheet_discharge_ohms)  # RD in t_low and the one-shot's start
         lim.update(chip_limits(fam, vcc, astable))
         from selector.core.circuits.base import Uncertain
 
@@ -271,11 +272,13 @@ class Timer555:
         return list(chips.family(settings.chip).bom_notes)
 
     def spice_chip(self, settings: Settings, discharge_ohms: Optional[float]):
+        """The behavioural 555; its discharge switch has the family's data-sheet on-resistance
+        unless ``discharge_ohms`` says otherwise (the prediction uses the same RD)."""
         from selector.core import chips
 
         fam = chips.family(settings.chip)
-        return sp.chip_model(fam.key, settings.vcc, fam.voh(settings.vcc), fam.vol(settings.vcc),
-                             discharge_ohms)
+        rd = fam.datasheet_discharge_ohms if discharge_ohms is None else discharge_ohms
+        return sp.chip_model(fam.key, settings.vcc, fam.voh(settings.vcc), fam.vol(settings.vcc), rd)
 
     def spice_device(self, c, pins: str) -> list[str]:
         """The 555 instance (pins in data-sheet order after X555) and its subcircuit."""

@@ -1,5 +1,7 @@
 """555 monostable: R from VCC to DIS/THR, C to ground; a trigger pulse on TRIG starts a pulse of
-width ln3·R·C ≈ 1.1·R·C [S3, S5] (C charges from 0 toward VCC up to 2VCC/3)."""
+width ln3·R·C ≈ 1.1·R·C [S3, S5] (C charges toward VCC up to 2VCC/3). It starts from the level the
+discharge switch (on-resistance RD) holds C at, VCC·RD/(R+RD), so the width is R·C·ln(3R/(R+RD))
+(``timing.monostable_width``, derived)."""
 
 from __future__ import annotations
 
@@ -15,7 +17,7 @@ class Monostable(Timer555, MonostableKind):
     name = "monostable"
     roles = ("R", "C")
     kernel = ONE_RESISTOR
-    formula = "monostable: width = ln3·R·C ≈ 1.1·R·C"
+    formula = "monostable: width = R·C·ln(3R/(R+RD)) ≈ ln3·R·C ≈ 1.1·R·C, RD the discharge switch"
     wiring = ("Connections: R from VCC to DIS and THR; timing capacitor from THR to GND; the trigger "
               "pulse goes to TRIG (take it close to 0 V and keep it shorter than the pulse width).")
 
@@ -32,7 +34,7 @@ class Monostable(Timer555, MonostableKind):
         from selector.core.notation import format_value
 
         lim = self.limits(settings)
-        shortest = float(timing.monostable_width(lim.min_r_ohm, lim.min_c_f))
+        shortest = float(timing.monostable_width(lim.min_r_ohm, lim.min_c_f, lim.discharge_ohms))
         if target.width * (1.0 + accept) < shortest:
             return (f"a {format_value(target.width, 's')} pulse is below the shortest the limits allow, "
                     f"{format_value(shortest, 's')} (R ≥ {format_value(lim.min_r_ohm, 'Ω')}, C ≥ "
@@ -44,7 +46,7 @@ class Monostable(Timer555, MonostableKind):
 
         from selector.core.circuits.modes import chip_factor
 
-        w = timing.monostable_width(v["R"], v["C"])
+        w = timing.monostable_width(v["R"], v["C"], limits.discharge_ohms)
         k = chip_factor(extra)
         return (w if k is None else w * k,)
 
@@ -52,7 +54,7 @@ class Monostable(Timer555, MonostableKind):
     def r_ideal(self, target: Target, c, limits: Limits):
         from selector.core import timing
 
-        return timing.monostable_ideal_r(target.width, c)
+        return timing.monostable_ideal_r(target.width, c, limits.discharge_ohms)
 
     def error1(self, r, c, target: Target, limits: Limits):
         import numpy as np
@@ -60,7 +62,7 @@ class Monostable(Timer555, MonostableKind):
         from selector.core import timing
 
         nan = np.full(np.shape(r), np.nan)
-        w = timing.monostable_width(r, c)
+        w = timing.monostable_width(r, c, limits.discharge_ohms)
         return w / target.width - 1, nan, nan, w
 
     def r_bounds1(self, c, limits: Limits):
@@ -76,7 +78,10 @@ class Monostable(Timer555, MonostableKind):
         tw = float(c.expected.get("width_s") or 0)
         if not (tw > 0 and math.isfinite(tw)):
             raise sp.SimulationFailed("the monostable option has no predicted width_s to size the run")
-        td, pw, edge = tw / 10.0, tw / 10.0, tw / 1e4
+        # the trigger comes once C has settled where the closed discharge switch holds it,
+        # VCC·RD/(R+RD): 30 time constants (R∥RD)·C <= 30·RD·C after the start (derived)
+        c_val = sp.tree_value(sp.shape_tree(cn.shape, len(cn.parts)), [p.value for p in cn.parts], "C")
+        td, pw, edge = tw / 10.0 + 30.0 * chip.discharge_ohms * c_val, tw / 10.0, tw / 1e4
         L += sp.network_lines(sp._net(c, "R"), "vcc", "cap")
         L += sp.network_lines(cn, "cap", "0", ic=0.0)
         L += [f"* trigger: TRIG rests at VCC, pulled to 0 V for {sp._eng(pw, 's')} (shorter than the width)",

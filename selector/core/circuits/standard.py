@@ -1,6 +1,8 @@
 """Standard two-resistor 555 astable: RA from VCC to DIS, RB from DIS to THR/TRIG, C to ground.
 
-t_high = ln2·(RA+RB)·C, t_low = ln2·RB·C [S2, S3 bipolar 555 data sheet]; duty always above 50 %.
+t_high = ln2·(RA+RB)·C, t_low = ln2·RB·C [S2, S3 bipolar 555 data sheet] with the discharge switch's
+on-resistance RD added the exact way (``timing.discharge_low``: RB + RA∥RD toward VCC·RD/(RA+RD));
+duty always above 50 %.
 """
 
 from __future__ import annotations
@@ -18,7 +20,8 @@ class Standard(Timer555, AstableKind):
     in_auto = True
     charging_roles = ("RA", "RB")
     duty_corners = True
-    formula = "standard: t_high = ln2·(RA+RB)·C, t_low = ln2·RB·C"
+    formula = ("standard: t_high = ln2·(RA+RB)·C, t_low = (RB+RA∥RD)·C·ln((2VCC/3−d)/(VCC/3−d)) "
+               "≈ ln2·RB·C, d = VCC·RD/(RA+RD), RD the discharge switch")
     wiring = ("Connections: RA from VCC to DIS; RB from DIS to THR and TRIG; timing capacitor from "
               "THR/TRIG to GND.")
     help = "standard (duty above 50 %)"
@@ -40,15 +43,21 @@ class Standard(Timer555, AstableKind):
     def times(self, v, limits: Limits, extra) -> tuple:
         from selector.core import timing
 
-        return timing.standard_times(v["RA"], v["RB"], v["C"])
+        return timing.standard_times(v["RA"], v["RB"], v["C"], limits.discharge_ohms)
 
-    # ---- two-resistor kernel: t_low = ln2·RB·C, t_high increasing in RA
-    def t_low(self, rb, c):
+    # ---- two-resistor kernel: t_high increasing in RA (and in RB); t_low the discharge law
+    def t_low(self, ra, rb, c, limits: Limits):
         from selector.core import timing
 
-        return timing.standard_times(0.0, rb, c)[1]
+        return timing.discharge_low(ra, rb, c, limits.discharge_ohms)
+
+    def rb_for_low(self, t_low, ra, c, limits: Limits):
+        from selector.core import timing
+
+        return timing.discharge_rb_for_low(t_low, ra, c, limits.discharge_ohms)
 
     def rb_ideal(self, target: Target, c):
+        """RB for t_low with an ideal discharge switch (RD = 0): the kernel's first guess."""
         from selector.core import timing
 
         return timing.standard_ideal(target.t_high, target.t_low, c)[1]
@@ -65,7 +74,7 @@ class Standard(Timer555, AstableKind):
     def times2(self, ra, rb, c, limits: Limits):
         from selector.core import timing
 
-        return timing.standard_times(ra, rb, c)
+        return timing.standard_times(ra, rb, c, limits.discharge_ohms)
 
     # ---- SPICE
     def spice_body(self, c) -> list[str]:

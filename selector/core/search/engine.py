@@ -13,32 +13,13 @@ Error of an option (what "exact" refers to):
 
 Why the search cannot miss a better option (the correctness argument)
 ---------------------------------------------------------------------
-Astable, standard and diode connections. t_low = ln2·RB·C in both (the steering diode is reverse
-biased while the capacitor discharges), so for a capacitor network c the low-time error depends on
-RB alone: e_low = |RB/RB*(c) - 1| with RB*(c) = T_low/(ln2·c). t_high is strictly increasing in RA
-for fixed RB and c (standard: linear; diode: each piece of the charge takes longer through a
-larger RA), so for a fixed pair (c, RB) the high-time error is V-shaped in RA, smallest at the
-ideal RA*(c, RB). Every limit that involves RA together with the pair is an interval in RA: RA >=
-the chip's minimum RA, RA + RB <= the maximum total timing resistance, frequency <= maximum
-(period increases with RA, so it is a lower bound on RA). The remaining per-network conditions
-(power rating; stock shared with RB) are checked on each candidate. Hence the best RA for a pair
-is the nearest FEASIBLE network on one of the two sides of clamp(RA*, lo, hi); ``_nearest_feasible``
-widens its look-up until it finds one or proves there is none on that side (the side ran out of
-networks, or the next network is already outside [lo, hi]).
-1. Provisional bound: for every allowed c, the nearest RB on each side of RB*(c) with its best RA
-   gives finite errors; let B be the K-th smallest (K = pool size).
-2. Certificate: an option with error <= B has e_low <= B, so its RB lies in the contiguous slice
-   [RB*(c)·(1 - B), RB*(c)·(1 + B)] of the sorted network values. ``index.between`` returns that
-   slice exactly (also for 3-part networks). Likewise its high-time error is <= B, and since
-   t_high grows with RA that confines RA to the window [RA(T_high·(1 − B)), RA(T_high·(1 + B))]
-   (intersected with [lo, hi]); ``between`` lists that window exactly, and the best feasible RA
-   in it is the pair's best whenever the pair can reach B at all.
-3. So every pair (c, RB) whose best option has error <= B is evaluated, which contains the pair of
-   the globally best option; the minimum over the evaluated options is the exact minimum, and the
-   K best pair-options are the exact K best (each pair counted once, with its best RA).
-Limits on C alone (minimum timing capacitance, voltage rating) and on RA alone (minimum RA, power)
-are applied to the candidate sets BEFORE the search, so exactness holds over the allowed options.
-Boundary slack: the slice is widened by a relative 1e-9 against rounding.
+Astable, standard and diode connections: the two-resistor pass. With the discharge switch's
+on-resistance RD in t_low (issue 10), t_low depends on RA as well as RB, so the low-time error no
+longer fixes RB alone; the argument (certified RA/RB ranges per capacitor network, then every RB
+in range with every RA in its t_high window evaluated exactly) is written out at the end of
+``selector.core.search.kernels`` ("Why the two-resistor pass is exact"). Limits on C alone
+(minimum timing capacitance, voltage rating) and on RA alone (minimum RA, power) are applied to
+the candidate sets BEFORE the search, so exactness holds over the allowed options.
 
 Single-resistor connections (monostable, RC, output-fed). For a capacitor network c the error is a
 function of R that is monotone on each side of one ideal value R* (width, tau and both half-periods

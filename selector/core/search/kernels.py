@@ -1,7 +1,8 @@
-"""Kernels of the exact timing search (see ``selector.core.search.engine`` for the correctness
-argument): one search pass over one pair of network indexes for one circuit kind — the
-two-resistor pass (``run2``) and the one-resistor pass (``run1``). The circuit kind supplies the
-timing laws in the form the pass needs; the filters and look-ups are in ``lookup``."""
+"""Kernels of the exact timing search: one search pass over one pair of network indexes for one
+circuit kind — the two-resistor pass (``run2``, its correctness argument at the end of this
+module) and the one-resistor pass (``run1``, argued in ``selector.core.search.engine``). The
+circuit kind supplies the timing laws in the form the pass needs; the filters and look-ups are in
+``lookup``."""
 
 from __future__ import annotations
 
@@ -16,6 +17,18 @@ _SLACK = 1e-9  # relative widening of certified slices and intervals against rou
 PHASE1_SAMPLE = 400
 """Capacitor networks sampled for the provisional bound when 3-part resistor networks are searched
 (see ``_Pass.run2``); tests lower it to exercise that path on small stocks."""
+
+_BOX_ROUNDS = 8
+"""Most rounds of narrowing the RA and RB ranges against each other in ``_Pass._box`` (each round
+keeps them certified). The width shrinks geometrically (t_low moves with RA only to order RD/RA,
+t_high with RB by at most 1:1), so a few rounds bring the RB range near the 2·B·RB the bound alone
+allows; a capacitor network drops out of the rounds once its RB range is within 1.5× of that
+(the diode's RA inverse is the costly step)."""
+
+_BOX_ROUNDS_2 = 1
+"""The same with 1-2 part resistor networks only, where no branch and bound reads the ranges: there
+a slightly wider RB slice costs less than more rounds of the diode's RA inverse (measured on the
+large benchmark stock)."""
 
 MAX_ERROR = 1.0
 """Options more than 100 % off target (a factor of two on a time) are never offered; exactness is
@@ -33,16 +46,35 @@ from selector.core.search.lookup import (  # noqa: F401  (PowerCheck, capacitor_
 class _Bound:
     """A circuit kind with the target and limits of one pass: the methods the kernels call,
     each the circuit's own (see ``selector.core.circuits``: two-resistor kinds supply t_low,
-    rb_ideal, ra_for_high, times2; one-resistor kinds r_ideal, error1, r_bounds1)."""
+    rb_for_low, rb_ideal, ra_for_high, times2; one-resistor kinds r_ideal, error1, r_bounds1)."""
 
     def __init__(self, kind, target, limits):
         self.kind, self.target, self.limits = kind, target, limits
 
-    def t_low(self, rb, c):
-        return self.kind.t_low(rb, c)
+    def t_low(self, ra, rb, c):
+        return self.kind.t_low(ra, rb, c, self.limits)
+
+    def rb_for_low(self, t_low, ra, c):
+        return self.kind.rb_for_low(t_low, ra, c, self.limits)
 
     def rb_ideal(self, c):
-        return self.kind.rb_ideal(self.target, c)
+        """RB of the pair that meets both halves exactly, for phase 1's guess only (any value is
+        correct there). With RD = 0 it is the circuit's closed form; otherwise t_low also
+        depends on RA, and a few rounds of RA from t_high, RB from t_low settle it (t_low
+        hardly moves with RA: the dependence is of order (RD/RA)²), so one round does."""
+        tg = self.target
+        rb = np.asarray(self.kind.rb_ideal(tg, c), dtype=float)
+        if not self.limits.discharge_ohms > 0:
+            return rb
+        th, tl = np.full(rb.shape, tg.t_high), np.full(rb.shape, tg.t_low)
+        # the exact RA inverse, not a cheaper approximation: an RB guess off by even 1e-4 makes
+        # the 3-part pass's first bound too loose for its sweep (measured: 30x slower)
+        for _ in range(1):   # one round is already within (RD/RA)² of the fixed point
+            ra = self.ra_for_high(th, rb, c)
+            ra = np.where(np.isfinite(ra) & (ra > 0), ra, np.inf)
+            new = self.rb_for_low(tl, ra, c)
+            rb = np.where(np.isfinite(new) & (new > 0), new, rb)
+        return rb
 
     def ra_for_high(self, t_high, rb, c):
         return self.kind.ra_for_high(t_high, rb, c, self.limits)
@@ -110,7 +142,6 @@ class _Pass:
         and ``between`` lists it exactly; a pair with no feasible RA there cannot reach B."""
         lim, p, tg = self.lim, self.p, self.p.target
         n = len(cv)
-        t_low = p.t_low(rb, cv)
         ra_star = p.ra_for_high(np.full(n, tg.t_high), rb, cv)
         lo = np.full(n, lim.min_r_ohm, dtype=float)
         sink = getattr(lim, "dis_sink_a", math.inf)
@@ -123,7 +154,11 @@ class _Pass:
                 ra_dis = np.where(room > 0, lim.vcc / np.where(room > 0, room, 1.0), np.inf)
             lo = np.maximum(lo, ra_dis)
         if math.isfinite(lim.max_freq_hz):
-            need_high = 1.0 / lim.max_freq_hz - t_low  # period >= 1/fmax
+            # period >= 1/fmax. t_low falls as RA grows (discharge law, ``timing``), so for RA >=
+            # lo it is at most t_low(lo): t_high(RA) >= 1/fmax - t_low(lo) is NECESSARY, a lower
+            # bound on RA; the period itself is checked on each candidate (``_freq_ok``), since
+            # with RD > 0 it need not grow with RA
+            need_high = 1.0 / lim.max_freq_hz - p.t_low(lo, rb, cv)
             pos = need_high > 0
             ra_f = np.full(n, -np.inf)
             if pos.any():
@@ -173,8 +208,12 @@ class _Pass:
             ra = self.r.values(side[has])
             th, tl = p.times2(ra, rb[has], cv[has])
             e = _signed_max(th / tg.t_high - 1, tl / tg.t_low - 1)
+            fast = ~self._freq_ok(th, tl)
+            self.ex.add(f"combinations above the {_fmt(lim.max_freq_hz, 'Hz')} maximum frequency",
+                        fast.sum())
+            e = np.where(fast, np.nan, e)
             cur = best_err[has]
-            better = np.isnan(cur) | (np.abs(e) < np.abs(cur))
+            better = ~np.isnan(e) & (np.isnan(cur) | (np.abs(e) < np.abs(cur)))
             idx = np.flatnonzero(has)[better]
             best_id[idx] = side[has][better]
             best_err[idx] = e[better]
@@ -235,11 +274,24 @@ class _Pass:
             return best_id, best_err, th_out, tl_out
         th, tl = p.times2(self.r.values(ids), rb[rows], cv[rows])
         e = _signed_max(th / tg.t_high - 1, tl / tg.t_low - 1)
+        fine = self._freq_ok(th, tl)
+        if not fine.all():
+            ids, rows, th, tl, e = ids[fine], rows[fine], th[fine], tl[fine], e[fine]
+            if ids.size == 0:
+                return best_id, best_err, th_out, tl_out
         order = np.lexsort((np.abs(e), rows))
         first = order[np.r_[True, rows[order][1:] != rows[order][:-1]]]
         r = rows[first]
         best_id[r], best_err[r], th_out[r], tl_out[r] = ids[first], e[first], th[first], tl[first]
         return best_id, best_err, th_out, tl_out
+
+    def _freq_ok(self, th, tl):
+        """Candidates whose period keeps the frequency within the limit (1e-9 rounding slack)."""
+        f = self.lim.max_freq_hz
+        if not math.isfinite(f):
+            return np.ones(np.shape(th), dtype=bool)
+        with np.errstate(divide="ignore", invalid="ignore"):
+            return ~(1.0 / (th + tl) > f * (1 + _SLACK))
 
     def _eval_pairs(self, ci, rb_id, bound: Optional[float] = None):
         """Evaluate pairs given by positions ``ci`` into c_ids and RB ids; returns rows kept."""
@@ -277,8 +329,6 @@ class _Pass:
         nc = self.c_ids.size
         if nc == 0 or not self._resistors_usable():
             return []
-        rb_star = p.rb_ideal(self.c_vals)
-        rb_hi_all = np.full(nc, lim.max_total_r_ohm - lim.min_r_ohm)
         found, bound = [], MAX_ERROR
         sample = PHASE1_SAMPLE if sample is None else int(sample)
         if self.r.max_parts >= 3 and nc > 2 * sample:
@@ -289,61 +339,165 @@ class _Pass:
         if not found:
             found, bound, _enough = self._phase1(pool, progress)
         # Phase 2: every RB in the certified slice, each with its best RA.
-        if self.r.max_parts >= 3 and self._phase2_ordered(found, bound, pool, rb_star, rb_hi_all, progress):
+        if self.r.max_parts >= 3 and self._phase2_ordered(found, bound, pool, progress):
             return self._collect(found, pool, two=True)
         for sl in _chunks(nc, self.chunk):
-            found.extend(self._phase2(np.arange(sl.start, sl.stop), bound, rb_star, rb_hi_all))
+            found.extend(self._phase2(np.arange(sl.start, sl.stop), bound))
             if progress:
                 progress()
         return self._collect(found, pool, two=True)
 
-    def _phase2(self, pos, bound: float, rb_star, rb_hi_all) -> list[tuple]:
+    def _r_range(self) -> tuple[float, float]:
+        """Smallest and largest resistor network value (0, inf when unknown)."""
+        if not hasattr(self, "_r_minmax"):
+            lo, hi = 0.0, math.inf
+            try:
+                below, above = self.r.nearest_sides(np.array([1e-300, 1e300]), 1)
+                a, b = int(np.ravel(above)[0]), int(np.ravel(below)[-1])
+                if a >= 0:
+                    lo = float(self.r.values(np.array([a]))[0])
+                if b >= 0:
+                    hi = float(self.r.values(np.array([b]))[0])
+            except (ValueError, IndexError):
+                pass
+            self._r_minmax = (lo, hi)
+        return self._r_minmax
+
+    def _box(self, pos, bound: float):
+        """Certified ranges (rb_lo, rb_hi, ra_lo, ra_hi) holding RB and RA of EVERY option with
+        error <= ``bound`` of the capacitor networks at ``pos`` (see "Why the two-resistor pass
+        is exact" at the end of this module)."""
+        p, lim, tg = self.p, self.lim, self.p.target
+        cv = self.c_vals[pos]
+        n = cv.size
+        r_min, r_max = self._r_range()
+        rd = float(lim.discharge_ohms)
+        ra_lo = np.full(n, max(lim.min_r_ohm, r_min, 2.0 * rd))
+        ra_hi = np.full(n, min(getattr(lim, "max_ra_ohm", math.inf), lim.max_total_r_ohm - r_min, r_max))
+        rb_lo = np.full(n, r_min)
+        rb_hi = np.full(n, min(lim.max_total_r_ohm - lim.min_r_ohm, r_max))
+        tl_lo, tl_hi = np.full(n, tg.t_low * (1 - bound)), np.full(n, tg.t_low * (1 + bound))
+        th_lo, th_hi = np.full(n, tg.t_high * (1 - bound)), np.full(n, tg.t_high * (1 + bound))
+        lo_s, hi_s = 1 - _SLACK, 1 + _SLACK
+        active = np.arange(n)
+        with np.errstate(all="ignore"):
+            rounds = _BOX_ROUNDS if self.r.max_parts >= 3 else _BOX_ROUNDS_2
+            for rnd in range(rounds + 1):
+                i = active
+                # t_low is non-increasing in RA and increasing in RB
+                rb_lo[i] = np.maximum(rb_lo[i], np.nan_to_num(p.rb_for_low(tl_lo[i], ra_lo[i], cv[i]),
+                                                              nan=-np.inf) * lo_s)
+                rb_hi[i] = np.minimum(rb_hi[i], np.nan_to_num(p.rb_for_low(tl_hi[i], ra_hi[i], cv[i]),
+                                                              nan=np.inf) * hi_s)
+                rb_hi[i] = np.minimum(rb_hi[i], (lim.max_total_r_ohm - ra_lo[i]) * hi_s)
+                if rnd == rounds or rd == 0.0:
+                    break   # (RD = 0: t_low does not depend on RA, the RB range is already exact)
+                # rows still worth narrowing: not empty, and the RB range wider than 1.5× what
+                # the bound alone allows
+                w = rb_hi[i] - rb_lo[i]
+                keep = (w >= 0) & (ra_lo[i] <= ra_hi[i]) & (rb_lo[i] > 0) & (w > 3.0 * bound * rb_hi[i] + 1e-9 * rb_hi[i])
+                active = i[keep]
+                if active.size == 0:
+                    break
+                i = active
+                # t_high is increasing in RA and non-decreasing in RB
+                a = p.ra_for_high(th_lo[i], rb_hi[i], cv[i])
+                b = p.ra_for_high(th_hi[i], rb_lo[i], cv[i])
+                ra_lo[i] = np.maximum(ra_lo[i], np.nan_to_num(a, nan=-np.inf) * lo_s)
+                ra_hi[i] = np.minimum(ra_hi[i], np.nan_to_num(b, nan=np.inf) * hi_s)
+        return rb_lo, rb_hi, ra_lo, ra_hi
+
+    def _phase2(self, pos, bound: float) -> list[tuple]:
         """Every RB in the certified slice of each capacitor network at ``pos``, with its best RA
         within ``bound``."""
-        lo = rb_star[pos] * (1 - bound)
-        hi = np.minimum(rb_star[pos] * (1 + bound), rb_hi_all[pos])
+        lo, hi, _a, _b = self._box(pos, bound)
         offsets, ids = self.r.between(lo, np.maximum(hi, lo))
         ci = np.repeat(pos, np.diff(offsets))
         ids = np.asarray(ids, dtype=np.int64)
         return [self._eval_pairs(ci[sub], ids[sub], bound) for sub in _chunks(ids.size, 200_000)]
 
-    def _phase2_ordered(self, found: list, bound: float, pool: int, rb_star, rb_hi_all,
-                        progress=None) -> bool:
+    def _low_floor(self, cand, ra_lo, ra_hi, pos=None) -> np.ndarray:
+        """LB(c): a lower bound on the low-time error of any option of each capacitor network
+        whose RB is one of ``cand`` (sorted) and whose RA lies in [ra_lo, ra_hi]. t_low of such an
+        option lies in [t_low(ra_hi, RB), t_low(ra_lo, RB)], so e_low >= max(0,
+        t_low(ra_hi, RB)/T_low − 1, 1 − t_low(ra_lo, RB)/T_low), which is 0 for RB in [za, zb]
+        (the RB meeting T_low at ra_lo and at ra_hi), falls toward za from below and rises
+        from zb upward: the minimum over ``cand`` is at the nearest value on each side."""
+        p, tg = self.p, self.p.target
+        cv = self.c_vals if pos is None else self.c_vals[pos]
+        out = np.full(cv.size, INF)
+        if cand.size == 0:
+            return out
+        t = np.full(cv.size, tg.t_low)
+        with np.errstate(all="ignore"):
+            za = p.rb_for_low(t, ra_lo, cv)
+            zb = p.rb_for_low(t, ra_hi, cv)
+            i = np.searchsorted(cand, za, side="left")
+            j = np.searchsorted(cand, zb, side="right")
+            inside = j > i
+            below = cand[np.clip(i - 1, 0, cand.size - 1)]
+            above = cand[np.clip(i, 0, cand.size - 1)]
+            lb_below = 1.0 - p.t_low(ra_lo, below, cv) / tg.t_low
+            lb_above = p.t_low(ra_hi, above, cv) / tg.t_low - 1.0
+            # a value that is not a number bounds nothing: 0 (never skips a network); +inf
+            # above means RA <= 2·RD, where no option has a finite low time
+            lb_below = np.where(i > 0, np.nan_to_num(lb_below, nan=0.0, neginf=0.0, posinf=INF), INF)
+            lb_above = np.where(i < cand.size, np.nan_to_num(lb_above, nan=0.0, neginf=0.0, posinf=INF), INF)
+            out = np.maximum(np.minimum(lb_below, lb_above), 0.0)
+            out = np.where(inside, 0.0, out * (1 - 1e-12))   # rounding: never above the true error
+        return out
+
+    def _phase2_ordered(self, found: list, bound: float, pool: int, progress=None) -> bool:
         """Phase 2 as branch and bound (3-part resistor networks); False when the sweep does not
         pay and the caller should run the plain phase 2 instead.
 
         Why it is exact.  Phase 2 for a capacitor network c with bound B evaluates the slice
-        S(c, B) = {RB : |RB/RB*(c) - 1| <= B} (clamped above); every option of c with error <= B
-        has its RB there (e_low <= B).  LB(c) = min over all resistor networks of
-        |RB/RB*(c) - 1| is computed from one sweep (``values_within``: every network value inside
-        any S(c, B0) is in the swept set, so the nearest swept value on each side of RB*(c) is the
-        true nearest whenever that is within B0, and is farther than B0 otherwise).  If LB(c) > B
-        the slice is empty and c has no option within B.  The capacitor networks are taken in
+        S(c, B) = [rb_lo, rb_hi] of ``_box(c, B)``; every option of c with error <= B has its RB
+        there and its RA in [ra_lo, ra_hi].  For B <= B0 those ranges lie inside the ranges at
+        B0.  ``values_within`` returns every network value inside any S(c, B0) (and maybe
+        more), and LB(c) = ``_low_floor`` of that swept set with the RA range at B0 is at most
+        the error of every option of c with error <= B0 (that option's RB is swept, and the
+        floor is a lower bound on its low-time error).  The capacitor networks are taken in
         order of LB; after each chunk B becomes the pool-th smallest error among the distinct
         (c, RB) pairs found so far (real options, so still an upper bound on the pool-th best;
         never larger than before).  The loop stops at the first c with LB(c) > B: that c and
-        every later one has an empty slice under the current B.  Every option with error <= the
-        final B (which includes the exact pool best) therefore came from a processed c that was
-        searched with a bound at least as large: the result equals the plain phase 2's."""
-        rb_lo = rb_star * (1 - bound)
-        rb_hi = np.minimum(rb_star * (1 + bound), rb_hi_all)
-        have = rb_lo <= rb_hi * (1 + _SLACK)
+        every later one has no option within B.  Every option with error <= the final B (which
+        includes the exact pool best) therefore came from a processed c that was searched with a
+        bound at least as large: the result equals the plain phase 2's."""
+        nc = self.c_ids.size
+        rb_lo, rb_hi, ra_lo, ra_hi = self._box(np.arange(nc), bound)
+        have = (rb_lo <= rb_hi * (1 + _SLACK)) & (ra_lo <= ra_hi * (1 + _SLACK))
         cand = self.r.values_within(rb_lo[have], rb_hi[have])
         if cand is None:
             return False
-        lb = _distance_floor(cand, rb_star)
+        lb = self._low_floor(np.asarray(cand, dtype=float), ra_lo, ra_hi)
         lb[~have] = INF
         live = np.flatnonzero(lb <= bound * (1 + 1e-9) + 1e-15)
         order = live[np.argsort(lb[live], kind="stable")]
         b, start, size = bound, 0, 256
+        lb_at = bound   # the bound the floors were computed for
         while start < order.size and lb[order[start]] <= b * (1 + 1e-9) + 1e-15:
             pos = order[start:start + size]
-            found.extend(self._phase2(pos, b, rb_star, rb_hi_all))
+            found.extend(self._phase2(pos, b))
             b = min(b, _kth_distinct(found, pool, 3))
             start += size
             size = min(2 * size, self.chunk)
             if progress:
                 progress()
+            if self.lim.discharge_ohms > 0 and b < 0.1 * lb_at and start < order.size:
+                # With RD > 0 the floor is blurred by the width of the RA range at the bound it
+                # was computed for; recompute it for the networks not yet visited with the
+                # ranges at the current b (still a lower bound for every option with error <= b,
+                # and the swept values still cover their slices, which only narrow), re-order
+                # them and go on: the stopping argument above holds for the new order.
+                rest = order[start:]
+                rest = rest[lb[rest] <= b * (1 + 1e-9) + 1e-15]
+                _l, _h, r_lo, r_hi = self._box(rest, b)
+                sub = self._low_floor(np.asarray(cand, dtype=float), r_lo, r_hi, rest)
+                sub[~((_l <= _h * (1 + _SLACK)) & (r_lo <= r_hi * (1 + _SLACK)))] = INF
+                lb[rest] = sub
+                order = rest[np.argsort(sub, kind="stable")]
+                start, lb_at = 0, b
         return True
 
     def _phase1(self, pool: int, progress=None, subset=None) -> tuple[list, float, bool]:
@@ -496,7 +650,11 @@ class _Pass:
             key = np.stack([ci, r], axis=1)
         if key.size == 0:
             return []
-        _, first = np.unique(key, axis=0, return_index=True)
+        # each pair once, with its smallest error: phase 1 may have paired an RB with an RA that
+        # phase 2 beats (with RD > 0 the low time depends on RA too)
+        by_err = np.argsort(np.abs(err), kind="stable")
+        _, first = np.unique(key[by_err], axis=0, return_index=True)
+        first = by_err[first]
         order = first[np.argsort(np.abs(err[first]), kind="stable")][:pool]
         out = []
         for j in order:
@@ -543,23 +701,12 @@ def _kth_distinct(found: list, pool: int, col: int, slack: bool = True) -> float
     if ci.size < pool:
         return INF
     key = ci * (int(rid.max()) + 1) + rid
-    _u, first = np.unique(key, return_index=True)
+    by_err = np.argsort(err, kind="stable")       # each pair with its smallest error
+    _u, first = np.unique(key[by_err], return_index=True)
     if first.size < pool:
         return INF
-    kth = float(np.partition(err[first], pool - 1)[pool - 1])
+    kth = float(np.partition(err[by_err][first], pool - 1)[pool - 1])
     return min(kth, MAX_ERROR) * (1 + _SLACK) + 1e-15 if slack else kth
-
-
-def _distance_floor(sorted_vals: np.ndarray, t: np.ndarray) -> np.ndarray:
-    """min |v/t - 1| over the nearest value of ``sorted_vals`` on each side of each t."""
-    out = np.full(t.shape, INF)
-    if sorted_vals.size == 0:
-        return out
-    i = np.searchsorted(sorted_vals, t)
-    with np.errstate(all="ignore"):
-        below = np.where(i > 0, 1.0 - sorted_vals[np.maximum(i - 1, 0)] / t, INF)
-        above = np.where(i < sorted_vals.size, sorted_vals[np.minimum(i, sorted_vals.size - 1)] / t - 1.0, INF)
-    return np.where(np.isfinite(t), np.minimum(np.abs(below), np.abs(above)), 0.0)
 
 
 def _window1(p, r_star: np.ndarray, c: np.ndarray, bound: float) -> tuple[np.ndarray, np.ndarray]:
@@ -594,3 +741,50 @@ def _window1(p, r_star: np.ndarray, c: np.ndarray, bound: float) -> tuple[np.nda
     wl = np.where(inside, ends[0], INF)
     wh = np.where(inside, ends[1], 0.0)
     return wl, wh
+
+
+# --------------------------------------------------------------------------- the argument
+TWO_RESISTOR_ARGUMENT = """Why the two-resistor pass is exact (standard and diode-steered astables).
+
+Error of an option: e = max(|t_high/T_high − 1|, |t_low/T_low − 1|). What the circuits guarantee
+(``timing``; derived there):
+  (H) t_high(RA, RB, c) is strictly increasing in RA and non-decreasing in RB (standard: ln2·(RA+RB)·c;
+      diode: dt/dRA = c·ln(I0/I1) > 0, and a larger RB raises the diode's drop at every level, so C
+      charges more slowly). ``ra_for_high(t, RB, c)`` is its exact inverse in RA.
+  (L) t_low(RA, RB, c) = (RB + RA∥RD)·c·ln((2 − 3δ)/(1 − 3δ)), δ = RD/(RA+RD): linear and
+      increasing in RB, non-increasing in RA (strictly for RD > 0), infinite for RA <= 2·RD.
+      ``rb_for_low(t, RA, c)`` is its exact inverse in RB.
+Limits: RA >= lo (minimum RA, the DIS-current bound, and the frequency bound below), RA <= the
+maximum RA and RA + RB <= the maximum total; power and shared stock are checked per candidate;
+the frequency limit 1/(t_high + t_low) <= fmax is checked per candidate too (with RD > 0 the
+period need not grow with RA). The lower bound on RA used for it, t_high(RA) >= 1/fmax −
+t_low(lo, RB), is necessary because t_low(RA) <= t_low(lo) for RA >= lo (L).
+
+1. Phase 1 (a bound): for each capacitor network c, the networks nearest the RB that meets both
+   halves with its ideal RA, each paired with the feasible RA nearest the t_high ideal, give real
+   options; B = the pool-th smallest error among distinct (c, RB) pairs (MAX_ERROR when fewer).
+   Any real options would do: B only has to be attained.
+2. The box (``_box``). Let O be an option of c with error <= B: t_high in T_high·[1−B, 1+B] and
+   t_low in T_low·[1−B, 1+B]. Start from ranges every option satisfies (RA >= max(min RA, smallest
+   network, 2·RD), RA <= min(max RA, max total − smallest network, largest network); RB between the
+   smallest network and max total − min RA). Then, repeatedly:
+     RB >= rb_for_low(T_low(1−B), RA_lo)  since t_low(RA, RB) <= t_low(RA_lo, RB) (L);
+     RB <= rb_for_low(T_low(1+B), RA_hi)  since t_low(RA, RB) >= t_low(RA_hi, RB) (L);
+     RB <= max total − RA_lo;
+     RA >= ra_for_high(T_high(1−B), RB_hi) since t_high(RA, RB) <= t_high(RA, RB_hi) (H);
+     RA <= ra_for_high(T_high(1+B), RB_lo) since t_high(RA, RB) >= t_high(RA, RB_lo) (H).
+   Each step is implied by O's error <= B and the ranges before it, so O stays inside after any
+   number of rounds (each bound is also widened by 1e-9 against rounding). With RD = 0 the RB range
+   is exactly the old slice RB*(c)·[1−B, 1+B]; with RD > 0 and RA >> RD it is barely wider.
+3. Phase 2 evaluates, for every c and every RB network in [RB_lo, RB_hi] (``between`` lists the
+   slice exactly), every feasible RA network in the t_high window [ra_for_high(T_high(1−B), RB),
+   ra_for_high(T_high(1+B), RB)] ∩ [lo, hi] (every RA with e_high <= B lies there by (H)) and
+   keeps the pair's smallest exact error. So every option with error <= B is evaluated, the
+   option with the smallest error among them is the global best, and the pool best pairs are
+   exact (each pair counted once with its best RA; ``_collect`` keeps the smallest of phase 1's
+   and phase 2's errors for a pair).
+4. With 3-part resistor networks the capacitor networks are visited in order of a lower bound
+   LB(c) (``_phase2_ordered`` explains why stopping at LB(c) > B is exact); LB is ``_low_floor``:
+   with RA in the box's range, t_low lies in [t_low(RA_hi, RB), t_low(RA_lo, RB)], which bounds
+   e_low from below for each RB. With RD = 0 it is the old |RB/RB*(c) − 1|.
+"""

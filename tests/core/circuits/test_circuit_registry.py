@@ -3,6 +3,8 @@
 
 from __future__ import annotations
 
+import dataclasses
+
 import math
 
 import numpy as np
@@ -14,7 +16,7 @@ from selector.core import netlist as sp
 from selector.core.spice import build_netlist
 
 KINDS = list(circuits.REGISTRY.values())
-KERNEL_METHODS = {TWO_RESISTOR: ("t_low", "rb_ideal", "ra_for_high", "times2"),
+KERNEL_METHODS = {TWO_RESISTOR: ("t_low", "rb_for_low", "rb_ideal", "ra_for_high", "times2"),
                   ONE_RESISTOR: ("r_ideal", "error1", "r_bounds1")}
 OUTPUTS = {"astable": ("frequency_hz", "duty", "t_high_s", "t_low_s"), "monostable": ("width_s",),
            "rc": ("tau_s", "corner_hz")}
@@ -65,10 +67,17 @@ def test_kernel_methods_and_limits(kind):
         if not kind.duty_fixed:  # the ideal R hits the target exactly
             assert np.allclose(err, 0.0, atol=1e-12)
     else:
+        # rb_ideal is the guess for an ideal discharge switch (RD = 0) ...
+        ideal = dataclasses.replace(lim, discharge_ohms=0.0)
         rb = kind.rb_ideal(target, c)
-        ra = kind.ra_for_high(np.full(2, target.t_high), rb, c, lim)
-        th, tl = kind.times2(ra, rb, c, lim)
+        ra = kind.ra_for_high(np.full(2, target.t_high), rb, c, ideal)
+        th, tl = kind.times2(ra, rb, c, ideal)
         assert np.allclose(th, target.t_high, rtol=1e-12) and np.allclose(tl, target.t_low, rtol=1e-12)
+        # ... and with the family's RD, t_low and rb_for_low are inverses and times2 agrees
+        assert lim.discharge_ohms > 0
+        rb2 = kind.rb_for_low(np.full(2, target.t_low), ra, c, lim)
+        assert np.allclose(kind.t_low(ra, rb2, c, lim), target.t_low, rtol=1e-12)
+        assert np.allclose(kind.times2(ra, rb2, c, lim)[1], target.t_low, rtol=1e-12)
 
 
 @pytest.mark.parametrize("kind", KINDS, ids=lambda k: k.key)

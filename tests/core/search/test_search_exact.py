@@ -5,7 +5,9 @@ every network with itertools (every multiset of parts, every shape), applies the
 plain formulas, checks the whole-option quantity rule line by line, and scores every single
 combination. Only the diode-steered charge time is taken from ``selector.core.timing`` (the physics
 under test elsewhere, in tests/reference/test_timing_reference.py, against an ODE solver); the search itself
-is never used to compute an expected value.
+is never used to compute an expected value. The discharge switch's on-resistance RD (issue 10) is
+written out here on its own (``ref_t_low``, ``ref_width``; checked against scipy and ngspice in
+tests/reference/test_discharge_reference.py).
 """
 
 from __future__ import annotations
@@ -27,6 +29,28 @@ E12 = [1.0, 1.2, 1.5, 1.8, 2.2, 2.7, 3.3, 3.9, 4.7, 5.6, 6.8, 8.2]  # IEC 60063 
 
 
 # --------------------------------------------------------------------------- plain reference
+
+
+def ref_t_low(ra, rb, c, rd):
+    """Astable discharge half with the switch's on-resistance RD: seen from the DIS node, VCC–RA–RD
+    is a source d = VCC·RD/(RA+RD) behind RA∥RD (Thevenin), so C falls from 2VCC/3 toward d
+    through RB + RA∥RD (RC law, facts.md §0); on a 1 V supply. inf when d >= VCC/3."""
+    if rd == 0:
+        return LN2 * rb * c
+    d = rd / (ra + rd)
+    if d >= 1 / 3:
+        return np.inf * np.ones_like(np.asarray(c, dtype=float))
+    return (rb + ra * rd / (ra + rd)) * c * math.log((2 / 3 - d) / (1 / 3 - d))
+
+
+def ref_width(r, c, rd):
+    """Monostable width: C starts from VCC·RD/(R+RD) (R and the closed switch divide VCC) and
+    charges through R toward VCC up to 2VCC/3 (RC law); on a 1 V supply. inf when it starts at or
+    above the threshold."""
+    v0 = rd / (r + rd)
+    if v0 >= 2 / 3:
+        return math.inf
+    return r * c * math.log((1 - v0) / (1 / 3))
 
 
 def plain_networks(lines, max_parts, boards):
@@ -201,8 +225,9 @@ def reference_best(r_lines, c_lines, target, connection, lim, max_parts, boards,
                 # tests/reference/test_diode_shockley_reference.py); n from the limits
                 th = timing.diode_shockley_times(ra[0], rb[0], c, lim.vcc, lim.diode_vf,
                                                  lim.extra.get("diode_n", 1.9))[0]
-            tl = LN2 * rb[0] * c
-            ok = 1.0 / (th + tl) <= lim.max_freq_hz * (1 + 1e-9)
+            tl = ref_t_low(ra[0], rb[0], c, lim.discharge_ohms)
+            with np.errstate(divide="ignore"):
+                ok = 1.0 / (th + tl) <= lim.max_freq_hz * (1 + 1e-9)
             e = np.maximum(np.abs(th / target.t_high - 1), np.abs(tl / target.t_low - 1))
             e = e[ok & (e <= 1.0)]
             if e.size and (best is None or e.min() < best):
@@ -215,7 +240,7 @@ def reference_best(r_lines, c_lines, target, connection, lim, max_parts, boards,
         for cnet in cn:
             R, C = r[0], cnet[0]
             if connection == "monostable":
-                e = abs(LN3 * R * C / target.width - 1)
+                e = abs(ref_width(R, C, lim.discharge_ohms) / target.width - 1)
             elif connection == "rc":
                 if math.isnan(target.corner_hz):
                     e = abs(R * C / target.tau - 1)
@@ -282,6 +307,8 @@ def cases(draw, connection, max_parts_max=3):
         vol=draw(st.sampled_from([0.0, 0.1])),
         max_ra_ohm=draw(st.sampled_from([math.inf, 3e4, 2e5])),
         dis_sink_a=draw(st.sampled_from([math.inf, 15e-3, 2e-3])),
+        # the discharge switch: ideal, the bipolar and CMOS data-sheet figures, and a large one
+        discharge_ohms=draw(st.sampled_from([0.0, 12.0, 40.0, 300.0])),
     )
     # a target near something the stock can make, perturbed (so the best is not always exact)
     r1 = draw(st.sampled_from(r_lines)).value
