@@ -17,6 +17,11 @@ ASTABLE_CONNECTIONS: tuple[tuple[str, str], ...] = (  # (key, help) of every ast
 
 CHIP_FAMILIES: tuple[str, ...] = ("bipolar", "cmos", "cmos-2v", "cmos-3v")  # core.chips.FAMILIES, in order
 
+# (family, datasheet_discharge_ohms) of core.chips.FAMILIES, in order: simulate --discharge-ohms help
+DISCHARGE_OHMS: tuple[tuple[str, float], ...] = (
+    ("bipolar", 12.0), ("cmos", 40.0), ("cmos-2v", 40.0), ("cmos-3v", 40.0),
+)
+
 ASTABLE_OPTIONS: tuple[tuple[str, str, str, tuple[str, ...]], ...] = (
     # (name, help, metavar, choices) of every circuit option (CliOption) of the astable kinds,
     # first declaration of each name, registry order

@@ -39,9 +39,9 @@ _OPTION_HELP = "Option number of the search (1 = the first listed)."
 _SEARCH_HELP = "Search id (default: the latest search)."
 _CYCLES_HELP = "Astable cycles to measure after the first one (their mean is shown)."
 def _rd_help() -> str:
-    from selector.core.chips import FAMILIES
+    from selector.cli._choices import DISCHARGE_OHMS  # a checked copy of the chip table (start-up)
 
-    figures = ", ".join(f"{f.datasheet_discharge_ohms:g} {f.key}" for f in FAMILIES.values())
+    figures = ", ".join(f"{ohms:g} {key}" for key, ohms in DISCHARGE_OHMS)
     return ("On-resistance of the 555's discharge switch in ohms, used by the run and the prediction "
             f"alike (default: the chip family's data-sheet figure: {figures}).")
 

@@ -18,6 +18,10 @@ def test_chip_families_equal_the_chip_table():
     assert _choices.CHIP_FAMILIES == tuple(chips.FAMILIES)
 
 
+def test_discharge_resistances_equal_the_chip_table():
+    assert _choices.DISCHARGE_OHMS == tuple((f.key, f.datasheet_discharge_ohms) for f in chips.FAMILIES.values())
+
+
 def test_circuit_options_equal_the_registry():
     seen, expected = set(), []
     for kind in circuits.for_mode("astable"):
