@@ -14,6 +14,7 @@ import logging
 import os
 import subprocess
 import sys
+import time
 import traceback
 import uuid
 import warnings
@@ -60,8 +61,18 @@ class _PgServer:
     def _exec(self, sql: str) -> None:
         import sqlalchemy as sa
 
-        with self.admin.connect() as conn:
-            conn.execute(sa.text(sql))
+        # DROP ... WITH (FORCE) may not end an autovacuum worker that is visiting the database (it
+        # runs as the superuser: "must be a member of the role whose process is being terminated");
+        # the worker leaves within moments, so try again a few times (.ci/run turns autovacuum off).
+        for attempt in range(20):
+            try:
+                with self.admin.connect() as conn:
+                    conn.execute(sa.text(sql))
+                return
+            except sa.exc.ProgrammingError as e:
+                if "must be a member of the role" not in str(e) or attempt == 19:
+                    raise
+                time.sleep(0.25)
 
     def new_database(self, *, at_head: bool = False) -> str:
         """A fresh database; ``at_head``: a copy of one migrated once per session (fast)."""
