@@ -151,6 +151,22 @@ def range_text(mode: str, r: Mapping[str, Any]) -> str:
     return f"τ {_span(time_text(t0), time_text(t1))}, {_span(freq_text(c0), freq_text(c1))}"
 
 
+def option_range_text(mode: str, opt: Mapping[str, Any]) -> str:
+    """The worst-case cell of an option; a trimmer option's adjusted quantity reads "set to …"
+    (its corners all land on the target once set; an astable's duty keeps its range)."""
+    r = opt["range"]
+    if not opt.get("adjustable"):
+        return range_text(mode, r)
+    if mode == "astable":
+        d0, d1 = r["duty"]
+        return f"set to {freq_text(r['frequency_hz'][0])}, {d0 * 100:.1f}–{d1 * 100:.1f} %"
+    if mode == "monostable":
+        return f"set to {time_text(r['width_s'][0])}"
+    if "corner_hz" in r and r["corner_hz"][0] == r["corner_hz"][1]:
+        return f"set to {freq_text(r['corner_hz'][0])}"
+    return f"set to τ {time_text(r['tau_s'][0])}"
+
+
 def network_json_text(key: str, net: Mapping[str, Any]) -> str:
     """A saved network written as its formula reads: ``47 kΩ + 330 kΩ``, ``(10 nF ∥ 10 nF) + 1 nF``."""
     from types import SimpleNamespace
@@ -285,8 +301,6 @@ def _why(opt: Mapping[str, Any]) -> str:
 
 def wide_lines(report, width: int) -> Optional[list]:
     """One row per option, or None when it does not fit ``width`` whole."""
-    from selector.render import trim as trim_render
-
     mode, target = report.request.mode, report.target
     rows = _rows(report)
     roles = [r for r in ROLES if any(r in (o.get("networks") or {}) for o, _ in rows)]
@@ -303,7 +317,7 @@ def wide_lines(report, width: int) -> Optional[list]:
         cells = [f"{opt['rank']}{_mark(opt, ro)}", connection_name(opt["connection"])]
         cells += [texts.get(r, "") for r in roles]
         cells += [predicted_text(mode, opt["predicted"])] + [error_text(k, e.get(k)) for k in errs]
-        cells += [trim_render.option_range_text(mode, opt), yield_text(opt.get("yield")), str(nparts(opt)),
+        cells += [option_range_text(mode, opt), yield_text(opt.get("yield")), str(nparts(opt)),
                   ", ".join(drawers(opt))]
         cells += [_why(opt)] if any_why else []
         body.append(cells)

@@ -1,29 +1,13 @@
-"""What a person reads about trimmer options (``core.trim``): the footer sentence, the worst-case
-cell of a trimmer row, and ``show N``'s "Setting the trimmer" block with the bench procedure."""
+"""What a person reads about trimmer options (``core.trim``): the footer sentence and ``show N``'s
+"Setting the trimmer" block with the bench procedure (a trimmer row's worst-case cell is
+``render.timing.option_range_text``). Imports no other render module but layout, so the find table
+and the detail view can both use it."""
 
 from __future__ import annotations
 
 from typing import Any, Mapping
 
 from selector.render.layout import paragraph
-
-
-def option_range_text(mode: str, opt: Mapping[str, Any]) -> str:
-    """The worst-case cell of an option; a trimmer option's adjusted quantity reads "set to …"
-    (its corners all land on the target once set; an astable's duty keeps its range)."""
-    from selector.render.timing import freq_text, range_text, time_text
-
-    r = opt["range"]
-    if not opt.get("adjustable"):
-        return range_text(mode, r)
-    if mode == "astable":
-        d0, d1 = r["duty"]
-        return f"set to {freq_text(r['frequency_hz'][0])}, {d0 * 100:.1f}–{d1 * 100:.1f} %"
-    if mode == "monostable":
-        return f"set to {time_text(r['width_s'][0])}"
-    if "corner_hz" in r and r["corner_hz"][0] == r["corner_hz"][1]:
-        return f"set to {freq_text(r['corner_hz'][0])}"
-    return f"set to τ {time_text(r['tau_s'][0])}"
 
 
 def trim_legend(report) -> str:
@@ -57,8 +41,7 @@ _MEASURE = {  # main output -> (what to measure and how, which way more resistan
 def trim_lines(report, width: int) -> list[str]:
     """How to set the trimmer of an adjustable option (``core.trim``): the nominal setting, its
     range over every corner, what it moves, and the bench procedure."""
-    from selector.core.notation import OHM, format_value
-    from selector.render.show import _kind, _tol
+    from selector.core.notation import OHM, format_tolerance, format_value
 
     opt = report.option
     trim = opt.get("trim") or {}
@@ -67,7 +50,6 @@ def trim_lines(report, width: int) -> list[str]:
     t = (net or {}).get("trimmer")
     if not opt.get("adjustable") or not isinstance(t, dict):
         return []
-    kind = _kind(report)
     rv = next((bl.ref for bl in report.bom.bom.lines if bl.line_id == t.get("line_id") and bl.kind == "trimmer"),
               "the trimmer")
     ln = report.lines.get(int(t["line_id"]))
@@ -75,7 +57,7 @@ def trim_lines(report, width: int) -> list[str]:
     setting = float(t["setting"])
     lo, hi = (float(x) for x in trim.get("setting_range") or (setting, setting))
     ohm = lambda v: format_value(v, OHM)  # noqa: E731
-    tol = f" {_tol(ln)}" if ln is not None else ""
+    tol = f" {format_tolerance(ln.tol_minus, ln.tol_plus)}" if ln is not None else ""
     out = paragraph(f"Setting the trimmer ({rv}, {ohm(value)}{tol} end to end, in series with the fixed "
                     f"part of {role})", width, "  ")
     out += paragraph(f"  Set to {ohm(setting)} ≈ {setting / value * 100:.0f} % of travel from the fixed end "
@@ -84,8 +66,7 @@ def trim_lines(report, width: int) -> list[str]:
     out += paragraph(f"  Every tolerance corner of the other parts, the chip terms and the trimmer's own "
                      f"tolerance needs {ohm(lo)} to {ohm(hi)} ({lo / value * 100:.0f}–{hi / value * 100:.0f} % of "
                      f"travel); at least 10 % of the travel is left at each end on every build.", width, "    ")
-    main = kind.main_output(_target_of(report)) if kind is not None else ""
-    how, way = _MEASURE.get(main, ("the output", "changes the output"))
+    how, way = _MEASURE.get(report.main_output, ("the output", "changes the output"))
     moves = trim.get("moves") or []
     res = trim.get("resolution")
     step = ""
@@ -109,9 +90,3 @@ def trim_lines(report, width: int) -> list[str]:
                      "mains-powered equipment follow the mains caution below.", width, "    ")
     return out
 
-
-def _target_of(report):
-    from selector.render.show import _kind
-    from selector.services.show import _target
-
-    return _target(report.mode, report.target, _kind(report))

@@ -41,6 +41,13 @@ class ShowReport:
         except KeyError:
             return None
 
+    @property
+    def main_output(self) -> str:
+        """The output the circuit is set by (``frequency_hz``, ``width_s``, ``tau_s``, ``corner_hz``;
+        '' for a circuit kind this version does not know): what a trimmer is adjusted for."""
+        kind = self.kind
+        return kind.main_output(_target(self.mode, self.target, kind)) if kind is not None else ""
+
 
 def _target(mode: str, target: dict, kind):
     from selector.core.circuits.base import Target
