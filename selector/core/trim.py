@@ -141,20 +141,15 @@ def _corner_inputs(kind, nets: Mapping, role: str, limits):
     """Inputs other than the trimmed role: (labels, nominal, lows, highs) of every physical part of
     the other roles, then the circuit's uncertain terms."""
     from selector.core.ranking import ROLE_ORDER
+    from selector.core.tolerance import band
 
     roles = [r for r in ROLE_ORDER if r in nets and r != role]
-    vals, lo, hi = [], [], []
-    for r in roles:
-        for p in nets[r].physical:
-            vals.append(p.value)
-            lo.append(p.value * (1 - p.tol_minus))
-            hi.append(p.value * (1 + p.tol_plus))
     unc = tuple(kind.uncertain(limits))
-    for u in unc:
-        vals.append(u.nominal)
-        lo.append(u.nominal * (1 - u.tol_minus))
-        hi.append(u.nominal * (1 + u.tol_plus))
-    return roles, unc, np.array(vals, float), np.array(lo, float), np.array(hi, float)
+    parts = [p for r in roles for p in nets[r].physical]
+    terms = parts + list(unc)
+    vals = np.array([p.value for p in parts] + [u.nominal for u in unc], float)
+    lo, hi = band(vals, [t.tol_minus for t in terms], [t.tol_plus for t in terms])
+    return roles, unc, vals, lo, hi
 
 
 def _evaluator(kind, nets: Mapping, role: str, roles, unc, limits):
