@@ -314,9 +314,9 @@ def _usage_ok(nets: Mapping, fixed, trimmer: StockLine, boards: int) -> bool:
     return all(use[i] * boards <= qty[i] for i in use)
 
 
-def _moves(kind, role: str) -> tuple[str, ...]:
+def _moves(kind) -> tuple[str, ...]:
     if kind.mode == "astable":
-        return ("frequency",) if getattr(kind, "duty_fixed", False) else ("frequency", "duty")
+        return ("frequency",) if kind.duty_fixed else ("frequency", "duty")
     return {"monostable": ("width",), "rc": ("tau", "corner")}.get(kind.mode, ())
 
 
@@ -428,7 +428,7 @@ def _option(kind, role, nets, fixed, tr, setting, need: Need, margin, target, li
     s_lo = need.low - fixed.vmax
     s_hi = need.high - fixed.vmin
     return TrimOption(kind.key, role, nets, tr, float(setting), (float(s_lo), float(s_hi)),
-                      float(margin), float(resolution), dict(zip(names, pred)), rng, _moves(kind, role))
+                      float(margin), float(resolution), dict(zip(names, pred)), rng, _moves(kind))
 
 
 __all__ = ["TRIM_RULE", "TrimOption", "suggest", "needed", "solve_r", "travel_margin", "trimmer_lines", "wanted",
