@@ -336,6 +336,7 @@ def suggest(bases: Sequence, target, limits_by_connection: Mapping, trimmers: Se
     for base in bases:
         kind = circuits.get(base.connection)
         limits = limits_by_connection[base.connection]
+        main = main_target(kind, target)
         for role in kind.resistor_roles:
             key = (base.connection, role) + tuple(
                 (r, n.shape, tuple(sorted(p.id for p in n.physical)))
@@ -353,7 +354,7 @@ def suggest(bases: Sequence, target, limits_by_connection: Mapping, trimmers: Se
                         or abs(need.outputs_hi[d] / target.duty - 1) > accept):
                     continue
             for tr in trimmers:
-                out += _with_trimmer(kind, role, others, base.networks, need, tr, target, limits,
+                out += _with_trimmer(kind, role, others, base.networks, need, tr, main, limits,
                                      r_index, boards)
     out.sort(key=TrimOption.sort_key)
     picked, builds = [], set()
@@ -373,8 +374,9 @@ def suggest(bases: Sequence, target, limits_by_connection: Mapping, trimmers: Se
     return picked
 
 
-def _with_trimmer(kind, role, others, base_nets, need: Need, tr: StockLine, target, limits,
+def _with_trimmer(kind, role, others, base_nets, need: Need, tr: StockLine, main: tuple, limits,
                   r_index, boards) -> list[TrimOption]:
+    """The options with trimmer ``tr`` in ``role``; ``main`` is ``main_target(kind, target)``."""
     t_nom = tr.value
     t_lo, t_hi = t_nom * (1 - tr.tol_minus), t_nom * (1 + tr.tol_plus)
     lo_band, hi_band = NOMINAL_BAND
@@ -396,7 +398,7 @@ def _with_trimmer(kind, role, others, base_nets, need: Need, tr: StockLine, targ
     nparts = r_index.nparts(ids)
     order = np.lexsort((nparts, -np.floor(margin / MARGIN_STEP + 1e-9)))
     found = []
-    out_i, goal = main_target(kind, target)
+    out_i, goal = main
     for i in order:
         if len(found) >= FIXED_PER_TRIMMER:
             break
@@ -409,11 +411,11 @@ def _with_trimmer(kind, role, others, base_nets, need: Need, tr: StockLine, targ
         nets = dict(base_nets)
         nets[role] = fixed
         found.append(_option(kind, role, nets, fixed, tr, setting, need, float(margin[i]),
-                             target, limits, out_i, goal))
+                             limits, out_i, goal))
     return found
 
 
-def _option(kind, role, nets, fixed, tr, setting, need: Need, margin, target, limits,
+def _option(kind, role, nets, fixed, tr, setting, need: Need, margin, limits,
             out_i, goal) -> TrimOption:
     nominal_v = {r: np.array([n.value]) for r, n in nets.items()}
     nominal_v[role] = np.array([fixed.value + setting])
