@@ -60,21 +60,20 @@ class _Bound:
     def rb_ideal(self, c):
         """RB of the pair that meets both halves exactly, for phase 1's guess only (any value is
         correct there). With RD = 0 it is the circuit's closed form; otherwise t_low also
-        depends on RA, and a few rounds of RA from t_high, RB from t_low settle it (t_low
-        hardly moves with RA: the dependence is of order (RD/RA)²), so one round does."""
+        depends on RA: one round of RA from t_high, then RB from t_low, settles it (t_low hardly
+        moves with RA: the dependence is of order (RD/RA)²)."""
         tg = self.target
         rb = np.asarray(self.kind.rb_ideal(tg, c), dtype=float)
         if not self.limits.discharge_ohms > 0:
             return rb
         th, tl = np.full(rb.shape, tg.t_high), np.full(rb.shape, tg.t_low)
-        # the exact RA inverse, not a cheaper approximation: an RB guess off by even 1e-4 makes
-        # the 3-part pass's first bound too loose for its sweep (measured: 30x slower)
-        for _ in range(1):   # one round is already within (RD/RA)² of the fixed point
-            ra = self.ra_for_high(th, rb, c)
-            ra = np.where(np.isfinite(ra) & (ra > 0), ra, np.inf)
-            new = self.rb_for_low(tl, ra, c)
-            rb = np.where(np.isfinite(new) & (new > 0), new, rb)
-        return rb
+        # one round (already within (RD/RA)² of the fixed point), with the exact RA inverse, not
+        # a cheaper approximation: an RB guess off by even 1e-4 makes the 3-part pass's first
+        # bound too loose for its sweep (measured: 30x slower)
+        ra = self.ra_for_high(th, rb, c)
+        ra = np.where(np.isfinite(ra) & (ra > 0), ra, np.inf)
+        new = self.rb_for_low(tl, ra, c)
+        return np.where(np.isfinite(new) & (new > 0), new, rb)
 
     def ra_for_high(self, t_high, rb, c):
         return self.kind.ra_for_high(t_high, rb, c, self.limits)
