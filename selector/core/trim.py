@@ -46,9 +46,8 @@ from typing import Mapping, Optional, Sequence
 
 import numpy as np
 
-from selector.core.types import StockLine
+from selector.core.types import TRIMMER_KIND, StockLine
 
-TRIMMER_KIND = "trimmer"
 TRIM_RULE = ("Trimmer options (offered when no fixed option reaches a 90 % yield, or with --trim): one "
              "timing resistance is a fixed network of 1-2 parts in series with a trimmer from stock. "
              "Offered only if, at every corner of the other parts, the chip terms, the fixed network "
