@@ -46,7 +46,7 @@ from selector.core.bom_formats import (  # noqa: F401  (the output forms; same p
 from selector.core.cautions import CAUTIONS as CAUTION_TEXTS
 from selector.core.bom_records import Bom, BomLine, CircuitSpec, PickItem, PickStop, Shortage
 from selector.core.stock_match import matches, pick_line
-from selector.core.types import StockLine
+from selector.core.types import TRIMMER_KIND, StockLine
 
 # ---------------------------------------------------------------------------------------------
 # Roles and fixed extra parts
@@ -207,7 +207,7 @@ def assemble_bom(
     notes: list[str] = []
 
     def next_ref(kind: str) -> str:
-        letter = "R" if kind == "resistor" else "RV" if kind == "trimmer" else "C"
+        letter = "R" if kind == "resistor" else "RV" if kind == TRIMMER_KIND else "C"
         counters[letter] += 1
         return f"{letter}{counters[letter]}"
 
@@ -227,7 +227,7 @@ def assemble_bom(
     notes[:0] = connection_notes(spec)
     notes.extend(f"{bl.ref}: {bl.note.split('; ')[-1]}, then adjust on the bench (how: selector show "
                  f"{option_rank} --search {search_id})."
-                 for bl in lines if bl.kind == "trimmer" and bl.note)
+                 for bl in lines if bl.kind == TRIMMER_KIND and bl.note)
     kind = _kind(spec)
     if kind is not None:
         notes.extend(kind.bom_chip_notes(_settings(spec)))
@@ -269,7 +269,7 @@ def _network_lines(key: str, net: Mapping[str, Any], spec: CircuitSpec, by_id: M
         if trim_line is None or not math.isclose(trim_line.value, float(trim["value"]), rel_tol=_SAME_VALUE):
             raise OptionOutdatedError(int(trim["line_id"]), None if trim_line is None else trim_line.value,
                                       float(trim["value"]))
-        trim_ref = next_ref("trimmer")
+        trim_ref = next_ref(TRIMMER_KIND)
         fixed = f"({formula})" if len(physical) > 1 else formula
         formula = f"{fixed} + {trim_ref}"
     wired = f"{shape}: {formula}" if len(physical) > 1 else (f"series: {formula}" if trim_line else "")

@@ -157,6 +157,11 @@ def _model(found, target, limits):
     return fn, kind.outputs, inputs, kind
 
 
+def _columns(inputs) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """(nominal, tol_minus, tol_plus) arrays of ``_model``'s inputs, in input order."""
+    return tuple(np.array([x[j] for x in inputs], dtype=float) for j in range(3))
+
+
 def evaluate(found, target, limits, accept: float, distribution: str = "uniform", samples: int = 10_000,
              seed: int = 0, monte_carlo: bool = True, screen: bool = False) -> RankedOption:
     """Predictions, worst-case range, Monte Carlo yield and cautions of one option
@@ -165,9 +170,7 @@ def evaluate(found, target, limits, accept: float, distribution: str = "uniform"
     from selector.core import tolerance
 
     fn, names, inputs, kind = _model(found, target, limits)
-    nominal = np.array([x[0] for x in inputs], dtype=float)
-    tm = np.array([x[1] for x in inputs], dtype=float)
-    tp = np.array([x[2] for x in inputs], dtype=float)
+    nominal, tm, tp = _columns(inputs)
     nom = [float(np.asarray(x).ravel()[0]) for x in fn(*[np.array([v]) for v in nominal])]
     lows, highs = tolerance.band(nominal, tm, tp)
     cmin, cmax = tolerance.corners(fn, list(lows), list(highs))
@@ -223,9 +226,7 @@ def yield_only(found, target, limits, accept: float, distribution: str, samples:
     """The ``yield_fraction`` that ``evaluate(..., samples, seed, screen=True)`` gives, without the
     nominal values, corners and parts-only run (for a listed option's alternatives)."""
     fn, _names, inputs, kind = _model(found, target, limits)
-    nominal = np.array([x[0] for x in inputs], dtype=float)
-    tm = np.array([x[1] for x in inputs], dtype=float)
-    tp = np.array([x[2] for x in inputs], dtype=float)
+    nominal, tm, tp = _columns(inputs)
     outs, _ = _monte_carlo(fn, nominal, tm, tp, int(samples), seed, distribution, parts_only=False)
     return float(np.mean(kind.in_spec(outs, target, accept)))
 

@@ -46,9 +46,8 @@ from typing import Mapping, Optional, Sequence
 
 import numpy as np
 
-from selector.core.types import StockLine
+from selector.core.types import TRIMMER_KIND, StockLine
 
-TRIMMER_KIND = "trimmer"
 TRIM_RULE = ("Trimmer options (offered when no fixed option reaches a 90 % yield, or with --trim): one "
              "timing resistance is a fixed network of 1-2 parts in series with a trimmer from stock. "
              "Offered only if, at every corner of the other parts, the chip terms, the fixed network "
@@ -141,20 +140,15 @@ def _corner_inputs(kind, nets: Mapping, role: str, limits):
     """Inputs other than the trimmed role: (labels, nominal, lows, highs) of every physical part of
     the other roles, then the circuit's uncertain terms."""
     from selector.core.ranking import ROLE_ORDER
+    from selector.core.tolerance import band
 
     roles = [r for r in ROLE_ORDER if r in nets and r != role]
-    vals, lo, hi = [], [], []
-    for r in roles:
-        for p in nets[r].physical:
-            vals.append(p.value)
-            lo.append(p.value * (1 - p.tol_minus))
-            hi.append(p.value * (1 + p.tol_plus))
     unc = tuple(kind.uncertain(limits))
-    for u in unc:
-        vals.append(u.nominal)
-        lo.append(u.nominal * (1 - u.tol_minus))
-        hi.append(u.nominal * (1 + u.tol_plus))
-    return roles, unc, np.array(vals, float), np.array(lo, float), np.array(hi, float)
+    parts = [p for r in roles for p in nets[r].physical]
+    terms = parts + list(unc)
+    vals = np.array([p.value for p in parts] + [u.nominal for u in unc], float)
+    lo, hi = band(vals, [t.tol_minus for t in terms], [t.tol_plus for t in terms])
+    return roles, unc, vals, lo, hi
 
 
 def _evaluator(kind, nets: Mapping, role: str, roles, unc, limits):
@@ -319,9 +313,9 @@ def _usage_ok(nets: Mapping, fixed, trimmer: StockLine, boards: int) -> bool:
     return all(use[i] * boards <= qty[i] for i in use)
 
 
-def _moves(kind, role: str) -> tuple[str, ...]:
+def _moves(kind) -> tuple[str, ...]:
     if kind.mode == "astable":
-        return ("frequency",) if getattr(kind, "duty_fixed", False) else ("frequency", "duty")
+        return ("frequency",) if kind.duty_fixed else ("frequency", "duty")
     return {"monostable": ("width",), "rc": ("tau", "corner")}.get(kind.mode, ())
 
 
@@ -341,6 +335,7 @@ def suggest(bases: Sequence, target, limits_by_connection: Mapping, trimmers: Se
     for base in bases:
         kind = circuits.get(base.connection)
         limits = limits_by_connection[base.connection]
+        main = main_target(kind, target)
         for role in kind.resistor_roles:
             key = (base.connection, role) + tuple(
                 (r, n.shape, tuple(sorted(p.id for p in n.physical)))
@@ -358,7 +353,7 @@ def suggest(bases: Sequence, target, limits_by_connection: Mapping, trimmers: Se
                         or abs(need.outputs_hi[d] / target.duty - 1) > accept):
                     continue
             for tr in trimmers:
-                out += _with_trimmer(kind, role, others, base.networks, need, tr, target, limits,
+                out += _with_trimmer(kind, role, others, base.networks, need, tr, main, limits,
                                      r_index, boards)
     out.sort(key=TrimOption.sort_key)
     picked, builds = [], set()
@@ -378,8 +373,9 @@ def suggest(bases: Sequence, target, limits_by_connection: Mapping, trimmers: Se
     return picked
 
 
-def _with_trimmer(kind, role, others, base_nets, need: Need, tr: StockLine, target, limits,
+def _with_trimmer(kind, role, others, base_nets, need: Need, tr: StockLine, main: tuple, limits,
                   r_index, boards) -> list[TrimOption]:
+    """The options with trimmer ``tr`` in ``role``; ``main`` is ``main_target(kind, target)``."""
     t_nom = tr.value
     t_lo, t_hi = t_nom * (1 - tr.tol_minus), t_nom * (1 + tr.tol_plus)
     lo_band, hi_band = NOMINAL_BAND
@@ -401,7 +397,7 @@ def _with_trimmer(kind, role, others, base_nets, need: Need, tr: StockLine, targ
     nparts = r_index.nparts(ids)
     order = np.lexsort((nparts, -np.floor(margin / MARGIN_STEP + 1e-9)))
     found = []
-    out_i, goal = main_target(kind, target)
+    out_i, goal = main
     for i in order:
         if len(found) >= FIXED_PER_TRIMMER:
             break
@@ -414,11 +410,11 @@ def _with_trimmer(kind, role, others, base_nets, need: Need, tr: StockLine, targ
         nets = dict(base_nets)
         nets[role] = fixed
         found.append(_option(kind, role, nets, fixed, tr, setting, need, float(margin[i]),
-                             target, limits, out_i, goal))
+                             limits, out_i, goal))
     return found
 
 
-def _option(kind, role, nets, fixed, tr, setting, need: Need, margin, target, limits,
+def _option(kind, role, nets, fixed, tr, setting, need: Need, margin, limits,
             out_i, goal) -> TrimOption:
     nominal_v = {r: np.array([n.value]) for r, n in nets.items()}
     nominal_v[role] = np.array([fixed.value + setting])
@@ -433,7 +429,7 @@ def _option(kind, role, nets, fixed, tr, setting, need: Need, margin, target, li
     s_lo = need.low - fixed.vmax
     s_hi = need.high - fixed.vmin
     return TrimOption(kind.key, role, nets, tr, float(setting), (float(s_lo), float(s_hi)),
-                      float(margin), float(resolution), dict(zip(names, pred)), rng, _moves(kind, role))
+                      float(margin), float(resolution), dict(zip(names, pred)), rng, _moves(kind))
 
 
 __all__ = ["TRIM_RULE", "TrimOption", "suggest", "needed", "solve_r", "travel_margin", "trimmer_lines", "wanted",

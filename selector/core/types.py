@@ -9,6 +9,9 @@ Kind = Literal["resistor", "capacitor", "trimmer", "ic", "diode"]
 KINDS: tuple[str, ...] = ("resistor", "capacitor", "trimmer", "ic", "diode")
 """Every kind of stock line (the database's kind CHECK lists the same words, migration 0004)."""
 
+TRIMMER_KIND = "trimmer"
+"""The kind of a trimmer line: offered in series with a fixed network (``core.trim``), never in one."""
+
 NETWORK_KINDS: tuple[str, ...] = ("resistor", "capacitor")
 """The kinds a network is built from: every search reads only these, so trimmers, ICs and diodes
 never enter a series/parallel network."""

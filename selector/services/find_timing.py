@@ -324,12 +324,10 @@ def save_search(session, report: TimingReport) -> int:
 def find_timing(engine, req: TimingRequest,
                 progress: Optional[Callable[[float], None]] = None) -> TimingReport:
     """Read the stock, plan, save; returns the report with ``search_id`` set."""
-    from selector.core.types import NETWORK_KINDS
+    from selector.core.types import NETWORK_KINDS, TRIMMER_KIND
     from selector.store.db import load_stock, run_in_transaction
 
     req.check()  # bad options fail before the database is touched
-    from selector.core.trim import TRIMMER_KIND
-
     lines = run_in_transaction(engine, lambda s: load_stock(s, NETWORK_KINDS + (TRIMMER_KIND,)), write=False)
     r_lines = [ln for ln in lines if ln.kind == "resistor"]
     c_lines = [ln for ln in lines if ln.kind == "capacitor"]

@@ -36,12 +36,12 @@ class Diode(Timer555, AstableKind):
         n = settings.options.get("diode_n")
         lim = self.base_limits(settings, astable=True)
         lim["why"]["max_ra_ohm"] = "threshold current through RA alone"
-        ra_acc = self.max_ra_accuracy(settings)
-        if ra_acc < self.max_ra(settings):
+        ra_reach, ra_acc = self.max_ra(settings), self.max_ra_accuracy(settings)
+        if ra_acc < ra_reach:
             from selector.core import chips
 
             lim["why"]["max_ra_ohm"] += f", at most {chips.TIMING_SHARE * 100:g} % of t_high"
-        return Limits(**lim, max_ra_ohm=min(self.max_ra(settings), ra_acc),
+        return Limits(**lim, max_ra_ohm=min(ra_reach, ra_acc),
                       extra={"diode_n": float(DIODE_N_DEFAULT if n is None else n)})
 
     def max_ra_accuracy(self, settings: Settings) -> float:

@@ -60,21 +60,20 @@ class _Bound:
     def rb_ideal(self, c):
         """RB of the pair that meets both halves exactly, for phase 1's guess only (any value is
         correct there). With RD = 0 it is the circuit's closed form; otherwise t_low also
-        depends on RA, and a few rounds of RA from t_high, RB from t_low settle it (t_low
-        hardly moves with RA: the dependence is of order (RD/RA)²), so one round does."""
+        depends on RA: one round of RA from t_high, then RB from t_low, settles it (t_low hardly
+        moves with RA: the dependence is of order (RD/RA)²)."""
         tg = self.target
         rb = np.asarray(self.kind.rb_ideal(tg, c), dtype=float)
         if not self.limits.discharge_ohms > 0:
             return rb
         th, tl = np.full(rb.shape, tg.t_high), np.full(rb.shape, tg.t_low)
-        # the exact RA inverse, not a cheaper approximation: an RB guess off by even 1e-4 makes
-        # the 3-part pass's first bound too loose for its sweep (measured: 30x slower)
-        for _ in range(1):   # one round is already within (RD/RA)² of the fixed point
-            ra = self.ra_for_high(th, rb, c)
-            ra = np.where(np.isfinite(ra) & (ra > 0), ra, np.inf)
-            new = self.rb_for_low(tl, ra, c)
-            rb = np.where(np.isfinite(new) & (new > 0), new, rb)
-        return rb
+        # one round (already within (RD/RA)² of the fixed point), with the exact RA inverse, not
+        # a cheaper approximation: an RB guess off by even 1e-4 makes the 3-part pass's first
+        # bound too loose for its sweep (measured: 30x slower)
+        ra = self.ra_for_high(th, rb, c)
+        ra = np.where(np.isfinite(ra) & (ra > 0), ra, np.inf)
+        new = self.rb_for_low(tl, ra, c)
+        return np.where(np.isfinite(new) & (new > 0), new, rb)
 
     def ra_for_high(self, t_high, rb, c):
         return self.kind.ra_for_high(t_high, rb, c, self.limits)
@@ -126,7 +125,7 @@ class _Pass:
         self.power = power
         # RB's own power check (issue 10): peak (2VCC/3)²/RB at the start of the discharge, per
         # part, against rating × derating; a condition on RB alone, applied before a pair is scored
-        self.rb_power = PowerCheck(r_index, getattr(limits, "rb_power_volts", 0.0), limits.r_power_derating)
+        self.rb_power = PowerCheck(r_index, limits.rb_power_volts, limits.r_power_derating)
         self.ex = ex
         self.chunk = chunk
         # When every line holds enough for two networks of the largest size on every board, RA
@@ -182,9 +181,9 @@ class _Pass:
             self.ex.add(f"RA/RB pairs needing RA above the {_fmt(max_ra, 'Ω')} maximum RA (threshold "
                         "current through RA alone)", (empty_rest & ~freq_bound & ra_bound).sum())
             self.ex.add(f"RA/RB pairs over the {_fmt(lim.max_total_r_ohm, 'Ω')} total timing resistance "
-                        f"limit{_why(lim, 'max_total_r_ohm')}", (empty_rest & ~freq_bound & ~ra_bound).sum())
+                        f"limit{lim.reason('max_total_r_ohm')}", (empty_rest & ~freq_bound & ~ra_bound).sum())
             self.ex.add(f"combinations above the {_fmt(lim.max_freq_hz, 'Hz')} maximum frequency"
-                        f"{_why(lim, 'max_freq_hz')}", (empty_rest & freq_bound).sum())
+                        f"{lim.reason('max_freq_hz')}", (empty_rest & freq_bound).sum())
 
         def ok(ids, rows):
             good = self.power.ok(ids)
@@ -232,7 +231,7 @@ class _Pass:
             _b, above = self.r.nearest_sides(hi_total[rows] * (1 + 1e-9), 1)
             over_total[rows] = np.asarray(above).reshape(rows.size, -1)[:, 0] >= 0
         self.ex.add(f"RA/RB pairs over the {_fmt(lim.max_total_r_ohm, 'Ω')} total timing resistance "
-                    f"limit{_why(lim, 'max_total_r_ohm')}", over_total.sum())
+                    f"limit{lim.reason('max_total_r_ohm')}", over_total.sum())
         over_dis = np.zeros(n, dtype=bool)
         rows = np.flatnonzero(nothing & ~over_ra & ~over_total & (ra_dis > lim.min_r_ohm))
         if rows.size:  # a network between the minimum RA and the DIS-current bound excluded
@@ -314,7 +313,7 @@ class _Pass:
             _b, above = self.r.nearest_sides(np.array([self.lim.min_r_ohm * (1 - _SLACK)]), 1)
             if int(np.asarray(above).ravel()[0]) < 0:
                 self.ex.add(f"resistor networks below the {_fmt(self.lim.min_r_ohm, 'Ω')} minimum "
-                            f"RA / R{_why(self.lim, 'min_r_ohm')} (all of them)", len(self.r))
+                            f"RA / R{self.lim.reason('min_r_ohm')} (all of them)", len(self.r))
                 return False
         return True
 
@@ -373,7 +372,7 @@ class _Pass:
         r_min, r_max = self._r_range()
         rd = float(lim.discharge_ohms)
         ra_lo = np.full(n, max(lim.min_r_ohm, r_min, 2.0 * rd))
-        ra_hi = np.full(n, min(getattr(lim, "max_ra_ohm", math.inf), lim.max_total_r_ohm - r_min, r_max))
+        ra_hi = np.full(n, min(lim.max_ra_ohm, lim.max_total_r_ohm - r_min, r_max))
         rb_lo = np.full(n, r_min)
         rb_hi = np.full(n, min(lim.max_total_r_ohm - lim.min_r_ohm, r_max))
         tl_lo, tl_hi = np.full(n, tg.t_low * (1 - bound)), np.full(n, tg.t_low * (1 + bound))
@@ -572,7 +571,7 @@ class _Pass:
                 _b, up = self.r.nearest_sides(hi[rows] * (1 + 1e-9), 1)
                 over[rows] = np.asarray(up).reshape(rows.size, -1)[:, 0] >= 0
             self.ex.add(f"C networks whose R would be above the {_fmt(self.lim.max_total_r_ohm, 'Ω')} maximum R"
-                        f"{_why(self.lim, 'max_total_r_ohm')}", over.sum())
+                        f"{self.lim.reason('max_total_r_ohm')}", over.sum())
             self.ex.add("C networks with no R in range within its power rating", (none & ~over).sum())
         found = []
         for side in (below, above):
@@ -670,18 +669,12 @@ class _Pass:
 # --------------------------------------------------------------------------- limit wording
 
 
-def _why(lim, name: str) -> str:
-    """`` (what sets it)`` for a limit (``Limits.reason``; "" for limits without one)."""
-    reason = getattr(lim, "reason", None)
-    return reason(name) if reason is not None else ""
-
-
 def _r_range_text(lim) -> str:
     """The one-resistor exclusion, naming the R range and what sets each end."""
-    text = (f"C networks needing R outside {_fmt(lim.min_r_ohm, 'Ω')}{_why(lim, 'min_r_ohm')} to "
-            f"{_fmt(lim.max_total_r_ohm, 'Ω')}{_why(lim, 'max_total_r_ohm')}")
+    text = (f"C networks needing R outside {_fmt(lim.min_r_ohm, 'Ω')}{lim.reason('min_r_ohm')} to "
+            f"{_fmt(lim.max_total_r_ohm, 'Ω')}{lim.reason('max_total_r_ohm')}")
     if math.isfinite(lim.max_freq_hz):
-        text += f" or above the {_fmt(lim.max_freq_hz, 'Hz')} maximum frequency{_why(lim, 'max_freq_hz')}"
+        text += f" or above the {_fmt(lim.max_freq_hz, 'Hz')} maximum frequency{lim.reason('max_freq_hz')}"
     return text
 
 
