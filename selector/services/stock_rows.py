@@ -209,6 +209,9 @@ def validate_rows(raw_rows: Iterable) -> list[ImportRow]:
             refuse_cell("part", f"a {kind} is named by its value; put other text in the note")
         elif kind == "trimmer":
             part = c["part"]
+            problem = text_problem(part, lines.c.part) if part else None
+            if problem:
+                bad("part", problem)
         elif kind in VALUELESS_KINDS:
             part = c["part"] or c["value"]
             if c["part"] and c["value"] and c["part"] != c["value"]:
@@ -221,10 +224,6 @@ def validate_rows(raw_rows: Iterable) -> list[ImportRow]:
                 problem = text_problem(part, lines.c.part)
                 if problem:
                     bad("part" if c["part"] else "value", problem)
-        if kind == "trimmer" and c["part"]:
-            problem = text_problem(c["part"], lines.c.part)
-            if problem:
-                bad("part", problem)
         turns: Optional[int] = None
         if kind == "trimmer":
             turns = 1
