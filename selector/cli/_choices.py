@@ -3,7 +3,7 @@ tree (every ``selector ... --help``) does not import the circuit registry and th
 
 The facts themselves live in the circuit modules (``core/circuits/*.py``: key, ``help``,
 ``options``) and in ``core/chips.py`` (``FAMILIES``); this is a copy for start-up speed only.
-tests/cli/test_choices.py checks that it equals what the registry and the family table say, so a
+tests/cli/test_cli_choices.py checks that it equals what the registry and the family table say, so a
 circuit kind or a chip family added there fails that test until it is added here too."""
 
 from __future__ import annotations

@@ -70,7 +70,7 @@ def _parse_bound(text: Optional[str], kind: Optional[str], option: str) -> Optio
     from selector.core.notation import FARAD, OHM, infer_kind, parse_value
 
     if kind in ("ic", "diode"):
-        raise UnparseableValue(f"{option} {text}: an {kind} has no value to compare; list them with --kind {kind}")
+        raise UnparseableValue(f"{option} {text}: {'an' if kind == 'ic' else 'a'} {kind} has no value to compare; list them with --kind {kind}")
     k = "resistor" if kind == "trimmer" else kind or infer_kind(text)
     unit = {"resistor": OHM, "capacitor": FARAD}.get(k or "")
     try:

@@ -52,9 +52,13 @@ def reorder_text(ln) -> str:
     return f"{ln.reorder_at} low" if ln.low else str(ln.reorder_at)
 
 
+def _dielectric_text(ln) -> str:
+    return ln.dielectric + (" (polarised)" if ln.polarized else "")
+
+
 def _details(ln) -> str:
     """Package, dielectric (and polarity) and a trimmer's turns: the narrow layout's "type" column."""
-    diel = ln.dielectric + (" (polarised)" if ln.polarized else "")
+    diel = _dielectric_text(ln)
     turns = f"{ln.turns}-turn" if ln.turns is not None and ln.turns > 1 else ""  # single-turn goes unsaid
     return " ".join(x for x in (ln.package, diel, turns) if x)
 
@@ -87,9 +91,6 @@ def stock_lines(lines: Sequence[StockLine], width: int) -> list:
     location, package, rating, dielectric, turns, reorder level, note. Values never wrap; below
     110 columns the kind goes (the value's unit or part text says it) and package, dielectric and
     turns share one "type" column."""
-    def diel(ln):
-        return ln.dielectric + (" (polarised)" if ln.polarized else "")
-
     if width < WIDE:
         rows = [[printable(x) for x in (
             ln.id, line_value_text(ln), line_tolerance_text(ln), ln.quantity, ln.location, _details(ln),
@@ -97,7 +98,7 @@ def stock_lines(lines: Sequence[StockLine], width: int) -> list:
         return table_lines(NARROW_STOCK_COLUMNS, rows, width)
     rows = [[printable(x) for x in (
         ln.id, ln.kind, line_value_text(ln), line_tolerance_text(ln), ln.quantity, ln.location, ln.package,
-        rating_text(ln.kind, ln.rating, ln.rating_current), diel(ln), "" if ln.turns is None else ln.turns,
+        rating_text(ln.kind, ln.rating, ln.rating_current), _dielectric_text(ln), "" if ln.turns is None else ln.turns,
         reorder_text(ln), ln.note)]
         for ln in lines]
     return table_lines(STOCK_COLUMNS, rows, width)

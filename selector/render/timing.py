@@ -192,13 +192,14 @@ def network_json_text(key: str, net: Mapping[str, Any]) -> str:
 
 def drawers(opt: Mapping[str, Any]) -> list[str]:
     seen: list[str] = []
+    nets = opt.get("networks") or {}
+    trim = opt.get("trim") if isinstance(opt.get("trim"), Mapping) else {}
     for key in ROLES:
-        for p in (opt.get("networks") or {}).get(key, {}).get("parts", []):
+        for p in nets.get(key, {}).get("parts", []):
             loc = printable(p.get("location") or "?")
             if loc not in seen:
                 seen.append(loc)
-        trim = opt.get("trim") if isinstance(opt.get("trim"), Mapping) else {}
-        if isinstance((opt.get("networks") or {}).get(key, {}).get("trimmer"), Mapping):
+        if isinstance(nets.get(key, {}).get("trimmer"), Mapping):
             loc = printable(trim.get("location") or "?")
             if loc not in seen:
                 seen.append(loc)

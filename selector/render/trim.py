@@ -71,7 +71,7 @@ def trim_lines(report, width: int) -> list[str]:
     res = trim.get("resolution")
     step = ""
     if isinstance(res, (int, float)) and res > 0:
-        first = (trim.get("moves") or ["timing"])[0]
+        first = (moves or ["timing"])[0]
         step = f"; the {first} changes about {res * 100:.2g} % per 1 % of travel"
         if ln is not None and ln.turns and ln.turns > 1:
             step += f" ({res * 100 * 100 / ln.turns:.2g} % per turn; {ln.turns} turns end to end)"

@@ -128,15 +128,19 @@ class PartSpec:
 
     @property
     def key(self) -> tuple:
-        return (self.kind, self.value, self.tol_minus, self.tol_plus, self.location, self.package,
-                self.rating, self.dielectric, self.part, self.turns, self.rating_current)
+        return tuple(getattr(self, name) for name in IDENTITY_FIELDS)  # already clean()ed by validate_rows
+
+
+IDENTITY_FIELDS: tuple[str, ...] = ("kind", "value", "tol_minus", "tol_plus", "location", "package", "rating",
+                                    "dielectric", "part", "turns", "rating_current")
+"""What makes two stock lines the same line (PartSpec.key, line_key); the note and reorder_at do not."""
+_CLEANED_FIELDS = frozenset({"value", "tol_minus", "tol_plus", "rating", "rating_current"})
 
 
 def line_key(line: StockLine) -> tuple:
     """The identity of an existing stock line, comparable with PartSpec.key."""
-    return (line.kind, clean(line.value), clean(line.tol_minus), clean(line.tol_plus), line.location,
-            line.package, None if line.rating is None else clean(line.rating), line.dielectric, line.part,
-            line.turns, None if line.rating_current is None else clean(line.rating_current))
+    return tuple(clean(x) if name in _CLEANED_FIELDS and x is not None else x
+                 for name, x in ((name, getattr(line, name)) for name in IDENTITY_FIELDS))
 
 
 @dataclass(frozen=True)
@@ -209,6 +213,9 @@ def validate_rows(raw_rows: Iterable) -> list[ImportRow]:
             refuse_cell("part", f"a {kind} is named by its value; put other text in the note")
         elif kind == "trimmer":
             part = c["part"]
+            problem = text_problem(part, lines.c.part) if part else None
+            if problem:
+                bad("part", problem)
         elif kind in VALUELESS_KINDS:
             part = c["part"] or c["value"]
             if c["part"] and c["value"] and c["part"] != c["value"]:
@@ -221,10 +228,6 @@ def validate_rows(raw_rows: Iterable) -> list[ImportRow]:
                 problem = text_problem(part, lines.c.part)
                 if problem:
                     bad("part" if c["part"] else "value", problem)
-        if kind == "trimmer" and c["part"]:
-            problem = text_problem(c["part"], lines.c.part)
-            if problem:
-                bad("part", problem)
         turns: Optional[int] = None
         if kind == "trimmer":
             turns = 1

@@ -15,6 +15,7 @@ import math
 
 import pytest
 
+from reference_discharge import t_low_rd
 from selector.core.types import StockLine
 from selector.services.find_timing import TimingRequest, plan_timing
 
@@ -93,9 +94,8 @@ def test_stock_cannot_reach_shows_the_closest_and_what_to_buy():
                                           connection="standard", max_parts=1))
     doc = rep.json
     assert doc["within_acceptance"] is False
-    def freq(c, ra=10e3, rb=10e3, rd=0.180 / 15e-3):
-        d = rd / (ra + rd)
-        return 1 / (math.log(2) * (ra + rb) * c + (rb + ra * rd / (ra + rd)) * c * math.log((2 / 3 - d) / (1 / 3 - d)))
+    def freq(c, ra=10e3, rb=10e3):  # t_high = ln2·(RA+RB)·C [S2]; t_low with RD 12 Ω (reference_discharge)
+        return 1 / (math.log(2) * (ra + rb) * c + t_low_rd(ra, rb, c))
 
     f0 = freq(100e-9)
     assert math.isclose(doc["options"][0]["errors"]["frequency"], f0 / 400 - 1, rel_tol=1e-9)

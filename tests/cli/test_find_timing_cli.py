@@ -9,23 +9,9 @@ import pytest
 import sqlalchemy as sa
 
 from conftest import url_of
+from reference_discharge import t_low_rd, width_rd
 
 LN2, LN3 = math.log(2.0), math.log(3.0)
-
-RD_BIPOLAR = 0.180 / 15e-3   # bipolar 555 discharge switch: DIS 180 mV typ at 15 mA [S1] → 12 Ω
-
-
-def t_low_rd(ra, rb, c, rd=RD_BIPOLAR):
-    """t_low with the discharge switch RD: C falls through RB + RA∥RD toward d = VCC·RD/(RA+RD)
-    (Thevenin of VCC–RA–RD at DIS; derived, tests/reference/test_discharge_reference.py), from
-    2VCC/3 to VCC/3; RA → ∞ gives the data sheet's ln2·(RB+RD)·C [S2]."""
-    d = rd / (ra + rd)
-    return (rb + ra * rd / (ra + rd)) * c * math.log((2 / 3 - d) / (1 / 3 - d))
-
-
-def width_rd(r, c, rd=RD_BIPOLAR):
-    """Monostable width from the level the closed switch holds C at, VCC·RD/(R+RD): R·C·ln(3R/(R+RD))."""
-    return r * c * math.log(3 * r / (r + rd))
 
 OPTION_KEYS = {"rank", "connection", "error", "predicted", "range", "yield", "networks",
                "yield_parts_only"}  # added by issue 10 (wave-2 JSON contract)

@@ -142,6 +142,9 @@ def test_list_value_bound_on_a_kind_without_values_is_one_line(cli, db_path):
     r = cli("stock", "list", "--kind", "ic", "--min", "1k", db=db_path)
     assert r.returncode == 1
     assert r.stderr.strip() == "Error: --min 1k: an ic has no value to compare; list them with --kind ic"
+    r = cli("stock", "list", "--kind", "diode", "--max", "1", db=db_path)
+    assert r.returncode == 1
+    assert r.stderr.strip() == "Error: --max 1: a diode has no value to compare; list them with --kind diode"
 
 
 def test_kit_refuses_the_new_kinds(cli, db_path):

@@ -6,6 +6,9 @@ from __future__ import annotations
 
 import json
 
+from reference_discharge import width_rd
+
+
 def _stock(cli, db_path) -> dict[int, float]:
     """Import the sample stock (it holds a drawer of trimmers); trimmer line id -> value."""
     from conftest import SAMPLE
@@ -57,10 +60,7 @@ def test_two_second_one_shot_gets_a_trimmer_option_and_the_bench_flow_works(cli,
         # the nominal total hits 2 s with the monostable formula width = ln3·R·C [S3, S5], the
         # capacitor starting from VCC·RD/(R + RD) that the closed discharge switch holds it at
         # (derived): width = R·C·ln(3R/(R + RD)), RD = 180 mV / 15 mA = 12 Ω for the bipolar 555 [S1]
-        import math
-
-        c, rd = o["networks"]["C"]["value"], 0.180 / 0.015
-        assert abs(net["value"] * c * math.log(3.0 * net["value"] / (net["value"] + rd)) - 2.0) < 1e-6
+        assert abs(width_rd(net["value"], o["networks"]["C"]["value"]) - 2.0) < 1e-6
         lo, hi = o["trim"]["setting_range"]
         assert lo <= t["setting"] <= hi
 

@@ -16,6 +16,7 @@ import sqlite3
 import pytest
 
 from conftest import SAMPLE, run_cli
+from reference_discharge import t_low_rd, width_rd
 
 _SCI = re.compile(r"\d[eE][-+]?\d")  # 1e-07 style numbers must never reach a person
 
@@ -117,20 +118,6 @@ def test_find_value_3u3_capacitor_from_two_parts(shop):
     assert abs(best["error"]) == pytest.approx(_brute_best(_stock(db), "capacitor", 3.3e-6), abs=1e-12)
 
 
-RD_BIPOLAR = 0.180 / 15e-3   # bipolar 555 discharge switch: DIS 180 mV typ at 15 mA [S1] → 12 Ω
-
-
-def t_low_rd(ra, rb, c, rd=RD_BIPOLAR):
-    """t_low with the discharge switch RD: C falls through RB + RA∥RD toward d = VCC·RD/(RA+RD)
-    (Thevenin of VCC–RA–RD at DIS; derived, tests/reference/test_discharge_reference.py), from
-    2VCC/3 to VCC/3; RA → ∞ gives the data sheet's ln2·(RB+RD)·C [S2]."""
-    d = rd / (ra + rd)
-    return (rb + ra * rd / (ra + rd)) * c * math.log((2 / 3 - d) / (1 / 3 - d))
-
-
-def width_rd(r, c, rd=RD_BIPOLAR):
-    """Monostable width from the level the closed switch holds C at, VCC·RD/(R+RD): R·C·ln(3R/(R+RD))."""
-    return r * c * math.log(3 * r / (r + rd))
 
 
 def _check_astable(opt, vcc=9.0):

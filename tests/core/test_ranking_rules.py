@@ -20,19 +20,12 @@ import math
 
 from hypothesis import HealthCheck, assume, given, settings, strategies as st
 
+from reference_discharge import t_low_rd  # RD 12 Ω, bipolar DIS 180 mV at 15 mA [S1]
 from selector.core.ranking import RankedOption, rank
 from selector.core.types import StockLine
 from selector.services.find_timing import TimingRequest, plan_timing
 
 LN2 = math.log(2.0)
-RD = 0.180 / 15e-3   # bipolar 555 discharge switch: DIS 180 mV typ at 15 mA [S1] → 12 Ω
-
-
-def t_low_rd(ra, rb, c, rd=RD):
-    """t_low with the discharge switch: C falls through RB + RA∥RD toward d = VCC·RD/(RA+RD)
-    (Thevenin of VCC–RA–RD at DIS; derived, tests/reference/test_discharge_reference.py)."""
-    d = rd / (ra + rd)
-    return (rb + ra * rd / (ra + rd)) * c * math.log((2 / 3 - d) / (1 / 3 - d))
 E12 = (1.0, 1.2, 1.5, 1.8, 2.2, 2.7, 3.3, 3.9, 4.7, 5.6, 6.8, 8.2)  # IEC 60063 E12
 
 

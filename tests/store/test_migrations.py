@@ -8,6 +8,7 @@ from __future__ import annotations
 import sqlite3
 import subprocess
 import sys
+from contextlib import contextmanager
 from pathlib import Path
 
 import pytest
@@ -54,6 +55,16 @@ def _tables(db_path: Path) -> set[str]:
 def _plain_engine(url: str):
     """An engine without our hooks (no schema check, no BEGIN IMMEDIATE) to look at the raw data."""
     return sa.create_engine(url, poolclass=sa.pool.NullPool)
+
+
+@contextmanager
+def _plain(url: str):
+    """``_plain_engine`` for one block, disposed of at its end (also when an assertion fails)."""
+    engine = _plain_engine(url)
+    try:
+        yield engine
+    finally:
+        engine.dispose()
 
 
 def _rows(conn, sql: str) -> list[tuple]:
@@ -284,15 +295,11 @@ def test_revision_0004_keeps_old_lines_and_takes_the_new_kinds(db_url, revision)
     lines; the identity index tells two ICs apart by their part text (and a diode by the current
     its drop is stated at), and still refuses a second line for one identity."""
     _migrate_raw(db_url, revision)
-    plain = _plain_engine(db_url)
-    try:
+    with _plain(db_url) as plain:
         with plain.begin() as conn:
             _fill(conn, revision)
-    finally:
-        plain.dispose()
     db.open_engine(db_url).dispose()
-    plain = _plain_engine(db_url)
-    try:
+    with _plain(db_url) as plain:
         with plain.connect() as conn:
             assert _rows(conn, "SELECT id, part, turns, rating_current, reorder_at FROM stock_lines ORDER BY id") == [
                 (1, "", None, None, None), (2, "", None, None, None), (3, "", None, None, None)]
@@ -322,52 +329,38 @@ def test_revision_0004_keeps_old_lines_and_takes_the_new_kinds(db_url, revision)
             with pytest.raises(sa.exc.IntegrityError):
                 with plain.begin() as conn:
                     conn.execute(sa.text(_NEW_KIND_INSERT), row)
-    finally:
-        plain.dispose()
 
 
 def test_downgrade_below_0004_is_refused_while_new_kinds_are_held(db_url):
     """The older schema cannot hold an IC line; the downgrade stops with a message naming what is
     held, and the database stays at 0004 with the line in it."""
     db.open_engine(db_url).dispose()
-    plain = _plain_engine(db_url)
-    try:
+    with _plain(db_url) as plain:
         with plain.begin() as conn:
             conn.execute(sa.text(_NEW_KIND_INSERT), [_new_kind_line("ic", part="NE555P"),
                                                      _new_kind_line("ic", part="74HC14")])
-    finally:
-        plain.dispose()
     with pytest.raises(RuntimeError) as info:
         _migrate_raw(db_url, "0003", "downgrade")
     assert str(info.value) == ("cannot go below schema revision 0004: the stock holds 2 ic lines, which the older "
                                "schema cannot store; export and delete them first (nothing was changed)")
-    plain = _plain_engine(db_url)
-    try:
+    with _plain(db_url) as plain:
         with plain.connect() as conn:
             assert _rows(conn, "SELECT version_num FROM alembic_version") == [("0004",)]
             assert _rows(conn, "SELECT kind, part FROM stock_lines ORDER BY id") == [("ic", "NE555P"), ("ic", "74HC14")]
-    finally:
-        plain.dispose()
 
 
 def test_downgrade_to_0001_and_back(db_url):
     db.open_engine(db_url).dispose()
     _migrate_raw(db_url, "0001", "downgrade")
-    plain = _plain_engine(db_url)
-    try:
+    with _plain(db_url) as plain:
         with plain.connect() as conn:
             insp = sa.inspect(conn)
             assert "pulls" not in insp.get_table_names()
             assert "pull_id" not in [c["name"] for c in insp.get_columns("movements")]
-    finally:
-        plain.dispose()
     db.open_engine(db_url).dispose()
-    plain = _plain_engine(db_url)
-    try:
+    with _plain(db_url) as plain:
         with plain.connect() as conn:
             assert "pulls" in sa.inspect(conn).get_table_names()
-    finally:
-        plain.dispose()
 
 
 @pytest.mark.filterwarnings("ignore:.*expression-based index")  # SQLite cannot reflect the identity index;
