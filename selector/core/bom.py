@@ -342,11 +342,11 @@ def _extras(
         if line is None:
             out.append(BomLine(ref=o.ref, role=o.role, kind=o.kind, value=None, per_board=1, total=boards,
                                in_stock=False, description=o.description, note=o.note))
-            empty = [ln for ln in stock if o.want and matches(o.want, ln)]
-            if empty:
-                notes.append(f"{o.ref}: stock line{'s' if len(empty) > 1 else ''} "
-                             f"{', '.join(f'{ln.id} ({ln.part})' for ln in empty)} would supply it but "
-                             f"{'are' if len(empty) > 1 else 'is'} empty; restock or obtain the part.")
+            spent = [ln for ln in stock if o.want and matches(o.want, ln)]
+            if spent:
+                notes.append(f"{o.ref}: stock line{'s' if len(spent) > 1 else ''} "
+                             f"{', '.join(f'{ln.id} ({ln.part})' for ln in spent)} would supply it but "
+                             f"{'have' if len(spent) > 1 else 'has'} none left for it; restock or obtain the part.")
             continue
         taken[line.id] = taken.get(line.id, 0) + boards
         visited.add(line.location)

@@ -136,4 +136,4 @@ def test_cli_pull_on_the_sample_stock_takes_the_74hc14_and_lists_it_low(cli, db_
     assert r.returncode == 0, r.stderr
     text = " ".join(r.stdout.split())
     assert "Not in stock (obtain before building): U1 inverter IC: hex Schmitt-trigger inverter, 74HC14 type" in text
-    assert f"U1: stock line {hc14['line_id']} (74HC14) would supply it but is empty; restock or obtain the part." in text
+    assert f"U1: stock line {hc14['line_id']} (74HC14) would supply it but has none left for it; restock or obtain the part." in text
