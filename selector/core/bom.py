@@ -225,9 +225,9 @@ def assemble_bom(
         for bl in lines
     ]
     notes[:0] = connection_notes(spec)
-    notes.extend(f"{bl.ref}: {bl.note.split('; ')[-1]}, then adjust on the bench (how: selector show "
+    notes.extend(f"{bl.ref}: {bl.setting}, then adjust on the bench (how: selector show "
                  f"{option_rank} --search {search_id})."
-                 for bl in lines if bl.kind == TRIMMER_KIND and bl.note)
+                 for bl in lines if bl.setting)
     kind = _kind(spec)
     if kind is not None:
         notes.extend(kind.bom_chip_notes(_settings(spec)))
@@ -292,7 +292,7 @@ def _network_lines(key: str, net: Mapping[str, Any], spec: CircuitSpec, by_id: M
             per_board=1, total=boards, in_stock=True, line_id=trim_line.id,
             tol_minus=trim_line.tol_minus, tol_plus=trim_line.tol_plus, location=trim_line.location,
             package=trim_line.package, rating=trim_line.rating, dielectric=trim_line.dielectric,
-            note="; ".join(x for x in (trim_line.note, set_text) if x), network=wired,
+            note="; ".join(x for x in (trim_line.note, set_text) if x), network=wired, setting=set_text,
         ))
     return out
 

@@ -55,6 +55,7 @@ class BomLine:
     network: str = ""  # e.g. "series, part 1 of 2"; "" for a single part or an extra
     description: str = ""  # what to obtain, for parts without a value
     part: str = ""  # the part text of the IC or diode line it comes from ("NE555P")
+    setting: str = ""  # a trimmer's bench setting for the nominal build ("set to 4.49 kΩ ≈ 45 % ...")
 
     @property
     def tolerance(self) -> Optional[dict[str, float]]:

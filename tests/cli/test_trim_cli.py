@@ -121,3 +121,31 @@ def test_trim_says_so_when_no_trimmer_fits(cli, db_path):
     flat = " ".join(r.stdout.split())
     assert "--trim: no trimmer in stock, with a fixed part of 1-2 parts, covers the target" in flat
     assert "(adjustable)" not in r.stdout
+
+
+def test_bom_setting_note_survives_a_trimmer_note_with_a_semicolon(cli, db_path, tmp_path):
+    # the BOM's "RV1: set to …, then adjust on the bench" line comes from the trimmer's own setting,
+    # not from splitting the table's note column on "; " (a drawer note may hold one itself)
+    import csv
+
+    from conftest import SAMPLE
+
+    with open(SAMPLE, newline="", encoding="utf-8-sig") as fh:
+        rows = list(csv.reader(fh))
+    note = rows[0].index("Note")
+    for row in rows[1:]:
+        if row and row[0] == "trimmer":
+            row[note] = "cermet; top adjust"
+    stock = tmp_path / "stock.csv"
+    with open(stock, "w", newline="", encoding="utf-8") as fh:
+        csv.writer(fh).writerows(rows)
+    assert cli("stock", "import", str(stock), db=db_path).returncode == 0
+    r = cli("find", "monostable", "--width", "2s", "--json", db=db_path)
+    assert r.returncode == 0, r.stderr
+    n = next(o["rank"] for o in json.loads(r.stdout)["options"] if o["adjustable"])
+    r = cli("bom", str(n), db=db_path, env={"COLUMNS": "200"})
+    assert r.returncode == 0, r.stderr
+    setting = [ln for ln in r.stdout.splitlines() if ln.startswith("RV1: ")]
+    assert len(setting) == 1, r.stdout
+    assert setting[0].startswith("RV1: set to ") and "% of travel from the fixed end, then adjust" in setting[0]
+    assert "top adjust, then" not in r.stdout
