@@ -21,29 +21,17 @@ bipolar family (12 ohm) with the RA/RB box of kernels.py; N=2 runs interleaved, 
 
 from __future__ import annotations
 
-import statistics
 import sys
-import time
 from pathlib import Path
 
 REPO = Path(__file__).resolve().parent.parent
 sys.path.insert(0, str(REPO))
 sys.path.insert(0, str(REPO / "benchmarks"))
 
-from bench_timing import stock  # noqa: E402
+from bench_timing import cpu_runs, stock  # noqa: E402
 from selector.core.search import Target, resolve_limits, search_timing  # noqa: E402
 
 TARGETS = {"standard": Target.astable(1234.5, 0.6543), "diode": Target.astable(1234.5, 0.3456)}
-
-
-def cpu(fn, runs):
-    out = fn()
-    ts = []
-    for _ in range(runs):
-        t0 = time.process_time()
-        out = fn()
-        ts.append(time.process_time() - t0)
-    return min(ts), statistics.median(ts), out
 
 
 def main() -> None:
@@ -56,10 +44,10 @@ def main() -> None:
     for budget in budgets:
         for conn, target in TARGETS.items():
             lim = resolve_limits(conn, "bipolar", 9.0, 0.65)
-            rd = getattr(lim, "discharge_ohms", 0.0)
+            rd = lim.discharge_ohms
             n = runs if budget == 2 else max(1, min(runs, 3))
-            t_min, t_med, res = cpu(lambda: search_timing(rl, cl, target, (conn,), {conn: lim},
-                                                          max_parts=budget, pool=20), n)
+            t_min, t_med, res = cpu_runs(lambda: search_timing(rl, cl, target, (conn,), {conn: lim},
+                                                               max_parts=budget, pool=20), n)
             scale, unit = (1e3, "ms") if budget == 2 else (1.0, "s")
             print(f"N={budget} {conn:9s} RD {rd:g} ohm: {t_min * scale:9.2f} / {t_med * scale:9.2f} {unit}"
                   f"  ({n} runs)  best |error| {abs(res.best_error):.4e}", flush=True)
