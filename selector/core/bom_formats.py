@@ -15,9 +15,9 @@ from selector.core.cells import neutralize_cell, without_controls  # noqa: E402,
 
 
 def _unit(kind: str) -> str:
-    from selector.core.notation import FARAD, OHM
+    from selector.core.notation import kind_units
 
-    return OHM if kind in ("resistor", "trimmer") else FARAD if kind == "capacitor" else ""
+    return kind_units(kind)[0]
 
 
 def value_text(bl: BomLine) -> str:

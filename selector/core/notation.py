@@ -41,6 +41,16 @@ WATT = "W"
 
 UNITS: tuple[str, ...] = (OHM, FARAD, SECOND, HERTZ, VOLT, WATT)
 
+
+def kind_units(kind: str) -> tuple[str, str]:
+    """(value unit, rating unit) of a stock kind: resistors and trimmers Ω and W, capacitors F and
+    V; an IC or diode has no value unit, and a diode's rating is its forward drop in V."""
+    if kind == "capacitor":
+        return FARAD, VOLT
+    if kind in ("resistor", "trimmer"):
+        return OHM, WATT
+    return "", VOLT
+
 _QUANTITY = {
     OHM: "resistance",
     FARAD: "capacitance",

@@ -18,16 +18,10 @@ def _cells(*values) -> list[Text]:
     return [cell(v) for v in values]
 
 
-def _unit(kind: str) -> str:
-    from selector.core.notation import FARAD, OHM
-
-    return OHM if kind in ("resistor", "trimmer") else FARAD if kind == "capacitor" else ""
-
-
 def _value(kind: str, value: float) -> str:
-    from selector.core.notation import format_value
+    from selector.core.notation import format_value, kind_units
 
-    return format_value(value, _unit(kind))
+    return format_value(value, kind_units(kind)[0])
 
 
 def bom_lines(bom: core_bom.Bom, width: int = 200) -> list:

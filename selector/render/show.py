@@ -100,13 +100,13 @@ def network_lines(report, width: int) -> list[str]:
 
 
 def _value(kind: str, value: Optional[float]) -> str:
-    from selector.core.notation import format_value
+    from selector.core.notation import format_value, kind_units
 
     if value is None:
         return ""
-    unit = {"resistor": "Ω", "capacitor": "F", "trimmer": "Ω", "rating-resistor": "W", "rating-capacitor": "V",
-            "rating-trimmer": "W"}.get(kind, "")
-    return format_value(value, unit)
+    if kind.startswith("rating-"):  # a stock line's rating: W for resistors and trimmers, V for capacitors
+        return format_value(value, kind_units(kind[len("rating-"):])[1])
+    return format_value(value, kind_units(kind)[0])
 
 
 _QUANTITIES = (("frequency_hz", "frequency", "frequency"), ("duty", "duty (HIGH)", "duty_points"),

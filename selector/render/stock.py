@@ -15,9 +15,9 @@ POLARITY_CAUTION = CAUTION_TEXTS["polarity"]
 
 
 def _units(kind: str):
-    from selector.core.notation import FARAD, OHM, VOLT, WATT
+    from selector.core.notation import kind_units
 
-    return (FARAD, VOLT) if kind == "capacitor" else (OHM, WATT) if kind in ("resistor", "trimmer") else ("", VOLT)
+    return kind_units(kind)
 
 
 def value_text(kind: str, value: float) -> str:
