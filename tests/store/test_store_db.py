@@ -310,7 +310,7 @@ def test_a_search_whose_save_fails_leaves_no_search_behind(memory_engine):
 
 def test_searches_and_readers_never_import_the_orm(tmp_path):
     """``find astable|value --json`` read the stock and save the search through Core, and ``bom``,
-    ``show`` and ``stock list`` read through Core: in a fresh interpreter neither sqlalchemy.orm nor
+    ``show``, ``stock list`` and ``ledger`` read through Core: in a fresh interpreter neither sqlalchemy.orm nor
     the ORM classes are loaded (issue 12: start-up cost). ``stock import`` then does load them: the
     negative control that the probe sees an import."""
     path = tmp_path / "s.db"
@@ -329,12 +329,13 @@ def test_searches_and_readers_never_import_the_orm(tmp_path):
         "run('bom', '1', '--search', '1')\n"
         "run('show', '1', '--search', '1')\n"
         "run('stock', 'list', '--json')\n"
+        "run('ledger')\n"
         f"run('stock', 'import', {str(SAMPLE)!r})\n"
     )
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, cwd=REPO, timeout=120)
     assert out.returncode == 0, out.stderr
     assert [ln for ln in out.stdout.splitlines() if ln.startswith(("exit", "orm"))] == \
-        ["exit 0", "orm False False"] * 5 + ["exit 0", "orm True True"], out.stdout[-500:]
+        ["exit 0", "orm False False"] * 6 + ["exit 0", "orm True True"], out.stdout[-500:]
 
 
 def test_apply_movement_changes_quantity_and_writes_one_ledger_row(memory_engine):
