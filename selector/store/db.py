@@ -20,7 +20,7 @@ Core and ORM: this module imports neither ``sqlalchemy.orm`` nor the ORM classes
 unit of work yields an ORM Session (``transaction`` / ``run_in_transaction``), or with
 ``core=True`` a plain Core Connection with exactly the same BEGIN, waiting, replay and error rules;
 the search commands (reading the stock, saving the search) and the readers (bom, show, netlist,
-simulate, stock list) work through Core on the tables of ``tables.py`` and so never pay for
+simulate, stock list, ledger) work through Core on the tables of ``tables.py`` and so never pay for
 importing the ORM (issue 12). ``load_stock`` and ``save_search`` take either kind of unit.
 
 PostgreSQL notes: migrations run under a transaction-scoped advisory lock, so several benches
