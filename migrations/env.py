@@ -16,7 +16,7 @@ from logging.config import fileConfig
 
 from alembic import context
 
-from selector.store.models import Base
+from selector.store.tables import metadata
 
 config = context.config
 if config.config_file_name and os.path.exists(config.config_file_name):
@@ -25,7 +25,7 @@ elif config.cmd_opts is not None:  # alembic command without an ini file: still 
     logging.basicConfig(format="%(levelname)-5.5s [%(name)s] %(message)s")
     logging.getLogger("alembic").setLevel(logging.INFO)
 
-target_metadata = Base.metadata
+target_metadata = metadata  # the Core tables: the one declaration of the schema (models map onto them)
 
 
 def _url() -> str:

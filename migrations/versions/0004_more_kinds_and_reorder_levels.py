@@ -36,7 +36,7 @@ branch_labels: Union[str, Sequence[str], None] = None
 depends_on: Union[str, Sequence[str], None] = None
 
 # Written out here (not imported from the models) so this revision stays what it was when the
-# models change later; models.py holds the same texts for head.
+# models change later; store/tables.py holds the same texts for head.
 _KIND_OLD = "kind IN ('resistor', 'capacitor')"
 _KIND_NEW = "kind IN ('resistor', 'capacitor', 'trimmer', 'ic', 'diode')"
 _VALUE_OLD = "value > 0"

@@ -1,21 +1,29 @@
 """Use case ``bom``: read a saved option, match the extra parts against the current stock, and
 return the BOM with its pick list. Read-only; the pull service reuses :func:`bom_in_session`
-inside its own transaction so that what is pulled is exactly what the BOM shows at that moment."""
+inside its own transaction so that what is pulled is exactly what the BOM shows at that moment.
+
+Reading goes through Core (the tables of store/tables.py): ``bom`` and ``show`` run as Core units
+and never import the ORM; ``pull`` passes its ORM Session, which executes the same statements."""
 
 from __future__ import annotations
 
 import json
-from dataclasses import dataclass
-from typing import Any, Optional
+from dataclasses import dataclass, field
+from typing import TYPE_CHECKING, Any, Optional, Union
 
 import sqlalchemy as sa
 from sqlalchemy.engine import Engine
-from sqlalchemy.orm import Session
 
 from selector.core import bom as core_bom
 from selector.core.errors import OptionOutdated, UnknownSearch
 from selector.core.types import StockLine
-from selector.store.models import SearchOptionRow, SearchRow
+from selector.store.tables import search_options, searches
+
+if TYPE_CHECKING:
+    from sqlalchemy.orm import Session
+
+Unit = Union["Session", sa.Connection]
+"""What a unit of work hands a service: an ORM Session, or a Core Connection (core=True)."""
 
 
 @dataclass(frozen=True)
@@ -27,6 +35,8 @@ class SavedOption:
     spec: core_bom.CircuitSpec
     data: dict[str, Any]
     boards: int  # the board count the search was run for
+    params: dict[str, Any] = field(default_factory=dict)  # the search's settings record, read
+    target_json: str = "{}"  # the search's target, as saved (show and simulate read it)
 
 
 @dataclass(frozen=True)
@@ -78,24 +88,27 @@ def _float_or_none(x: Any) -> Optional[float]:
         return None
 
 
-def load_saved_option(session: Session, option: int, search_id: Optional[int] = None) -> SavedOption:
+def load_saved_option(session: Unit, option: int, search_id: Optional[int] = None) -> SavedOption:
     """Option ``option`` (its rank, from 1) of search ``search_id``, or of the latest search.
-    Raises UnknownSearch naming what is missing."""
+    Raises UnknownSearch naming what is missing. Core statements: a Session or a Connection."""
+    cols = (searches.c.id, searches.c.mode, searches.c.target_json, searches.c.params_json)
     if search_id is None:
-        search = session.scalars(sa.select(SearchRow).order_by(SearchRow.id.desc()).limit(1)).first()
+        search = session.execute(sa.select(*cols).order_by(searches.c.id.desc()).limit(1)).first()
         if search is None:
             raise UnknownSearch("there is no saved search yet; run `selector find …` first")
     else:
-        search = session.get(SearchRow, search_id)
+        search = session.execute(sa.select(*cols).where(searches.c.id == search_id)).first()
         if search is None:
             raise UnknownSearch(f"there is no saved search {search_id}")
-    row = session.scalars(
-        sa.select(SearchOptionRow).where(SearchOptionRow.search_id == search.id, SearchOptionRow.rank == option)
+    opts = search_options.c
+    row = session.execute(
+        sa.select(opts.rank, opts.connection, opts.data_json)
+        .where(opts.search_id == search.id, opts.rank == option).order_by(opts.id).limit(1)
     ).first()
     if row is None:
-        ranks = session.scalars(
-            sa.select(SearchOptionRow.rank).where(SearchOptionRow.search_id == search.id).order_by(SearchOptionRow.rank)
-        ).all()
+        ranks = session.execute(
+            sa.select(opts.rank).where(opts.search_id == search.id).order_by(opts.rank)
+        ).scalars().all()
         has = f"it has options {ranks[0]}-{ranks[-1]}" if ranks else "it has no options"
         raise UnknownSearch(f"search {search.id} has no option {option} ({has})")
     params = _loads(search.params_json, "settings record", search.id)
@@ -113,7 +126,8 @@ def load_saved_option(session: Session, option: int, search_id: Optional[int] = 
         boards = max(1, int(params.get("boards") or 1))
     except (TypeError, ValueError):
         boards = 1
-    return SavedOption(search_id=search.id, rank=row.rank, spec=spec, data=data, boards=boards)
+    return SavedOption(search_id=search.id, rank=row.rank, spec=spec, data=data, boards=boards,
+                       params=params, target_json=search.target_json or "{}")
 
 
 def safe_derating(dielectric: str) -> float:
@@ -130,7 +144,7 @@ def safe_derating(dielectric: str) -> float:
 
 
 def bom_in_session(
-    session: Session, option: int, search_id: Optional[int] = None, boards: Optional[int] = None
+    session: Unit, option: int, search_id: Optional[int] = None, boards: Optional[int] = None
 ) -> BomReport:
     """The BOM of a saved option against the stock as this session sees it (no writes)."""
     from selector.store.db import load_stock
@@ -179,4 +193,5 @@ def build_bom(
     from selector.store.db import run_in_transaction
 
     import_before_transaction()
-    return run_in_transaction(engine, lambda s: bom_in_session(s, option, search_id, boards), write=False)
+    return run_in_transaction(engine, lambda s: bom_in_session(s, option, search_id, boards), write=False,
+                              core=True)

@@ -10,7 +10,6 @@ snapshot, and ``pull`` re-checks quantities inside its own transaction.
 
 from __future__ import annotations
 
-import json
 from dataclasses import dataclass, field
 from typing import Callable, Optional
 
@@ -307,18 +306,12 @@ def plan_timing(r_lines, c_lines, req: TimingRequest,
 
 
 def save_search(session, report: TimingReport) -> int:
-    """Write the search and its options (one SearchRow, one SearchOptionRow per option)."""
-    from selector.store.models import SearchOptionRow, SearchRow
+    """Write the search and its options (a row of ``searches``, one of ``search_options`` per
+    option) in the caller's unit (a Core Connection or a Session); returns the search id."""
+    from selector.store import db
 
-    row = SearchRow(mode=report.request.mode, target_json=json.dumps(report.target),
-                    params_json=json.dumps(report.params))
-    session.add(row)
-    session.flush()
-    for opt in report.options:
-        session.add(SearchOptionRow(search_id=row.id, rank=opt["rank"], connection=opt["connection"],
-                                    error=float(opt["error"]), data_json=json.dumps(opt)))
-    session.flush()
-    return int(row.id)
+    return db.save_search(session, report.request.mode, report.target, report.params,
+                          [(opt["connection"], opt) for opt in report.options])
 
 
 def find_timing(engine, req: TimingRequest,
@@ -328,12 +321,14 @@ def find_timing(engine, req: TimingRequest,
     from selector.store.db import load_stock, run_in_transaction
 
     req.check()  # bad options fail before the database is touched
-    lines = run_in_transaction(engine, lambda s: load_stock(s, NETWORK_KINDS + (TRIMMER_KIND,)), write=False)
+    # Core units (core=True): a search never imports the ORM (issue 12, start-up cost)
+    lines = run_in_transaction(engine, lambda s: load_stock(s, NETWORK_KINDS + (TRIMMER_KIND,)), write=False,
+                               core=True)
     r_lines = [ln for ln in lines if ln.kind == "resistor"]
     c_lines = [ln for ln in lines if ln.kind == "capacitor"]
     t_lines = [ln for ln in lines if ln.kind == TRIMMER_KIND]
     report = plan_timing(r_lines, c_lines, req, progress, t_lines)
-    report.search_id = run_in_transaction(engine, lambda s: save_search(s, report))
+    report.search_id = run_in_transaction(engine, lambda s: save_search(s, report), core=True)
     return report
 
 

@@ -6,7 +6,6 @@ list the parts of option N."""
 
 from __future__ import annotations
 
-import json
 from dataclasses import dataclass, field
 from typing import Any, Optional, Sequence
 
@@ -312,8 +311,9 @@ def _fold(nets: Sequence) -> tuple[list, list[list]]:
 
 
 def save_search(session, report: ValueReport) -> int:
-    """One SearchRow (mode "value") and one SearchOptionRow per option; returns the search id."""
-    from selector.store.models import SearchOptionRow, SearchRow
+    """One search (mode "value") and one search option per option, in the caller's unit (a Core
+    Connection or a Session); returns the search id."""
+    from selector.store import db
 
     req = report.request
     target = {"mode": "value", "kind": req.kind, "value": req.target}
@@ -321,14 +321,7 @@ def save_search(session, report: ValueReport) -> int:
               "allow_polarized_series": req.allow_polarized_series, "accept": req.accept,
               "tolerance": req.max_tolerance, "dielectric": list(req.dielectrics),
               "min_rating": req.min_rating, "location": list(req.locations)}
-    row = SearchRow(mode="value", target_json=json.dumps(target), params_json=json.dumps(params))
-    session.add(row)
-    session.flush()
-    for opt in report.options_json():
-        session.add(SearchOptionRow(search_id=row.id, rank=opt["rank"], connection="",
-                                    error=float(opt["error"]), data_json=json.dumps(opt)))
-    session.flush()
-    return int(row.id)
+    return db.save_search(session, "value", target, params, [("", opt) for opt in report.options_json()])
 
 
 def find_value(engine, req: ValueRequest) -> ValueReport:
@@ -336,7 +329,7 @@ def find_value(engine, req: ValueRequest) -> ValueReport:
     from selector.store.db import load_stock, run_in_transaction
 
     req.check()
-    lines = run_in_transaction(engine, lambda s: load_stock(s, req.kind), write=False)
+    lines = run_in_transaction(engine, lambda s: load_stock(s, req.kind), write=False, core=True)
     report = plan_value(lines, req)
-    report.search_id = run_in_transaction(engine, lambda s: save_search(s, report))
+    report.search_id = run_in_transaction(engine, lambda s: save_search(s, report), core=True)
     return report

@@ -15,17 +15,19 @@ from __future__ import annotations
 
 from dataclasses import dataclass, replace
 from datetime import datetime
-from typing import Optional
+from typing import TYPE_CHECKING, Optional
 
 import sqlalchemy as sa
 from sqlalchemy.engine import Engine
-from sqlalchemy.orm import Session
 
 from selector.core import bom as core_bom
 from selector.core.errors import AlreadyUndone, InsufficientStock, UnknownPull
 from selector.core.types import StockLine
 from selector.services.bom import BomReport, bom_in_session, import_before_transaction
-from selector.store.models import MovementRow, PullRow, StockLineRow, utcnow
+from selector.store.tables import movements, stock_lines, utcnow
+
+if TYPE_CHECKING:  # pull and undo import the ORM when they run; the ledger reads through Core
+    from sqlalchemy.orm import Session
 
 
 @dataclass(frozen=True)
@@ -108,9 +110,10 @@ def shortage_message(report: BomReport, shortages: list[core_bom.Shortage]) -> s
 
 
 def _pull_in_session(
-    session: Session, option: int, search_id: Optional[int], boards: Optional[int], dry_run: bool
+    session: "Session", option: int, search_id: Optional[int], boards: Optional[int], dry_run: bool
 ) -> PullResult:
     from selector.store.db import apply_movement, lock_stock_for_plan
+    from selector.store.models import PullRow
 
     if not dry_run:
         lock_stock_for_plan(session)  # PostgreSQL: the check below sees what this pull will change
@@ -150,8 +153,9 @@ def pull_option(
     return run_in_transaction(engine, lambda s: _pull_in_session(s, option, search_id, boards, dry_run))
 
 
-def _undo_in_session(session: Session, pull_id: int) -> UndoResult:
+def _undo_in_session(session: "Session", pull_id: int) -> UndoResult:
     from selector.services.stock import move_within_limit
+    from selector.store.models import MovementRow, PullRow
 
     pull = session.get(PullRow, pull_id)
     if pull is None:
@@ -194,21 +198,19 @@ def list_movements(
     """The newest ``limit`` ledger rows (newest first), optionally of one line or one pull."""
     from selector.store.db import run_in_transaction
 
-    def work(session: Session) -> list[LedgerEntry]:
+    def work(conn: sa.Connection) -> list[LedgerEntry]:
+        m, s = movements.c, stock_lines.c
         stmt = (
-            sa.select(MovementRow, StockLineRow)
-            .join(StockLineRow, MovementRow.line_id == StockLineRow.id)
-            .order_by(MovementRow.id.desc())
+            sa.select(m.id, m.created_at, m.line_id, s.kind, s.value, s.location, m.delta, m.reason,
+                      m.reference, m.pull_id, s.part)
+            .join_from(movements, stock_lines, m.line_id == s.id)
+            .order_by(m.id.desc())
             .limit(limit)
         )
         if line_id is not None:
-            stmt = stmt.where(MovementRow.line_id == line_id)
+            stmt = stmt.where(m.line_id == line_id)
         if pull_id is not None:
-            stmt = stmt.where(MovementRow.pull_id == pull_id)
-        return [
-            LedgerEntry(m.id, m.created_at, m.line_id, s.kind, s.value, s.location, m.delta, m.reason,
-                        m.reference, m.pull_id, s.part)
-            for m, s in session.execute(stmt).all()
-        ]
+            stmt = stmt.where(m.pull_id == pull_id)
+        return [LedgerEntry(*row) for row in conn.execute(stmt)]
 
-    return run_in_transaction(engine, work, write=False)
+    return run_in_transaction(engine, work, write=False, core=True)  # Core: the ledger never imports the ORM

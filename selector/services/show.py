@@ -109,16 +109,15 @@ def show_in_session(session, option: int, search_id: Optional[int] = None) -> Sh
     from selector.services.bom import bom_of_saved, load_saved_option
     from selector.services.simulate import SIMULATED_MODES
     from selector.store.db import load_stock
-    from selector.store.models import SearchRow
 
     saved = load_saved_option(session, option, search_id)
-    search = session.get(SearchRow, saved.search_id)
-    if search.mode not in SIMULATED_MODES:  # a `find value` search: parts, no circuit to draw
-        raise NothingFeasible(f"search {saved.search_id} is a {search.mode} search: show needs a timing "
+    mode = saved.spec.mode
+    if mode not in SIMULATED_MODES:  # a `find value` search: parts, no circuit to draw
+        raise NothingFeasible(f"search {saved.search_id} is a {mode} search: show needs a timing "
                               f"search ({', '.join(SIMULATED_MODES)}); its parts: selector bom {option} "
                               f"--search {saved.search_id}")
-    target = json.loads(search.target_json or "{}")
-    params = json.loads(search.params_json or "{}")
+    target = json.loads(saved.target_json)
+    params = dict(saved.params)
     stock = load_stock(session)
     bom = bom_of_saved(saved, stock)
     used = {int(p["line_id"]) for raw in (saved.data.get("networks") or {}).values()
@@ -126,7 +125,7 @@ def show_in_session(session, option: int, search_id: Optional[int] = None) -> Sh
     used |= {int(raw["trimmer"]["line_id"]) for raw in (saved.data.get("networks") or {}).values()
              if isinstance(raw.get("trimmer"), dict) and raw["trimmer"].get("line_id") is not None}
     lines: dict[int, StockLine] = {ln.id: ln for ln in stock if ln.id in used}
-    mode, connection = search.mode, saved.spec.connection
+    connection = saved.spec.connection
     settings = Settings(saved.spec.chip, saved.spec.vcc or 0.0, saved.spec.diode_vf, dict(saved.spec.options))
     cautions = option_cautions(mode, connection, target, settings, saved.data, lines)
     levels, supply = _levels(mode, connection, params, saved.data, lines)
@@ -140,4 +139,4 @@ def show_option(engine, option: int, search_id: Optional[int] = None) -> ShowRep
     """Option ``option`` of search ``search_id`` (default: the latest search), in full."""
     from selector.store.db import run_in_transaction
 
-    return run_in_transaction(engine, lambda s: show_in_session(s, option, search_id), write=False)
+    return run_in_transaction(engine, lambda s: show_in_session(s, option, search_id), write=False, core=True)

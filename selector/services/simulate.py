@@ -7,7 +7,6 @@ netlist and measurement logic is pure and lives in :mod:`selector.core.spice`.
 
 from __future__ import annotations
 
-import json
 import math
 import os
 import shutil
@@ -23,7 +22,7 @@ from sqlalchemy.engine import Engine
 from selector.core import circuits, spice
 from selector.core.errors import SimulationFailed, SimulatorMissing, UnknownSearch
 from selector.store.db import transaction
-from selector.store.models import StockLineRow
+from selector.store.tables import stock_lines
 
 INSTALL_HINT = "install it (Debian/Ubuntu: apt-get install ngspice) or put it on PATH"
 NGSPICE_TIMEOUT_S = 120.0
@@ -182,12 +181,10 @@ def predict(c: spice.Circuit) -> dict[str, float]:
 
 def _load(engine: Engine, rank: int, search_id: Optional[int], discharge_ohms: Optional[float]):
     from selector.services.bom import load_saved_option
-    from selector.store.models import SearchRow
 
-    with transaction(engine, write=False) as session:
+    with transaction(engine, write=False, core=True) as session:  # Core: no ORM import
         saved = load_saved_option(session, rank, search_id)
-        search = session.get(SearchRow, saved.search_id)
-        params = json.loads(search.params_json or "{}")
+        params = dict(saved.params)
         ids = set()
         for raw in (saved.data.get("networks") or {}).values():
             for p in raw.get("parts") or []:
@@ -195,9 +192,10 @@ def _load(engine: Engine, rank: int, search_id: Optional[int], discharge_ohms: O
                     ids.add(int(p["line_id"]))
         tolerances = {}
         if ids:
-            for row in session.scalars(sa.select(StockLineRow).where(StockLineRow.id.in_(ids))):
+            t = stock_lines.c
+            for row in session.execute(sa.select(t.id, t.tol_minus, t.tol_plus).where(t.id.in_(ids))):
                 tolerances[row.id] = (float(row.tol_minus), float(row.tol_plus))
-        mode = search.mode
+        mode = saved.spec.mode
     title = f"selector: search {saved.search_id}, option {saved.rank} ({mode}, {saved.spec.connection})"
     circuit = circuit_from_saved(mode, saved.spec.connection, params, saved.data, tolerances,
                                  discharge_ohms=discharge_ohms, title=title)

@@ -329,7 +329,8 @@ def list_stock(engine, f: StockFilter = StockFilter()) -> list[StockLine]:
     """The stock lines passing ``f``, ordered by id."""
     from selector.store.db import load_stock, run_in_transaction
 
-    return run_in_transaction(engine, lambda s: filter_lines(load_stock(s, f.kind), f), write=False)
+    return run_in_transaction(engine, lambda s: filter_lines(load_stock(s, f.kind), f), write=False,
+                              core=True)  # Core: listing the stock never imports the ORM
 
 
 def stock_json(lines: Iterable[StockLine]) -> list[dict]:

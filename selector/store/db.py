@@ -16,6 +16,13 @@ SQLite notes (see /work/shared/reference/ecosystem.md §2-3 for the measurements
   imported when the schema is missing or behind;
 - a file whose tables are not ours is refused before anything is written to it (no WAL switch).
 
+Core and ORM: this module imports neither ``sqlalchemy.orm`` nor the ORM classes at load time. A
+unit of work yields an ORM Session (``transaction`` / ``run_in_transaction``), or with
+``core=True`` a plain Core Connection with exactly the same BEGIN, waiting, replay and error rules;
+the search commands (reading the stock, saving the search) and the readers (bom, show, netlist,
+simulate, stock list, ledger) work through Core on the tables of ``tables.py`` and so never pay for
+importing the ORM (issue 12). ``load_stock`` and ``save_search`` take either kind of unit.
+
 PostgreSQL notes: migrations run under a transaction-scoped advisory lock, so several benches
 opening a new database at once queue up and all succeed; imports, kits and pulls take a second
 advisory lock so their plan is made from the stock as it is when they write (lock_stock_for_plan);
@@ -28,18 +35,21 @@ import os
 import time
 from contextlib import contextmanager
 from pathlib import Path
-from typing import Callable, Iterator, Optional, TypeVar
+from typing import TYPE_CHECKING, Callable, Iterator, Optional, TypeVar, Union
 
 import sqlalchemy as sa
 from sqlalchemy import event, exc as sa_exc
 from sqlalchemy.engine import Engine, make_url
-from sqlalchemy.orm import Session
-from sqlalchemy.orm.util import identity_key
 from sqlalchemy.pool import NullPool, StaticPool
 
 from selector.core.errors import DatabaseProblem, InsufficientStock, UnknownStockLine
 from selector.core.types import VALUELESS_KINDS, StockLine
-from selector.store.models import MovementRow, StockLineRow, utcnow
+from selector.store.tables import movements, search_options, searches, stock_lines, utcnow
+
+if TYPE_CHECKING:  # the ORM is imported only by the units of work that use it
+    from sqlalchemy.orm import Session
+
+    from selector.store.models import StockLineRow
 
 T = TypeVar("T")
 
@@ -384,19 +394,29 @@ def _migrate(engine: Engine, u: sa.URL, name: str) -> None:
 # --------------------------------------------------------------------------- units of work
 
 @contextmanager
-def transaction(engine: Engine, *, write: bool = True) -> Iterator[Session]:
-    """One Session, one transaction: commit on success, roll back on any exception. ``write=False``
-    marks a read-only unit (on SQLite a deferred BEGIN that never waits for a writer). Driver
+def transaction(engine: Engine, *, write: bool = True,
+                core: bool = False) -> Iterator[Union["Session", sa.Connection]]:
+    """One Session (``core=True``: one Core Connection, and sqlalchemy.orm is not imported), one
+    transaction: commit on success, roll back on any exception. ``write=False`` marks a read-only
+    unit (on SQLite a deferred BEGIN that never waits for a writer). Both kinds begin through the
+    same engine hooks (BEGIN IMMEDIATE / BEGIN; PostgreSQL's lock_timeout) and end alike. Driver
     errors become DatabaseProblem; a busy database or a PostgreSQL deadlock/serialization failure
     becomes _Retry (run_in_transaction replays those)."""
     name = describe(engine.url.render_as_string(hide_password=False))
     bind = engine if write else engine.execution_options(**{WRITE_OPTION: False})
-    session = Session(bind, expire_on_commit=False)
+    session: Union["Session", sa.Connection, None] = None
     try:
+        if core:  # connects now (a Session connects at its first statement): inside the try
+            session = bind.connect()  # begins at its first statement, through the begin hook
+        else:
+            from sqlalchemy.orm import Session
+
+            session = Session(bind, expire_on_commit=False)
         yield session
         session.commit()
     except sa_exc.DBAPIError as err:
-        session.rollback()
+        if session is not None:
+            session.rollback()
         if _is_busy(err):
             raise _Retry(name, busy=True) from None
         refused = f"the stock database {name} refused the change ({_first_line(err)})"
@@ -407,10 +427,12 @@ def transaction(engine: Engine, *, write: bool = True) -> Iterator[Session]:
             raise _Retry(name, busy=False, message=refused) from None
         raise DatabaseProblem(refused) from None
     except BaseException:
-        session.rollback()
+        if session is not None:
+            session.rollback()
         raise
     finally:
-        session.close()
+        if session is not None:
+            session.close()
 
 
 class _Retry(DatabaseProblem):
@@ -440,10 +462,12 @@ def note_on_stderr(message: str) -> None:
     print(message, file=sys.stderr, flush=True)
 
 
-def run_in_transaction(engine: Engine, fn: Callable[[Session], T], *, write: bool = True,
+def run_in_transaction(engine: Engine, fn: Callable[..., T], *, write: bool = True,
                        retries: Optional[int] = None, max_wait_s: Optional[float] = None,
-                       on_wait: Optional[Callable[[str], None]] = note_on_stderr) -> T:
-    """Run ``fn(session)`` as one transaction (``write=False``: a read-only unit). When another
+                       on_wait: Optional[Callable[[str], None]] = note_on_stderr,
+                       core: bool = False) -> T:
+    """Run ``fn(session)`` as one transaction (``write=False``: a read-only unit; ``core=True``:
+    ``fn`` gets a Core Connection instead of an ORM Session, see ``transaction``). When another
     bench holds the write lock, the whole unit is replayed until it gets through: the first time,
     ``on_wait`` gets the one-line WAITING_NOTE; after ``max_wait_s`` seconds in all (default
     busy_wait_limit()) or ``retries`` replays, DatabaseProblem says the database stayed busy."""
@@ -452,7 +476,7 @@ def run_in_transaction(engine: Engine, fn: Callable[[Session], T], *, write: boo
     delay, attempt, noted = 0.05, 0, False
     while True:
         try:
-            with transaction(engine, write=write) as session:
+            with transaction(engine, write=write, core=core) as session:
                 return fn(session)
         except _Retry as why:
             attempt += 1
@@ -471,8 +495,8 @@ def run_in_transaction(engine: Engine, fn: Callable[[Session], T], *, write: boo
 
 # --------------------------------------------------------------------------- stock operations
 
-def to_stock_line(row: StockLineRow) -> StockLine:
-    """The plain record the core works with."""
+def to_stock_line(row) -> StockLine:
+    """The plain record the core works with, from a StockLineRow or a Core row of stock_lines."""
     return StockLine(
         id=row.id,
         kind=row.kind,
@@ -493,7 +517,7 @@ def to_stock_line(row: StockLineRow) -> StockLine:
     )
 
 
-def lock_stock_for_plan(session: Session) -> None:
+def lock_stock_for_plan(session: Union["Session", sa.Connection]) -> None:
     """Make this unit the only one that plans from the stock and then changes it (imports, kits,
     pulls) until it ends. SQLite: nothing to do, BEGIN IMMEDIATE already admits one writer at a
     time. PostgreSQL: a transaction-scoped advisory lock, taken before the stock is read, so two
@@ -501,21 +525,50 @@ def lock_stock_for_plan(session: Session) -> None:
     plans against the first one's committed lines; the unique identity index backs this up), and
     a pull's shortage check sees the quantities it will change. Single guarded changes (adjust,
     undo) do not need it."""
-    if session.get_bind().dialect.name == "postgresql":
+    if _dialect_name(session) == "postgresql":
         session.execute(sa.text("SELECT pg_advisory_xact_lock(:k)"), {"k": _PG_STOCK_PLAN_LOCK})
 
 
-def load_stock(session: Session, kind: str | tuple[str, ...] | None = None) -> list[StockLine]:
-    """All stock lines (optionally of one kind, or of the kinds in a tuple), ordered by id."""
-    stmt = sa.select(StockLineRow).order_by(StockLineRow.id)
+def _dialect_name(session: Union["Session", sa.Connection]) -> str:
+    """The backend's name ("sqlite", "postgresql") behind a Session or a Connection."""
+    bind = session.get_bind() if hasattr(session, "get_bind") else session
+    return bind.dialect.name
+
+
+def load_stock(session: Union["Session", sa.Connection],
+               kind: str | tuple[str, ...] | None = None) -> list[StockLine]:
+    """All stock lines (optionally of one kind, or of the kinds in a tuple), ordered by id; a Core
+    query, so a Connection from ``transaction(..., core=True)`` serves as well as a Session."""
+    stmt = sa.select(stock_lines).order_by(stock_lines.c.id)
     if isinstance(kind, tuple):
-        stmt = stmt.where(StockLineRow.kind.in_(kind))
+        stmt = stmt.where(stock_lines.c.kind.in_(kind))
     elif kind is not None:
-        stmt = stmt.where(StockLineRow.kind == kind)
-    return [to_stock_line(r) for r in session.scalars(stmt)]
+        stmt = stmt.where(stock_lines.c.kind == kind)
+    if hasattr(session, "flush"):
+        session.flush()  # a Session's pending rows first (a Core select does not autoflush)
+    return [to_stock_line(r) for r in session.execute(stmt)]
 
 
-def line_label(row: StockLineRow | StockLine) -> str:
+def save_search(session: Union["Session", sa.Connection], mode: str, target: dict, params: dict,
+                options: list[tuple[str, dict]]) -> int:
+    """Write one search (``mode``, its target and parameters as JSON) and its options, each given
+    as (connection, the option exactly as ``--json`` prints it: rank, error, ...); returns the new
+    search id. Core inserts (the id comes back through RETURNING / lastrowid on either backend),
+    so a Connection from ``transaction(..., core=True)`` serves as well as a Session."""
+    import json
+
+    search_id = session.execute(
+        sa.insert(searches).values(mode=mode, target_json=json.dumps(target), params_json=json.dumps(params))
+    ).inserted_primary_key[0]
+    if options:
+        session.execute(sa.insert(search_options), [
+            {"search_id": search_id, "rank": opt["rank"], "connection": connection,
+             "error": float(opt["error"]), "data_json": json.dumps(opt)}
+            for connection, opt in options])
+    return int(search_id)
+
+
+def line_label(row: Union["StockLineRow", StockLine]) -> str:
     """'stock line 7 (resistor 4.7 kΩ, A1)', 'stock line 9 (ic NE555P, B3)' — how messages name a line."""
     if row.kind in VALUELESS_KINDS:
         where = f", {row.location}" if row.location else ""
@@ -531,7 +584,7 @@ def line_label(row: StockLineRow | StockLine) -> str:
 
 
 def apply_movement(
-    session: Session,
+    session: "Session",
     line_id: int,
     delta: int,
     reason: str,
@@ -547,12 +600,16 @@ def apply_movement(
         raise UnknownStockLine(f"there is no stock line {line_id}")
     if abs(delta) > MAX_QUANTITY:
         raise InsufficientStock(f"a change of {delta:+d} parts is beyond any stock (at most {MAX_QUANTITY})")
+    from sqlalchemy.orm.util import identity_key
+
+    from selector.store.models import StockLineRow
+
     if delta == 0:
         row = session.get(StockLineRow, line_id)
         if row is None:
             raise UnknownStockLine(f"there is no stock line {line_id}")
         return row.quantity
-    lines = StockLineRow.__table__
+    lines = stock_lines
     session.flush()  # pending ORM changes (e.g. a line added in this unit) go first
     result = session.execute(
         sa.update(lines)
@@ -571,7 +628,7 @@ def apply_movement(
     if loaded is not None:
         session.expire(loaded, ["quantity", "updated_at"])
     session.execute(
-        sa.insert(MovementRow.__table__).values(
+        sa.insert(movements).values(
             line_id=line_id, delta=delta, reason=reason, reference=reference[:255], pull_id=pull_id
         )
     )

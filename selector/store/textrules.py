@@ -4,8 +4,8 @@ SQLite stores any text in any column; PostgreSQL refuses a string longer than it
 column and any NUL byte. So that a file imports the same way on both, every text the program
 writes is checked first against these rules, and a breach is one line naming the field:
 
-* a column declared ``String(n)`` in ``models.py`` holds at most ``n`` characters (the length is
-  read from the model, never repeated here);
+* a column declared ``String(n)`` in ``tables.py`` holds at most ``n`` characters (the length is
+  read from the table, never repeated here);
 * no control characters: C0 (U+0000-U+001F, NUL, ESC, CR, LF, ...), DEL and C1 (U+007F-U+009F).
   Tab is allowed: it is ordinary in a note and harmless on a terminal. Control characters would
   otherwise reach a technician's terminal (ESC sequences) or break a row of a table or CSV.

@@ -17,7 +17,7 @@ import sqlalchemy as sa
 from conftest import sqlite_only
 from selector.core.errors import DatabaseProblem
 from selector.store import db
-from selector.store.models import Base
+from selector.store.models import Base, StockLineRow
 
 REPO = Path(__file__).resolve().parents[2]
 
@@ -160,7 +160,7 @@ def test_database_at_an_older_revision_with_data_upgrades_with_data_intact(db_ur
         from bom_fixtures import add_search, ledger_sums, quantities
 
         with db.transaction(engine) as s:
-            new_line = db.StockLineRow(kind="resistor", value=22.0, tol_minus=0.05, tol_plus=0.05, quantity=0,
+            new_line = StockLineRow(kind="resistor", value=22.0, tol_minus=0.05, tol_plus=0.05, quantity=0,
                                        location="Z9", package="", rating=None, dielectric="", polarized=False,
                                        note="")
             s.add(new_line)
@@ -254,7 +254,7 @@ def test_revision_0003_merges_lines_that_share_an_identity(db_url):
         # and the index now refuses a second line for the same part (NULL rating included)
         with pytest.raises(DatabaseProblem, match="refused the change"):
             with db.transaction(engine) as s:
-                s.add(db.StockLineRow(kind="capacitor", value=1e-7, tol_minus=0.1, tol_plus=0.1, quantity=1,
+                s.add(StockLineRow(kind="capacitor", value=1e-7, tol_minus=0.1, tol_plus=0.1, quantity=1,
                                       location="D2", package="", rating=None, dielectric="X7R", polarized=False,
                                       note=""))
     finally:

@@ -6,6 +6,8 @@ from __future__ import annotations
 import multiprocessing as mp
 import os
 import sqlite3
+import subprocess
+import sys
 import threading
 import time
 from pathlib import Path
@@ -13,7 +15,7 @@ from pathlib import Path
 import pytest
 import sqlalchemy as sa
 
-from conftest import sqlite_only
+from conftest import REPO, SAMPLE, run_cli, sqlite_only
 from selector.core.errors import DatabaseProblem, InsufficientStock, UnknownStockLine
 from selector.core.types import StockLine
 from selector.store import db
@@ -28,6 +30,22 @@ def _add_line(session, **kw) -> int:
     session.add(row)
     session.flush()
     return row.id
+
+
+CORE = pytest.mark.parametrize("core", [False, True], ids=["session", "core"])
+"""A unit of work test run with an ORM Session and with a Core Connection (``core=True``): both
+must begin, wait, replay, translate errors and end alike."""
+
+
+def _take_one(unit, core: bool) -> None:
+    """Take one part from stock line 1 inside ``unit``: the ledgered change on a Session, a plain
+    guarded UPDATE on a Connection (apply_movement is a Session operation)."""
+    if core:
+        from selector.store.tables import stock_lines as t
+
+        unit.execute(sa.update(t).where(t.c.id == 1, t.c.quantity >= 1).values(quantity=t.c.quantity - 1))
+        return unit.execute(sa.select(t.c.quantity).where(t.c.id == 1)).scalar_one()
+    return db.apply_movement(unit, 1, -1, "adjust")
 
 
 # --------------------------------------------------------------------------- resolve_url
@@ -95,11 +113,12 @@ def test_memory_engine_keeps_its_schema_across_connections(memory_engine):
         assert conn.exec_driver_sql("PRAGMA foreign_keys").scalar() == 1
 
 
-def test_a_writing_unit_takes_the_write_lock_up_front(sqlite_url, sqlite_path):
+@CORE
+def test_a_writing_unit_takes_the_write_lock_up_front(sqlite_url, sqlite_path, core):
     """BEGIN IMMEDIATE: while a writing unit is open, another connection cannot start writing."""
     engine = db.open_engine(sqlite_url)
     try:
-        with db.transaction(engine) as s:
+        with db.transaction(engine, core=core) as s:
             db.load_stock(s)  # nothing written yet: still holds the RESERVED lock under BEGIN IMMEDIATE
             other = sqlite3.connect(sqlite_path, timeout=0, isolation_level=None)
             with pytest.raises(sqlite3.OperationalError, match="locked"):
@@ -109,14 +128,15 @@ def test_a_writing_unit_takes_the_write_lock_up_front(sqlite_url, sqlite_path):
         engine.dispose()
 
 
-def test_a_reading_unit_neither_takes_the_lock_nor_waits_for_a_writer(sqlite_url, sqlite_path):
+@CORE
+def test_a_reading_unit_neither_takes_the_lock_nor_waits_for_a_writer(sqlite_url, sqlite_path, core):
     """write=False: a deferred BEGIN. Another connection can start writing while it is open, and
     it reads (the last committed stock) while another connection holds the write lock."""
     engine = db.open_engine(sqlite_url)
     try:
         with db.transaction(engine) as s:
             _add_line(s, quantity=5)
-        with db.transaction(engine, write=False) as s:
+        with db.transaction(engine, write=False, core=core) as s:
             db.load_stock(s)
             other = sqlite3.connect(sqlite_path, timeout=0, isolation_level=None)
             other.execute("BEGIN IMMEDIATE")  # would raise "locked" if the reader held the lock
@@ -124,7 +144,7 @@ def test_a_reading_unit_neither_takes_the_lock_nor_waits_for_a_writer(sqlite_url
             assert [ln.quantity for ln in db.load_stock(s)] == [5]  # its own snapshot
         # and the reverse: a writer holds the lock, a reader in this process does not wait
         quantities = db.run_in_transaction(engine, lambda s: [ln.quantity for ln in db.load_stock(s)],
-                                           write=False, max_wait_s=0, retries=0, on_wait=None)
+                                           write=False, max_wait_s=0, retries=0, on_wait=None, core=core)
         assert quantities == [5]
         other.execute("ROLLBACK")
         other.close()
@@ -136,6 +156,20 @@ def test_foreign_keys_are_enforced(memory_engine):
     with pytest.raises(DatabaseProblem, match="refused the change"):
         with db.transaction(memory_engine) as s:
             s.add(MovementRow(line_id=12345, delta=1, reason="adjust", reference=""))
+
+
+def test_a_core_unit_turns_a_refused_statement_into_one_line_and_keeps_nothing(memory_engine):
+    """The same translation on a Connection: a broken foreign key ends as DatabaseProblem (one
+    line naming the database), and the unit's earlier statement is rolled back with it."""
+    from selector.store.tables import movements, searches
+
+    with pytest.raises(DatabaseProblem, match="refused the change") as info:
+        with db.transaction(memory_engine, core=True) as conn:
+            conn.execute(sa.insert(searches).values(mode="value", target_json="{}", params_json="{}"))
+            conn.execute(sa.insert(movements).values(line_id=12345, delta=1, reason="adjust"))
+    assert "\n" not in str(info.value)
+    with db.transaction(memory_engine, write=False, core=True) as conn:
+        assert conn.scalar(sa.select(sa.func.count()).select_from(searches)) == 0
 
 
 # --------------------------------------------------------------------------- transactions
@@ -152,7 +186,23 @@ def test_transaction_commits_on_success_and_rolls_back_on_error(memory_engine):
         assert s.scalar(sa.select(sa.func.count()).select_from(MovementRow)) == 0
 
 
-def test_busy_database_gives_one_clear_line_after_the_wait_limit(sqlite_url, sqlite_path, monkeypatch):
+def test_core_transaction_commits_on_success_and_rolls_back_on_error(memory_engine):
+    with db.transaction(memory_engine) as s:
+        _add_line(s, quantity=5)
+    with pytest.raises(RuntimeError):
+        with db.transaction(memory_engine, core=True) as conn:
+            assert _take_one(conn, True) == 4
+            raise RuntimeError("boom")
+    with db.transaction(memory_engine, write=False, core=True) as conn:
+        assert [ln.quantity for ln in db.load_stock(conn)] == [5]
+    with db.transaction(memory_engine, core=True) as conn:
+        assert _take_one(conn, True) == 4
+    with db.transaction(memory_engine, write=False) as s:
+        assert [ln.quantity for ln in db.load_stock(s)] == [4]
+
+
+@CORE
+def test_busy_database_gives_one_clear_line_after_the_wait_limit(sqlite_url, sqlite_path, monkeypatch, core):
     monkeypatch.setenv(db.BUSY_WAIT_ENV, "0.6")
     engine = db.open_engine(sqlite_url, busy_timeout_ms=50)
     locker = sqlite3.connect(sqlite_path, isolation_level=None)
@@ -160,7 +210,8 @@ def test_busy_database_gives_one_clear_line_after_the_wait_limit(sqlite_url, sql
     calls, notes = [], []
     try:
         with pytest.raises(DatabaseProblem) as info:
-            db.run_in_transaction(engine, lambda s: calls.append(1) or db.load_stock(s), on_wait=notes.append)
+            db.run_in_transaction(engine, lambda s: calls.append(1) or db.load_stock(s), on_wait=notes.append,
+                                  core=core)
     finally:
         locker.execute("ROLLBACK")
         locker.close()
@@ -185,7 +236,8 @@ def test_busy_wait_limit_comes_from_the_environment(monkeypatch):
         assert db.busy_wait_limit() == db.DEFAULT_BUSY_WAIT_S, bad
 
 
-def test_busy_database_is_retried_until_the_other_writer_finishes(sqlite_url, sqlite_path):
+@CORE
+def test_busy_database_is_retried_until_the_other_writer_finishes(sqlite_url, sqlite_path, core):
     engine = db.open_engine(sqlite_url, busy_timeout_ms=50)
     with db.transaction(engine) as s:
         _add_line(s, quantity=4)
@@ -194,8 +246,8 @@ def test_busy_database_is_retried_until_the_other_writer_finishes(sqlite_url, sq
     release = threading.Timer(0.4, lambda: locker.execute("ROLLBACK"))
     release.start()
     try:
-        new_qty = db.run_in_transaction(engine, lambda s: db.apply_movement(s, 1, -1, "adjust"),
-                                        on_wait=lambda note: None)
+        new_qty = db.run_in_transaction(engine, lambda s: _take_one(s, core), on_wait=lambda note: None,
+                                        core=core)
     finally:
         release.join()
         locker.close()
@@ -220,6 +272,70 @@ def test_load_stock_returns_plain_records_in_id_order(memory_engine):
         StockLine(2, "capacitor", 1e-7, 0.1, 0.1, 7, "D2", "", 50.0, "X7R", False, ""),
         StockLine(3, "capacitor", 1e-5, 0.2, 0.2, 1, "E1", "", None, "electrolytic", True, ""),
     ]
+
+
+def test_save_search_through_core_is_what_the_orm_reads_back(memory_engine):
+    """A search saved on a Core Connection (what ``find`` does) is the SearchRow with its options
+    in rank order that bom / pull / show read through the ORM; ids count on from the last one."""
+    import json
+
+    from selector.store.models import SearchRow
+
+    options = [("standard", {"rank": 1, "connection": "standard", "error": -0.004, "networks": {}}),
+               ("diode", {"rank": 2, "connection": "diode", "error": 0.0125, "why": "ok"})]
+    with db.transaction(memory_engine, core=True) as conn:
+        first = db.save_search(conn, "astable", {"frequency_hz": 1234.0}, {"boards": 2}, options)
+        second = db.save_search(conn, "value", {"value": 4700.0}, {}, [])
+    assert second == first + 1
+    with db.transaction(memory_engine, write=False) as s:
+        row = s.get(SearchRow, first)
+        assert (row.mode, json.loads(row.target_json), json.loads(row.params_json)) == \
+            ("astable", {"frequency_hz": 1234.0}, {"boards": 2})
+        assert row.created_at is not None
+        assert [(o.rank, o.connection, o.error, json.loads(o.data_json)) for o in row.options] == \
+            [(opt["rank"], conn, opt["error"], opt) for conn, opt in options]
+        assert s.get(SearchRow, second).options == []
+
+
+def test_a_search_whose_save_fails_leaves_no_search_behind(memory_engine):
+    """One unit: an option the table refuses (no rank) rolls back the search row written before it."""
+    from selector.store.tables import searches
+
+    bad = [("standard", {"rank": 1, "error": 0.01}), ("standard", {"rank": None, "error": 0.02})]
+    with pytest.raises(DatabaseProblem, match="refused the change"):
+        db.run_in_transaction(memory_engine, lambda c: db.save_search(c, "astable", {}, {}, bad), core=True)
+    with db.transaction(memory_engine, write=False, core=True) as conn:
+        assert conn.scalar(sa.select(sa.func.count()).select_from(searches)) == 0
+
+
+def test_searches_and_readers_never_import_the_orm(tmp_path):
+    """``find astable|value --json`` read the stock and save the search through Core, and ``bom``,
+    ``show``, ``stock list`` and ``ledger`` read through Core: in a fresh interpreter neither sqlalchemy.orm nor
+    the ORM classes are loaded (issue 12: start-up cost). ``stock import`` then does load them: the
+    negative control that the probe sees an import."""
+    path = tmp_path / "s.db"
+    assert run_cli("stock", "import", str(SAMPLE), db=path).returncode == 0
+    code = (
+        "import sys\n"
+        "from selector.cli.app import app\n"
+        "def run(*args):\n"
+        "    try:\n"
+        f"        app(['--db', {str(path)!r}, *args])\n"
+        "    except SystemExit as e:\n"
+        "        print('exit', e.code)\n"
+        "    print('orm', 'sqlalchemy.orm' in sys.modules, 'selector.store.models' in sys.modules)\n"
+        "run('find', 'astable', '--freq', '1234', '--duty', '0.62', '--json')\n"
+        "run('find', 'value', '4k7', '--json')\n"
+        "run('bom', '1', '--search', '1')\n"
+        "run('show', '1', '--search', '1')\n"
+        "run('stock', 'list', '--json')\n"
+        "run('ledger')\n"
+        f"run('stock', 'import', {str(SAMPLE)!r})\n"
+    )
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, cwd=REPO, timeout=120)
+    assert out.returncode == 0, out.stderr
+    assert [ln for ln in out.stdout.splitlines() if ln.startswith(("exit", "orm"))] == \
+        ["exit 0", "orm False False"] * 6 + ["exit 0", "orm True True"], out.stdout[-500:]
 
 
 def test_apply_movement_changes_quantity_and_writes_one_ledger_row(memory_engine):
