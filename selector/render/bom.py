@@ -139,7 +139,7 @@ def print_undo(console: Console, result) -> None:
 
 
 def ledger_lines(entries, width: int = 200) -> list:
-    cols = [Col("#", right=True), Col("when (UTC)"), Col("line", right=True), Col("value"),
+    cols = [Col("#", right=True), Col("when (UTC)", wrap=True, min_wrap=10), Col("line", right=True), Col("value"),
             Col("location", wrap=True, min_wrap=8), Col("change", right=True), Col("reason"),
             Col("pull", right=True, hide_empty=True), Col("reference", wrap=True, min_wrap=9, hide_empty=True)]
     rows = [_cells(e.movement_id, e.at.strftime("%Y-%m-%d %H:%M"), e.line_id, e.part or _value(e.kind, e.value),

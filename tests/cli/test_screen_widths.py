@@ -145,6 +145,9 @@ def test_stock_ledger_bom_and_import_read_at_the_width(shop, width, tmp_path):
     ledger = _run(shop, width, "ledger", "--limit", "30")
     _fits(ledger, w)
     _no_cut(ledger)
+    # the import's file name is one word: on every row whole, never "sample_stock.cs / v"
+    rows = [ln for ln in ledger.splitlines() if re.match(r"\s*[0-9]+\s", ln)]
+    assert rows and all(SAMPLE.name in ln for ln in rows), ledger
     _run(shop, width, "find", "astable", "--freq", "500", "--duty", "30%", "--max-parts", "3")
     for option in ("1", "2", "3"):
         bom = _run(shop, width, "bom", option)
