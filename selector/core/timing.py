@@ -270,19 +270,41 @@ def log_wright_omega(z) -> np.ndarray:
     Vectorised Halley iteration on y = ln ω: h(y) = y + e^y − z is increasing and convex, so the
     iteration converges from any start; the start (y = z for z ≤ 1, else ln(z − ln z), the
     asymptote) is already within a few percent, and the loop stops at full float precision
-    (≤ 6 steps seen over z ∈ [−50, 1e4])."""
+    (≤ 6 steps seen over z ∈ [−50, 1e4]).
+
+    A 0-d or 1-D ``z`` is one problem: every element takes the same number of steps, until the
+    last has converged. With two or more axes each vector along the LAST axis is its own problem
+    and stops on its own, so ``z`` stacked from several 1-D problems gives, row by row, exactly
+    what each row gives alone (the Monte Carlo evaluates many options in one call this way)."""
     z = _f(z)
     with np.errstate(divide="ignore", invalid="ignore"):
         y = np.where(z > 1.0, np.log(np.maximum(z - np.log(np.maximum(z, 1.0)), 1e-300)), z)
+    if z.ndim < 2:
+        for _ in range(50):
+            y, go = _halley_step(y, z)
+            if not np.any(go):
+                break
+        return y
+    shape = z.shape
+    z2, y2 = z.reshape(-1, shape[-1]), np.array(y.reshape(-1, shape[-1]))
+    rows = np.arange(z2.shape[0])
     for _ in range(50):
-        e = np.exp(y)
-        h = y + e - z
-        d1 = 1.0 + e
-        step = h / (d1 - 0.5 * h * e / d1)           # Halley
-        y = y - step
-        if not np.any(np.abs(step) > 1e-15 * np.maximum(1.0, np.abs(y))):
+        y_new, go = _halley_step(y2[rows], z2[rows])
+        y2[rows] = y_new
+        rows = rows[np.any(go, axis=-1)]
+        if rows.size == 0:
             break
-    return y
+    return y2.reshape(shape)
+
+
+def _halley_step(y, z):
+    """One Halley step of :func:`log_wright_omega`: (new y, where the step was above 1e-15·max(1, |y|))."""
+    e = np.exp(y)
+    h = y + e - z
+    d1 = 1.0 + e
+    step = h / (d1 - 0.5 * h * e / d1)           # Halley
+    y = y - step
+    return y, np.abs(step) > 1e-15 * np.maximum(1.0, np.abs(y))
 
 
 def _shockley_drop(a, ra, rb, isat, nvt) -> np.ndarray:
@@ -332,9 +354,16 @@ def _shockley_high_slope(ra, rb, c, vcc, vf, n):
     log_ratio = np.log(i0 / i1)
     half = 0.5 * (v0 - v1)
     mid = 0.5 * (v0 + v1)
-    x = mid[..., None] + half[..., None] * _GL_X
-    cur = isat[..., None] * np.expm1(x / nvt[..., None]) + x / rb[..., None]
-    integral = half * np.sum(_GL_W / cur, axis=-1)
+    # the nodes on a leading axis, so every operation runs along the long sample axis; the sum
+    # is numpy's pairwise order for 12 terms (8 paired, then the last 4 in turn), so the result
+    # is bit for bit that of np.sum over a trailing axis of 12
+    lead = (-1,) + (1,) * mid.ndim
+    x = mid + half * _GL_X.reshape(lead)
+    q = _GL_W.reshape(lead) / (isat * np.expm1(x / nvt) + x / rb)
+    total = ((q[0] + q[1]) + (q[2] + q[3])) + ((q[4] + q[5]) + (q[6] + q[7]))
+    for j in range(8, _GL_X.size):
+        total = total + q[j]
+    integral = half * total
     t = c * (ra * log_ratio + integral)
     slope = c * log_ratio
     t = np.where(ideal, LN2 * ra * c, t)
