@@ -172,14 +172,26 @@ class _Base:
     """What an option's evaluation needs besides the Monte Carlo: its model (``_model``), the
     inputs' nominal values and bands, the nominal outputs and the corners of every output."""
 
-    def __init__(self, found, target, limits):
+    def __init__(self, found, target, limits, figures: bool = True):
+        """``figures=False``: the model and inputs only; the caller sets ``nom``, ``cmin`` and
+        ``cmax`` (``_Simulations.bases_of`` does, for many options in one model call)."""
         from selector.core import tolerance
 
         self.fn, self.names, inputs, self.kind = _model(found, target, limits)
         self.nominal, self.tm, self.tp = _columns(inputs)
-        self.nom = [float(np.asarray(x).ravel()[0]) for x in self.fn(*[np.array([v]) for v in self.nominal])]
+        if figures:
+            self.nom = [float(np.asarray(x).ravel()[0]) for x in self.fn(*[np.array([v]) for v in self.nominal])]
+            lows, highs = tolerance.band(self.nominal, self.tm, self.tp)
+            self.cmin, self.cmax = tolerance.corners(self.fn, list(lows), list(highs))
+
+    def corner_points(self) -> list:
+        """One array per input over the 2^k corners of the band box, in ``tolerance.corners``' order."""
+        from selector.core import tolerance
+
         lows, highs = tolerance.band(self.nominal, self.tm, self.tp)
-        self.cmin, self.cmax = tolerance.corners(self.fn, list(lows), list(highs))
+        k = len(lows)
+        idx = np.indices((2,) * k).reshape(k, -1)
+        return [np.stack([lo, hi])[idx[j]] for j, (lo, hi) in enumerate(zip(lows, highs))]
 
 
 def _ranked(found, target, limits, accept, base: _Base, y: float, y_parts: float, n: int,
@@ -472,7 +484,7 @@ def evaluate_and_rank(found_options: Sequence, target, limits_by_connection: dic
     found_options, others = fold_builds(list(found_options) + list(folded), stock, boards,
                                         limits_by_connection)
     simulate = _Simulations(target, limits_by_connection, accept, distribution, samples, seed)
-    first = [simulate.first(o) for o in found_options]
+    first = simulate.firsts(found_options)
     best = min(first, key=lambda o: (abs(o.error), o.nparts))
     k = int(top) + 5
     by_parts = sorted(first, key=lambda o: (o.tier, o.nparts, o.asked_error))
@@ -556,18 +568,69 @@ class _Simulations:
         self.pending_parts: dict = {}   # memo key -> (base, builds drawn, outputs) for ``parts_only``
         self.key_of: dict = {}   # id(RankedOption returned by ``many``) -> its memo key
 
-    def _base(self, found, key=None) -> _Base:
+    def _base(self, found, key=None, figures: bool = True) -> _Base:
+        """The option's ``_Base`` (``figures=False``: its nominal outputs and corners may be
+        missing; the yield alone does not need them)."""
         key = _electrical_key(found) if key is None else key
+        if figures and not hasattr(self.bases.get(key), "nom"):
+            self.bases.pop(key, None)
+            self.bases_of([found])
         b = self.bases.get(key)
         if b is None:
             target, limits, _accept, _d, _s = self.args
-            b = self.bases[key] = _Base(found, target, limits[found.connection])
+            b = self.bases[key] = _Base(found, target, limits[found.connection], figures=False)
         return b
 
-    def first(self, found) -> RankedOption:
-        """``evaluate(..., monte_carlo=False)``: nominal figures and corners, no yield."""
+    def firsts(self, founds: Sequence) -> list:
+        """``evaluate(..., monte_carlo=False)`` for each: nominal figures and corners, no yield."""
         target, limits, accept, _d, _s = self.args
-        return _ranked(found, target, limits[found.connection], accept, self._base(found), math.nan, math.nan, 0)
+        self.bases_of(founds)
+        return [_ranked(f, target, limits[f.connection], accept, self._base(f), math.nan, math.nan, 0)
+                for f in founds]
+
+    def bases_of(self, founds: Sequence) -> None:
+        """Make the missing ``_Base`` of ``founds``: per connection ONE model call whose rows are
+        each option's nominal point and its corner points (a row repeats its points up to the
+        widest row; the model is elementwise and each row's Shockley solve stops on its own, so
+        every figure is the one ``_Base`` computes alone, and min/max see the same points)."""
+        target, limits, _a, _d, _s = self.args
+        missing: dict = {}
+        for f in founds:
+            key = _electrical_key(f)
+            if not hasattr(self.bases.get(key), "nom") and key not in missing:
+                missing[key] = f
+        by_conn: dict = {}
+        for key, f in missing.items():
+            by_conn.setdefault(f.connection, []).append(key)
+        for connection, keys in by_conn.items():
+            bases = [_Base(missing[k], target, limits[connection], figures=False) for k in keys]
+            points = [b.corner_points() for b in bases]
+            width = max(p[0].size for p in points)
+            rows = []
+            for b, p in zip(bases, points):
+                rows.append((b, [np.full(width, x) for x in b.nominal]))
+                rows.append((b, [np.resize(a, width) for a in p]))
+            outs = self._model_rows(connection, rows, width)
+            for i, (key, b, p) in enumerate(zip(keys, bases, points)):
+                b.nom = [float(o[2 * i, 0]) for o in outs]
+                vals = np.stack([o[2 * i + 1, :p[0].size] for o in outs])
+                b.cmin, b.cmax = vals.min(axis=1), vals.max(axis=1)
+                self.bases[key] = b
+
+    def _model_rows(self, connection: str, rows: list, n: int) -> list:
+        """The circuit's model over stacked rows: ``rows`` holds (base, one (n,) array per input);
+        returns the outputs as (len(rows), n) arrays, row i from rows[i]."""
+        v_rows, e_rows = [], []
+        for b, args in rows:
+            v, extra = b.fn.split(*args)
+            v_rows.append(v)
+            e_rows.append(extra)
+        v = {r: np.stack([np.broadcast_to(np.asarray(x[r], dtype=float), (n,)) for x in v_rows]) for r in v_rows[0]}
+        extra = {e: np.stack([np.broadcast_to(np.asarray(x[e], dtype=float), (n,)) for x in e_rows])
+                 for e in e_rows[0]}
+        _target, limits, _a, _d, _s = self.args
+        outs = rows[0][0].kind.model(v, limits[connection], extra)
+        return [np.broadcast_to(np.asarray(o, dtype=float), (len(rows), n)) for o in outs]
 
     def samples_used(self, n: int) -> int:
         """The builds a call with ``n`` actually draws (the full sample is at least MIN_SAMPLES)."""
@@ -595,22 +658,15 @@ class _Simulations:
         their nominal values (the parts-only run of ``_monte_carlo``)."""
         from selector.core import tolerance
 
-        v_rows, e_rows = [], []
+        rows = []
         for b in bases:
             k1, k = b.fn.n_parts_only, len(b.nominal)
             draws = tolerance.scale_draws(b.nominal, b.tm, b.tp, self._unit(n, k1, k - k1), self.distribution)
             args = list(draws)
             if parts_only:
                 args = args[:k1] + [np.full(n, v) for v in b.nominal[k1:]]
-            v, extra = b.fn.split(*args)
-            v_rows.append(v)
-            e_rows.append(extra)
-        v = {r: np.stack([np.broadcast_to(np.asarray(x[r], dtype=float), (n,)) for x in v_rows]) for r in v_rows[0]}
-        extra = {e: np.stack([np.broadcast_to(np.asarray(x[e], dtype=float), (n,)) for x in e_rows])
-                 for e in e_rows[0]}
-        _target, limits, _a, _d, _s = self.args
-        outs = bases[0].kind.model(v, limits[connection], extra)
-        return [np.broadcast_to(np.asarray(o, dtype=float), (len(bases), n)) for o in outs]
+            rows.append((b, args))
+        return self._model_rows(connection, rows, n)
 
     def _run(self, todo: dict, n: int, parts_only: bool = False) -> dict:
         """{memo key: (base, found)} -> {memo key: stacked outputs row (list of (n,) arrays)},
@@ -687,7 +743,7 @@ class _Simulations:
             keys.append(key)
             if key in self.memo or ("yield",) + key in self.memo or key in todo:
                 continue
-            todo[key] = (self._base(f, key[0]), f)
+            todo[key] = (self._base(f, key[0], figures=False), f)
         for key, outs in self._run(todo, int(n)).items():
             self.memo[("yield",) + key] = float(np.mean(todo[key][0].kind.in_spec(outs, target, accept)))
         return [self.memo[key].yield_fraction if key in self.memo else self.memo[("yield",) + key]
