@@ -152,6 +152,15 @@ def _model(found, target, limits):
         extra = {u.name: np.asarray(a, dtype=float) for u, a in zip(uncertain, args[n_parts:])}
         return v, extra
 
+    def split_array(x):
+        """``split`` of one (inputs, n) array, its rows in input order (no copies)."""
+        v, i = {}, 0
+        for role, net, k in zip(roles, nets, sizes):
+            v[role] = net.combine(x[i:i + k])
+            i += k
+        extra = {u.name: x[n_parts + j] for j, u in enumerate(uncertain)}
+        return v, extra
+
     def fn(*args):
         v, extra = split(*args)
         return kind.model(v, limits, extra)
@@ -160,6 +169,7 @@ def _model(found, target, limits):
     inputs += [(u.nominal, u.tol_minus, u.tol_plus) for u in uncertain]
     fn.n_parts_only = n_parts + sum(1 for u in uncertain if u.in_parts_only)
     fn.split = split
+    fn.split_array = split_array
     return fn, kind.outputs, inputs, kind
 
 
@@ -565,6 +575,7 @@ class _Simulations:
         self.memo: dict = {}
         self.bases: dict = {}
         self.units: dict = {}
+        self.scaled: dict = {}   # (id(base), builds) -> that option's drawn inputs (the parts-only run reuses them)
         self.pending_parts: dict = {}   # memo key -> (base, builds drawn, outputs) for ``parts_only``
         self.key_of: dict = {}   # id(RankedOption returned by ``many``) -> its memo key
 
@@ -608,8 +619,8 @@ class _Simulations:
             width = max(p[0].size for p in points)
             rows = []
             for b, p in zip(bases, points):
-                rows.append((b, [np.full(width, x) for x in b.nominal]))
-                rows.append((b, [np.resize(a, width) for a in p]))
+                rows.append((b, np.broadcast_to(b.nominal[:, None], (len(b.nominal), width))))
+                rows.append((b, np.stack([np.resize(a, width) for a in p])))
             outs = self._model_rows(connection, rows, width)
             for i, (key, b, p) in enumerate(zip(keys, bases, points)):
                 b.nom = [float(o[2 * i, 0]) for o in outs]
@@ -618,16 +629,17 @@ class _Simulations:
                 self.bases[key] = b
 
     def _model_rows(self, connection: str, rows: list, n: int) -> list:
-        """The circuit's model over stacked rows: ``rows`` holds (base, one (n,) array per input);
+        """The circuit's model over stacked rows: ``rows`` holds (base, (inputs, n) array);
         returns the outputs as (len(rows), n) arrays, row i from rows[i]."""
-        v_rows, e_rows = [], []
-        for b, args in rows:
-            v, extra = b.fn.split(*args)
-            v_rows.append(v)
-            e_rows.append(extra)
-        v = {r: np.stack([np.broadcast_to(np.asarray(x[r], dtype=float), (n,)) for x in v_rows]) for r in v_rows[0]}
-        extra = {e: np.stack([np.broadcast_to(np.asarray(x[e], dtype=float), (n,)) for x in e_rows])
-                 for e in e_rows[0]}
+        v: dict = {}
+        extra: dict = {}
+        for i, (b, x) in enumerate(rows):
+            vi, ei = b.fn.split_array(x)
+            for into, got in ((v, vi), (extra, ei)):
+                for name, a in got.items():
+                    if name not in into:
+                        into[name] = np.empty((len(rows), n))
+                    into[name][i] = a
         _target, limits, _a, _d, _s = self.args
         outs = rows[0][0].kind.model(v, limits[connection], extra)
         return [np.broadcast_to(np.asarray(o, dtype=float), (len(rows), n)) for o in outs]
@@ -661,11 +673,14 @@ class _Simulations:
         rows = []
         for b in bases:
             k1, k = b.fn.n_parts_only, len(b.nominal)
-            draws = tolerance.scale_draws(b.nominal, b.tm, b.tp, self._unit(n, k1, k - k1), self.distribution)
-            args = list(draws)
+            x = self.scaled.get((id(b), n))
+            if x is None:
+                x = tolerance.scale_draws(b.nominal, b.tm, b.tp, self._unit(n, k1, k - k1), self.distribution)
+                self.scaled[(id(b), n)] = x
             if parts_only:
-                args = args[:k1] + [np.full(n, v) for v in b.nominal[k1:]]
-            rows.append((b, args))
+                x = x.copy()
+                x[k1:] = b.nominal[k1:, None]
+            rows.append((b, x))
         return self._model_rows(connection, rows, n)
 
     def _run(self, todo: dict, n: int, parts_only: bool = False) -> dict:
