@@ -354,15 +354,27 @@ def _shockley_high_slope(ra, rb, c, vcc, vf, n):
     log_ratio = np.log(i0 / i1)
     half = 0.5 * (v0 - v1)
     mid = 0.5 * (v0 + v1)
-    # the nodes on a leading axis, so every operation runs along the long sample axis; the sum
-    # is numpy's pairwise order for 12 terms (8 paired, then the last 4 in turn), so the result
-    # is bit for bit that of np.sum over a trailing axis of 12
-    lead = (-1,) + (1,) * mid.ndim
-    x = mid + half * _GL_X.reshape(lead)
-    q = _GL_W.reshape(lead) / (isat * np.expm1(x / nvt) + x / rb)
-    total = ((q[0] + q[1]) + (q[2] + q[3])) + ((q[4] + q[5]) + (q[6] + q[7]))
+    # the sum over the nodes is numpy's pairwise order for a trailing axis of 12 terms (8 paired,
+    # then the last 4 in turn), so it is bit for bit np.sum(..., axis=-1) over the nodes. Large
+    # inputs take the nodes one at a time, in place (each temporary the size of the input, not
+    # 12 times it: 2-4x faster at 10 000 samples); small ones on a leading axis (fewer numpy calls)
+    if mid.size >= 2048:
+        def q(j):
+            x = half * _GL_X[j]
+            x += mid
+            y = x / nvt
+            np.expm1(y, out=y)
+            y *= isat
+            x /= rb
+            y += x
+            return np.divide(_GL_W[j], y, out=y)
+    else:
+        lead = (-1,) + (1,) * mid.ndim
+        x = mid + half * _GL_X.reshape(lead)
+        q = (_GL_W.reshape(lead) / (isat * np.expm1(x / nvt) + x / rb)).__getitem__
+    total = ((q(0) + q(1)) + (q(2) + q(3))) + ((q(4) + q(5)) + (q(6) + q(7)))
     for j in range(8, _GL_X.size):
-        total = total + q[j]
+        total += q(j)
     integral = half * total
     t = c * (ra * log_ratio + integral)
     slope = c * log_ratio
