@@ -277,34 +277,54 @@ def log_wright_omega(z) -> np.ndarray:
     and stops on its own, so ``z`` stacked from several 1-D problems gives, row by row, exactly
     what each row gives alone (the Monte Carlo evaluates many options in one call this way)."""
     z = _f(z)
+    if z.ndim == 0:   # the in-place steps need an array
+        return log_wright_omega(z.reshape(1))[0]
     with np.errstate(divide="ignore", invalid="ignore"):
         y = np.where(z > 1.0, np.log(np.maximum(z - np.log(np.maximum(z, 1.0)), 1e-300)), z)
     if z.ndim < 2:
         for _ in range(50):
-            y, go = _halley_step(y, z)
+            go = _halley_step(y, z)
             if not np.any(go):
                 break
         return y
     shape = z.shape
     z2, y2 = z.reshape(-1, shape[-1]), np.array(y.reshape(-1, shape[-1]))
-    rows = np.arange(z2.shape[0])
+    rows = None   # every row still iterating
     for _ in range(50):
-        y_new, go = _halley_step(y2[rows], z2[rows])
-        y2[rows] = y_new
-        rows = rows[np.any(go, axis=-1)]
+        if rows is None:
+            go = np.any(_halley_step(y2, z2), axis=-1)
+            if go.all():
+                continue
+            rows = np.flatnonzero(go)
+        else:
+            y_rows = y2[rows]
+            go = np.any(_halley_step(y_rows, z2[rows]), axis=-1)
+            y2[rows] = y_rows
+            rows = rows[go]
         if rows.size == 0:
             break
     return y2.reshape(shape)
 
 
 def _halley_step(y, z):
-    """One Halley step of :func:`log_wright_omega`: (new y, where the step was above 1e-15·max(1, |y|))."""
+    """One Halley step of :func:`log_wright_omega`, IN PLACE on ``y``; returns where the step was
+    above 1e-15·max(1, |y|) (the same operations as y − h/(d1 − h·e/(2·d1)), h = y + e^y − z,
+    d1 = 1 + e^y, without temporaries beyond four arrays)."""
     e = np.exp(y)
-    h = y + e - z
-    d1 = 1.0 + e
-    step = h / (d1 - 0.5 * h * e / d1)           # Halley
-    y = y - step
-    return y, np.abs(step) > 1e-15 * np.maximum(1.0, np.abs(y))
+    h = y + e
+    h -= z
+    d1 = e + 1.0
+    t = h * 0.5
+    t *= e
+    t /= d1
+    np.subtract(d1, t, out=t)
+    np.divide(h, t, out=h)               # the Halley step
+    y -= h
+    np.abs(h, out=h)
+    np.abs(y, out=t)
+    np.maximum(t, 1.0, out=t)
+    t *= 1e-15
+    return h > t
 
 
 def _shockley_drop(a, ra, rb, isat, nvt) -> np.ndarray:
