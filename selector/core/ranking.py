@@ -363,24 +363,33 @@ def _substitute_ok(orig, sub, limits) -> bool:
         return False
 
 
-def _with_lines(found, lines_by_role: dict):
-    """``found`` with each role's physical parts replaced by the given stock lines (same values)."""
+def _with_lines(found, lines_by_role: dict, memo: Optional[dict] = None):
+    """``found`` with each role's physical parts replaced by the given stock lines (same values).
+    ``memo`` (one dict per ``found``): a role given the same lines again reuses its network (the
+    variants of one build differ in one part)."""
     import dataclasses
 
     nets = {}
     for role, net in found.networks.items():
         phys = tuple(lines_by_role[role])
+        key = (role, tuple(ln.id for ln in phys))
+        if memo is not None and key in memo:
+            nets[role] = memo[key]
+            continue
         counts: dict = {}
         order: list = []
         for ln in phys:
             if ln.id not in counts:
                 order.append(ln)
             counts[ln.id] = counts.get(ln.id, 0) + 1
-        vals = np.array([[p.value] for p in phys], dtype=float)
-        lo = float(net.combine(vals * (1 - np.array([[p.tol_minus] for p in phys])))[0])
-        hi = float(net.combine(vals * (1 + np.array([[p.tol_plus] for p in phys])))[0])
+        # the band edges v·(1 − tm) and v·(1 + tp) of every part (IEEE products, as numpy makes
+        # them), both through the network's law in one call
+        lo, hi = (float(x) for x in net.combine(np.array(
+            [[p.value * (1 - p.tol_minus), p.value * (1 + p.tol_plus)] for p in phys], dtype=float)))
         nets[role] = dataclasses.replace(net, parts=tuple((ln, counts[ln.id]) for ln in order),
                                          physical=phys, vmin=lo, vmax=hi)
+        if memo is not None:
+            memo[key] = nets[role]
     if dataclasses.is_dataclass(found):
         return dataclasses.replace(found, networks=nets)
     import copy
@@ -426,7 +435,8 @@ def more_variants(found, stock: Sequence, boards: int, limits, by_value: Optiona
             best[role].append(pick)
     if any(used[i] * boards > next(ln.quantity for r in roles for ln in best[r] if ln.id == i) for i in used):
         return []  # the greedy pick ran out of a line the original used: keep what the search found
-    out = [_with_lines(found, best)]
+    memo: dict = {}
+    out = [_with_lines(found, best, memo)]
     for role in roles:
         for k, orig in enumerate(best[role]):
             for cand in by_value.get((orig.kind, orig.value), []):
@@ -439,7 +449,7 @@ def more_variants(found, stock: Sequence, boards: int, limits, by_value: Optiona
                     continue
                 swapped = {r: list(best[r]) for r in roles}
                 swapped[role][k] = cand
-                out.append(_with_lines(found, swapped))
+                out.append(_with_lines(found, swapped, memo))
     return out
 
 
