@@ -340,6 +340,18 @@ def _shockley_drop(a, ra, rb, isat, nvt) -> np.ndarray:
     return nvt * (log_wright_omega(b + lk) - lk)
 
 
+def _shockley_drops(a0, a1, ra, rb, isat, nvt) -> tuple:
+    """:func:`_shockley_drop` at ``a0`` and at ``a1`` (same-shape arrays of at least one axis),
+    the two Wright omega solves in one call as separate problems (stacked on a new leading axis;
+    each is solved exactly as alone, see :func:`log_wright_omega`)."""
+    rp = ra * rb / (ra + rb)
+    k = rp * isat / nvt
+    lk = np.log(k)
+    z = np.stack([rp * (a0 / ra + isat) / nvt + lk, rp * (a1 / ra + isat) / nvt + lk])
+    u = log_wright_omega(z)
+    return nvt * (u[0] - lk), nvt * (u[1] - lk)
+
+
 def diode_shockley_high(ra, rb, c, vcc, vf, n) -> np.ndarray:
     """t_high of the diode-steered astable with a Shockley steering diode (vectorised).
 
@@ -367,8 +379,11 @@ def _shockley_high_slope(ra, rb, c, vcc, vf, n):
     vf_s = np.where(ideal, 0.65, vf)
     nvt = n * THERMAL_V
     isat = diode_saturation_current(vf_s, n)
-    v0 = _shockley_drop(2.0 * vcc / 3.0, ra, rb, isat, nvt)
-    v1 = _shockley_drop(vcc / 3.0, ra, rb, isat, nvt)
+    if np.ndim(ra) == 0:
+        v0 = _shockley_drop(2.0 * vcc / 3.0, ra, rb, isat, nvt)
+        v1 = _shockley_drop(vcc / 3.0, ra, rb, isat, nvt)
+    else:
+        v0, v1 = _shockley_drops(2.0 * vcc / 3.0, vcc / 3.0, ra, rb, isat, nvt)
     i0 = (2.0 * vcc / 3.0 - v0) / ra
     i1 = (vcc / 3.0 - v1) / ra
     log_ratio = np.log(i0 / i1)
