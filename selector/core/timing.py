@@ -286,18 +286,20 @@ def log_wright_omega(z) -> np.ndarray:
         np.maximum(y, 1e-300, out=y)
         np.log(y, out=y)
     np.copyto(y, z, where=~(z > 1.0))
+    work = [np.empty_like(y) for _ in range(4)] + [np.empty(y.shape, dtype=bool)]
     if z.ndim < 2:
         for _ in range(50):
-            go = _halley_step(y, z)
+            go = _halley_step(y, z, work)
             if not np.any(go):
                 break
         return y
     shape = z.shape
     z2, y2 = z.reshape(-1, shape[-1]), np.array(y.reshape(-1, shape[-1]))
+    work = [w.reshape(y2.shape) for w in work]
     rows = None   # every row still iterating
     for _ in range(50):
         if rows is None:
-            go = np.any(_halley_step(y2, z2), axis=-1)
+            go = np.any(_halley_step(y2, z2, work), axis=-1)
             if go.all():
                 continue
             rows = np.flatnonzero(go)
@@ -311,15 +313,19 @@ def log_wright_omega(z) -> np.ndarray:
     return y2.reshape(shape)
 
 
-def _halley_step(y, z):
+def _halley_step(y, z, work=None):
     """One Halley step of :func:`log_wright_omega`, IN PLACE on ``y``; returns where the step was
     above 1e-15·max(1, |y|) (the same operations as y − h/(d1 − h·e/(2·d1)), h = y + e^y − z,
-    d1 = 1 + e^y, without temporaries beyond four arrays)."""
-    e = np.exp(y)
-    h = y + e
+    d1 = 1 + e^y). ``work``: four float arrays and one bool array shaped like ``y``, reused
+    step after step (fresh memory costs page faults), else made here."""
+    if work is None:
+        work = [np.empty_like(y) for _ in range(4)] + [np.empty(y.shape, dtype=bool)]
+    e, h, d1, t, go = work
+    np.exp(y, out=e)
+    np.add(y, e, out=h)
     h -= z
-    d1 = e + 1.0
-    t = h * 0.5
+    np.add(e, 1.0, out=d1)
+    np.multiply(h, 0.5, out=t)
     t *= e
     t /= d1
     np.subtract(d1, t, out=t)
@@ -329,7 +335,7 @@ def _halley_step(y, z):
     np.abs(y, out=t)
     np.maximum(t, 1.0, out=t)
     t *= 1e-15
-    return h > t
+    return np.greater(h, t, out=go)
 
 
 def _shockley_drop(a, ra, rb, isat, nvt) -> np.ndarray:
