@@ -31,6 +31,7 @@ last place shown. Every row carries ``why``, two or three words on why it sits w
 
 from __future__ import annotations
 
+import functools
 import math
 from dataclasses import dataclass, field
 from typing import Optional, Sequence
@@ -319,10 +320,17 @@ def build_key(found) -> tuple:
 
 
 def _dielectric_rank(line) -> int:
+    return _dielectric_rank_of(line.dielectric or "")
+
+
+@functools.lru_cache(maxsize=256)
+def _dielectric_rank_of(text: str) -> int:
+    """Place of a dielectric (as written in stock) in the timing order; a pure function of the
+    text, remembered because sorting the variants of every build asks for it hundreds of times."""
     from selector.core import parts
 
     try:
-        d = parts.normalize_dielectric(line.dielectric or "")
+        d = parts.normalize_dielectric(text)
     except Exception:  # a hand-written dielectric the table does not know: last
         d = ""
     order = parts.TIMING_DIELECTRIC_ORDER
