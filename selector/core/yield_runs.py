@@ -35,6 +35,14 @@ def _electrical_key(found) -> tuple:
         for role, net in sorted(found.networks.items()))
 
 
+BATCH_ELEMENTS = 1 << 18
+"""At most this many samples (options x builds) per stacked model call, so a large --samples
+does not multiply the peak memory by the number of options (10 000 builds: 26 options a call)."""
+KEEP_ELEMENTS = 1 << 21
+"""Drawn inputs up to this size are kept for reuse; larger ones are drawn again (same seed, same
+values) when needed."""
+
+
 class YieldRuns:
     """``ranking.evaluate`` for many options at once, with the same figures as one call per option
     (see the module docstring). Results are remembered per (electrical key, sample count): a
@@ -51,7 +59,7 @@ class YieldRuns:
         self.bases: dict = {}
         self.units: dict = {}
         self.scaled: dict = {}   # (id(base), builds) -> that option's drawn inputs (the parts-only run reuses them)
-        self.pending_parts: dict = {}   # memo key -> (base, builds drawn, outputs) for ``parts_only``
+        self.pending_parts: dict = {}   # memo key -> (base, builds drawn) for ``parts_only``
         self.key_of: dict = {}   # id(RankedOption returned by ``many``) -> its memo key
 
     def _base(self, found, key=None, figures: bool = True) -> rk._Base:
@@ -136,7 +144,8 @@ class YieldRuns:
             u = tolerance.unit_draws(k1, n, rng, self.distribution)
             if k2:
                 u = np.concatenate([u, tolerance.unit_draws(k2, n, rng, self.distribution)])
-            u = self.units[key] = u
+            if u.size <= KEEP_ELEMENTS:
+                self.units[key] = u
         return u
 
     def _outputs(self, connection: str, bases: list, n: int, parts_only: bool = False) -> list:
@@ -151,25 +160,28 @@ class YieldRuns:
             x = self.scaled.get((id(b), n))
             if x is None:
                 x = tolerance.scale_draws(b.nominal, b.tm, b.tp, self._unit(n, k1, k - k1), self.distribution)
-                self.scaled[(id(b), n)] = x
+                if x.size <= KEEP_ELEMENTS:
+                    self.scaled[(id(b), n)] = x
             if parts_only:
                 x = x.copy()
                 x[k1:] = b.nominal[k1:, None]
             rows.append((b, x))
         return self._model_rows(connection, rows, n)
 
-    def _run(self, todo: dict, n: int, parts_only: bool = False) -> dict:
-        """{memo key: (base, found)} -> {memo key: stacked outputs row (list of (n,) arrays)},
-        one model call per connection."""
+    def _run(self, todo: dict, n: int, parts_only: bool = False):
+        """{memo key: (base, found)} -> yields (memo key, that option's outputs: a list of (n,)
+        arrays), one model call per connection and batch of at most ``BATCH_ELEMENTS`` samples;
+        a batch's outputs are dropped once the caller moves past them."""
         by_conn: dict = {}
         for key, (b, f) in todo.items():
             by_conn.setdefault(f.connection, []).append(key)
-        out = {}
+        rows = max(1, BATCH_ELEMENTS // max(int(n), 1))
         for connection, keys in by_conn.items():
-            outs = self._outputs(connection, [todo[k][0] for k in keys], n, parts_only)
-            for i, key in enumerate(keys):
-                out[key] = [o[i] for o in outs]
-        return out
+            for at in range(0, len(keys), rows):
+                part = keys[at:at + rows]
+                outs = self._outputs(connection, [todo[k][0] for k in part], n, parts_only)
+                for i, key in enumerate(part):
+                    yield key, [o[i] for o in outs]
 
     def many(self, founds: Sequence, n: int) -> list:
         """``evaluate(found, ..., n, screen=n < samples)`` for each, without the parts-only yield
@@ -183,17 +195,22 @@ class YieldRuns:
         for f, key in zip(founds, keys):
             if key not in self.memo and key not in todo:
                 todo[key] = (self._base(f, key[0]), f)
-        runs = self._run(todo, draws)
+        figures = {}
+        for key, outs in self._run(todo, draws):
+            b = todo[key][0]
+            y = float(np.mean(b.kind.in_spec(outs, target, accept)))
+            figures[key] = (y, rk._extremes(outs))
         out = []
         for f, key in zip(founds, keys):
             done = self.memo.get(key)
             if done is None:
                 b = todo[key][0]
-                outs = runs[key]
-                y = float(np.mean(b.kind.in_spec(outs, target, accept)))
-                done = rk._ranked(f, target, limits[f.connection], accept, b, y, math.nan, draws, rk._extremes(outs))
+                y, extremes = figures[key]
+                # without chip, supply or diode terms the full run IS the parts-only run
+                y_parts = y if b.fn.n_parts_only == len(b.nominal) else math.nan
+                done = rk._ranked(f, target, limits[f.connection], accept, b, y, y_parts, draws, extremes)
                 self.memo[key] = done
-                self.pending_parts[key] = (b, draws, outs)
+                self.pending_parts[key] = (b, draws)
             else:
                 done = dataclasses.replace(done, found=f, cautions=rk.cautions(f, target, limits[f.connection]),
                                            rank=0, is_best_error=False, why="", yield_group=0, alternatives=[])
@@ -211,14 +228,11 @@ class YieldRuns:
             if not math.isnan(o.yield_parts_only):
                 continue
             key = self.key_of[id(o)]
-            b, draws, outs = self.pending_parts[key]
-            if b.fn.n_parts_only == len(b.nominal):
-                o.yield_parts_only = float(np.mean(b.kind.in_spec(outs, target, accept)))
-                continue
+            b, draws = self.pending_parts[key]
             need.setdefault(draws, {})[key] = (b, o.found)
             waiting.setdefault(key, []).append(o)
         for draws, todo in need.items():
-            for key, outs in self._run(todo, draws, parts_only=True).items():
+            for key, outs in self._run(todo, draws, parts_only=True):
                 y = float(np.mean(todo[key][0].kind.in_spec(outs, target, accept)))
                 for o in waiting[key]:
                     o.yield_parts_only = y
@@ -234,7 +248,7 @@ class YieldRuns:
             if key in self.memo or ("yield",) + key in self.memo or key in todo:
                 continue
             todo[key] = (self._base(f, key[0], figures=False), f)
-        for key, outs in self._run(todo, int(n)).items():
+        for key, outs in self._run(todo, int(n)):
             self.memo[("yield",) + key] = float(np.mean(todo[key][0].kind.in_spec(outs, target, accept)))
         return [self.memo[key].yield_fraction if key in self.memo else self.memo[("yield",) + key]
                 for key in keys]
