@@ -31,6 +31,7 @@ last place shown. Every row carries ``why``, two or three words on why it sits w
 
 from __future__ import annotations
 
+import functools
 import math
 from dataclasses import dataclass, field
 from typing import Optional, Sequence
@@ -143,17 +144,33 @@ def _model(found, target, limits):
     uncertain = tuple(u for u in uncertain if u.in_parts_only) + tuple(u for u in uncertain if not u.in_parts_only)
     n_parts = sum(sizes)
 
-    def fn(*args):
+    def split(*args):
+        """The model's (role values, uncertain terms) from one array per input."""
         v, i = {}, 0
         for role, net, k in zip(roles, nets, sizes):
             v[role] = net.combine(np.stack([np.asarray(a, dtype=float) for a in args[i:i + k]]))
             i += k
         extra = {u.name: np.asarray(a, dtype=float) for u, a in zip(uncertain, args[n_parts:])}
+        return v, extra
+
+    def split_array(x):
+        """``split`` of one (inputs, n) array, its rows in input order (no copies)."""
+        v, i = {}, 0
+        for role, net, k in zip(roles, nets, sizes):
+            v[role] = net.combine(x[i:i + k])
+            i += k
+        extra = {u.name: x[n_parts + j] for j, u in enumerate(uncertain)}
+        return v, extra
+
+    def fn(*args):
+        v, extra = split(*args)
         return kind.model(v, limits, extra)
 
     inputs = [(p.value, p.tol_minus, p.tol_plus) for n in nets for p in n.physical]
     inputs += [(u.nominal, u.tol_minus, u.tol_plus) for u in uncertain]
     fn.n_parts_only = n_parts + sum(1 for u in uncertain if u.in_parts_only)
+    fn.split = split
+    fn.split_array = split_array
     return fn, kind.outputs, inputs, kind
 
 
@@ -162,34 +179,45 @@ def _columns(inputs) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     return tuple(np.array([x[j] for x in inputs], dtype=float) for j in range(3))
 
 
-def evaluate(found, target, limits, accept: float, distribution: str = "uniform", samples: int = 10_000,
-             seed: int = 0, monte_carlo: bool = True, screen: bool = False) -> RankedOption:
-    """Predictions, worst-case range, Monte Carlo yield and cautions of one option
-    (``monte_carlo=False``: corners only, yield nan - for a first cut of a large pool;
-    ``screen=True``: exactly ``samples`` builds, even below ``MIN_SAMPLES``, to screen contenders)."""
-    from selector.core import tolerance
+class _Base:
+    """What an option's evaluation needs besides the Monte Carlo: its model (``_model``), the
+    inputs' nominal values and bands, the nominal outputs and the corners of every output."""
 
-    fn, names, inputs, kind = _model(found, target, limits)
-    nominal, tm, tp = _columns(inputs)
-    nom = [float(np.asarray(x).ravel()[0]) for x in fn(*[np.array([v]) for v in nominal])]
-    lows, highs = tolerance.band(nominal, tm, tp)
-    cmin, cmax = tolerance.corners(fn, list(lows), list(highs))
-    if monte_carlo:
-        n = int(samples) if screen else max(int(samples), tolerance.MIN_SAMPLES)
-        outs, parts_outs = _monte_carlo(fn, nominal, tm, tp, n, seed, distribution)
-    else:
-        outs = [np.array([np.nan]) for _ in names]
+    def __init__(self, found, target, limits, figures: bool = True):
+        """``figures=False``: the model and inputs only; the caller sets ``nom``, ``cmin`` and
+        ``cmax`` (``_Simulations.bases_of`` does, for many options in one model call)."""
+        from selector.core import tolerance
+
+        self.fn, self.names, inputs, self.kind = _model(found, target, limits)
+        self.nominal, self.tm, self.tp = _columns(inputs)
+        if figures:
+            self.nom = [float(np.asarray(x).ravel()[0]) for x in self.fn(*[np.array([v]) for v in self.nominal])]
+            lows, highs = tolerance.band(self.nominal, self.tm, self.tp)
+            self.cmin, self.cmax = tolerance.corners(self.fn, list(lows), list(highs))
+
+    def corner_points(self) -> list:
+        """One array per input over the 2^k corners of the band box, in ``tolerance.corners``' order."""
+        from selector.core import tolerance
+
+        lows, highs = tolerance.band(self.nominal, self.tm, self.tp)
+        k = len(lows)
+        idx = np.indices((2,) * k).reshape(k, -1)
+        return [np.stack([lo, hi])[idx[j]] for j, (lo, hi) in enumerate(zip(lows, highs))]
+
+
+def _ranked(found, target, limits, accept, base: _Base, y: float, y_parts: float, n: int,
+            mc_extremes=None) -> RankedOption:
+    """The ``RankedOption`` of ``found`` from its ``_Base`` and Monte Carlo figures (``n`` = 0: none;
+    ``mc_extremes``: per output (nanmin, nanmax) of the samples, widening the corners' range)."""
+    kind, names = base.kind, base.names
     predicted, rng_out = {}, {}
     for j, name in enumerate(names):
-        lo, hi = float(np.min(cmin[j])), float(np.max(cmax[j]))
-        if monte_carlo:
-            lo, hi = min(lo, float(np.nanmin(outs[j]))), max(hi, float(np.nanmax(outs[j])))
-        predicted[name] = nom[j]
+        lo, hi = float(np.min(base.cmin[j])), float(np.max(base.cmax[j]))
+        if mc_extremes is not None:
+            lo, hi = min(lo, mc_extremes[j][0]), max(hi, mc_extremes[j][1])
+        predicted[name] = base.nom[j]
         rng_out[name] = [lo, hi]
-    ok = kind.in_spec(outs, target, accept)
     main = kind.main_output(target)
-    y = float(np.mean(ok)) if monte_carlo else math.nan
-    y_parts = float(np.mean(kind.in_spec(parts_outs, target, accept))) if monte_carlo else math.nan
     lo, hi = rng_out[main]
     spread = (hi - lo) / predicted[main] if predicted[main] > 0 else math.inf
     score = max(abs(found.error), spread / 4.0)
@@ -197,7 +225,30 @@ def evaluate(found, target, limits, accept: float, distribution: str = "uniform"
     asked = kind.asked_error(errs, target)
     return RankedOption(found, predicted, rng_out, y, spread, score, cautions(found, target, limits),
                         errors=errs, asked_error=asked, tier=tier_of(asked, accept),
-                        yield_parts_only=y_parts, yield_samples=n if monte_carlo else 0)
+                        yield_parts_only=y_parts, yield_samples=n)
+
+
+def _extremes(outs) -> list:
+    """(nanmin, nanmax) of each output's samples, as floats."""
+    return [(float(np.nanmin(o)), float(np.nanmax(o))) for o in outs]
+
+
+def evaluate(found, target, limits, accept: float, distribution: str = "uniform", samples: int = 10_000,
+             seed: int = 0, monte_carlo: bool = True, screen: bool = False) -> RankedOption:
+    """Predictions, worst-case range, Monte Carlo yield and cautions of one option
+    (``monte_carlo=False``: corners only, yield nan - for a first cut of a large pool;
+    ``screen=True``: exactly ``samples`` builds, even below ``MIN_SAMPLES``, to screen contenders).
+    The reference for ``evaluate_and_rank``, which gets the same figures for many options at once."""
+    from selector.core import tolerance
+
+    base = _Base(found, target, limits)
+    if not monte_carlo:
+        return _ranked(found, target, limits, accept, base, math.nan, math.nan, 0)
+    n = int(samples) if screen else max(int(samples), tolerance.MIN_SAMPLES)
+    outs, parts_outs = _monte_carlo(base.fn, base.nominal, base.tm, base.tp, n, seed, distribution)
+    y = float(np.mean(base.kind.in_spec(outs, target, accept)))
+    y_parts = float(np.mean(base.kind.in_spec(parts_outs, target, accept)))
+    return _ranked(found, target, limits, accept, base, y, y_parts, n, _extremes(outs))
 
 
 def _monte_carlo(fn, nominal, tm, tp, n: int, seed: int, distribution: str, parts_only: bool = True):
@@ -269,10 +320,17 @@ def build_key(found) -> tuple:
 
 
 def _dielectric_rank(line) -> int:
+    return _dielectric_rank_of(line.dielectric or "")
+
+
+@functools.lru_cache(maxsize=256)
+def _dielectric_rank_of(text: str) -> int:
+    """Place of a dielectric (as written in stock) in the timing order; a pure function of the
+    text, remembered because sorting the variants of every build asks for it hundreds of times."""
     from selector.core import parts
 
     try:
-        d = parts.normalize_dielectric(line.dielectric or "")
+        d = parts.normalize_dielectric(text)
     except Exception:  # a hand-written dielectric the table does not know: last
         d = ""
     order = parts.TIMING_DIELECTRIC_ORDER
@@ -313,24 +371,33 @@ def _substitute_ok(orig, sub, limits) -> bool:
         return False
 
 
-def _with_lines(found, lines_by_role: dict):
-    """``found`` with each role's physical parts replaced by the given stock lines (same values)."""
+def _with_lines(found, lines_by_role: dict, memo: Optional[dict] = None):
+    """``found`` with each role's physical parts replaced by the given stock lines (same values).
+    ``memo`` (one dict per ``found``): a role given the same lines again reuses its network (the
+    variants of one build differ in one part)."""
     import dataclasses
 
     nets = {}
     for role, net in found.networks.items():
         phys = tuple(lines_by_role[role])
+        key = (role, tuple(ln.id for ln in phys))
+        if memo is not None and key in memo:
+            nets[role] = memo[key]
+            continue
         counts: dict = {}
         order: list = []
         for ln in phys:
             if ln.id not in counts:
                 order.append(ln)
             counts[ln.id] = counts.get(ln.id, 0) + 1
-        vals = np.array([[p.value] for p in phys], dtype=float)
-        lo = float(net.combine(vals * (1 - np.array([[p.tol_minus] for p in phys])))[0])
-        hi = float(net.combine(vals * (1 + np.array([[p.tol_plus] for p in phys])))[0])
+        # the band edges v·(1 − tm) and v·(1 + tp) of every part (IEEE products, as numpy makes
+        # them), both through the network's law in one call
+        lo, hi = (float(x) for x in net.combine(np.array(
+            [[p.value * (1 - p.tol_minus), p.value * (1 + p.tol_plus)] for p in phys], dtype=float)))
         nets[role] = dataclasses.replace(net, parts=tuple((ln, counts[ln.id]) for ln in order),
                                          physical=phys, vmin=lo, vmax=hi)
+        if memo is not None:
+            memo[key] = nets[role]
     if dataclasses.is_dataclass(found):
         return dataclasses.replace(found, networks=nets)
     import copy
@@ -376,7 +443,8 @@ def more_variants(found, stock: Sequence, boards: int, limits, by_value: Optiona
             best[role].append(pick)
     if any(used[i] * boards > next(ln.quantity for r in roles for ln in best[r] if ln.id == i) for i in used):
         return []  # the greedy pick ran out of a line the original used: keep what the search found
-    out = [_with_lines(found, best)]
+    memo: dict = {}
+    out = [_with_lines(found, best, memo)]
     for role in roles:
         for k, orig in enumerate(best[role]):
             for cand in by_value.get((orig.kind, orig.value), []):
@@ -389,7 +457,7 @@ def more_variants(found, stock: Sequence, boards: int, limits, by_value: Optiona
                     continue
                 swapped = {r: list(best[r]) for r in roles}
                 swapped[role][k] = cand
-                out.append(_with_lines(found, swapped))
+                out.append(_with_lines(found, swapped, memo))
     return out
 
 
@@ -437,13 +505,16 @@ def evaluate_and_rank(found_options: Sequence, target, limits_by_connection: dic
     """Fold the pool (with ``folded``, variants the search set aside) to one option per build,
     evaluate and rank. The Monte Carlo (the costly part) runs only for the first ``top + 5``
     options by (tier, parts, error), by (tier, score band, error), by (tier, error) and the exact
-    best; the ranking is over those. The shown options' other variants get their yield too."""
+    best; the ranking is over those. The shown options' other variants get their yield too.
+    Every figure is the one ``evaluate`` gives for that option alone (``yield_runs.YieldRuns``)."""
+    from selector.core.yield_runs import YieldRuns
+
     if not found_options:
         return []
     found_options, others = fold_builds(list(found_options) + list(folded), stock, boards,
                                         limits_by_connection)
-    first = [evaluate(o, target, limits_by_connection[o.connection], accept, distribution, samples,
-                      seed, monte_carlo=False) for o in found_options]
+    simulate = YieldRuns(target, limits_by_connection, accept, distribution, samples, seed)
+    first = simulate.firsts(found_options)
     best = min(first, key=lambda o: (abs(o.error), o.nparts))
     k = int(top) + 5
     by_parts = sorted(first, key=lambda o: (o.tier, o.nparts, o.asked_error))
@@ -453,22 +524,25 @@ def evaluate_and_rank(found_options: Sequence, target, limits_by_connection: dic
     for o in by_parts[:k] + by_score[:k] + by_error[:k] + [best]:
         if o not in chosen:
             chosen.append(o)
-    simulate = _Simulations(target, limits_by_connection, accept, distribution, samples, seed)
     if samples > SCREEN_SAMPLES and len(chosen) > top:
         # screen every contender with a smaller sample, then the full sample only for the head
         # of that order (the ones that can be listed) and the exact best; rank those
-        screened = rank([simulate(o.found, SCREEN_SAMPLES) for o in chosen], len(chosen))
+        screened = rank(simulate.many([o.found for o in chosen], SCREEN_SAMPLES), len(chosen))
         head = [o.found for o in screened[:int(top) + SCREEN_MARGIN]]
         if not any(f is best.found for f in head):
             head.append(best.found)
-        full = [simulate(f, samples) for f in head]
+        full = simulate.many(head, samples)
     else:
-        full = [simulate(o.found, samples) for o in chosen]
+        full = simulate.many([o.found for o in chosen], samples)
     shown = rank(full, top)
+    simulate.parts_only(shown)
     n_alt = min(int(samples), ALTERNATIVE_SAMPLES)
-    for o in shown:
-        o.alternatives = [(v, simulate.yield_of(v, n_alt))
-                          for v in others.get(id(o.found), [])[:MAX_ALTERNATIVES]]
+    alts = [others.get(id(o.found), [])[:MAX_ALTERNATIVES] for o in shown]
+    ys = simulate.yields_of([v for a in alts for v in a], n_alt)
+    i = 0
+    for o, a in zip(shown, alts):
+        o.alternatives = list(zip(a, ys[i:i + len(a)]))
+        i += len(a)
         o.alternative_samples = simulate.samples_used(n_alt)
     return shown
 
@@ -482,60 +556,6 @@ listed beside its option, not ranked), stated in the JSON with its standard erro
 SCREEN_MARGIN = 5
 """Contenders beyond ``top`` (in the screened order) that get the full sample too, so an option
 that the smaller sample ranked just below the cut can still take its place."""
-
-
-def _electrical_key(found) -> tuple:
-    """What a Monte Carlo run of one option depends on besides the settings: the connection and,
-    per role, the network's structure and each physical part's value and tolerances in combine
-    order. Two variants with the same key (the same parts from other drawers) get the same draws
-    and so the same yield."""
-    return (found.connection,) + tuple(
-        (role, net.structure, tuple((p.value, p.tol_minus, p.tol_plus) for p in net.physical))
-        for role, net in sorted(found.networks.items()))
-
-
-class _Simulations:
-    """``evaluate`` with the Monte Carlo, remembered per (electrical key, sample count): the same
-    seed and inputs give the same figures, so a variant that differs only in its drawers is not
-    simulated again. The cautions depend on the stock lines (ratings, dielectric), so each call
-    still returns the option's own ``RankedOption``."""
-
-    def __init__(self, target, limits_by_connection, accept, distribution, samples, seed):
-        self.args = (target, limits_by_connection, accept, distribution, seed)
-        self.full = samples
-        self.memo: dict = {}
-
-    def yield_of(self, found, n: int) -> float:
-        """The yield alone (``yield_only``) on ``n`` builds, remembered like ``__call__``."""
-        key = (_electrical_key(found), n)
-        done = self.memo.get(key)
-        if done is not None:
-            return done.yield_fraction
-        key = ("yield",) + key
-        if key not in self.memo:
-            target, limits, accept, distribution, seed = self.args
-            self.memo[key] = yield_only(found, target, limits[found.connection], accept, distribution, n, seed)
-        return self.memo[key]
-
-    def samples_used(self, n: int) -> int:
-        """The builds a call with ``n`` actually draws (the full sample is at least MIN_SAMPLES)."""
-        from selector.core.tolerance import MIN_SAMPLES
-
-        return int(n) if n < self.full else max(int(n), MIN_SAMPLES)
-
-    def __call__(self, found, n: int) -> RankedOption:
-        import dataclasses
-
-        target, limits, accept, distribution, seed = self.args
-        key = (_electrical_key(found), n)
-        done = self.memo.get(key)
-        if done is None:
-            done = evaluate(found, target, limits[found.connection], accept, distribution, n, seed,
-                            screen=n < self.full)
-            self.memo[key] = done
-            return done
-        return dataclasses.replace(done, found=found, cautions=cautions(found, target, limits[found.connection]),
-                                   rank=0, is_best_error=False, why="", yield_group=0, alternatives=[])
 
 
 def yield_group_ids(yields: Sequence[float]) -> list[int]:

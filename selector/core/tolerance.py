@@ -53,19 +53,35 @@ def draw_parts(nominal, tol_minus, tol_plus, n: int, rng: np.random.Generator,
     """Draw ``n`` sample values of each part; returns shape ``(len(nominal), n)``.
 
     Every sample lies inside its band [v·(1 − tm), v·(1 + tp)] for both distributions (see the
-    module docstring for the normal model and its truncation).
+    module docstring for the normal model and its truncation). The same as
+    ``scale_draws(nominal, tol_minus, tol_plus, unit_draws(len(nominal), n, rng, distribution))``.
     """
+    dist = _check_distribution(distribution)
+    v = np.atleast_1d(np.asarray(nominal, dtype=float))
+    return scale_draws(v, tol_minus, tol_plus, unit_draws(v.size, n, rng, dist), dist)
+
+
+def unit_draws(k: int, n: int, rng: np.random.Generator, distribution: str = "uniform") -> np.ndarray:
+    """The draws behind :func:`draw_parts` before they meet the parts, shape (k, n): uniform on
+    [0, 1), or standard normal truncated to ±``SIGMAS_PER_TOLERANCE``. They depend only on the
+    generator's state, k and n, so one set serves every option drawn from the same seed."""
+    dist = _check_distribution(distribution)
+    shape = (int(k), int(n))
+    if dist == "uniform":
+        return rng.random(shape)                           # [0, 1)
+    return _truncated_std_normal(shape, rng, SIGMAS_PER_TOLERANCE)
+
+
+def scale_draws(nominal, tol_minus, tol_plus, unit: np.ndarray, distribution: str = "uniform") -> np.ndarray:
+    """Part values from :func:`unit_draws`: row j of ``unit`` placed in part j's band."""
     dist = _check_distribution(distribution)
     v = np.atleast_1d(np.asarray(nominal, dtype=float))
     tm = np.broadcast_to(np.asarray(tol_minus, dtype=float), v.shape)[:, None]
     tp = np.broadcast_to(np.asarray(tol_plus, dtype=float), v.shape)[:, None]
-    shape = (v.size, int(n))
     if dist == "uniform":
-        u = rng.random(shape)                              # [0, 1)
-        rel = -tm + u * (tm + tp)
+        rel = -tm + unit * (tm + tp)
     else:
-        z = _truncated_std_normal(shape, rng, SIGMAS_PER_TOLERANCE)
-        rel = np.where(z >= 0, z * tp, z * tm) / SIGMAS_PER_TOLERANCE
+        rel = np.where(unit >= 0, unit * tp, unit * tm) / SIGMAS_PER_TOLERANCE
     return v[:, None] * (1.0 + rel)
 
 
