@@ -30,6 +30,20 @@ FILM = ("film-PP", "film-PET", "film")
 POLARIZED = ("electrolytic", "tantalum")
 
 
+class LazyModule:
+    """A module imported on its first attribute use. The SPICE netlist pieces and the BOM records
+    are needed by ``netlist``/``simulate``/``bom``, never by a search, so the circuit modules reach
+    them through this and a ``find`` does not pay for importing them (start-up, issue 12)."""
+
+    def __init__(self, name: str):
+        self._name = name
+
+    def __getattr__(self, attr: str):
+        import importlib
+
+        return getattr(importlib.import_module(self._name), attr)
+
+
 def is_value(value: float) -> Callable[[float], bool]:
     """A stock value equal to ``value`` (within float noise)."""
     return lambda v: math.isclose(v, value, rel_tol=1e-6)

@@ -8,10 +8,11 @@ enters the worst case and the yield as an uncertain input."""
 
 from __future__ import annotations
 
-from selector.core.bom_records import ROLE_DIODE
-from selector.core.circuits.base import TWO_RESISTOR, Limits, Obtain, Settings, Target
+from selector.core.circuits.base import LazyModule, TWO_RESISTOR, Limits, Obtain, Settings, Target
 from selector.core.circuits.modes import AstableKind, Timer555
-from selector.core import netlist as sp
+
+sp = LazyModule("selector.core.netlist")
+records = LazyModule("selector.core.bom_records")
 
 
 class Diode(Timer555, AstableKind):
@@ -139,7 +140,7 @@ class Diode(Timer555, AstableKind):
         what = "small-signal Schottky diode" if schottky else "small-signal silicon diode, 1N4148 class"
         vf = f"; Vf about {vf_v:g} V as searched" if vf_v is not None else ""
         return super().bom_obtain(settings) + (Obtain(
-            "D1", ROLE_DIODE, "diode", what, f"across RB, anode at DIS, cathode at THR/TRIG{vf}",
+            "D1", records.ROLE_DIODE, "diode", what, f"across RB, anode at DIS, cathode at THR/TRIG{vf}",
             "diode:schottky" if schottky else "diode:silicon"),)
 
     # ---- SPICE

@@ -6,9 +6,10 @@ from __future__ import annotations
 import math
 from typing import Mapping, Optional, Sequence
 
-from selector.core.bom_records import ROLE_CV, ROLE_DECOUPLE, ROLE_IC, ROLE_RESERVOIR
-from selector.core.circuits.base import ModeBase, Settings, Target, check_positive
-from selector.core import netlist as sp
+from selector.core.circuits.base import LazyModule, ModeBase, Settings, Target, check_positive
+
+sp = LazyModule("selector.core.netlist")
+records = LazyModule("selector.core.bom_records")
 
 
 def chip_factor(extra):
@@ -242,7 +243,7 @@ class Timer555:
         from selector.core.circuits.base import Obtain
 
         fam = chips.family(settings.chip)
-        return (Obtain("U1", ROLE_IC, "ic", f"555 timer, {fam.part_text}", want=f"555:{fam.key}"),)
+        return (Obtain("U1", records.ROLE_IC, "ic", f"555 timer, {fam.part_text}", want=f"555:{fam.key}"),)
 
     def bom_extra_caps(self, settings: Settings):
         """Control-pin capacitor and reservoir as the family's data say, decoupling always
@@ -253,13 +254,13 @@ class Timer555:
         fam = chips.family(settings.chip)
         out = []
         if fam.control_pin_cap_f is not None:
-            out.append(ExtraCap(ROLE_CV, fam.control_pin_cap_f, is_value(fam.control_pin_cap_f),
+            out.append(ExtraCap(records.ROLE_CV, fam.control_pin_cap_f, is_value(fam.control_pin_cap_f),
                                 CERAMIC + FILM, POLARIZED, "CV (pin 5) to ground"))
-        out.append(ExtraCap(ROLE_DECOUPLE, 100e-9, is_value(100e-9), CERAMIC + FILM,
+        out.append(ExtraCap(records.ROLE_DECOUPLE, 100e-9, is_value(100e-9), CERAMIC + FILM,
                             POLARIZED, "VCC to ground, close to the IC"))
         if fam.reservoir_f is not None:
             lo, hi = fam.reservoir_f
-            out.append(ExtraCap(ROLE_RESERVOIR, lo, within(lo, hi), POLARIZED + CERAMIC, (),
+            out.append(ExtraCap(records.ROLE_RESERVOIR, lo, within(lo, hi), POLARIZED + CERAMIC, (),
                                 "VCC to ground, close to the IC; 10-100 µF", "electrolytic"))
         return tuple(out)
 

@@ -7,9 +7,10 @@ from __future__ import annotations
 
 import math
 
-from selector.core.circuits.base import ONE_RESISTOR, Limits, Settings, Target
+from selector.core.circuits.base import LazyModule, ONE_RESISTOR, Limits, Settings, Target
 from selector.core.circuits.modes import MonostableKind, Timer555, plain_r_bounds
-from selector.core import netlist as sp
+
+sp = LazyModule("selector.core.netlist")
 
 
 class Monostable(Timer555, MonostableKind):

@@ -6,9 +6,10 @@ from __future__ import annotations
 
 import math
 
-from selector.core.circuits.base import Limits, Settings, Target
+from selector.core.circuits.base import LazyModule, Limits, Settings, Target
 from selector.core.circuits.modes import FixedRatioAstable, Timer555
-from selector.core import netlist as sp
+
+sp = LazyModule("selector.core.netlist")
 
 
 class OutputFed(Timer555, FixedRatioAstable):

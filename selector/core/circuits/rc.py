@@ -6,9 +6,10 @@ from __future__ import annotations
 import math
 from typing import Optional
 
-from selector.core.circuits.base import ONE_RESISTOR, Limits, Settings, Target
+from selector.core.circuits.base import LazyModule, ONE_RESISTOR, Limits, Settings, Target
 from selector.core.circuits.modes import RCKind, plain_r_bounds
-from selector.core import netlist as sp
+
+sp = LazyModule("selector.core.netlist")
 
 
 class RC(RCKind):

@@ -22,12 +22,13 @@ import math
 from dataclasses import dataclass
 from typing import Optional
 
-from selector.core.bom_records import ROLE_DECOUPLE
 from selector.core.circuits.base import (
-    CERAMIC, FILM, POLARIZED, CliOption, ExtraCap, Limits, Obtain, Settings, Uncertain, is_value,
+    CERAMIC, FILM, POLARIZED, CliOption, ExtraCap, LazyModule, Limits, Obtain, Settings, Uncertain, is_value,
 )
 from selector.core.circuits.modes import FixedRatioAstable
-from selector.core import netlist as sp
+
+sp = LazyModule("selector.core.netlist")
+records = LazyModule("selector.core.bom_records")
 
 
 @dataclass(frozen=True)
@@ -200,7 +201,7 @@ class SchmittInverter(FixedRatioAstable):
         return (Obtain("U1", "inverter IC", "ic", fam.part, "one of its six inverters", f"schmitt:{fam.key}"),)
 
     def bom_extra_caps(self, settings: Settings):
-        return (ExtraCap(ROLE_DECOUPLE, 100e-9, is_value(100e-9), CERAMIC + FILM, POLARIZED,
+        return (ExtraCap(records.ROLE_DECOUPLE, 100e-9, is_value(100e-9), CERAMIC + FILM, POLARIZED,
                          "VDD to ground, close to the IC"),)
 
     def bom_notes(self, settings: Settings) -> list[str]:

@@ -7,9 +7,10 @@ duty always above 50 %.
 
 from __future__ import annotations
 
-from selector.core.circuits.base import TWO_RESISTOR, Limits, Settings, Target
+from selector.core.circuits.base import LazyModule, TWO_RESISTOR, Limits, Settings, Target
 from selector.core.circuits.modes import AstableKind, Timer555
-from selector.core import netlist as sp
+
+sp = LazyModule("selector.core.netlist")
 
 
 class Standard(Timer555, AstableKind):
