@@ -71,7 +71,7 @@ import numpy as np
 
 from selector.core.networks import shapes as _shapes
 from selector.core.networks.network import Network
-from selector.core.networks.nearest import ThreePartSearch, argsort_stable, join as _join, rank_rows, ranges_concat
+from selector.core.networks.nearest import ThreePartSearch, join as _join, rank_rows, ranges_concat
 from selector.core.types import NETWORK_KINDS, StockLine
 
 SHAPES: tuple[str, ...] = tuple(_shapes.SHAPES)  # the names; their meaning is in networks.shapes
@@ -132,7 +132,7 @@ class NetworkIndex:
             keep = (i != j) | (cap[i] >= 2)
             if not self.all_networks:  # both joints: the smaller share is min/(sum) (see token_share)
                 keep &= token_share(v[i], v[j]) >= np.maximum(self._tol[i], self._tol[j]) / 2
-            i, j = i[keep].astype(np.int64), j[keep].astype(np.int64)
+            i, j = i[keep].astype(np.int64, copy=False), j[keep].astype(np.int64, copy=False)
             ppol = self._pol[i] | self._pol[j]
             for code, joint in ((_SERIES, "series"), (_PARALLEL, "parallel")):
                 ii, jj = i, j
@@ -144,29 +144,52 @@ class NetworkIndex:
                 cols["lj"].append(jj)
         c = {name: np.concatenate(parts) for name, parts in cols.items()}
         # Built in (parts, shape, li, lj) order, so sorting on (value, build position) gives the
-        # order (value, parts, shape, li, lj) that ids and tie-breaks rely on.
-        order = argsort_stable(c["val"])
+        # order (value, parts, shape, li, lj) that ids and tie-breaks rely on. A stable sort is
+        # exactly that order; numpy's (timsort for floats) finds the already sorted runs the build
+        # makes (for each first line, both joints grow with the second) and merges them: about 3x
+        # faster than a quicksort here (measured on 481 E96 lines, 232 k entries: 6.4 vs 18 ms).
+        order = np.argsort(c["val"], kind="stable")
         self._val = c["val"][order]
         self._shape = c["shape"][order]
         self._li = c["li"][order]
         self._lj = c["lj"][order]
-        self._np = np.where(self._shape == _SINGLE, 1, 2).astype(np.int8)
-        self._M = M = len(self._val)
-        # Second order for "at or below" look-ups: within each run of equal values the higher
-        # positions (more parts, higher id) first, so the last k entries at or below a target
-        # are the k best by (distance, parts, id).
-        p = np.arange(M)
-        new_run = np.ones(M, dtype=bool)
-        new_run[1:] = self._val[1:] != self._val[:-1]
-        run = np.cumsum(new_run) - 1
-        starts = np.flatnonzero(new_run)
-        ends = np.append(starts[1:], M) - 1
-        self._order_desc = starts[run] + ends[run] - p
-        # (shape, li, lj) keys of the pairs are increasing in build order: no sort needed.
-        inverse = np.empty(M, dtype=np.int64)
-        inverse[order] = p
-        self._pair_keys = (c["shape"][L:].astype(np.int64) * L + c["li"][L:]) * L + c["lj"][L:]
-        self._pair_pos = inverse[L:]
+        self._np = (self._shape != _SINGLE).astype(np.int8) + np.int8(1)
+        self._M = len(self._val)
+        self._order = order  # build position of each entry (for the lazily built tables below)
+        self._order_desc_cache: np.ndarray | None = None
+        self._pair_table: tuple[np.ndarray, np.ndarray] | None = None
+        self._net_cache: dict[int, Network] = {}
+
+    # The two tables below serve only some look-ups (the index's own ``nearest_sides`` and
+    # ``nearest_few``; the 3-part search), so they are built on first use, not with the index.
+    @property
+    def _order_desc(self) -> np.ndarray:
+        """Second order for "at or below" look-ups: within each run of equal values the higher
+        positions (more parts, higher id) first, so the last k entries at or below a target are
+        the k best by (distance, parts, id)."""
+        if self._order_desc_cache is None:
+            M = self._M
+            p = np.arange(M)
+            new_run = np.ones(M, dtype=bool)
+            new_run[1:] = self._val[1:] != self._val[:-1]
+            run = np.cumsum(new_run) - 1
+            starts = np.flatnonzero(new_run)
+            ends = np.append(starts[1:], M) - 1
+            self._order_desc_cache = starts[run] + ends[run] - p
+        return self._order_desc_cache
+
+    def _pairs(self) -> tuple[np.ndarray, np.ndarray]:
+        """(keys, positions) of the 2-part entries, keys (shape, li, lj) ascending."""
+        if self._pair_table is None:
+            L, M = self._L, self._M
+            # The build position of entry ``order[p]`` is p: entries L.. in build order are the
+            # pairs, whose (shape, li, lj) keys are increasing in build order: no sort needed.
+            inverse = np.empty(M, dtype=np.int64)
+            inverse[self._order] = np.arange(M)
+            pos = inverse[L:]
+            keys = (self._shape[pos].astype(np.int64) * L + self._li[pos]) * L + self._lj[pos]
+            self._pair_table = (keys, pos)
+        return self._pair_table
 
     def _mat_bounds(self, pos: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
         """Worst-case bounds of materialised entries, computed on demand from their parts."""
@@ -210,12 +233,13 @@ class NetworkIndex:
         return q // self._L, q % self._L, pos
 
     def _pair_lookup(self, code, i: np.ndarray, j: np.ndarray) -> np.ndarray:
+        pair_keys, pair_pos = self._pairs()
         keys = (code * self._L + i) * self._L + j
-        at = np.searchsorted(self._pair_keys, keys)
-        at = np.minimum(at, len(self._pair_keys) - 1)
-        if not np.all(self._pair_keys[at] == keys):  # pragma: no cover - would be a bug
+        at = np.searchsorted(pair_keys, keys)
+        at = np.minimum(at, len(pair_keys) - 1)
+        if not np.all(pair_keys[at] == keys):  # pragma: no cover - would be a bug
             raise AssertionError("pair missing from the materialised array")
-        return self._pair_pos[at]
+        return pair_pos[at]
 
     def _check_ids(self, ids) -> np.ndarray:
         ids = np.asarray(ids, dtype=np.int64)
