@@ -262,6 +262,13 @@ class NetworkIndex:
         """(first line, second line) positions of each materialised network (-1: none)."""
         return self._li, self._lj
 
+    def entry_adds(self, pos: np.ndarray) -> np.ndarray:
+        """For materialised entries: True where the joint adds the values themselves (resistors
+        in series, capacitors in parallel; ``shapes.adds``), False for the other joint and for
+        single parts."""
+        code = self._shape[pos]
+        return ((code == _SERIES) & adds(self.kind, "series")) | ((code == _PARALLEL) & adds(self.kind, "parallel"))
+
     @property
     def line_values(self) -> np.ndarray:
         """Nominal value of each stock line, by line position."""
