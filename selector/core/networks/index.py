@@ -392,25 +392,53 @@ class NetworkIndex:
         return ok.reshape(shape)
 
     def network(self, id) -> Network:
-        """The concrete network behind one id."""
-        i = int(self._check_ids(np.array([id]))[0])
-        if i < 0:
-            raise ValueError("id -1 is padding, not a network")
+        """The concrete network behind one id (built once per index and id, then shared: a
+        Network is frozen)."""
+        net = self._net_cache.get(id) if isinstance(id, int) else None
+        if net is None:
+            i = int(self._check_ids(np.array([id]))[0])
+            if i < 0:
+                raise ValueError("id -1 is padding, not a network")
+            net = self._net_cache.get(i)
+            if net is None:
+                net = self._materialised_network(i) if i < self._M else self._network(i)
+                self._net_cache[i] = net
+        return net
+
+    def _materialised_network(self, i: int) -> Network:
+        """``_network`` for a 1-2 part entry, in scalar arithmetic (Python floats are IEEE
+        doubles: the same value and bounds as ``values`` and ``bounds`` give)."""
+        ln = self.lines
+        code = int(self._shape[i])
+        a = int(self._li[i])
+        if code == _SINGLE:
+            shape, physical = "single", (ln[a],)
+            lo, hi = float(self._vlo[a]), float(self._vhi[a])
+            parts = ((ln[a], 1),)
+        else:
+            b = int(self._lj[i])
+            shape = "series" if code == _SERIES else "parallel"
+            physical = (ln[a], ln[b])
+            add = adds(self.kind, shape)
+            xl, yl, xh, yh = float(self._vlo[a]), float(self._vlo[b]), float(self._vhi[a]), float(self._vhi[b])
+            lo = xl + yl if add else 1.0 / (1.0 / xl + 1.0 / yl)
+            hi = xh + yh if add else 1.0 / (1.0 / xh + 1.0 / yh)
+            parts = ((ln[a], 2),) if a == b else ((ln[a], 1), (ln[b], 1))
+        return Network(kind=self.kind, value=float(self._val[i]), vmin=lo, vmax=hi, shape=shape,
+                       parts=parts, physical=physical, structure=_shapes.SHAPES[shape].structure)
+
+    def _network(self, i: int) -> Network:
+        """The network behind a 3-part id."""
         value = float(self.values(np.array([i]))[0])
         lo, hi = self.bounds(np.array([i]))
         raw = self._raw_lines(np.array([i]))[0]
         ln = self.lines
-        if i < self._M:
-            code = int(self._shape[i])
-            shape = "single" if code == _SINGLE else ("series" if code == _SERIES else "parallel")
-            physical = (ln[raw[0]],) if code == _SINGLE else (ln[raw[0]], ln[raw[1]])
-        else:
-            s = int(self._decode(np.array([i]))[0][0])
-            shape, _outer, _inner, sym = _SHAPES3[s]
-            if sym:
-                physical = (ln[raw[0]], ln[raw[1]], ln[raw[2]])
-            else:  # pair first, as written: (B ∥ C) + A
-                physical = (ln[raw[1]], ln[raw[2]], ln[raw[0]])
+        s = int(self._decode(np.array([i]))[0][0])
+        shape, _outer, _inner, sym = _SHAPES3[s]
+        if sym:
+            physical = (ln[raw[0]], ln[raw[1]], ln[raw[2]])
+        else:  # pair first, as written: (B ∥ C) + A
+            physical = (ln[raw[1]], ln[raw[2]], ln[raw[0]])
         structure = _shapes.SHAPES[shape].structure
         counts: dict[int, int] = {}
         for line in physical:

@@ -643,16 +643,18 @@ class _Pass:
         cols = [np.concatenate(col) for col in zip(*found)]
         if two:
             ci, rb, ra, err, th, tl = cols
-            key = np.stack([ci, rb], axis=1)
+            second = rb
         else:
             ci, r, err, th, tl, tt = cols
-            key = np.stack([ci, r], axis=1)
-        if key.size == 0:
+            second = r
+        if ci.size == 0:
             return []
         # each pair once, with its smallest error: phase 1 may have paired an RB with an RA that
-        # phase 2 beats (with RD > 0 the low time depends on RA too)
+        # phase 2 beats (with RD > 0 the low time depends on RA too). One int64 key per pair
+        # (positions and ids are >= 0 and small): a 1-D unique, far cheaper than unique rows.
+        key = ci.astype(np.int64) * (int(second.max()) + 1) + second.astype(np.int64)
         by_err = np.argsort(np.abs(err), kind="stable")
-        _, first = np.unique(key[by_err], axis=0, return_index=True)
+        _, first = np.unique(key[by_err], return_index=True)
         first = by_err[first]
         order = first[np.argsort(np.abs(err[first]), kind="stable")][:pool]
         out = []
