@@ -3,6 +3,7 @@ and power ratings) and the widening nearest-feasible look-up over a network inde
 
 from __future__ import annotations
 
+import functools
 import math
 
 import numpy as np
@@ -312,7 +313,10 @@ def _nearest_feasible(index, target, lo, hi, ok_fn, k0: int = 2, kmax: int = 1 <
     return out[0], out[1]
 
 
+@functools.lru_cache(maxsize=256)
 def _fmt(v: float, unit: str) -> str:
+    """A limit as people read it, for the exclusion texts (a pass words the same few limits on
+    every chunk, mostly for a count of 0: remembered)."""
     from selector.core.notation import format_value
 
     return format_value(v, unit)
