@@ -31,6 +31,17 @@ def _all_ids(index) -> np.ndarray:
     return np.asarray(ids, dtype=np.int64)
 
 
+def _entry_lines(index, ids):
+    """(first line, second line or -1) of each network when ``ids`` are all 1-2 part networks
+    (the index keeps those materialised: a plain look-up instead of ``usage_arrays``); None
+    otherwise."""
+    n = len(index.entry_values)
+    if ids.size and (int(ids.min()) < 0 or int(ids.max()) >= n):
+        return None
+    li, lj = index.entry_lines
+    return li[ids], lj[ids]
+
+
 LEAKAGE_REASON = "C networks whose electrolytic leakage is above 1/10 of the charging current"
 
 
@@ -57,9 +68,14 @@ def _leakage_ok(c_index, ids, limits, charge_r) -> np.ndarray:
     line_leak = np.array([leak_of(ln) for ln in c_index.lines], dtype=float)
     if not np.any(line_leak > 0):
         return np.ones(ids.size, dtype=bool)
-    pos, cnt = c_index.usage_arrays(ids)
-    pos, cnt = np.asarray(pos), np.asarray(cnt, dtype=float)
-    leak = np.sum(np.where(pos >= 0, line_leak[np.maximum(pos, 0)] * cnt, 0.0), axis=1)
+    two = _entry_lines(c_index, ids)
+    if two is not None:  # 1-2 parts: the first part's leakage plus the second's (x + x = 2·x)
+        li, lj = two
+        leak = line_leak[li] + np.where(lj >= 0, line_leak[np.maximum(lj, 0)], 0.0)
+    else:
+        pos, cnt = c_index.usage_arrays(ids)
+        pos, cnt = np.asarray(pos), np.asarray(cnt, dtype=float)
+        leak = np.sum(np.where(pos >= 0, line_leak[np.maximum(pos, 0)] * cnt, 0.0), axis=1)
     r = np.asarray(charge_r(c_index.values(ids)), dtype=float)
     with np.errstate(divide="ignore", invalid="ignore"):
         current = limits.vcc / (3.0 * r)
@@ -83,9 +99,14 @@ def capacitor_candidates(c_index, limits, ex, charge_r=None) -> np.ndarray:
         rating = _line_arrays(c_index, "rating")
         derate = np.array([limits.cap_derating(ln.dielectric or "") for ln in c_index.lines])
         line_ok = ~(rating * derate < limits.cap_volts)  # nan (unknown) -> allowed
-        pos, _cnt = c_index.usage_arrays(ids)
-        pos = np.asarray(pos)
-        ok = np.all(np.where(pos >= 0, line_ok[np.maximum(pos, 0)], True), axis=1)
+        two = _entry_lines(c_index, ids)
+        if two is not None:
+            li, lj = two
+            ok = line_ok[li] & ((lj < 0) | line_ok[np.maximum(lj, 0)])
+        else:
+            pos, _cnt = c_index.usage_arrays(ids)
+            pos = np.asarray(pos)
+            ok = np.all(np.where(pos >= 0, line_ok[np.maximum(pos, 0)], True), axis=1)
         ex.add(f"C networks with a part rated below {limits.cap_volts:g} V after derating", (~ok).sum())
         ids = ids[ok]
     if charge_r is not None and ids.size:
