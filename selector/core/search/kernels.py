@@ -358,10 +358,13 @@ class _Pass:
         # Phase 2: every RB in the certified slice, each with its best RA.
         if self.r.max_parts >= 3 and self._phase2_ordered(found, bound, pool, progress):
             return self._collect(found, pool, two=True)
-        for sl in _chunks(nc, self.chunk):
-            found.extend(self._phase2(np.arange(sl.start, sl.stop), bound))
-            if progress:
-                progress()
+        if self.r.sorted_values is not None:
+            found.extend(self._phase2_sorted(bound, progress))
+        else:
+            for sl in _chunks(nc, self.chunk):
+                found.extend(self._phase2(np.arange(sl.start, sl.stop), bound))
+                if progress:
+                    progress()
         if picked is not None:
             found = self._phase1_ties(found, pool, picked)
         return self._collect(found, pool, two=True)
@@ -475,6 +478,32 @@ class _Pass:
         ci = np.repeat(pos, np.diff(offsets))
         ids = np.asarray(ids, dtype=np.int64)
         return [self._eval_pairs(ci[sub], ids[sub], bound) for sub in _chunks(ids.size, 200_000)]
+
+    def _phase2_sorted(self, bound: float, progress=None) -> list[tuple]:
+        """``_phase2`` over every capacitor network when the resistor networks are 1-2 part ones
+        in one sorted array: the boxes of all at once (each costly RA inverse called once, not
+        once per chunk of capacitor networks), then the slices - the same pairs ``_phase2``
+        lists: the size of each is two ``searchsorted`` away - in groups of capacitor networks
+        holding about a million pairs at most, evaluated 200 000 pairs at a time."""
+        pos = np.arange(self.c_ids.size)
+        lo, hi, _a, _b = self._box(pos, bound)
+        hi = np.maximum(hi, lo)
+        v = self.r.sorted_values
+        a = np.searchsorted(v, lo, side="left")
+        size = np.maximum(np.searchsorted(v, hi, side="right"), a) - a
+        group = np.cumsum(size) // 1_000_000
+        cuts = np.flatnonzero(np.diff(group)) + 1
+        out = []
+        for g in np.split(pos, cuts):
+            if g.size == 0:
+                continue
+            offsets, ids = self.r.between(lo[g], hi[g])
+            ci = np.repeat(g, np.diff(offsets))
+            ids = np.asarray(ids, dtype=np.int64)
+            out.extend(self._eval_pairs(ci[sub], ids[sub], bound) for sub in _chunks(ids.size, 200_000))
+            if progress:
+                progress()
+        return out
 
     def _low_floor(self, cand, ra_lo, ra_hi, pos=None) -> np.ndarray:
         """LB(c): a lower bound on the low-time error of any option of each capacitor network
