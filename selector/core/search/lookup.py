@@ -38,8 +38,7 @@ def _entry_lines(index, ids):
     n = len(index.entry_values)
     if ids.size and (int(ids.min()) < 0 or int(ids.max()) >= n):
         return None
-    li, lj = index.entry_lines
-    return li[ids], lj[ids]
+    return index.entry_parts(ids)
 
 
 LEAKAGE_REASON = "C networks whose electrolytic leakage is above 1/10 of the charging current"
@@ -165,8 +164,7 @@ class PowerCheck:
         for one part and for two parts in series or in parallel (the same floating-point
         operations in the same order, so the same result)."""
         index = self.index
-        li_all, lj_all = index.entry_lines
-        li, lj = li_all[pos], lj_all[pos]
+        li, lj = index.entry_parts(pos)
         two = lj >= 0
         ljc = np.where(two, lj, li)
         a, b = index.line_values[li], index.line_values[ljc]
