@@ -337,7 +337,10 @@ class _Pass:
         resistor networks each nearest look-up is costly, so phase 1 first runs on an evenly
         spread sample of ``sample`` capacitor networks: their options are options too, so the
         K-th best of them is still a valid bound (dense 3-part networks make it tight); only
-        when the sample holds fewer than K options does phase 1 run on every C."""
+        when the sample holds fewer than K options does phase 1 run on every C. With 1-2 part
+        networks the subset is the ``PHASE1_PICK`` capacitor networks whose nearest RB is
+        closest to the ideal one (``_closest_low``), and ``_phase1_ties`` then gives the pool's
+        pairs the RA a phase 1 on every C would have given them."""
         lim, p = self.lim, self.p
         nc = self.c_ids.size
         if nc == 0 or not self._resistors_usable():
@@ -848,7 +851,10 @@ t_low(lo, RB), is necessary because t_low(RA) <= t_low(lo) for RA >= lo (L).
 1. Phase 1 (a bound): for each capacitor network c, the networks nearest the RB that meets both
    halves with its ideal RA, each paired with the feasible RA nearest the t_high ideal, give real
    options; B = the pool-th smallest error among distinct (c, RB) pairs (MAX_ERROR when fewer).
-   Any real options would do: B only has to be attained.
+   Any real options would do: B only has to be attained. So phase 1 may run on a subset of the
+   capacitor networks (an even sample with 3-part networks, the ones whose nearest RB is closest
+   to RB*(c) with 1-2 part ones), falling back to all of them when the subset gives fewer than
+   the pool's options.
 2. The box (``_box``). Let O be an option of c with error <= B: t_high in T_high·[1−B, 1+B] and
    t_low in T_low·[1−B, 1+B]. Start from ranges every option satisfies (RA >= max(min RA, smallest
    network, 2·RD), RA <= min(max RA, max total − smallest network, largest network); RB between the
