@@ -182,8 +182,12 @@ class NetworkIndex:
         return shape, li, lj
 
     def _all_parts(self) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-        if self._full_parts is None:
-            self._full_parts = self._entry_parts(np.arange(self._M))
+        if self._full_parts is None:  # in build order, then put in value order
+            L, segs, o = self._L, self._segs, self._order
+            shape = np.concatenate([np.zeros(L, np.int8)] + [np.full(len(ii), code, np.int8) for code, ii, _ in segs])
+            li = np.concatenate([np.arange(L, dtype=np.int64)] + [ii for _, ii, _ in segs])
+            lj = np.concatenate([np.full(L, -1, np.int64)] + [jj for _, _, jj in segs])
+            self._full_parts = (shape[o], li[o], lj[o])
         return self._full_parts
 
     @property
