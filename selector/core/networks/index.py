@@ -71,7 +71,7 @@ import numpy as np
 
 from selector.core.networks import shapes as _shapes
 from selector.core.networks.network import Network
-from selector.core.networks.nearest import ThreePartSearch, argsort_stable, join as _join, rank_rows, ranges_concat
+from selector.core.networks.nearest import ThreePartSearch, join as _join, rank_rows, ranges_concat
 from selector.core.types import NETWORK_KINDS, StockLine
 
 SHAPES: tuple[str, ...] = tuple(_shapes.SHAPES)  # the names; their meaning is in networks.shapes
@@ -125,52 +125,117 @@ class NetworkIndex:
 
     def _build_materialised(self) -> None:
         L, v, cap = self._L, self._v, self._cap()
-        cols = {"val": [v], "shape": [np.zeros(L, np.int8)],
-                "li": [np.arange(L, dtype=np.int64)], "lj": [np.full(L, -1, np.int64)]}
+        vals = [v]
+        segs: list[tuple[int, np.ndarray, np.ndarray]] = []  # pair segments in build order
         if self.max_parts >= 2 and L:
             i, j = np.triu_indices(L)
             keep = (i != j) | (cap[i] >= 2)
             if not self.all_networks:  # both joints: the smaller share is min/(sum) (see token_share)
                 keep &= token_share(v[i], v[j]) >= np.maximum(self._tol[i], self._tol[j]) / 2
-            i, j = i[keep].astype(np.int64), j[keep].astype(np.int64)
+            i, j = i[keep].astype(np.int64, copy=False), j[keep].astype(np.int64, copy=False)
             ppol = self._pol[i] | self._pol[j]
             for code, joint in ((_SERIES, "series"), (_PARALLEL, "parallel")):
                 ii, jj = i, j
                 if self._block_polarized(joint) and ppol.any():
                     ii, jj = i[~ppol], j[~ppol]
-                cols["val"].append(_join(adds(self.kind, joint), v[ii], v[jj]))
-                cols["shape"].append(np.full(len(ii), code, np.int8))
-                cols["li"].append(ii)
-                cols["lj"].append(jj)
-        c = {name: np.concatenate(parts) for name, parts in cols.items()}
+                vals.append(_join(adds(self.kind, joint), v[ii], v[jj]))
+                segs.append((code, ii, jj))
+        val = np.concatenate(vals)
         # Built in (parts, shape, li, lj) order, so sorting on (value, build position) gives the
-        # order (value, parts, shape, li, lj) that ids and tie-breaks rely on.
-        order = argsort_stable(c["val"])
-        self._val = c["val"][order]
-        self._shape = c["shape"][order]
-        self._li = c["li"][order]
-        self._lj = c["lj"][order]
-        self._np = np.where(self._shape == _SINGLE, 1, 2).astype(np.int8)
-        self._M = M = len(self._val)
-        # Second order for "at or below" look-ups: within each run of equal values the higher
-        # positions (more parts, higher id) first, so the last k entries at or below a target
-        # are the k best by (distance, parts, id).
-        p = np.arange(M)
-        new_run = np.ones(M, dtype=bool)
-        new_run[1:] = self._val[1:] != self._val[:-1]
-        run = np.cumsum(new_run) - 1
-        starts = np.flatnonzero(new_run)
-        ends = np.append(starts[1:], M) - 1
-        self._order_desc = starts[run] + ends[run] - p
-        # (shape, li, lj) keys of the pairs are increasing in build order: no sort needed.
-        inverse = np.empty(M, dtype=np.int64)
-        inverse[order] = p
-        self._pair_keys = (c["shape"][L:].astype(np.int64) * L + c["li"][L:]) * L + c["lj"][L:]
-        self._pair_pos = inverse[L:]
+        # order (value, parts, shape, li, lj) that ids and tie-breaks rely on. A stable sort is
+        # exactly that order; numpy's (timsort for floats) finds the already sorted runs the build
+        # makes (for each first line, both joints grow with the second) and merges them: about 3x
+        # faster than a quicksort here (measured on 481 E96 lines, 232 k entries: 6.4 vs 18 ms).
+        order = np.argsort(val, kind="stable")
+        self._val = val[order]
+        # The parts of an entry are read through its build position (``_entry_parts``): the
+        # 1-2 part searches only ever need them for a few candidates, so the full per-entry
+        # arrays (shape, first line, second line) are laid out only on first use.
+        self._segs = segs
+        self._full_parts: tuple[np.ndarray, np.ndarray, np.ndarray] | None = None
+        self._M = len(self._val)
+        self._order = order  # build position of each entry (for the lazily built tables below)
+        self._order_desc_cache: np.ndarray | None = None
+        self._pair_table: tuple[np.ndarray, np.ndarray] | None = None
+        self._net_cache: dict[int, Network] = {}
+
+    def _entry_parts(self, pos: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+        """(shape code, first line, second line or -1) of the materialised entries at ``pos``,
+        from their build position: below L a single part (line = build position), then the
+        pair segments in build order."""
+        if self._full_parts is not None:
+            shape, li, lj = self._full_parts
+            return shape[pos], li[pos], lj[pos]
+        b = self._order[pos]
+        shape = np.zeros(b.shape, dtype=np.int8)
+        li = b.astype(np.int64, copy=True)
+        lj = np.full(b.shape, -1, dtype=np.int64)
+        start = self._L
+        for code, ii, jj in self._segs:
+            k = b - start
+            m = (k >= 0) & (k < len(ii))
+            if m.any():
+                shape[m] = code
+                li[m] = ii[k[m]]
+                lj[m] = jj[k[m]]
+            start += len(ii)
+        return shape, li, lj
+
+    def _all_parts(self) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+        if self._full_parts is None:  # in build order, then put in value order
+            L, segs, o = self._L, self._segs, self._order
+            shape = np.concatenate([np.zeros(L, np.int8)] + [np.full(len(ii), code, np.int8) for code, ii, _ in segs])
+            li = np.concatenate([np.arange(L, dtype=np.int64)] + [ii for _, ii, _ in segs])
+            lj = np.concatenate([np.full(L, -1, np.int64)] + [jj for _, _, jj in segs])
+            self._full_parts = (shape[o], li[o], lj[o])
+        return self._full_parts
+
+    @property
+    def _shape(self) -> np.ndarray:
+        return self._all_parts()[0]
+
+    @property
+    def _li(self) -> np.ndarray:
+        return self._all_parts()[1]
+
+    @property
+    def _lj(self) -> np.ndarray:
+        return self._all_parts()[2]
+
+    # The two tables below serve only some look-ups (the index's own ``nearest_sides`` and
+    # ``nearest_few``; the 3-part search), so they are built on first use, not with the index.
+    @property
+    def _order_desc(self) -> np.ndarray:
+        """Second order for "at or below" look-ups: within each run of equal values the higher
+        positions (more parts, higher id) first, so the last k entries at or below a target are
+        the k best by (distance, parts, id)."""
+        if self._order_desc_cache is None:
+            M = self._M
+            p = np.arange(M)
+            new_run = np.ones(M, dtype=bool)
+            new_run[1:] = self._val[1:] != self._val[:-1]
+            run = np.cumsum(new_run) - 1
+            starts = np.flatnonzero(new_run)
+            ends = np.append(starts[1:], M) - 1
+            self._order_desc_cache = starts[run] + ends[run] - p
+        return self._order_desc_cache
+
+    def _pairs(self) -> tuple[np.ndarray, np.ndarray]:
+        """(keys, positions) of the 2-part entries, keys (shape, li, lj) ascending."""
+        if self._pair_table is None:
+            L, M = self._L, self._M
+            # The build position of entry ``order[p]`` is p: entries L.. in build order are the
+            # pairs, whose (shape, li, lj) keys are increasing in build order: no sort needed.
+            inverse = np.empty(M, dtype=np.int64)
+            inverse[self._order] = np.arange(M)
+            pos = inverse[L:]
+            keys = (self._shape[pos].astype(np.int64) * L + self._li[pos]) * L + self._lj[pos]
+            self._pair_table = (keys, pos)
+        return self._pair_table
 
     def _mat_bounds(self, pos: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
         """Worst-case bounds of materialised entries, computed on demand from their parts."""
-        li, lj, shape = self._li[pos], self._lj[pos], self._shape[pos]
+        shape, li, lj = self._entry_parts(pos)
         single = shape == _SINGLE
         add = np.where(shape == _SERIES, adds(self.kind, "series"), adds(self.kind, "parallel"))
         ljc = np.where(single, li, lj)
@@ -179,8 +244,8 @@ class NetworkIndex:
         return lo, hi
 
     def _mat_polarized(self, pos: np.ndarray) -> np.ndarray:
-        lj = self._lj[pos]
-        return self._pol[self._li[pos]] | ((lj >= 0) & self._pol[np.maximum(lj, 0)])
+        _shape, li, lj = self._entry_parts(pos)
+        return self._pol[li] | ((lj >= 0) & self._pol[np.maximum(lj, 0)])
 
     def _build_pools(self) -> None:
         """For each 3-part shape: the sorted array of allowed inner pairs and the allowed singles."""
@@ -210,12 +275,13 @@ class NetworkIndex:
         return q // self._L, q % self._L, pos
 
     def _pair_lookup(self, code, i: np.ndarray, j: np.ndarray) -> np.ndarray:
+        pair_keys, pair_pos = self._pairs()
         keys = (code * self._L + i) * self._L + j
-        at = np.searchsorted(self._pair_keys, keys)
-        at = np.minimum(at, len(self._pair_keys) - 1)
-        if not np.all(self._pair_keys[at] == keys):  # pragma: no cover - would be a bug
+        at = np.searchsorted(pair_keys, keys)
+        at = np.minimum(at, len(pair_keys) - 1)
+        if not np.all(pair_keys[at] == keys):  # pragma: no cover - would be a bug
             raise AssertionError("pair missing from the materialised array")
-        return self._pair_pos[at]
+        return pair_pos[at]
 
     def _check_ids(self, ids) -> np.ndarray:
         ids = np.asarray(ids, dtype=np.int64)
@@ -237,6 +303,18 @@ class NetworkIndex:
     def entry_lines(self) -> tuple[np.ndarray, np.ndarray]:
         """(first line, second line) positions of each materialised network (-1: none)."""
         return self._li, self._lj
+
+    def entry_parts(self, pos: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        """(first line, second line or -1) of the materialised networks at ``pos``."""
+        _shape, li, lj = self._entry_parts(np.asarray(pos, dtype=np.int64))
+        return li, lj
+
+    def entry_adds(self, pos: np.ndarray) -> np.ndarray:
+        """For materialised entries: True where the joint adds the values themselves (resistors
+        in series, capacitors in parallel; ``shapes.adds``), False for the other joint and for
+        single parts."""
+        code = self._entry_parts(pos)[0]
+        return ((code == _SERIES) & adds(self.kind, "series")) | ((code == _PARALLEL) & adds(self.kind, "parallel"))
 
     @property
     def line_values(self) -> np.ndarray:
@@ -311,7 +389,7 @@ class NetworkIndex:
         ids = self._check_ids(ids)
         out = np.zeros(ids.shape, dtype=np.int64)
         m = (ids >= 0) & (ids < self._M)
-        out[m] = self._np[ids[m]]
+        out[m] = np.where(self._order[ids[m]] < self._L, 1, 2)  # build positions below L: singles
         out[ids >= self._M] = 3
         return out
 
@@ -319,12 +397,12 @@ class NetworkIndex:
         """(n, 3) line position of each physical part, -1 padding."""
         raw = np.full((len(ids), 3), -1, dtype=np.int64)
         m = (ids >= 0) & (ids < self._M)
-        raw[m, 0] = self._li[ids[m]]
-        raw[m, 1] = self._lj[ids[m]]
+        _shape, raw[m, 0], raw[m, 1] = self._entry_parts(ids[m])
         t = ids >= self._M
         if np.any(t):
             _s, a, pos = self._decode(ids[t])
-            raw[t] = np.stack([a, self._li[pos], self._lj[pos]], axis=1)
+            _shape, li, lj = self._entry_parts(pos)
+            raw[t] = np.stack([a, li, lj], axis=1)
         return raw
 
     def usage_arrays(self, ids) -> tuple[np.ndarray, np.ndarray]:
@@ -361,25 +439,54 @@ class NetworkIndex:
         return ok.reshape(shape)
 
     def network(self, id) -> Network:
-        """The concrete network behind one id."""
-        i = int(self._check_ids(np.array([id]))[0])
-        if i < 0:
-            raise ValueError("id -1 is padding, not a network")
+        """The concrete network behind one id (built once per index and id, then shared: a
+        Network is frozen)."""
+        net = self._net_cache.get(id) if isinstance(id, int) else None
+        if net is None:
+            i = int(self._check_ids(np.array([id]))[0])
+            if i < 0:
+                raise ValueError("id -1 is padding, not a network")
+            net = self._net_cache.get(i)
+            if net is None:
+                net = self._materialised_network(i) if i < self._M else self._network(i)
+                self._net_cache[i] = net
+        return net
+
+    def _materialised_network(self, i: int) -> Network:
+        """``_network`` for a 1-2 part entry, in scalar arithmetic (Python floats are IEEE
+        doubles: the same value and bounds as ``values`` and ``bounds`` give)."""
+        ln = self.lines
+        shapes, lis, ljs = self._entry_parts(np.array([i]))
+        code = int(shapes[0])
+        a = int(lis[0])
+        if code == _SINGLE:
+            shape, physical = "single", (ln[a],)
+            lo, hi = float(self._vlo[a]), float(self._vhi[a])
+            parts = ((ln[a], 1),)
+        else:
+            b = int(ljs[0])
+            shape = "series" if code == _SERIES else "parallel"
+            physical = (ln[a], ln[b])
+            add = adds(self.kind, shape)
+            xl, yl, xh, yh = float(self._vlo[a]), float(self._vlo[b]), float(self._vhi[a]), float(self._vhi[b])
+            lo = xl + yl if add else 1.0 / (1.0 / xl + 1.0 / yl)
+            hi = xh + yh if add else 1.0 / (1.0 / xh + 1.0 / yh)
+            parts = ((ln[a], 2),) if a == b else ((ln[a], 1), (ln[b], 1))
+        return Network(kind=self.kind, value=float(self._val[i]), vmin=lo, vmax=hi, shape=shape,
+                       parts=parts, physical=physical, structure=_shapes.SHAPES[shape].structure)
+
+    def _network(self, i: int) -> Network:
+        """The network behind a 3-part id."""
         value = float(self.values(np.array([i]))[0])
         lo, hi = self.bounds(np.array([i]))
         raw = self._raw_lines(np.array([i]))[0]
         ln = self.lines
-        if i < self._M:
-            code = int(self._shape[i])
-            shape = "single" if code == _SINGLE else ("series" if code == _SERIES else "parallel")
-            physical = (ln[raw[0]],) if code == _SINGLE else (ln[raw[0]], ln[raw[1]])
-        else:
-            s = int(self._decode(np.array([i]))[0][0])
-            shape, _outer, _inner, sym = _SHAPES3[s]
-            if sym:
-                physical = (ln[raw[0]], ln[raw[1]], ln[raw[2]])
-            else:  # pair first, as written: (B ∥ C) + A
-                physical = (ln[raw[1]], ln[raw[2]], ln[raw[0]])
+        s = int(self._decode(np.array([i]))[0][0])
+        shape, _outer, _inner, sym = _SHAPES3[s]
+        if sym:
+            physical = (ln[raw[0]], ln[raw[1]], ln[raw[2]])
+        else:  # pair first, as written: (B ∥ C) + A
+            physical = (ln[raw[1]], ln[raw[2]], ln[raw[0]])
         structure = _shapes.SHAPES[shape].structure
         counts: dict[int, int] = {}
         for line in physical:
@@ -400,9 +507,9 @@ class NetworkIndex:
         with the token-part rule that checks every candidate once, then it is kept)."""
         if getattr(self, "_sizes", None) is not None:
             return dict(self._sizes)
-        out = {1: int(np.sum(self._np == 1))}
+        out = {1: self._L}  # every usable line is a single-part network
         if self.max_parts >= 2:
-            out[2] = int(np.sum(self._np == 2))
+            out[2] = self._M - self._L
         if self.max_parts >= 3:
             out[3] = self._three.count()
         self._sizes = dict(out)

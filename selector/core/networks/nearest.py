@@ -77,26 +77,6 @@ def rank_rows(rows: np.ndarray, ids: np.ndarray, keys: Sequence[np.ndarray], nro
     return out
 
 
-def argsort_stable(x: np.ndarray) -> np.ndarray:
-    """Same result as a stable argsort, faster on large float arrays: a quicksort, then only the
-    runs of equal values put back in position order."""
-    order = np.argsort(x)
-    sx = x[order]
-    tie = np.zeros(len(x), dtype=bool)
-    if len(x) > 1:
-        eq = sx[1:] == sx[:-1]
-        tie[1:] |= eq
-        tie[:-1] |= eq
-    if tie.any():
-        at = np.flatnonzero(tie)
-        # runs of equal values among the tied entries; inside each run put positions in order
-        run = np.cumsum(np.concatenate(([True], sx[at[1:]] != sx[at[:-1]]))) - 1
-        sub = np.argsort(run * len(x) + order[at])
-        order[at] = order[at][sub]
-    return order
-
-
-
 def _zone_end(pv: np.ndarray, left: np.ndarray, p_hi: np.ndarray) -> np.ndarray:
     """End of each zone that starts at ``left``: the first index whose pair value exceeds
     ``p_hi``. A point zone holds only the few pairs within the slack, so step over them a few

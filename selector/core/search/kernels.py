@@ -18,6 +18,11 @@ PHASE1_SAMPLE = 400
 """Capacitor networks sampled for the provisional bound when 3-part resistor networks are searched
 (see ``_Pass.run2``); tests lower it to exercise that path on small stocks."""
 
+PHASE1_PICK = 128
+"""With 1-2 part resistor networks, phase 1 of ``_Pass.run2`` first runs on this many capacitor
+networks, those whose nearest RB is closest to the ideal one (``_Pass._closest_low``); all of them
+only when these give fewer than the pool's options. Tests lower it to exercise that path."""
+
 _BOX_ROUNDS = 8
 """Most rounds of narrowing the RA and RB ranges against each other in ``_Pass._box`` (each round
 keeps them certified). The width shrinks geometrically (t_low moves with RA only to order RD/RA,
@@ -107,6 +112,16 @@ class Hit(NamedTuple):
 # --------------------------------------------------------------------------- the searches
 
 
+def _both_ends(inverse, t1, t2, r1, r2, c):
+    """``inverse(t1, r1, c), inverse(t2, r2, c)`` in one call on the joined arrays: the circuit
+    inverses work element by element (the diode's iterates each element on its own), so the
+    values are the same, and a costly inverse pays its fixed cost per call once, not twice."""
+    n = np.size(c)
+    t1, t2 = np.broadcast_to(t1, (n,)), np.broadcast_to(t2, (n,))
+    out = inverse(np.concatenate([t1, t2]), np.concatenate([r1, r2]), np.concatenate([c, c]))
+    return out[:n], out[n:]
+
+
 def _chunks(n: int, size: int):
     for s in range(0, n, size):
         yield slice(s, min(n, s + size))
@@ -141,7 +156,6 @@ class _Pass:
         and ``between`` lists it exactly; a pair with no feasible RA there cannot reach B."""
         lim, p, tg = self.lim, self.p, self.p.target
         n = len(cv)
-        ra_star = p.ra_for_high(np.full(n, tg.t_high), rb, cv)
         lo = np.full(n, lim.min_r_ohm, dtype=float)
         sink = getattr(lim, "dis_sink_a", math.inf)
         ra_dis = np.zeros(n)
@@ -195,6 +209,7 @@ class _Pass:
         if bound is not None:
             return self._best_ra_window(cv, rb, lo, hi, empty, bound, ok)
 
+        ra_star = p.ra_for_high(np.full(n, tg.t_high), rb, cv)  # (phase 1 only: the windows need none)
         below, above = _nearest_feasible(self.r, ra_star, lo, hi, ok)
         best_id = np.full(n, -1, dtype=np.int64)
         best_err = np.full(n, np.nan)
@@ -253,8 +268,7 @@ class _Pass:
         best_err = np.full(n, np.nan)
         th_out = np.full(n, np.nan)
         tl_out = np.full(n, np.nan)
-        w_lo = p.ra_for_high(np.full(n, tg.t_high * (1 - bound)), rb, cv)
-        w_hi = p.ra_for_high(np.full(n, tg.t_high * (1 + bound)), rb, cv)
+        w_lo, w_hi = _both_ends(p.ra_for_high, tg.t_high * (1 - bound), tg.t_high * (1 + bound), rb, rb, cv)
         # nan from the inverse means "no positive RA gives that time": no bound on that side
         a = np.maximum(lo, np.nan_to_num(w_lo, nan=0.0)) * (1 - _SLACK)
         b = np.minimum(hi, np.nan_to_num(w_hi, nan=np.inf)) * (1 + _SLACK)
@@ -323,28 +337,82 @@ class _Pass:
         resistor networks each nearest look-up is costly, so phase 1 first runs on an evenly
         spread sample of ``sample`` capacitor networks: their options are options too, so the
         K-th best of them is still a valid bound (dense 3-part networks make it tight); only
-        when the sample holds fewer than K options does phase 1 run on every C."""
+        when the sample holds fewer than K options does phase 1 run on every C. With 1-2 part
+        networks the subset is the ``PHASE1_PICK`` capacitor networks whose nearest RB is
+        closest to the ideal one (``_closest_low``), and ``_phase1_ties`` then gives the pool's
+        pairs the RA a phase 1 on every C would have given them."""
         lim, p = self.lim, self.p
         nc = self.c_ids.size
         if nc == 0 or not self._resistors_usable():
             return []
         found, bound = [], MAX_ERROR
         sample = PHASE1_SAMPLE if sample is None else int(sample)
+        subset = picked = None
         if self.r.max_parts >= 3 and nc > 2 * sample:
             subset = np.unique(np.linspace(0, nc - 1, sample).astype(np.int64))
-            found, bound, enough = self._phase1(pool, progress, subset)
+        elif self.r.max_parts <= 2 and nc > 2 * PHASE1_PICK:
+            subset = picked = self._closest_low(PHASE1_PICK)
+        if subset is not None:
+            found, bound, enough = self._quiet_phase1(pool, progress, subset)
             if not enough:
-                found, bound = [], MAX_ERROR
+                found, bound, picked = [], MAX_ERROR, None
         if not found:
             found, bound, _enough = self._phase1(pool, progress)
         # Phase 2: every RB in the certified slice, each with its best RA.
         if self.r.max_parts >= 3 and self._phase2_ordered(found, bound, pool, progress):
             return self._collect(found, pool, two=True)
-        for sl in _chunks(nc, self.chunk):
-            found.extend(self._phase2(np.arange(sl.start, sl.stop), bound))
-            if progress:
-                progress()
+        if self.r.sorted_values is not None:
+            found.extend(self._phase2_sorted(bound, progress))
+        else:
+            for sl in _chunks(nc, self.chunk):
+                found.extend(self._phase2(np.arange(sl.start, sl.stop), bound))
+                if progress:
+                    progress()
+        if picked is not None:
+            found = self._phase1_ties(found, pool, picked)
         return self._collect(found, pool, two=True)
+
+    def _quiet_phase1(self, pool: int, progress, subset):
+        """``_phase1`` on a subset, its exclusion counts dropped: what the limits excluded is
+        counted by a full pass (the fallback when the subset gives too few options; the counts
+        are read only when nothing at all is found)."""
+        ex, self.ex = self.ex, type(self.ex)()
+        try:
+            return self._phase1(pool, progress, subset)
+        finally:
+            self.ex = ex
+
+    def _phase1_ties(self, found: list, pool: int, picked: np.ndarray) -> list:
+        """The pool as if phase 1 had run on every capacitor network, not only the ``picked``
+        ones: the same pairs and errors (phase 2 alone already gives every pair within the
+        bound its smallest error), and for a pair whose RA has equal-error rivals (the same
+        value from other drawers) the RA phase 1 would have given it, since ``_collect`` keeps
+        the first of equal entries and phase 1's come first. Only the capacitor networks of the
+        pool's pairs need it: phase 1 on them, put in front."""
+        hits = self._collect(found, pool, two=True)
+        pos = np.flatnonzero(np.isin(self.c_ids, [h.c_id for h in hits]))
+        rest = np.setdiff1d(pos, picked)
+        if rest.size == 0:
+            return found
+        more, _bound, _enough = self._quiet_phase1(pool, None, rest)
+        return more + found
+
+    def _closest_low(self, k: int) -> np.ndarray:
+        """Positions of the ``k`` capacitor networks whose nearest resistor network (either
+        side) is closest, in ratio, to the RB that meets the low time with the circuit's closed
+        form (``rb_ideal`` without the discharge switch's refinement): a cheap guess at where the
+        best options are, for phase 1 on 1-2 part networks. Any subset gives a valid bound (its
+        options are real); a good one gives nearly the bound of all capacitor networks at a
+        fraction of the look-ups (the diode's RA inverse is the costly step)."""
+        v = self.r.sorted_values
+        rb0 = np.asarray(self.p.kind.rb_ideal(self.p.target, self.c_vals), dtype=float)
+        with np.errstate(all="ignore"):
+            i = np.searchsorted(v, rb0)
+            below = v[np.clip(i - 1, 0, v.size - 1)]
+            above = v[np.clip(i, 0, v.size - 1)]
+            d = np.minimum(np.abs(np.log(below / rb0)), np.abs(np.log(above / rb0)))
+        d = np.where(np.isfinite(d), d, INF)
+        return np.sort(np.argpartition(d, k - 1)[:k]).astype(np.int64)
 
     def _r_range(self) -> tuple[float, float]:
         """Smallest and largest resistor network value (0, inf when unknown)."""
@@ -400,8 +468,7 @@ class _Pass:
                     break
                 i = active
                 # t_high is increasing in RA and non-decreasing in RB
-                a = p.ra_for_high(th_lo[i], rb_hi[i], cv[i])
-                b = p.ra_for_high(th_hi[i], rb_lo[i], cv[i])
+                a, b = _both_ends(p.ra_for_high, th_lo[i], th_hi[i], rb_hi[i], rb_lo[i], cv[i])
                 ra_lo[i] = np.maximum(ra_lo[i], np.nan_to_num(a, nan=-np.inf) * lo_s)
                 ra_hi[i] = np.minimum(ra_hi[i], np.nan_to_num(b, nan=np.inf) * hi_s)
         return rb_lo, rb_hi, ra_lo, ra_hi
@@ -414,6 +481,32 @@ class _Pass:
         ci = np.repeat(pos, np.diff(offsets))
         ids = np.asarray(ids, dtype=np.int64)
         return [self._eval_pairs(ci[sub], ids[sub], bound) for sub in _chunks(ids.size, 200_000)]
+
+    def _phase2_sorted(self, bound: float, progress=None) -> list[tuple]:
+        """``_phase2`` over every capacitor network when the resistor networks are 1-2 part ones
+        in one sorted array: the boxes of all at once (each costly RA inverse called once, not
+        once per chunk of capacitor networks), then the slices - the same pairs ``_phase2``
+        lists: the size of each is two ``searchsorted`` away - in groups of capacitor networks
+        holding about a million pairs at most, evaluated 200 000 pairs at a time."""
+        pos = np.arange(self.c_ids.size)
+        lo, hi, _a, _b = self._box(pos, bound)
+        hi = np.maximum(hi, lo)
+        v = self.r.sorted_values
+        a = np.searchsorted(v, lo, side="left")
+        size = np.maximum(np.searchsorted(v, hi, side="right"), a) - a
+        group = np.cumsum(size) // 1_000_000
+        cuts = np.flatnonzero(np.diff(group)) + 1
+        out = []
+        for g in np.split(pos, cuts):
+            if g.size == 0:
+                continue
+            offsets, ids = self.r.between(lo[g], hi[g])
+            ci = np.repeat(g, np.diff(offsets))
+            ids = np.asarray(ids, dtype=np.int64)
+            out.extend(self._eval_pairs(ci[sub], ids[sub], bound) for sub in _chunks(ids.size, 200_000))
+            if progress:
+                progress()
+        return out
 
     def _low_floor(self, cand, ra_lo, ra_hi, pos=None) -> np.ndarray:
         """LB(c): a lower bound on the low-time error of any option of each capacitor network
@@ -643,16 +736,18 @@ class _Pass:
         cols = [np.concatenate(col) for col in zip(*found)]
         if two:
             ci, rb, ra, err, th, tl = cols
-            key = np.stack([ci, rb], axis=1)
+            second = rb
         else:
             ci, r, err, th, tl, tt = cols
-            key = np.stack([ci, r], axis=1)
-        if key.size == 0:
+            second = r
+        if ci.size == 0:
             return []
         # each pair once, with its smallest error: phase 1 may have paired an RB with an RA that
-        # phase 2 beats (with RD > 0 the low time depends on RA too)
+        # phase 2 beats (with RD > 0 the low time depends on RA too). One int64 key per pair
+        # (positions and ids are >= 0 and small): a 1-D unique, far cheaper than unique rows.
+        key = ci.astype(np.int64) * (int(second.max()) + 1) + second.astype(np.int64)
         by_err = np.argsort(np.abs(err), kind="stable")
-        _, first = np.unique(key[by_err], axis=0, return_index=True)
+        _, first = np.unique(key[by_err], return_index=True)
         first = by_err[first]
         order = first[np.argsort(np.abs(err[first]), kind="stable")][:pool]
         out = []
@@ -756,7 +851,10 @@ t_low(lo, RB), is necessary because t_low(RA) <= t_low(lo) for RA >= lo (L).
 1. Phase 1 (a bound): for each capacitor network c, the networks nearest the RB that meets both
    halves with its ideal RA, each paired with the feasible RA nearest the t_high ideal, give real
    options; B = the pool-th smallest error among distinct (c, RB) pairs (MAX_ERROR when fewer).
-   Any real options would do: B only has to be attained.
+   Any real options would do: B only has to be attained. So phase 1 may run on a subset of the
+   capacitor networks (an even sample with 3-part networks, the ones whose nearest RB is closest
+   to RB*(c) with 1-2 part ones), falling back to all of them when the subset gives fewer than
+   the pool's options.
 2. The box (``_box``). Let O be an option of c with error <= B: t_high in T_high·[1−B, 1+B] and
    t_low in T_low·[1−B, 1+B]. Start from ranges every option satisfies (RA >= max(min RA, smallest
    network, 2·RD), RA <= min(max RA, max total − smallest network, largest network); RB between the

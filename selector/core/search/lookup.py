@@ -3,6 +3,7 @@ and power ratings) and the widening nearest-feasible look-up over a network inde
 
 from __future__ import annotations
 
+import functools
 import math
 
 import numpy as np
@@ -28,6 +29,16 @@ def _all_ids(index) -> np.ndarray:
         return np.arange(len(index), dtype=np.int64)
     _, ids = index.between(np.array([0.0]), np.array([INF]))
     return np.asarray(ids, dtype=np.int64)
+
+
+def _entry_lines(index, ids):
+    """(first line, second line or -1) of each network when ``ids`` are all 1-2 part networks
+    (the index keeps those materialised: a plain look-up instead of ``usage_arrays``); None
+    otherwise."""
+    n = len(index.entry_values)
+    if ids.size and (int(ids.min()) < 0 or int(ids.max()) >= n):
+        return None
+    return index.entry_parts(ids)
 
 
 LEAKAGE_REASON = "C networks whose electrolytic leakage is above 1/10 of the charging current"
@@ -56,9 +67,14 @@ def _leakage_ok(c_index, ids, limits, charge_r) -> np.ndarray:
     line_leak = np.array([leak_of(ln) for ln in c_index.lines], dtype=float)
     if not np.any(line_leak > 0):
         return np.ones(ids.size, dtype=bool)
-    pos, cnt = c_index.usage_arrays(ids)
-    pos, cnt = np.asarray(pos), np.asarray(cnt, dtype=float)
-    leak = np.sum(np.where(pos >= 0, line_leak[np.maximum(pos, 0)] * cnt, 0.0), axis=1)
+    two = _entry_lines(c_index, ids)
+    if two is not None:  # 1-2 parts: the first part's leakage plus the second's (x + x = 2·x)
+        li, lj = two
+        leak = line_leak[li] + np.where(lj >= 0, line_leak[np.maximum(lj, 0)], 0.0)
+    else:
+        pos, cnt = c_index.usage_arrays(ids)
+        pos, cnt = np.asarray(pos), np.asarray(cnt, dtype=float)
+        leak = np.sum(np.where(pos >= 0, line_leak[np.maximum(pos, 0)] * cnt, 0.0), axis=1)
     r = np.asarray(charge_r(c_index.values(ids)), dtype=float)
     with np.errstate(divide="ignore", invalid="ignore"):
         current = limits.vcc / (3.0 * r)
@@ -82,9 +98,14 @@ def capacitor_candidates(c_index, limits, ex, charge_r=None) -> np.ndarray:
         rating = _line_arrays(c_index, "rating")
         derate = np.array([limits.cap_derating(ln.dielectric or "") for ln in c_index.lines])
         line_ok = ~(rating * derate < limits.cap_volts)  # nan (unknown) -> allowed
-        pos, _cnt = c_index.usage_arrays(ids)
-        pos = np.asarray(pos)
-        ok = np.all(np.where(pos >= 0, line_ok[np.maximum(pos, 0)], True), axis=1)
+        two = _entry_lines(c_index, ids)
+        if two is not None:
+            li, lj = two
+            ok = line_ok[li] & ((lj < 0) | line_ok[np.maximum(lj, 0)])
+        else:
+            pos, _cnt = c_index.usage_arrays(ids)
+            pos = np.asarray(pos)
+            ok = np.all(np.where(pos >= 0, line_ok[np.maximum(pos, 0)], True), axis=1)
         ex.add(f"C networks with a part rated below {limits.cap_volts:g} V after derating", (~ok).sum())
         ids = ids[ok]
     if charge_r is not None and ids.size:
@@ -109,13 +130,72 @@ class PowerCheck:
         rating = _line_arrays(r_index, "rating")
         self.line_rating = rating
         self.active = volts > 0 and bool(np.isfinite(rating).any())
-        self._cache: dict[int, bool] = {}
+        self._cache: dict[int, bool] = {}  # 3-part networks
+        # 1-2 part networks (ids 0..M-1): -1 not decided yet, 0 fails, 1 passes
+        self._known = np.full(len(r_index.entry_values), -1, dtype=np.int8) if self.active else None
 
     def ok(self, ids: np.ndarray) -> np.ndarray:
         ids = np.asarray(ids, dtype=np.int64)
         if not self.active or ids.size == 0:
             return np.ones(ids.shape, dtype=bool)
         flat = ids.ravel()
+        known = self._known
+        mat = (flat >= 0) & (flat < known.size)
+        res = np.zeros(flat.shape, dtype=bool)
+        if mat.all():
+            got = known[flat]
+        else:
+            got = np.full(flat.shape, -1, dtype=np.int8)
+            got[mat] = known[flat[mat]]
+        todo = np.flatnonzero(mat & (got < 0))
+        if todo.size:
+            new = np.unique(flat[todo])
+            known[new] = self._decide_materialised(new)
+            got[todo] = known[flat[todo]]
+        res[mat] = got[mat] > 0
+        rest = np.flatnonzero(~mat)
+        if rest.size:
+            res[rest] = self._ok_three(flat[rest])
+        return res.reshape(ids.shape)
+
+    def _decide_materialised(self, pos: np.ndarray) -> np.ndarray:
+        """The same decision as ``_ok_three`` (the cheap bound, then ``_exact``) for 1-2 part
+        networks, vectorised: ``_exact``'s arithmetic on the network's combine() law written out
+        for one part and for two parts in series or in parallel (the same floating-point
+        operations in the same order, so the same result)."""
+        index = self.index
+        li, lj = index.entry_parts(pos)
+        two = lj >= 0
+        ljc = np.where(two, lj, li)
+        a, b = index.line_values[li], index.line_values[ljc]
+        adds_value = index.entry_adds(pos)  # the pair's joint adds the values (else reciprocals)
+        vals = index.entry_values[pos]
+        p = self.volts**2 / vals
+        ra, rb = self.line_rating[li], np.where(two, self.line_rating[ljc], np.nan)
+        rmin = np.fmin(np.where(np.isfinite(ra), ra, np.inf), np.where(np.isfinite(rb), rb, np.inf))
+        surely_ok = p <= self.derating * rmin
+        out = surely_ok.astype(np.int8)
+        j = np.flatnonzero(~surely_ok)
+        if j.size == 0:
+            return out
+        a, b, two, adds_value = a[j], b[j], two[j], adds_value[j]
+        h = 1e-6
+        g = 1 + h
+        with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+            def law(x, y):
+                return np.where(two, np.where(adds_value, x + y, 1.0 / (1.0 / x + 1.0 / y)), x)
+
+            total = law(a, b)
+            pw = self.volts**2 / total
+            sa = np.log(law(a * g, b) / total) / math.log1p(h)
+            sb = np.log(law(a, b * g) / total) / math.log1p(h)
+            bad_a = np.isfinite(ra[j]) & (pw * np.maximum(sa, 0.0) > self.derating * ra[j] * (1 + 1e-9))
+            bad_b = two & np.isfinite(rb[j]) & (pw * np.maximum(sb, 0.0) > self.derating * rb[j] * (1 + 1e-9))
+        out[j] = ~(bad_a | bad_b)
+        return out
+
+    def _ok_three(self, flat: np.ndarray) -> np.ndarray:
+        """The check for networks with 3 parts: the cheap bound, then ``_exact`` per network."""
         vals = self.index.values(flat)
         p = self.volts**2 / vals
         pos, _cnt = self.index.usage_arrays(flat)
@@ -132,7 +212,7 @@ class PowerCheck:
                 hit = self._exact(nid)
                 self._cache[nid] = hit
             res[j] = hit
-        return res.reshape(ids.shape)
+        return res
 
     def _exact(self, nid: int) -> bool:
         net = self.index.network(nid)
@@ -252,7 +332,10 @@ def _nearest_feasible(index, target, lo, hi, ok_fn, k0: int = 2, kmax: int = 1 <
     return out[0], out[1]
 
 
+@functools.lru_cache(maxsize=256)
 def _fmt(v: float, unit: str) -> str:
+    """A limit as people read it, for the exclusion texts (a pass words the same few limits on
+    every chunk, mostly for a count of 0: remembered)."""
     from selector.core.notation import format_value
 
     return format_value(v, unit)

@@ -417,6 +417,23 @@ def test_sampled_provisional_bound_is_still_exact(case, connection):
         sk.PHASE1_SAMPLE = old
 
 
+@settings(**_SETTINGS)
+@given(cases("standard", max_parts_max=2), st.sampled_from(["standard", "diode"]))
+def test_picked_provisional_bound_is_still_exact(case, connection):
+    """With 1-2 part networks phase 1 first runs on the few capacitor networks whose nearest RB
+    is closest to the ideal one; force that path on small stocks (a pick of 1) and compare with
+    the exhaustive reference again."""
+    import selector.core.search.kernels as sk
+
+    old = sk.PHASE1_PICK
+    sk.PHASE1_PICK = 1
+    try:
+        r_lines, c_lines, target, lim, max_parts, boards, pool = case
+        _check((r_lines, c_lines, target, lim, 2, boards, min(pool, 2)), connection)
+    finally:
+        sk.PHASE1_PICK = old
+
+
 @settings(max_examples=60, deadline=None, derandomize=True,
           suppress_health_check=[HealthCheck.too_slow, HealthCheck.data_too_large])
 @given(cases("standard", max_parts_max=2), st.integers(1, 3), st.sampled_from(["standard", "diode"]))
