@@ -207,6 +207,8 @@ def reference_best(r_lines, c_lines, target, connection, lim, max_parts, boards,
         # RB's own power (issue 10): peak (2VCC/3)²/RB at the start of the discharge, every part
         # within rating × derating (facts §7, derived; 50 % derating common practice)
         rb_ok = [n for n in rn if power_ok(n, lim.rb_power_volts, lim.r_power_derating)]
+        c = np.array([n[0] for n in cn])
+        pairs = []  # every allowed (RA, RB) pair
         for ra, rb in itertools.product(ra_ok, rb_ok):
             if ra[0] + rb[0] > lim.max_total_r_ohm * (1 + 1e-9):
                 continue
@@ -215,23 +217,27 @@ def reference_best(r_lines, c_lines, target, connection, lim, max_parts, boards,
             # DIS pin at turn-on: C through RB, (2VCC/3)/RB, plus VCC/RA (facts.md §6, derived)
             if 2 * lim.vcc / 3 / rb[0] + lim.vcc / ra[0] > lim.dis_sink_a * (1 + 1e-9):
                 continue
-            c = np.array([n[0] for n in cn])
-            if c.size == 0:
-                continue
-            if connection == "standard":
-                th = LN2 * (ra[0] + rb[0]) * c
-            else:
+            pairs.append((ra[0], rb[0]))
+        if c.size == 0:
+            return None
+        for start in range(0, len(pairs), 256):  # the diode's charge for 256 pairs × every C at once
+            chunk = pairs[start:start + 256]
+            if connection == "diode":
                 # Shockley diode (the physics the search uses, checked against a scipy ODE in
                 # tests/reference/test_diode_shockley_reference.py); n from the limits
-                th = timing.diode_shockley_times(ra[0], rb[0], c, lim.vcc, lim.diode_vf,
-                                                 lim.extra.get("diode_n", 1.9))[0]
-            tl = ref_t_low(ra[0], rb[0], c, lim.discharge_ohms)
-            with np.errstate(divide="ignore"):
-                ok = 1.0 / (th + tl) <= lim.max_freq_hz * (1 + 1e-9)
-            e = np.maximum(np.abs(th / target.t_high - 1), np.abs(tl / target.t_low - 1))
-            e = e[ok & (e <= 1.0)]
-            if e.size and (best is None or e.min() < best):
-                best = float(e.min())
+                a = np.array([p[0] for p in chunk])[:, None]
+                b = np.array([p[1] for p in chunk])[:, None]
+                th_rows = timing.diode_shockley_times(a, b, c[None, :], lim.vcc, lim.diode_vf,
+                                                      lim.extra.get("diode_n", 1.9))[0]
+            for k, (ra, rb) in enumerate(chunk):
+                th = LN2 * (ra + rb) * c if connection == "standard" else th_rows[k]
+                tl = ref_t_low(ra, rb, c, lim.discharge_ohms)
+                with np.errstate(divide="ignore"):
+                    ok = 1.0 / (th + tl) <= lim.max_freq_hz * (1 + 1e-9)
+                e = np.maximum(np.abs(th / target.t_high - 1), np.abs(tl / target.t_low - 1))
+                e = e[ok & (e <= 1.0)]
+                if e.size and (best is None or e.min() < best):
+                    best = float(e.min())
         return best
     # one-resistor connections
     r_ok = [n for n in rn if lim.min_r_ohm * (1 - 1e-9) <= n[0] <= lim.max_total_r_ohm * (1 + 1e-9)
