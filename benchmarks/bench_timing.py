@@ -247,7 +247,11 @@ def _peak_child(name: str, all_networks: bool) -> None:
     conn = "rc" if name.startswith("rc") else name
     lim = resolve_limits(conn, "bipolar", 9.0, 0.65)
     search_timing(rl, cl, target, (conn,), {conn: lim}, max_parts=3, pool=2 * 10, all_networks=all_networks)
-    print(f"{peak_mb():.1f}")
+    # VmHWM, the peak of this process's own memory: ru_maxrss would still hold the parent's peak
+    # (Linux keeps it across fork and exec)
+    status = Path("/proc/self/status")
+    hwm = [ln for ln in status.read_text().splitlines() if ln.startswith("VmHWM:")] if status.exists() else []
+    print(f"{int(hwm[0].split()[1]) / 1024.0:.1f}" if hwm else f"{peak_mb():.1f}")
 
 
 def main() -> None:
