@@ -247,6 +247,28 @@ def run_cli_process(*args: str, db: str | Path | None = None, input: str | None 
                           cwd=cwd or REPO, timeout=300)
 
 
+def modules_after_commands(db, commands, modules) -> list[tuple[int, list[bool]]]:
+    """Run ``commands`` (argument tuples) one after another in ONE fresh interpreter on the
+    database ``db`` and return, per command, (exit code, [whether each of ``modules`` is imported
+    by then]): what a command pays at start-up, which an in-process run cannot see."""
+    code = (
+        "import sys\n"
+        "from selector.cli.app import app\n"
+        f"for args in {[list(map(str, a)) for a in commands]!r}:\n"
+        "    code = 0\n"
+        "    try:\n"
+        f"        app(['--db', {str(db)!r}, *args])\n"
+        "    except SystemExit as e:\n"
+        "        code = e.code\n"
+        f"    print('\\nPROBE', code, *[int(m in sys.modules) for m in {list(modules)!r}])\n"
+    )
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, cwd=REPO, timeout=300)
+    assert out.returncode == 0, out.stderr
+    rows = [ln.split()[1:] for ln in out.stdout.splitlines() if ln.startswith("PROBE ")]
+    assert len(rows) == len(commands), out.stdout[-800:]
+    return [(int(r[0]), [x == "1" for x in r[1:]]) for r in rows]
+
+
 def _show_warning(message, category, filename, lineno, file=None, line=None) -> None:
     sys.stderr.write(warnings.formatwarning(message, category, filename, lineno, line))
 

@@ -6,8 +6,6 @@ from __future__ import annotations
 import multiprocessing as mp
 import os
 import sqlite3
-import subprocess
-import sys
 import threading
 import time
 from pathlib import Path
@@ -15,7 +13,7 @@ from pathlib import Path
 import pytest
 import sqlalchemy as sa
 
-from conftest import REPO, SAMPLE, run_cli, sqlite_only
+from conftest import SAMPLE, modules_after_commands, run_cli, sqlite_only
 from selector.core.errors import DatabaseProblem, InsufficientStock, UnknownStockLine
 from selector.core.types import StockLine
 from selector.store import db
@@ -315,27 +313,12 @@ def test_searches_and_readers_never_import_the_orm(tmp_path):
     negative control that the probe sees an import."""
     path = tmp_path / "s.db"
     assert run_cli("stock", "import", str(SAMPLE), db=path).returncode == 0
-    code = (
-        "import sys\n"
-        "from selector.cli.app import app\n"
-        "def run(*args):\n"
-        "    try:\n"
-        f"        app(['--db', {str(path)!r}, *args])\n"
-        "    except SystemExit as e:\n"
-        "        print('exit', e.code)\n"
-        "    print('orm', 'sqlalchemy.orm' in sys.modules, 'selector.store.models' in sys.modules)\n"
-        "run('find', 'astable', '--freq', '1234', '--duty', '0.62', '--json')\n"
-        "run('find', 'value', '4k7', '--json')\n"
-        "run('bom', '1', '--search', '1')\n"
-        "run('show', '1', '--search', '1')\n"
-        "run('stock', 'list', '--json')\n"
-        "run('ledger')\n"
-        f"run('stock', 'import', {str(SAMPLE)!r})\n"
-    )
-    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, cwd=REPO, timeout=120)
-    assert out.returncode == 0, out.stderr
-    assert [ln for ln in out.stdout.splitlines() if ln.startswith(("exit", "orm"))] == \
-        ["exit 0", "orm False False"] * 6 + ["exit 0", "orm True True"], out.stdout[-500:]
+    runs = modules_after_commands(path, [("find", "astable", "--freq", "1234", "--duty", "0.62", "--json"),
+                                         ("find", "value", "4k7", "--json"), ("bom", "1", "--search", "1"),
+                                         ("show", "1", "--search", "1"), ("stock", "list", "--json"), ("ledger",),
+                                         ("stock", "import", str(SAMPLE))],
+                                  ["sqlalchemy.orm", "selector.store.models"])
+    assert runs == [(0, [False, False])] * 6 + [(0, [True, True])], runs
 
 
 def test_apply_movement_changes_quantity_and_writes_one_ledger_row(memory_engine):
