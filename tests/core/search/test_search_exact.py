@@ -359,6 +359,17 @@ def _check(case, connection):
         assert all(cnt * boards <= qty[lid] for lid, cnt in total.items())
 
 
+def _check_forced(name: str, value, case, connection, max_parts: int):
+    """_check with one of the kernels' constants forced to ``value`` (put back afterwards), a
+    pool of at most 2 and ``max_parts`` parts per network."""
+    import selector.core.search.kernels as sk
+
+    r_lines, c_lines, target, lim, _max_parts, boards, pool = case
+    with pytest.MonkeyPatch.context() as patch:
+        patch.setattr(sk, name, value)
+        _check((r_lines, c_lines, target, lim, max_parts, boards, min(pool, 2)), connection)
+
+
 _SETTINGS = dict(max_examples=60, deadline=None, derandomize=True,
                  suppress_health_check=[HealthCheck.too_slow, HealthCheck.data_too_large])
 
@@ -412,15 +423,7 @@ def test_pool_holds_the_k_best_pairs():
 def test_sampled_provisional_bound_is_still_exact(case, connection):
     """The 3-part search first bounds the error on a sample of the capacitor networks; force that
     path on small stocks (sample of 1) and compare with the exhaustive reference again."""
-    import selector.core.search.kernels as sk
-
-    old = sk.PHASE1_SAMPLE
-    sk.PHASE1_SAMPLE = 2
-    try:
-        r_lines, c_lines, target, lim, max_parts, boards, pool = case
-        _check((r_lines, c_lines, target, lim, 3, boards, min(pool, 2)), connection)
-    finally:
-        sk.PHASE1_SAMPLE = old
+    _check_forced("PHASE1_SAMPLE", 2, case, connection, max_parts=3)
 
 
 @settings(**_SETTINGS)
@@ -429,15 +432,7 @@ def test_picked_provisional_bound_is_still_exact(case, connection):
     """With 1-2 part networks phase 1 first runs on the few capacitor networks whose nearest RB
     is closest to the ideal one; force that path on small stocks (a pick of 1) and compare with
     the exhaustive reference again."""
-    import selector.core.search.kernels as sk
-
-    old = sk.PHASE1_PICK
-    sk.PHASE1_PICK = 1
-    try:
-        r_lines, c_lines, target, lim, max_parts, boards, pool = case
-        _check((r_lines, c_lines, target, lim, 2, boards, min(pool, 2)), connection)
-    finally:
-        sk.PHASE1_PICK = old
+    _check_forced("PHASE1_PICK", 1, case, connection, max_parts=2)
 
 
 @settings(max_examples=60, deadline=None, derandomize=True,
