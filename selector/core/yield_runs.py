@@ -1,4 +1,4 @@
-"""Many options' Monte Carlo yields at once, each exactly as ``ranking.evaluate`` makes it alone
+"""Many options' Monte Carlo yields at once, each exactly as ``evaluation.evaluate`` makes it alone
 (pure core; ``ranking.evaluate_and_rank`` drives it).
 
 Why it is faster than one ``evaluate`` per option, and why the figures stay the same:
@@ -22,7 +22,7 @@ from typing import Sequence
 
 import numpy as np
 
-from selector.core import ranking as rk
+from selector.core import evaluation as ev
 
 
 def _electrical_key(found) -> tuple:
@@ -44,7 +44,7 @@ values) when needed."""
 
 
 class YieldRuns:
-    """``ranking.evaluate`` for many options at once, with the same figures as one call per option
+    """``evaluation.evaluate`` for many options at once, with the same figures as one call per option
     (see the module docstring). Results are remembered per (electrical key, sample count): a
     variant that differs only in its drawers is not simulated again; the cautions depend on the
     stock lines (ratings, dielectric), so each call still returns the option's own RankedOption."""
@@ -62,8 +62,8 @@ class YieldRuns:
         self.pending_parts: dict = {}   # memo key -> (base, builds drawn) for ``parts_only``
         self.key_of: dict = {}   # id(RankedOption returned by ``many``) -> its memo key
 
-    def _base(self, found, key=None, figures: bool = True) -> rk._Base:
-        """The option's ``ranking._Base`` (``figures=False``: its nominal outputs and corners may be
+    def _base(self, found, key=None, figures: bool = True) -> ev._Base:
+        """The option's ``evaluation._Base`` (``figures=False``: its nominal outputs and corners may be
         missing; the yield alone does not need them)."""
         key = _electrical_key(found) if key is None else key
         if figures and not hasattr(self.bases.get(key), "nom"):
@@ -72,21 +72,21 @@ class YieldRuns:
         b = self.bases.get(key)
         if b is None:
             target, limits, _accept, _d, _s = self.args
-            b = self.bases[key] = rk._Base(found, target, limits[found.connection], figures=False)
+            b = self.bases[key] = ev._Base(found, target, limits[found.connection], figures=False)
         return b
 
     def firsts(self, founds: Sequence) -> list:
         """``evaluate(..., monte_carlo=False)`` for each: nominal figures and corners, no yield."""
         target, limits, accept, _d, _s = self.args
         self.bases_of(founds)
-        return [rk._ranked(f, target, limits[f.connection], accept, self._base(f), math.nan, math.nan, 0)
+        return [ev._ranked(f, target, limits[f.connection], accept, self._base(f), math.nan, math.nan, 0)
                 for f in founds]
 
     def bases_of(self, founds: Sequence) -> None:
-        """Make the missing ``ranking._Base`` of ``founds``: per connection ONE model call whose rows are
+        """Make the missing ``evaluation._Base`` of ``founds``: per connection ONE model call whose rows are
         each option's nominal point and its corner points (a row repeats its points up to the
         widest row; the model is elementwise and each row's Shockley solve stops on its own, so
-        every figure is the one ``ranking._Base`` computes alone, and min/max see the same points)."""
+        every figure is the one ``evaluation._Base`` computes alone, and min/max see the same points)."""
         target, limits, _a, _d, _s = self.args
         missing: dict = {}
         for f in founds:
@@ -97,7 +97,7 @@ class YieldRuns:
         for key, f in missing.items():
             by_conn.setdefault(f.connection, []).append(key)
         for connection, keys in by_conn.items():
-            bases = [rk._Base(missing[k], target, limits[connection], figures=False) for k in keys]
+            bases = [ev._Base(missing[k], target, limits[connection], figures=False) for k in keys]
             points = [b.corner_points() for b in bases]
             width = max(p[0].size for p in points)
             rows = []
@@ -199,7 +199,7 @@ class YieldRuns:
         for key, outs in self._run(todo, draws):
             b = todo[key][0]
             y = float(np.mean(b.kind.in_spec(outs, target, accept)))
-            figures[key] = (y, rk._extremes(outs))
+            figures[key] = (y, ev._extremes(outs))
         out = []
         for f, key in zip(founds, keys):
             done = self.memo.get(key)
@@ -208,11 +208,11 @@ class YieldRuns:
                 y, extremes = figures[key]
                 # without chip, supply or diode terms the full run IS the parts-only run
                 y_parts = y if b.fn.n_parts_only == len(b.nominal) else math.nan
-                done = rk._ranked(f, target, limits[f.connection], accept, b, y, y_parts, draws, extremes)
+                done = ev._ranked(f, target, limits[f.connection], accept, b, y, y_parts, draws, extremes)
                 self.memo[key] = done
                 self.pending_parts[key] = (b, draws)
             else:
-                done = dataclasses.replace(done, found=f, cautions=rk.cautions(f, target, limits[f.connection]),
+                done = dataclasses.replace(done, found=f, cautions=ev.cautions(f, target, limits[f.connection]),
                                            rank=0, is_best_error=False, why="", yield_group=0, alternatives=[])
             self.key_of[id(done)] = key
             out.append(done)
