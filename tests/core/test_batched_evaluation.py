@@ -10,29 +10,12 @@ import numpy as np
 import pytest
 
 from selector.core import ranking, timing, tolerance
-from selector.core.types import StockLine
+from demo_stock import e12_demo_stock
 from selector.services.find_timing import TimingRequest, _target, plan_timing
 
-E12 = (1.0, 1.2, 1.5, 1.8, 2.2, 2.7, 3.3, 3.9, 4.7, 5.6, 6.8, 8.2)  # IEC 60063 E12
-
-
 def _stock():
-    """Invented demo stock: E12 resistors 1k-82k at 1 % and 5 %, E12 capacitors 10 nF-82 nF at
-    5 % (C0G) and 10 % (X7R)."""
-    lines, i = [], 1
-    for decade in (1e3, 1e4):
-        for m in E12:
-            for tol in (0.01, 0.05):
-                lines.append(StockLine(i, "resistor", m * decade, tol, tol, 10, location=f"R{i}", rating=0.25))
-                i += 1
-    for m in E12:
-        for tol, diel in ((0.05, "C0G"), (0.10, "X7R")):
-            lines.append(StockLine(i, "capacitor", m * 1e-8, tol, tol, 10, location=f"C{i}", rating=50.0,
-                                   dielectric=diel))
-            i += 1
-    r = [ln for ln in lines if ln.kind == "resistor"]
-    c = [ln for ln in lines if ln.kind == "capacitor"]
-    return r, c
+    """The shared demo stock with capacitors at 5 % (C0G) and 10 % (X7R)."""
+    return e12_demo_stock(((0.05, "C0G"), (0.10, "X7R")))
 
 
 @pytest.mark.parametrize("fields", [

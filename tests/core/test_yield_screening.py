@@ -10,26 +10,14 @@ import math
 
 from selector.core import ranking
 from selector.core.tolerance import MIN_SAMPLES
-from selector.core.types import StockLine
+from demo_stock import e12_demo_stock
 from selector.services.find_timing import TimingRequest, plan_timing
 
-E12 = (1.0, 1.2, 1.5, 1.8, 2.2, 2.7, 3.3, 3.9, 4.7, 5.6, 6.8, 8.2)  # IEC 60063 E12
-
-
 def _stock():
-    """Invented demo stock: E12 resistors 1k-82k in two drawers (1 % and 5 %), E12 capacitors
-    10 nF-82 nF; enough contenders that screening happens (more than --top of them)."""
-    lines, i = [], 1
-    for decade in (1e3, 1e4):
-        for m in E12:
-            for tol in (0.01, 0.05):
-                lines.append(StockLine(i, "resistor", m * decade, tol, tol, 10, location=f"R{i}", rating=0.25))
-                i += 1
-    for m in E12:
-        lines.append(StockLine(i, "capacitor", m * 1e-8, 0.05, 0.05, 10, location=f"C{i}", rating=50.0,
-                               dielectric="C0G"))
-        i += 1
-    return lines
+    """The shared demo stock (C0G capacitors at 5 %); enough contenders that screening happens
+    (more than --top of them)."""
+    r, c = e12_demo_stock()
+    return r + c
 
 
 def test_listed_yields_are_the_full_stand_alone_monte_carlo():
