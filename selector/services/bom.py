@@ -36,7 +36,7 @@ class SavedOption:
     data: dict[str, Any]
     boards: int  # the board count the search was run for
     params: dict[str, Any] = field(default_factory=dict)  # the search's settings record, read
-    target_json: str = "{}"  # the search's target, as saved (show and simulate read it)
+    target: dict[str, Any] = field(default_factory=dict)  # the search's target record, read (show)
 
 
 @dataclass(frozen=True)
@@ -127,7 +127,7 @@ def load_saved_option(session: Unit, option: int, search_id: Optional[int] = Non
     except (TypeError, ValueError):
         boards = 1
     return SavedOption(search_id=search.id, rank=row.rank, spec=spec, data=data, boards=boards,
-                       params=params, target_json=search.target_json or "{}")
+                       params=params, target=_loads(search.target_json, "target record", search.id))
 
 
 def safe_derating(dielectric: str) -> float:

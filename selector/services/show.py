@@ -5,7 +5,6 @@ waveform (the circuit kind's thresholds). Read-only; rendering is ``render/show.
 
 from __future__ import annotations
 
-import json
 import math
 from dataclasses import dataclass
 from types import SimpleNamespace
@@ -116,7 +115,7 @@ def show_in_session(session, option: int, search_id: Optional[int] = None) -> Sh
         raise NothingFeasible(f"search {saved.search_id} is a {mode} search: show needs a timing "
                               f"search ({', '.join(SIMULATED_MODES)}); its parts: selector bom {option} "
                               f"--search {saved.search_id}")
-    target = json.loads(saved.target_json)
+    target = dict(saved.target)
     params = dict(saved.params)
     stock = load_stock(session)
     bom = bom_of_saved(saved, stock)

@@ -145,3 +145,18 @@ def test_show_and_find_render_the_agreed_keys_when_saved(shop):
     for role, net in other["networks"].items():
         for p in net["parts"]:
             assert si(p["value"], "F" if role == "C" else "Ω") in out
+
+
+@pytest.mark.parametrize("column, what", [("target_json", "target record"), ("params_json", "settings record")])
+def test_show_of_a_damaged_saved_search_is_one_line(tmp_path, column, what):
+    # A saved search whose target or settings text was damaged (not JSON) is refused in one line
+    # naming the search and what to do, before anything is drawn; the show used to read the
+    # target with a bare json.loads and end in a traceback.
+    db = tmp_path / "s.db"
+    assert run_cli("stock", "import", str(SAMPLE), db=db).returncode == 0
+    _run(db, "find", "monostable", "--width", "150ms", "--top", "2")
+    with sqlite3.connect(db) as c:
+        sid = c.execute("SELECT MAX(id) FROM searches").fetchone()[0]
+        c.execute(f"UPDATE searches SET {column} = '{{not json' WHERE id = ?", (sid,))
+    r = _run(db, "show", "1", code=1)
+    assert r.stderr.strip().splitlines() == [f"Error: search {sid} has an unreadable {what}; run the search again"]
