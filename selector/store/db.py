@@ -31,6 +31,7 @@ deadlocks and serialization failures replay the whole unit like a busy SQLite da
 
 from __future__ import annotations
 
+import json
 import os
 import time
 from contextlib import contextmanager
@@ -555,8 +556,6 @@ def save_search(session: Union["Session", sa.Connection], mode: str, target: dic
     as (connection, the option exactly as ``--json`` prints it: rank, error, ...); returns the new
     search id. Core inserts (the id comes back through RETURNING / lastrowid on either backend),
     so a Connection from ``transaction(..., core=True)`` serves as well as a Session."""
-    import json
-
     search_id = session.execute(
         sa.insert(searches).values(mode=mode, target_json=json.dumps(target), params_json=json.dumps(params))
     ).inserted_primary_key[0]
