@@ -216,7 +216,7 @@ def evaluate(found, target, limits, accept: float, distribution: str = "uniform"
     return _ranked(found, target, limits, accept, base, y, y_parts, n, _extremes(outs))
 
 
-def _monte_carlo(fn, nominal, tm, tp, n: int, seed: int, distribution: str, parts_only: bool = True):
+def _monte_carlo(fn, nominal, tm, tp, n: int, seed: int, distribution: str):
     """(outputs with every term drawn, outputs with the parts alone or None) over ``n`` seeded
     builds. Parts (and a circuit's own thresholds) are drawn first, exactly as a parts-only run
     draws them; the chip, supply and diode terms after them from the same generator."""
@@ -228,23 +228,12 @@ def _monte_carlo(fn, nominal, tm, tp, n: int, seed: int, distribution: str, part
     parts_outs = None
     if k < len(nominal):
         rest = tolerance.draw_parts(nominal[k:], tm[k:], tp[k:], n, rng, distribution)
-        if parts_only:
-            parts_outs = [np.asarray(o, dtype=float) for o in
-                          fn(*draws, *[np.full(n, v) for v in nominal[k:]])]
+        parts_outs = [np.asarray(o, dtype=float) for o in fn(*draws, *[np.full(n, v) for v in nominal[k:]])]
         draws = np.concatenate([draws, rest])
     outs = [np.asarray(o, dtype=float) for o in fn(*draws)]
     if k == len(nominal):
         parts_outs = outs
     return outs, parts_outs
-
-
-def yield_only(found, target, limits, accept: float, distribution: str, samples: int, seed: int) -> float:
-    """The ``yield_fraction`` that ``evaluate(..., samples, seed, screen=True)`` gives, without the
-    nominal values, corners and parts-only run (for a listed option's alternatives)."""
-    fn, _names, inputs, kind = _model(found, target, limits)
-    nominal, tm, tp = _columns(inputs)
-    outs, _ = _monte_carlo(fn, nominal, tm, tp, int(samples), seed, distribution, parts_only=False)
-    return float(np.mean(kind.in_spec(outs, target, accept)))
 
 
 def cautions(found, target, limits) -> list:

@@ -39,7 +39,7 @@ import numpy as np
 # One option evaluated alone lives in core.evaluation (yield_runs uses it too); the names
 # other modules read from here stay importable from here.
 from selector.core.evaluation import (  # noqa: F401  (re-exported)
-    BAND, ROLE_ORDER, SCORE_FLOOR, RankedOption, binomial_se, cautions, evaluate, tier_of, yield_only,
+    BAND, ROLE_ORDER, SCORE_FLOOR, RankedOption, binomial_se, cautions, evaluate, tier_of,
 )
 YIELD_EQUAL = 0.02
 """Yields within 2 points of each other are equal for ranking (issue 11)."""

@@ -238,8 +238,9 @@ class YieldRuns:
                     o.yield_parts_only = y
 
     def yields_of(self, founds: Sequence, n: int) -> list:
-        """``yield_only(found, ..., n)`` for each, remembered like ``many`` (a full evaluation of the
-        same key and count gives the same yield)."""
+        """The ``yield_fraction`` of ``evaluate(found, ..., n)`` for each, without its other figures
+        (a listed option's alternatives), remembered like ``many`` (a full evaluation of the same
+        key and count gives the same yield)."""
         target, limits, accept, _d, _s = self.args
         todo, keys = {}, []
         for f in founds:

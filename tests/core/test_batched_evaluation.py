@@ -39,6 +39,12 @@ def test_listed_options_equal_a_stand_alone_evaluate_in_every_figure(fields):
         assert (o.yield_fraction, o.yield_parts_only, o.yield_samples) == \
             (alone.yield_fraction, alone.yield_parts_only, alone.yield_samples)
         assert o.cautions == alone.cautions
+        # an alternative's yield (the same build from other drawers) is the stand-alone yield on
+        # the stated, smaller number of builds
+        for alt, y in o.alternatives:
+            assert y == ranking.evaluate(alt, target, report.limits[o.connection], req.accept, req.distribution,
+                                         o.alternative_samples, req.seed, screen=True).yield_fraction
+    assert any(o.alternatives for o in report.ranked)  # the check above did run
 
 
 def test_shockley_on_stacked_rows_equals_each_row_alone():
