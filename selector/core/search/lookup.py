@@ -31,14 +31,18 @@ def _all_ids(index) -> np.ndarray:
     return np.asarray(ids, dtype=np.int64)
 
 
-def _entry_lines(index, ids):
-    """(first line, second line or -1) of each network when ``ids`` are all 1-2 part networks
-    (the index keeps those materialised: a plain look-up instead of ``usage_arrays``); None
-    otherwise."""
+def _part_positions(index, ids) -> tuple[np.ndarray, np.ndarray]:
+    """(positions, counts) of each network's stock lines in ``index.lines`` (-1: no part there)
+    and how many parts it takes from each. 1-2 part networks, which the index keeps
+    materialised, are read directly as (first line, second line or -1) with a count of 1 each (a
+    line used twice appears twice); others go through ``usage_arrays``. Either form gives the
+    same per-network sums and all()s below."""
     n = len(index.entry_values)
-    if ids.size and (int(ids.min()) < 0 or int(ids.max()) >= n):
-        return None
-    return index.entry_parts(ids)
+    if not ids.size or (int(ids.min()) >= 0 and int(ids.max()) < n):
+        li, lj = index.entry_parts(ids)
+        return np.stack([li, lj], axis=1), np.ones((ids.size, 2))
+    pos, cnt = index.usage_arrays(ids)
+    return np.asarray(pos), np.asarray(cnt, dtype=float)
 
 
 LEAKAGE_REASON = "C networks whose electrolytic leakage is above 1/10 of the charging current"
@@ -67,14 +71,8 @@ def _leakage_ok(c_index, ids, limits, charge_r) -> np.ndarray:
     line_leak = np.array([leak_of(ln) for ln in c_index.lines], dtype=float)
     if not np.any(line_leak > 0):
         return np.ones(ids.size, dtype=bool)
-    two = _entry_lines(c_index, ids)
-    if two is not None:  # 1-2 parts: the first part's leakage plus the second's (x + x = 2·x)
-        li, lj = two
-        leak = line_leak[li] + np.where(lj >= 0, line_leak[np.maximum(lj, 0)], 0.0)
-    else:
-        pos, cnt = c_index.usage_arrays(ids)
-        pos, cnt = np.asarray(pos), np.asarray(cnt, dtype=float)
-        leak = np.sum(np.where(pos >= 0, line_leak[np.maximum(pos, 0)] * cnt, 0.0), axis=1)
+    pos, cnt = _part_positions(c_index, ids)
+    leak = np.sum(np.where(pos >= 0, line_leak[np.maximum(pos, 0)] * cnt, 0.0), axis=1)
     r = np.asarray(charge_r(c_index.values(ids)), dtype=float)
     with np.errstate(divide="ignore", invalid="ignore"):
         current = limits.vcc / (3.0 * r)
@@ -98,14 +96,8 @@ def capacitor_candidates(c_index, limits, ex, charge_r=None) -> np.ndarray:
         rating = _line_arrays(c_index, "rating")
         derate = np.array([limits.cap_derating(ln.dielectric or "") for ln in c_index.lines])
         line_ok = ~(rating * derate < limits.cap_volts)  # nan (unknown) -> allowed
-        two = _entry_lines(c_index, ids)
-        if two is not None:
-            li, lj = two
-            ok = line_ok[li] & ((lj < 0) | line_ok[np.maximum(lj, 0)])
-        else:
-            pos, _cnt = c_index.usage_arrays(ids)
-            pos = np.asarray(pos)
-            ok = np.all(np.where(pos >= 0, line_ok[np.maximum(pos, 0)], True), axis=1)
+        pos, _cnt = _part_positions(c_index, ids)
+        ok = np.all(np.where(pos >= 0, line_ok[np.maximum(pos, 0)], True), axis=1)
         ex.add(f"C networks with a part rated below {limits.cap_volts:g} V after derating", (~ok).sum())
         ids = ids[ok]
     if charge_r is not None and ids.size:
