@@ -477,7 +477,12 @@ class _Pass:
         """Every RB in the certified slice of each capacitor network at ``pos``, with its best RA
         within ``bound``."""
         lo, hi, _a, _b = self._box(pos, bound)
-        offsets, ids = self.r.between(lo, np.maximum(hi, lo))
+        return self._eval_slices(pos, lo, np.maximum(hi, lo), bound)
+
+    def _eval_slices(self, pos, lo, hi, bound: float) -> list[tuple]:
+        """Every RB network in [lo[i], hi[i]] with capacitor network pos[i], evaluated 200 000
+        pairs at a time."""
+        offsets, ids = self.r.between(lo, hi)
         ci = np.repeat(pos, np.diff(offsets))
         ids = np.asarray(ids, dtype=np.int64)
         return [self._eval_pairs(ci[sub], ids[sub], bound) for sub in _chunks(ids.size, 200_000)]
@@ -500,10 +505,7 @@ class _Pass:
         for g in np.split(pos, cuts):
             if g.size == 0:
                 continue
-            offsets, ids = self.r.between(lo[g], hi[g])
-            ci = np.repeat(g, np.diff(offsets))
-            ids = np.asarray(ids, dtype=np.int64)
-            out.extend(self._eval_pairs(ci[sub], ids[sub], bound) for sub in _chunks(ids.size, 200_000))
+            out.extend(self._eval_slices(g, lo[g], hi[g], bound))
             if progress:
                 progress()
         return out
