@@ -3,8 +3,9 @@ declaration of the schema: columns, types, constraints, indexes). The schema its
 upgraded only by the Alembic revisions in ``migrations/``; a test runs alembic's autogenerate
 comparison of ``Base.metadata`` (= ``tables.metadata``) against the migrated database.
 
-Use cases that want objects (imports, pulls, undo, the ledger) use these classes; the search hot
-path works on the tables alone and never imports this module (nor ``sqlalchemy.orm``)."""
+Use cases that change the stock as objects (imports, kits, adjust/set, pulls, undo) use these
+classes; the searches and the readers (bom, show, netlist, simulate, stock list/export, ledger)
+work on the tables alone and never import this module (nor ``sqlalchemy.orm``)."""
 
 from __future__ import annotations
 
