@@ -264,7 +264,7 @@ def evaluate_and_rank(found_options: Sequence, target, limits_by_connection: dic
     for o in by_parts[:k] + by_score[:k] + by_error[:k] + [best]:
         if o not in chosen:
             chosen.append(o)
-    if samples > SCREEN_SAMPLES and len(chosen) > top:
+    if _screen_pays(len(chosen), int(top), int(samples)):
         # screen every contender with a smaller sample, then the full sample only for the head
         # of that order (the ones that can be listed) and the exact best; rank those
         screened = rank(simulate.many([o.found for o in chosen], SCREEN_SAMPLES), len(chosen))
@@ -285,6 +285,15 @@ def evaluate_and_rank(found_options: Sequence, target, limits_by_connection: dic
         i += len(a)
         o.alternative_samples = simulate.samples_used(n_alt)
     return shown
+
+
+def _screen_pays(contenders: int, top: int, samples: int) -> bool:
+    """Screen only when it saves builds: the full sample it spares the contenders outside the
+    head (``top + SCREEN_MARGIN`` and the exact best) must outweigh the screen's own sample of
+    every contender. Otherwise every contender gets the full sample (the listed figures are the
+    same either way: each is its option's stand-alone full run)."""
+    head = top + SCREEN_MARGIN + 1
+    return samples > SCREEN_SAMPLES and (contenders - head) * samples > contenders * SCREEN_SAMPLES
 
 
 SCREEN_SAMPLES = 2_000

@@ -8,26 +8,35 @@ from __future__ import annotations
 
 import math
 
+import pytest
+
 from selector.core import ranking
 from selector.core.tolerance import MIN_SAMPLES
+from selector.core.yield_runs import YieldRuns
 from demo_stock import e12_demo_stock
 from selector.services.find_timing import TimingRequest, plan_timing
 
 def _stock():
-    """The shared demo stock (C0G capacitors at 5 %); enough contenders that screening happens
-    (more than --top of them)."""
+    """The shared demo stock (C0G capacitors at 5 %); more contenders than --top."""
     r, c = e12_demo_stock()
     return r + c
 
 
-def test_listed_yields_are_the_full_stand_alone_monte_carlo():
+@pytest.mark.parametrize("top, samples", [(2, 50_000), (10, 10_000)])
+def test_listed_yields_are_the_full_stand_alone_monte_carlo(top, samples, monkeypatch):
+    # top=2 with 50 000 builds: screening the contenders first saves builds, so they are; top=10:
+    # the screen would cut next to nothing, so every contender gets the full sample at once
     lines = _stock()
     r = [ln for ln in lines if ln.kind == "resistor"]
     c = [ln for ln in lines if ln.kind == "capacitor"]
-    req = TimingRequest(mode="astable", freq_hz=1234.0, duty=0.62, connection="auto", max_parts=2, top=5,
-                        seed=7)
+    screens = []
+    many = YieldRuns.many
+    monkeypatch.setattr(YieldRuns, "many", lambda self, founds, n: screens.append(n) or many(self, founds, n))
+    req = TimingRequest(mode="astable", freq_hz=1234.0, duty=0.62, connection="auto", max_parts=2, top=top,
+                        seed=7, samples=samples)
     report = plan_timing(r, c, req)
-    assert len(report.ranked) == 5
+    assert len(report.ranked) == top
+    assert (screens[0] == ranking.SCREEN_SAMPLES < req.samples) == (top == 2)   # the first run is the screen
     seen_alternative = False
     for o in report.ranked:
         limits = report.limits[o.connection]
