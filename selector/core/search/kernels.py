@@ -391,7 +391,7 @@ class _Pass:
         pool's pairs need it: phase 1 on them, put in front."""
         hits = self._collect(found, pool, two=True)
         pos = np.flatnonzero(np.isin(self.c_ids, [h.c_id for h in hits]))
-        rest = np.setdiff1d(pos, picked)
+        rest = pos[~np.isin(pos, picked)]   # np.setdiff1d (pos is sorted, distinct) without its numpy.ma import
         if rest.size == 0:
             return found
         more, _bound, _enough = self._quiet_phase1(pool, None, rest)
