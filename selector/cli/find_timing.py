@@ -98,7 +98,7 @@ def _with_circuit_options(fn):
 
 def _run(ctx: typer.Context, search: dict, vcc_tol: Optional[str], **fields) -> None:
     from selector.core.notation import VOLT
-    from selector.render.timing import LazyProgress, print_report
+    from selector.render.progress import LazyProgress
     from selector.services.find_timing import TimingRequest, find_timing
     from selector.store.db import open_engine, resolve_url
 
@@ -123,6 +123,8 @@ def _run(ctx: typer.Context, search: dict, vcc_tol: Optional[str], **fields) -> 
     if as_json:
         typer.echo(json_text(report.json, indent=2))
     else:
+        from selector.render.timing import print_report
+
         print_report(report, explain=explain)
 
 

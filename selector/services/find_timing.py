@@ -272,7 +272,6 @@ def plan_timing(r_lines, c_lines, req: TimingRequest,
                 progress: Optional[Callable[[float], None]] = None, t_lines=()) -> TimingReport:
     """Search, evaluate and rank (pure: no database). Raises NothingFeasible when nothing fits."""
     from selector.core.ranking import evaluate_and_rank
-    from selector.core.suggest import suggest_buy
     from selector.core.search import choose_connections, resolve_limits, search_timing
 
     req.check()
@@ -298,7 +297,12 @@ def plan_timing(r_lines, c_lines, req: TimingRequest,
     from selector.core.search.lookup import LEAKAGE_REASON
 
     within = any(o.tier <= 1 for o in ranked)
-    buy = [] if within else suggest_buy(ranked, target, limits, req.accept)
+    if within:
+        buy = []
+    else:
+        from selector.core.suggest import suggest_buy
+
+        buy = suggest_buy(ranked, target, limits, req.accept)
     return TimingReport(req, target_json(req, target), params_json(req), options, ranked,
                         tuple(connections), limits, result.network_counts,
                         within_acceptance=within, suggestions=buy,
