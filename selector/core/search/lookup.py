@@ -287,7 +287,7 @@ def _nearest_feasible(index, target, lo, hi, ok_fn, k0: int = 2, kmax: int = 1 <
     target = np.asarray(target, dtype=float)
     good = ~np.isnan(target) & (lo <= hi * (1 + _SLACK))
     with np.errstate(invalid="ignore"):
-        q = np.clip(target, lo, hi)
+        q = np.minimum(np.maximum(target, lo), hi)  # np.clip's definition, without its wrapper
     q = np.where(np.isfinite(q), np.maximum(q, 1e-30), 1e-30)  # finite positive queries only
     open_side = [good.copy(), good.copy()]  # rows still looking on each side
     k = k0
@@ -308,7 +308,7 @@ def _nearest_feasible(index, target, lo, hi, ok_fn, k0: int = 2, kmax: int = 1 <
             inrange = valid & (vals >= lo_r) & (vals <= hi_r)
             okm = inrange.copy()
             if inrange.any():
-                rr = np.broadcast_to(r[:, None], ids.shape)[inrange]
+                rr = r[np.nonzero(inrange)[0]]  # each in-range candidate's row, in row-major order
                 okm[inrange] = ok_fn(ids[inrange], rr)
             dist = np.where(okm, np.abs(vals - q[r][:, None]), np.inf)
             j = np.argmin(dist, axis=1)
@@ -337,3 +337,9 @@ def _signed_max(e1: np.ndarray, e2: np.ndarray) -> np.ndarray:
     from selector.core.circuits.base import signed_max
 
     return signed_max(e1, e2)
+
+
+def _nan_to(x, nan: float) -> np.ndarray:
+    from selector.core.circuits.base import nan_to
+
+    return nan_to(x, nan)
