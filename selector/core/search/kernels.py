@@ -138,7 +138,9 @@ class _Pass:
         self.p = _Bound(kind, target, limits)
         self.r = SortedView(r_index)
         self.c_ids = c_ids
-        self.c_vals = c_index.values(c_ids) if c_ids.size else np.zeros(0)
+        c_sorted = c_index.sorted_values()   # 1-2 part networks: ids are positions there
+        self.c_vals = (np.zeros(0) if not c_ids.size else c_sorted[c_ids] if c_sorted is not None
+                       else c_index.values(c_ids))
         self.lim = limits
         self.power = power
         # RB's own power check (issue 10): peak (2VCC/3)²/RB at the start of the discharge, per
@@ -777,15 +779,14 @@ class _Pass:
         _, first = np.unique(key[by_err], return_index=True)
         first = by_err[first]
         order = first[np.argsort(np.abs(err[first]), kind="stable")][:pool]
-        out = []
-        for j in order:
-            if two:
-                out.append(Hit(int(self.c_ids[ci[j]]), (int(ra[j]), int(rb[j])), float(err[j]),
-                               float(th[j]), float(tl[j]), math.nan))
-            else:
-                out.append(Hit(int(self.c_ids[ci[j]]), (int(r[j]),), float(err[j]),
-                               float(th[j]), float(tl[j]), float(tt[j])))
-        return out
+        # to Python numbers in one ``tolist`` per column (the same ints and floats as int()/float())
+        c_l, err_l, th_l, tl_l = (self.c_ids[ci[order]].tolist(), err[order].tolist(),
+                                  th[order].tolist(), tl[order].tolist())
+        if two:
+            return [Hit(c, (a, b), e, h, lo, math.nan) for c, a, b, e, h, lo
+                    in zip(c_l, ra[order].tolist(), rb[order].tolist(), err_l, th_l, tl_l)]
+        return [Hit(c, (x,), e, h, lo, t) for c, x, e, h, lo, t
+                in zip(c_l, r[order].tolist(), err_l, th_l, tl_l, tt[order].tolist())]
 
 
 # --------------------------------------------------------------------------- limit wording

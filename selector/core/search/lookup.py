@@ -88,13 +88,19 @@ def capacitor_candidates(c_index, limits, ex, charge_r=None) -> np.ndarray:
     ids = _all_ids(c_index)
     if ids.size == 0:
         return ids
-    vals = c_index.values(ids)
+    sv = c_index.sorted_values()
+    vals = sv[ids] if sv is not None else c_index.values(ids)  # (ids are positions there)
     small = vals < limits.min_c_f * (1 - _SLACK)
     ex.add(f"C networks below the {_fmt(limits.min_c_f, 'F')} minimum timing capacitance", small.sum())
     ids = ids[~small]
     if limits.cap_volts > 0 and ids.size:
         rating = _line_arrays(c_index, "rating")
-        derate = np.array([limits.cap_derating(ln.dielectric or "") for ln in c_index.lines])
+        by_name: dict[str, float] = {}  # each dielectric's derating asked once (a pure function of the name)
+        for ln in c_index.lines:
+            d = ln.dielectric or ""
+            if d not in by_name:
+                by_name[d] = limits.cap_derating(d)
+        derate = np.array([by_name[ln.dielectric or ""] for ln in c_index.lines])
         line_ok = ~(rating * derate < limits.cap_volts)  # nan (unknown) -> allowed
         pos, _cnt = _part_positions(c_index, ids)
         ok = np.all(np.where(pos >= 0, line_ok[np.maximum(pos, 0)], True), axis=1)
