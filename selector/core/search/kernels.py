@@ -314,7 +314,8 @@ class _Pass:
             if ids.size == 0:
                 return best_id, best_err, th_out, tl_out
         order = np.lexsort((np.abs(e), rows))
-        first = order[np.r_[True, rows[order][1:] != rows[order][:-1]]]
+        ro = rows[order]
+        first = order[np.concatenate([[True], ro[1:] != ro[:-1]])]
         r = rows[first]
         best_id[r], best_err[r], th_out[r], tl_out[r] = ids[first], e[first], th[first], tl[first]
         return best_id, best_err, th_out, tl_out
@@ -473,11 +474,11 @@ class _Pass:
         tl_lo, tl_hi = np.full(n, tg.t_low * (1 - bound)), np.full(n, tg.t_low * (1 + bound))
         th_lo, th_hi = np.full(n, tg.t_high * (1 - bound)), np.full(n, tg.t_high * (1 + bound))
         lo_s, hi_s = 1 - _SLACK, 1 + _SLACK
-        active = np.arange(n)
+        active = None   # the rows still narrowed: None = all of them (a slice: no gather copies)
         with np.errstate(all="ignore"):
             rounds = _BOX_ROUNDS if self.r.max_parts >= 3 else _BOX_ROUNDS_2
             for rnd in range(rounds + 1):
-                i = active
+                i = slice(None) if active is None else active
                 # t_low is non-increasing in RA and increasing in RB
                 rb_lo[i] = np.maximum(rb_lo[i], _nan_to(p.rb_for_low(tl_lo[i], ra_lo[i], cv[i]),
                                                         -INF) * lo_s)
@@ -490,10 +491,13 @@ class _Pass:
                 # the bound alone allows
                 w = rb_hi[i] - rb_lo[i]
                 keep = (w >= 0) & (ra_lo[i] <= ra_hi[i]) & (rb_lo[i] > 0) & (w > 3.0 * bound * rb_hi[i] + 1e-9 * rb_hi[i])
-                active = i[keep]
-                if active.size == 0:
+                if active is None:
+                    active = None if keep.all() else np.flatnonzero(keep)
+                else:
+                    active = active[keep]
+                if active is not None and active.size == 0:
                     break
-                i = active
+                i = slice(None) if active is None else active
                 # t_high is increasing in RA and non-decreasing in RB
                 a, b = _both_ends(p.ra_for_high, th_lo[i], th_hi[i], rb_hi[i], rb_lo[i], cv[i])
                 ra_lo[i] = np.maximum(ra_lo[i], _nan_to(a, -INF) * lo_s)
