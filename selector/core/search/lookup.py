@@ -361,8 +361,8 @@ def _nearest_feasible_sorted(v, q, lo, hi, good, ok_fn, k0: int, kmax: int):
     start = np.concatenate([np.searchsorted(v, qr, side="right") - 1, np.searchsorted(v, qr, side="left")])
     row2 = np.concatenate([rows, rows])        # the row of each (side, row) entry
     dest = np.concatenate([rows, rows + n])    # its place in ``out``
-    lo2 = np.tile(lo[rows] * (1 - _SLACK), 2)
-    hi2 = np.tile(hi[rows] * (1 + _SLACK), 2)
+    lo_r, hi_r = lo[rows] * (1 - _SLACK), hi[rows] * (1 + _SLACK)
+    lo2, hi2 = np.concatenate([lo_r, lo_r]), np.concatenate([hi_r, hi_r])
     top = v.size - 1
     cur = np.arange(2 * m)                     # entries still looking; below ones are < m
     s0, w = 0, 1
