@@ -34,6 +34,11 @@ def _f(x) -> np.ndarray:
     return np.asarray(x, dtype=float)
 
 
+# ln of the standard astable's charging ratio (3 − 1)/(3 − 2), as ``crossing_time`` computes it
+# (a 0-d array): the factor of t_high = (RA + RB)·C·ln 2, worked out once
+_LN2_UP = np.log((_f(_V_FULL) - _f(_V_LOW)) / (_f(_V_FULL) - _f(_V_UP)))
+
+
 def crossing_time(r, c, v_inf, v0, v1) -> np.ndarray:
     """Time for an RC node to move from ``v0`` to ``v1`` while relaxing toward ``v_inf``.
 
@@ -59,6 +64,15 @@ def standard_times(ra, rb, c, rd=0.0) -> tuple[np.ndarray, np.ndarray]:
     ln2·RA·C − (RA∥RD-term) > 0 for RA > 2·RD.
     """
     ra, rb = _f(ra), _f(rb)
+    c = _f(c)
+    if ra.ndim == 1 and ra.shape == rb.shape == c.shape:
+        # the search's case (equal 1-D arrays): crossing_time's arithmetic without its checks:
+        # ln((3 − 1)/(3 − 2)) is the 0-d ln 2 it computes (_LN2_UP), always reached, so
+        # (RA + RB)·C·ln 2 in the same order gives the same bits; both results are new arrays
+        t_high = (ra + rb) * c * _LN2_UP
+        t_low = discharge_low(ra, rb, c, rd)
+        if t_low.shape == t_high.shape:
+            return t_high, t_low
     t_high = crossing_time(ra + rb, c, _V_FULL, _V_LOW, _V_UP)
     t_low = discharge_low(ra, rb, c, rd)
     t_high, t_low = np.broadcast_arrays(t_high, t_low)
@@ -89,7 +103,12 @@ def standard_times(ra, rb, c, rd=0.0) -> tuple[np.ndarray, np.ndarray]:
 def _discharge_terms(ra, rd):
     """(RA∥RD, L) of the discharge law: t_low = (RB + RA∥RD)·C·L; L = ln((2−3δ)/(1−3δ)),
     δ = RD/(RA+RD); L = inf where RA ≤ 2·RD. RA = inf gives (RD, ln 2); RD = 0 gives (0, ln 2)."""
-    ra, rd = np.broadcast_arrays(_f(ra), _f(rd))
+    ra = _f(ra)
+    if np.ndim(rd) == 0 and float(rd) > 0 and ra.ndim >= 1:
+        fast = _discharge_terms_finite(ra, float(rd))
+        if fast is not None:
+            return fast
+    ra, rd = np.broadcast_arrays(ra, _f(rd))
     with np.errstate(divide="ignore", invalid="ignore"):
         finite = np.isfinite(ra)
         rs = np.where(finite, ra, 1.0)
@@ -99,6 +118,27 @@ def _discharge_terms(ra, rd):
         # (2 − 3δ)/(1 − 3δ) on the 3-unit supply, so δ = 0 gives ln 2 bit-exact
         big_l = crossing_time(1.0, 1.0, 3.0 * delta, _V_UP, _V_LOW)
     return par, np.where(delta < 1.0 / 3.0, big_l, np.inf)
+
+
+def _discharge_terms_finite(ra: np.ndarray, rd: float):
+    """``_discharge_terms`` for one RD > 0 and an array of RA that are all finite (None
+    otherwise): the general form's arithmetic on the same operands in the same order, without
+    the branches that only matter for RA = inf or nan or RD = 0, so the same bits. With every RA
+    finite and RD > 0 the general form's δ is RD/(RA+RD) and RA∥RD is RA·RD/(RA+RD); its L is
+    crossing_time(1, 1, 3δ, 2, 1) = 1·1·ln(ratio), ratio = (3δ − 2)/(3δ − 1), kept where ratio
+    is finite and >= 1, else inf; then inf where δ >= 1/3. Here: ln(ratio) where δ < 1/3 and
+    ratio >= 1, else inf — the same, since ratio = +inf gives ln = inf either way and nan or
+    −inf fail ``>= 1`` (multiplying by 1.0 is exact)."""
+    with np.errstate(divide="ignore", invalid="ignore"):
+        if not np.isfinite(ra).all():
+            return None
+        s = ra + rd
+        delta = rd / s
+        par = ra * rd / s
+        d3 = 3.0 * delta
+        ratio = (d3 - _V_UP) / (d3 - _V_LOW)
+        big_l = np.where((delta < 1.0 / 3.0) & (ratio >= 1.0), np.log(ratio), np.inf)
+    return par, big_l
 
 
 def discharge_low(ra, rb, c, rd=0.0) -> np.ndarray:

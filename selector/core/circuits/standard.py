@@ -65,12 +65,11 @@ class Standard(Timer555, AstableKind):
 
     def ra_for_high(self, t_high, rb, c, limits: Limits):
         """RA giving exactly ``t_high`` with this RB and C (may be <= 0 or nan: none)."""
-        import numpy as np
-
         from selector.core import timing
+        from selector.core.circuits.base import nan_to
 
         ra0, _rb0 = timing.standard_ideal(t_high, 0.0, c)  # rb0 = 0 → ra0 = t_high/(ln2 c) if > 0
-        return np.nan_to_num(ra0, nan=-np.inf) - rb
+        return nan_to(ra0, -float("inf")) - rb
 
     def times2(self, ra, rb, c, limits: Limits):
         from selector.core import timing

@@ -65,6 +65,7 @@ Polarized capacitors: by default no polarized part sits in a series joint (anywh
 
 from __future__ import annotations
 
+import functools
 from typing import Iterable, Sequence
 
 import numpy as np
@@ -128,7 +129,7 @@ class NetworkIndex:
         vals = [v]
         segs: list[tuple[int, np.ndarray, np.ndarray]] = []  # pair segments in build order
         if self.max_parts >= 2 and L:
-            i, j = np.triu_indices(L)
+            i, j = _pairs_upper(L)
             keep = (i != j) | (cap[i] >= 2)
             if not self.all_networks:  # both joints: the smaller share is min/(sum) (see token_share)
                 keep &= token_share(v[i], v[j]) >= np.maximum(self._tol[i], self._tol[j]) / 2
@@ -629,6 +630,17 @@ class NetworkIndex:
         rows, ids = rows[order], ids[order]
         offsets = np.searchsorted(rows, np.arange(n + 1), side="left").astype(np.int64)
         return offsets, ids.astype(np.int64)
+
+
+@functools.lru_cache(maxsize=8)
+def _pairs_upper(n: int) -> tuple[np.ndarray, np.ndarray]:
+    """``np.triu_indices(n)``, kept for the next index of the same number of lines (a search
+    builds one per parts budget, a session many for the same stock; on a small stock working
+    them out was a third of the build). Read-only: callers only index with them."""
+    i, j = np.triu_indices(n)
+    i.setflags(write=False)
+    j.setflags(write=False)
+    return i, j
 
 
 def token_share(x: np.ndarray, y: np.ndarray) -> np.ndarray:

@@ -41,7 +41,7 @@ over the options within this bound (the exhaustive reference in the tests applie
 
 
 from selector.core.search.lookup import (  # noqa: F401  (PowerCheck, capacitor_candidates re-exported)
-    PowerCheck, SortedView, _fmt, _nearest_feasible, _signed_max, capacitor_candidates,
+    PowerCheck, SortedView, _fmt, _nan_to, _nearest_feasible, _signed_max, capacitor_candidates,
 )
 
 
@@ -117,7 +117,10 @@ def _both_ends(inverse, t1, t2, r1, r2, c):
     inverses work element by element (the diode's iterates each element on its own), so the
     values are the same, and a costly inverse pays its fixed cost per call once, not twice."""
     n = np.size(c)
-    t1, t2 = np.broadcast_to(t1, (n,)), np.broadcast_to(t2, (n,))
+    if np.shape(t1) != (n,):
+        t1 = np.broadcast_to(t1, (n,))
+    if np.shape(t2) != (n,):
+        t2 = np.broadcast_to(t2, (n,))
     out = inverse(np.concatenate([t1, t2]), np.concatenate([r1, r2]), np.concatenate([c, c]))
     return out[:n], out[n:]
 
@@ -135,7 +138,9 @@ class _Pass:
         self.p = _Bound(kind, target, limits)
         self.r = SortedView(r_index)
         self.c_ids = c_ids
-        self.c_vals = c_index.values(c_ids) if c_ids.size else np.zeros(0)
+        c_sorted = c_index.sorted_values()   # 1-2 part networks: ids are positions there
+        self.c_vals = (np.zeros(0) if not c_ids.size else c_sorted[c_ids] if c_sorted is not None
+                       else c_index.values(c_ids))
         self.lim = limits
         self.power = power
         # RB's own power check (issue 10): peak (2VCC/3)²/RB at the start of the discharge, per
@@ -211,28 +216,7 @@ class _Pass:
 
         ra_star = p.ra_for_high(np.full(n, tg.t_high), rb, cv)  # (phase 1 only: the windows need none)
         below, above = _nearest_feasible(self.r, ra_star, lo, hi, ok)
-        best_id = np.full(n, -1, dtype=np.int64)
-        best_err = np.full(n, np.nan)
-        th_out = np.full(n, np.nan)
-        tl_out = np.full(n, np.nan)
-        for side in (below, above):
-            has = side >= 0
-            if not has.any():
-                continue
-            ra = self.r.values(side[has])
-            th, tl = p.times2(ra, rb[has], cv[has])
-            e = _signed_max(th / tg.t_high - 1, tl / tg.t_low - 1)
-            fast = ~self._freq_ok(th, tl)
-            self.ex.add(f"combinations above the {_fmt(lim.max_freq_hz, 'Hz')} maximum frequency",
-                        fast.sum())
-            e = np.where(fast, np.nan, e)
-            cur = best_err[has]
-            better = ~np.isnan(e) & (np.isnan(cur) | (np.abs(e) < np.abs(cur)))
-            idx = np.flatnonzero(has)[better]
-            best_id[idx] = side[has][better]
-            best_err[idx] = e[better]
-            th_out[idx] = th[better]
-            tl_out[idx] = tl[better]
+        best_id, best_err, th_out, tl_out = self._nearer_side(below, above, rb, cv)
         nothing = (best_id < 0) & ~empty
         over_ra = np.zeros(n, dtype=bool)
         if nothing.any() and math.isfinite(max_ra):
@@ -261,6 +245,43 @@ class _Pass:
                     (nothing & ~over_ra & ~over_total & ~over_dis).sum())
         return best_id, best_err, th_out, tl_out
 
+    def _nearer_side(self, below, above, rb, cv):
+        """(ra_id, signed error, t_high, t_low) of the better of the RA ``below`` and ``above``
+        (ids, -1 none) for each (c, RB) row: the one with the smaller |error| among those within
+        the frequency limit, the one below on a tie. The times come from one call per side (a
+        diode model iterates a 1-D call until its slowest element converges: joined sides could
+        move a last digit); the rest is element-wise, done once on the joined arrays."""
+        p, tg = self.p, self.p.target
+        n = len(cv)
+        hb, ha = np.flatnonzero(below >= 0), np.flatnonzero(above >= 0)
+        ids = np.concatenate([below[hb], above[ha]])
+        times = [p.times2(self.r.values(ids[sl]), rb[h], cv[h])
+                 for h, sl in ((hb, slice(0, hb.size)), (ha, slice(hb.size, None))) if h.size]
+        if not times:
+            return (np.full(n, -1, dtype=np.int64), np.full(n, np.nan), np.full(n, np.nan),
+                    np.full(n, np.nan))
+        th = np.concatenate([t[0] for t in times]) if len(times) > 1 else times[0][0]
+        tl = np.concatenate([t[1] for t in times]) if len(times) > 1 else times[0][1]
+        e = _signed_max(th / tg.t_high - 1, tl / tg.t_low - 1)
+        fast = ~self._freq_ok(th, tl)
+        self.ex.add(f"combinations above the {_fmt(self.lim.max_freq_hz, 'Hz')} maximum frequency",
+                    fast.sum())
+        e = np.where(fast, np.nan, e)
+        e_b, e_a = np.full(n, np.nan), np.full(n, np.nan)
+        e_b[hb], e_a[ha] = e[:hb.size], e[hb.size:]
+        # above replaces below only when strictly better (below is kept on a tie)
+        take_a = ~np.isnan(e_a) & (np.isnan(e_b) | (np.abs(e_a) < np.abs(e_b)))
+        take_b = ~take_a & ~np.isnan(e_b)
+        at = np.full(n, -1, dtype=np.int64)   # where each row's choice sits in ``ids``
+        at[hb[take_b[hb]]] = np.flatnonzero(take_b[hb])
+        at[ha[take_a[ha]]] = hb.size + np.flatnonzero(take_a[ha])
+        got = at >= 0
+        best_id = np.full(n, -1, dtype=np.int64)
+        best_err, th_out, tl_out = np.full(n, np.nan), np.full(n, np.nan), np.full(n, np.nan)
+        j = at[got]
+        best_id[got], best_err[got], th_out[got], tl_out[got] = ids[j], e[j], th[j], tl[j]
+        return best_id, best_err, th_out, tl_out
+
     def _best_ra_window(self, cv, rb, lo, hi, empty, bound, ok):
         p, tg = self.p, self.p.target
         n = len(cv)
@@ -270,8 +291,8 @@ class _Pass:
         tl_out = np.full(n, np.nan)
         w_lo, w_hi = _both_ends(p.ra_for_high, tg.t_high * (1 - bound), tg.t_high * (1 + bound), rb, rb, cv)
         # nan from the inverse means "no positive RA gives that time": no bound on that side
-        a = np.maximum(lo, np.nan_to_num(w_lo, nan=0.0)) * (1 - _SLACK)
-        b = np.minimum(hi, np.nan_to_num(w_hi, nan=np.inf)) * (1 + _SLACK)
+        a = np.maximum(lo, _nan_to(w_lo, 0.0)) * (1 - _SLACK)
+        b = np.minimum(hi, _nan_to(w_hi, INF)) * (1 + _SLACK)
         live = ~empty & (a <= b) & (b > 0)
         rows_live = np.flatnonzero(live)
         if rows_live.size == 0:
@@ -293,7 +314,8 @@ class _Pass:
             if ids.size == 0:
                 return best_id, best_err, th_out, tl_out
         order = np.lexsort((np.abs(e), rows))
-        first = order[np.r_[True, rows[order][1:] != rows[order][:-1]]]
+        ro = rows[order]
+        first = order[np.concatenate([[True], ro[1:] != ro[:-1]])]
         r = rows[first]
         best_id[r], best_err[r], th_out[r], tl_out[r] = ids[first], e[first], th[first], tl[first]
         return best_id, best_err, th_out, tl_out
@@ -418,6 +440,12 @@ class _Pass:
         """Smallest and largest resistor network value (0, inf when unknown)."""
         if not hasattr(self, "_r_minmax"):
             lo, hi = 0.0, math.inf
+            v = self.r.sorted_values
+            if v is not None:  # the look-ups below, on the sorted array itself
+                a = int(np.searchsorted(v, 1e-300, side="left"))
+                b = int(np.searchsorted(v, 1e300, side="right")) - 1
+                self._r_minmax = (float(v[a]) if a < v.size else lo, float(v[b]) if b >= 0 else hi)
+                return self._r_minmax
             try:
                 below, above = self.r.nearest_sides(np.array([1e-300, 1e300]), 1)
                 a, b = int(np.ravel(above)[0]), int(np.ravel(below)[-1])
@@ -446,16 +474,16 @@ class _Pass:
         tl_lo, tl_hi = np.full(n, tg.t_low * (1 - bound)), np.full(n, tg.t_low * (1 + bound))
         th_lo, th_hi = np.full(n, tg.t_high * (1 - bound)), np.full(n, tg.t_high * (1 + bound))
         lo_s, hi_s = 1 - _SLACK, 1 + _SLACK
-        active = np.arange(n)
+        active = None   # the rows still narrowed: None = all of them (a slice: no gather copies)
         with np.errstate(all="ignore"):
             rounds = _BOX_ROUNDS if self.r.max_parts >= 3 else _BOX_ROUNDS_2
             for rnd in range(rounds + 1):
-                i = active
+                i = slice(None) if active is None else active
                 # t_low is non-increasing in RA and increasing in RB
-                rb_lo[i] = np.maximum(rb_lo[i], np.nan_to_num(p.rb_for_low(tl_lo[i], ra_lo[i], cv[i]),
-                                                              nan=-np.inf) * lo_s)
-                rb_hi[i] = np.minimum(rb_hi[i], np.nan_to_num(p.rb_for_low(tl_hi[i], ra_hi[i], cv[i]),
-                                                              nan=np.inf) * hi_s)
+                rb_lo[i] = np.maximum(rb_lo[i], _nan_to(p.rb_for_low(tl_lo[i], ra_lo[i], cv[i]),
+                                                        -INF) * lo_s)
+                rb_hi[i] = np.minimum(rb_hi[i], _nan_to(p.rb_for_low(tl_hi[i], ra_hi[i], cv[i]),
+                                                        INF) * hi_s)
                 rb_hi[i] = np.minimum(rb_hi[i], (lim.max_total_r_ohm - ra_lo[i]) * hi_s)
                 if rnd == rounds or rd == 0.0:
                     break   # (RD = 0: t_low does not depend on RA, the RB range is already exact)
@@ -463,14 +491,17 @@ class _Pass:
                 # the bound alone allows
                 w = rb_hi[i] - rb_lo[i]
                 keep = (w >= 0) & (ra_lo[i] <= ra_hi[i]) & (rb_lo[i] > 0) & (w > 3.0 * bound * rb_hi[i] + 1e-9 * rb_hi[i])
-                active = i[keep]
-                if active.size == 0:
+                if active is None:
+                    active = None if keep.all() else np.flatnonzero(keep)
+                else:
+                    active = active[keep]
+                if active is not None and active.size == 0:
                     break
-                i = active
+                i = slice(None) if active is None else active
                 # t_high is increasing in RA and non-decreasing in RB
                 a, b = _both_ends(p.ra_for_high, th_lo[i], th_hi[i], rb_hi[i], rb_lo[i], cv[i])
-                ra_lo[i] = np.maximum(ra_lo[i], np.nan_to_num(a, nan=-np.inf) * lo_s)
-                ra_hi[i] = np.minimum(ra_hi[i], np.nan_to_num(b, nan=np.inf) * hi_s)
+                ra_lo[i] = np.maximum(ra_lo[i], _nan_to(a, -INF) * lo_s)
+                ra_hi[i] = np.minimum(ra_hi[i], _nan_to(b, INF) * hi_s)
         return rb_lo, rb_hi, ra_lo, ra_hi
 
     def _phase2(self, pos, bound: float) -> list[tuple]:
@@ -752,15 +783,14 @@ class _Pass:
         _, first = np.unique(key[by_err], return_index=True)
         first = by_err[first]
         order = first[np.argsort(np.abs(err[first]), kind="stable")][:pool]
-        out = []
-        for j in order:
-            if two:
-                out.append(Hit(int(self.c_ids[ci[j]]), (int(ra[j]), int(rb[j])), float(err[j]),
-                               float(th[j]), float(tl[j]), math.nan))
-            else:
-                out.append(Hit(int(self.c_ids[ci[j]]), (int(r[j]),), float(err[j]),
-                               float(th[j]), float(tl[j]), float(tt[j])))
-        return out
+        # to Python numbers in one ``tolist`` per column (the same ints and floats as int()/float())
+        c_l, err_l, th_l, tl_l = (self.c_ids[ci[order]].tolist(), err[order].tolist(),
+                                  th[order].tolist(), tl[order].tolist())
+        if two:
+            return [Hit(c, (a, b), e, h, lo, math.nan) for c, a, b, e, h, lo
+                    in zip(c_l, ra[order].tolist(), rb[order].tolist(), err_l, th_l, tl_l)]
+        return [Hit(c, (x,), e, h, lo, t) for c, x, e, h, lo, t
+                in zip(c_l, r[order].tolist(), err_l, th_l, tl_l, tt[order].tolist())]
 
 
 # --------------------------------------------------------------------------- limit wording

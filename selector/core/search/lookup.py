@@ -100,13 +100,19 @@ def capacitor_candidates(c_index, limits, ex, charge_r=None) -> np.ndarray:
     ids = _all_ids(c_index)
     if ids.size == 0:
         return ids
-    vals = c_index.values(ids)
+    sv = c_index.sorted_values()
+    vals = sv[ids] if sv is not None else c_index.values(ids)  # (ids are positions there)
     small = vals < limits.min_c_f * (1 - _SLACK)
     ex.add(f"C networks below the {_fmt(limits.min_c_f, 'F')} minimum timing capacitance", small.sum())
     ids = ids[~small]
     if limits.cap_volts > 0 and ids.size:
         rating = _line_arrays(c_index, "rating")
-        derate = np.array([limits.cap_derating(ln.dielectric or "") for ln in c_index.lines])
+        by_name: dict[str, float] = {}  # each dielectric's derating asked once (a pure function of the name)
+        for ln in c_index.lines:
+            d = ln.dielectric or ""
+            if d not in by_name:
+                by_name[d] = limits.cap_derating(d)
+        derate = np.array([by_name[ln.dielectric or ""] for ln in c_index.lines])
         line_ok = ~(rating * derate < limits.cap_volts)  # nan (unknown) -> allowed
         pos, _cnt = _part_positions(c_index, ids)
         ok = np.all(np.where(pos >= 0, line_ok[np.maximum(pos, 0)], True), axis=1)
@@ -299,8 +305,11 @@ def _nearest_feasible(index, target, lo, hi, ok_fn, k0: int = 2, kmax: int = 1 <
     target = np.asarray(target, dtype=float)
     good = ~np.isnan(target) & (lo <= hi * (1 + _SLACK))
     with np.errstate(invalid="ignore"):
-        q = np.clip(target, lo, hi)
+        q = np.minimum(np.maximum(target, lo), hi)  # np.clip's definition, without its wrapper
     q = np.where(np.isfinite(q), np.maximum(q, 1e-30), 1e-30)  # finite positive queries only
+    v = getattr(index, "sorted_values", None)
+    if v is not None and k0 >= 1:
+        return _nearest_feasible_sorted(v, q, lo, hi, good, ok_fn, k0, kmax)
     open_side = [good.copy(), good.copy()]  # rows still looking on each side
     k = k0
     while (open_side[0].any() or open_side[1].any()) and k <= kmax:
@@ -320,7 +329,7 @@ def _nearest_feasible(index, target, lo, hi, ok_fn, k0: int = 2, kmax: int = 1 <
             inrange = valid & (vals >= lo_r) & (vals <= hi_r)
             okm = inrange.copy()
             if inrange.any():
-                rr = np.broadcast_to(r[:, None], ids.shape)[inrange]
+                rr = r[np.nonzero(inrange)[0]]  # each in-range candidate's row, in row-major order
                 okm[inrange] = ok_fn(ids[inrange], rr)
             dist = np.where(okm, np.abs(vals - q[r][:, None]), np.inf)
             j = np.argmin(dist, axis=1)
@@ -336,6 +345,75 @@ def _nearest_feasible(index, target, lo, hi, ok_fn, k0: int = 2, kmax: int = 1 <
     return out[0], out[1]
 
 
+def _nearest_feasible_sorted(v, q, lo, hi, good, ok_fn, k0: int, kmax: int):
+    """``_nearest_feasible``'s widening look-up for a ``SortedView`` of 1-2 part networks (ids
+    are positions in the sorted array ``v``), with the same answers in fewer array operations.
+
+    Why the same.  There the candidates of a row's side are positions ib − s (ib the last with
+    v <= q) or ia + s (ia the first with v >= q) for s = 0..k−1, k = k0, 4·k0, ... while k <=
+    kmax; their distance |v − q| is non-decreasing in s (sorted values; rounding is monotone),
+    so ``argmin`` over the feasible ones picks the first feasible in s order. A side closes
+    when a round finds one, runs out of networks, or meets a value past lo (below) or hi
+    (above); running out and passing the bound are monotone in s (once true, true for every
+    later s), and a feasible candidate is neither. So the answer is the first feasible s before
+    the first closing s, over s < the last k tried - whatever the steps are grouped into. Here:
+    step 0 of every side of every row in one 1-D batch (it settles nearly all of them), then the
+    few left in growing groups of steps; ``ok_fn`` is a per-element test, asked once per
+    candidate. Tested against a plain scan in tests/core/search/test_nearest_sorted.py."""
+    n = len(q)
+    rows = np.flatnonzero(good)
+    out = np.full(2 * n, -1, dtype=np.int64)   # below of each row, then above
+    last = k0
+    while last * 4 <= kmax:
+        last *= 4                              # steps 0..last-1: what the general form examines
+    if rows.size == 0 or k0 > kmax:
+        return out[:n], out[n:]
+    m = rows.size
+    qr = q[rows]
+    start = np.concatenate([np.searchsorted(v, qr, side="right") - 1, np.searchsorted(v, qr, side="left")])
+    row2 = np.concatenate([rows, rows])        # the row of each (side, row) entry
+    dest = np.concatenate([rows, rows + n])    # its place in ``out``
+    lo_r, hi_r = lo[rows] * (1 - _SLACK), hi[rows] * (1 + _SLACK)
+    lo2, hi2 = np.concatenate([lo_r, lo_r]), np.concatenate([hi_r, hi_r])
+    top = v.size - 1
+    cur = np.arange(2 * m)                     # entries still looking; below ones are < m
+    s0, w = 0, 1
+    while cur.size and s0 < last:
+        w = min(w, last - s0)
+        down = cur < m
+        st = start[cur]
+        l, h = lo2[cur], hi2[cur]
+        if w == 1:
+            pos = np.where(down, st - s0, st + s0)
+            valid = (pos >= 0) & (pos <= top)
+            vals = v[np.where(valid, pos, 0)]
+            okm = valid & (vals >= l) & (vals <= h)
+            if okm.any():
+                at = np.flatnonzero(okm)
+                okm[at] = ok_fn(pos[at], row2[cur[at]])
+            out[dest[cur[okm]]] = pos[okm]
+            beyond = np.where(down, vals < l, vals > h)
+            stop = okm | ~valid | beyond
+        else:
+            steps = np.arange(s0, s0 + w, dtype=np.int64)
+            pos = st[:, None] + np.where(down, -1, 1)[:, None] * steps[None, :]
+            valid = (pos >= 0) & (pos <= top)
+            vals = v[np.where(valid, pos, 0)]
+            l, h = l[:, None], h[:, None]
+            okm = valid & (vals >= l) & (vals <= h)
+            if okm.any():
+                at = np.nonzero(okm)
+                okm[at] = ok_fn(pos[at], row2[cur[at[0]]])
+            found = okm.any(axis=1)
+            first = np.argmax(okm, axis=1)
+            out[dest[cur[found]]] = pos[found, first[found]]
+            beyond = np.where(down[:, None], vals < l, vals > h)
+            stop = found | ~(valid & ~beyond).all(axis=1)
+        cur = cur[~stop]
+        s0, w = s0 + w, w * 4
+    return out[:n], out[n:]
+
+
 @functools.lru_cache(maxsize=256)
 def _fmt(v: float, unit: str) -> str:
     """A limit as people read it, for the exclusion texts (a pass words the same few limits on
@@ -349,3 +427,9 @@ def _signed_max(e1: np.ndarray, e2: np.ndarray) -> np.ndarray:
     from selector.core.circuits.base import signed_max
 
     return signed_max(e1, e2)
+
+
+def _nan_to(x, nan: float) -> np.ndarray:
+    from selector.core.circuits.base import nan_to
+
+    return nan_to(x, nan)
