@@ -338,29 +338,35 @@ def _halley_step(y, z, work=None, tol=1e-15):
     return np.greater(h, t, out=go)
 
 
-def _shockley_drop(a, ra, rb, isat, nvt) -> np.ndarray:
-    """Diode voltage when VCC − Vc = ``a`` across RA in series with (diode ∥ RB).
+def _shockley_drops(a0, a1, ra, rb, isat, nvt) -> tuple:
+    """Diode voltages V0, V1 when VCC − Vc = ``a0`` and ``a1`` across RA in series with (diode ∥ RB)
+    (same-shape arrays of at least one axis).
 
     (a − V)/RA = Is·(e^{V/nVt} − 1) + V/RB. With Rp = RA∥RB, B = Rp·(a/RA + Is)/nVt and
     K = Rp·Is/nVt this is u + K·e^u = B for u = V/nVt, so K·e^u = ω(B + ln K) and
-    u = ln ω(B + ln K) − ln K (closed form via the Wright omega function; derived)."""
-    rp = ra * rb / (ra + rb)
-    k = rp * isat / nvt
-    b = rp * (a / ra + isat) / nvt
-    lk = np.log(k)
-    return nvt * (log_wright_omega(b + lk) - lk)
-
-
-def _shockley_drops(a0, a1, ra, rb, isat, nvt) -> tuple:
-    """:func:`_shockley_drop` at ``a0`` and at ``a1`` (same-shape arrays of at least one axis),
-    the two Wright omega solves in one call as separate problems (stacked on a new leading axis;
-    each is solved exactly as alone, see :func:`log_wright_omega`)."""
-    rp = ra * rb / (ra + rb)
-    k = rp * isat / nvt
-    lk = np.log(k)
-    z = np.stack([rp * (a0 / ra + isat) / nvt + lk, rp * (a1 / ra + isat) / nvt + lk])
+    u = ln ω(B + ln K) − ln K (closed form via the Wright omega function; derived). The two Wright
+    omega solves run in one call as separate problems (stacked on a new leading axis; each is
+    solved exactly as alone, see :func:`log_wright_omega`), written into preallocated arrays
+    (a·b = b·a exactly in floating point, so the in-place order changes no bit)."""
+    rp = ra * rb
+    rp /= ra + rb
+    lk = rp * isat
+    lk /= nvt
+    np.log(lk, out=lk)
+    z = np.empty((2,) + rp.shape)
+    for zj, a in zip(z, (a0, a1)):       # rp·(a/RA + Is)/nVt + ln K
+        np.divide(a, ra, out=zj)
+        zj += isat
+        zj *= rp
+        zj /= nvt
+        zj += lk
     u = log_wright_omega(z)
-    return nvt * (u[0] - lk), nvt * (u[1] - lk)
+    v0, v1 = u[0], u[1]
+    v0 -= lk
+    v0 *= nvt
+    v1 -= lk
+    v1 *= nvt
+    return v0, v1
 
 
 def _charge_sum(half, mid, isat, nvt, rb) -> np.ndarray:
@@ -413,7 +419,7 @@ def _charge_sum(half, mid, isat, nvt, rb) -> np.ndarray:
 def diode_shockley_high(ra, rb, c, vcc, vf, n) -> np.ndarray:
     """t_high of the diode-steered astable with a Shockley steering diode (vectorised).
 
-    C·dVc/dt = I = (VCC − Vc − V)/RA, V the diode voltage (:func:`_shockley_drop`). Written in V
+    C·dVc/dt = I = (VCC − Vc − V)/RA, V the diode voltage (:func:`_shockley_drops`). Written in V
     (a = VCC − Vc = RA·f(V) + V, f(V) = Is(e^{V/nVt} − 1) + V/RB the current, so dVc = −(RA·f'(V)
     + 1)·dV), the charge from VCC/3 to 2VCC/3 takes exactly (derived)
 
@@ -426,34 +432,42 @@ def diode_shockley_high(ra, rb, c, vcc, vf, n) -> np.ndarray:
     endpoint terms cancel), so t_high is strictly increasing in RA. Vf = 0 is an ideal diode
     (t_high = ln2·RA·C)."""
     ra, rb, c, vcc, vf, n = np.broadcast_arrays(_f(ra), _f(rb), _f(c), _f(vcc), _f(vf), _f(n))
-    return _shockley_high_slope(ra, rb, c, vcc, vf, n)[0]
+    return _shockley_high(ra, rb, c, vcc, vf, n)
 
 
-def _shockley_high_slope(ra, rb, c, vcc, vf, n):
-    """(t_high, dt_high/dRA) of :func:`diode_shockley_high` for broadcast arrays."""
+def _shockley_high(ra, rb, c, vcc, vf, n) -> np.ndarray:
+    """t_high of :func:`diode_shockley_high` for broadcast arrays; dt_high/dRA = C·ln(I0/I1) (the
+    ``log_ratio`` here; :func:`_shockley_ra_newton` uses it). Temporaries are reused in place
+    (fewer allocations of sample-sized arrays); every value is the same operation on the same
+    operands as the formulas in the docstrings, so the bits do not depend on the layout."""
     from selector.core.parts import THERMAL_V
 
+    if np.ndim(ra) == 0:   # one element: the same values as a 1-element array (rows solve alone)
+        return _shockley_high(*(np.reshape(a, 1) for a in (ra, rb, c, vcc, vf, n)))[0]
     ideal = ~(vf > 0)
-    vf_s = np.where(ideal, 0.65, vf)
+    any_ideal = bool(ideal.any())
     nvt = n * THERMAL_V
-    isat = diode_saturation_current(vf_s, n)
-    if np.ndim(ra) == 0:
-        v0 = _shockley_drop(2.0 * vcc / 3.0, ra, rb, isat, nvt)
-        v1 = _shockley_drop(vcc / 3.0, ra, rb, isat, nvt)
-    else:
-        v0, v1 = _shockley_drops(2.0 * vcc / 3.0, vcc / 3.0, ra, rb, isat, nvt)
-    i0 = (2.0 * vcc / 3.0 - v0) / ra
-    i1 = (vcc / 3.0 - v1) / ra
-    log_ratio = np.log(i0 / i1)
-    half = 0.5 * (v0 - v1)
-    mid = 0.5 * (v0 + v1)
-    total = _charge_sum(half, mid, isat, nvt, rb)
-    integral = half * total
-    t = c * (ra * log_ratio + integral)
-    slope = c * log_ratio
-    t = np.where(ideal, LN2 * ra * c, t)
-    slope = np.where(ideal, LN2 * c, slope)
-    return t, slope
+    isat = diode_saturation_current(np.where(ideal, 0.65, vf) if any_ideal else vf, n)
+    a0 = 2.0 * vcc / 3.0
+    a1 = vcc / 3.0
+    v0, v1 = _shockley_drops(a0, a1, ra, rb, isat, nvt)
+    log_ratio = a0 - v0                 # ln(I0/I1), I0 = (a0 − V0)/RA, I1 = (a1 − V1)/RA
+    log_ratio /= ra
+    i1 = a1 - v1
+    i1 /= ra
+    log_ratio /= i1
+    np.log(log_ratio, out=log_ratio)
+    half = v0 - v1
+    half *= 0.5
+    mid = v0 + v1
+    mid *= 0.5
+    t = _charge_sum(half, mid, isat, nvt, rb)
+    t *= half                           # the integral
+    t += ra * log_ratio
+    t *= c
+    if any_ideal:
+        t = np.where(ideal, LN2 * ra * c, t)
+    return t
 
 
 def diode_shockley_times(ra, rb, c, vcc, vf, n, rd=0.0) -> tuple[np.ndarray, np.ndarray]:
@@ -504,7 +518,7 @@ def _shockley_ra_newton(tg, rb, c, a0, a1, vf, isat, nvt) -> np.ndarray:
     """RA for t_high = ``tg`` (1-D arrays, Vf > 0; ``a0`` = 2VCC/3, ``a1`` = VCC/3 as in
     :func:`_shockley_drops`).
 
-    Newton on the strictly increasing t_high(RA) (:func:`_shockley_high_slope`'s formulas), each
+    Newton on the strictly increasing t_high(RA) (:func:`_shockley_high`'s formulas), each
     step inside the bracket [lo, hi] known so far, else a geometric bisection of it. Started at
     max(t/(k·C), t/(ln2·C) − RB), k = ln((2VCC/3 − Vf)/(VCC/3 − Vf)): the constant-drop model's RA
     where its diode conducts throughout, and where it never does; the true RA is above both there
