@@ -431,7 +431,13 @@ def diode_shockley_high(ra, rb, c, vcc, vf, n) -> np.ndarray:
     (the constant-drop model's piecewise case). dt_high/dRA = C·ln(I0/I1) > 0 (derived: the
     endpoint terms cancel), so t_high is strictly increasing in RA. Vf = 0 is an ideal diode
     (t_high = ln2·RA·C)."""
-    ra, rb, c, vcc, vf, n = np.broadcast_arrays(_f(ra), _f(rb), _f(c), _f(vcc), _f(vf), _f(n))
+    ra, rb, c, vcc, vf, n = _f(ra), _f(rb), _f(c), _f(vcc), _f(vf), _f(n)
+    shape = np.broadcast_shapes(ra.shape, rb.shape, c.shape, vcc.shape, vf.shape, n.shape)
+    # every input at the full shape (the Wright omega rows follow it), except a 0-d supply or n:
+    # those enter only elementwise operations, where a scalar operand gives the same values as
+    # its broadcast copy, and the sample-sized arrays 2VCC/3, VCC/3 and n·Vt are not made
+    ra, rb, c, vf = (np.broadcast_to(a, shape) for a in (ra, rb, c, vf))
+    vcc, n = (a if a.ndim == 0 and shape else np.broadcast_to(a, shape) for a in (vcc, n))
     return _shockley_high(ra, rb, c, vcc, vf, n)
 
 
