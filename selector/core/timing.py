@@ -131,6 +131,8 @@ def standard_ideal(t_high, t_low, c) -> tuple[np.ndarray, np.ndarray]:
 # --------------------------------------------------------------------------- diode-steered astable
 def _check_supply_and_drop(vcc, vf) -> tuple[np.ndarray, np.ndarray]:
     vcc, vf = _f(vcc), _f(vf)
+    if vcc.ndim == 0 and vf.ndim == 0 and float(vcc) > 0 and 0 <= float(vf) < float(vcc) / 3.0:
+        return vcc, vf   # the usual case, a supply and a drop: no array tests (the same checks)
     if np.any(~(vcc > 0)):
         bad = vcc[~(vcc > 0)] if vcc.ndim else vcc
         raise OutOfRange(f"VCC {float(np.ravel(bad)[0]):g} V is not a positive supply voltage")
@@ -436,8 +438,8 @@ def diode_shockley_high(ra, rb, c, vcc, vf, n) -> np.ndarray:
     # every input at the full shape (the Wright omega rows follow it), except a 0-d supply or n:
     # those enter only elementwise operations, where a scalar operand gives the same values as
     # its broadcast copy, and the sample-sized arrays 2VCC/3, VCC/3 and n·Vt are not made
-    ra, rb, c, vf = (np.broadcast_to(a, shape) for a in (ra, rb, c, vf))
-    vcc, n = (a if a.ndim == 0 and shape else np.broadcast_to(a, shape) for a in (vcc, n))
+    ra, rb, c, vf = (a if a.shape == shape else np.broadcast_to(a, shape) for a in (ra, rb, c, vf))
+    vcc, n = (a if a.shape == shape or a.ndim == 0 else np.broadcast_to(a, shape) for a in (vcc, n))
     return _shockley_high(ra, rb, c, vcc, vf, n)
 
 
