@@ -528,20 +528,21 @@ def _shockley_ra_newton(tg, rb, c, a0, a1, vf, isat, nvt) -> np.ndarray:
 
     Newton on the strictly increasing t_high(RA) (:func:`_shockley_high`'s formulas), each
     step inside the bracket [lo, hi] known so far, else a geometric bisection of it. Started at
-    max(t/(k·C), t/(ln2·C) − RB), k = ln((2VCC/3 − Vf)/(VCC/3 − Vf)): the constant-drop model's RA
-    where its diode conducts throughout, and where it never does; the true RA is above both there
-    (facts §2: the current is never below either path's), and near it for the Shockley diode.
+    max(t/(k·C), t/(ln2·C) − RB), k = ln((2VCC/3 − Vf)/(VCC/3 − Vf)): the constant-drop RA where
+    its diode conducts throughout and where it never does (that model's RA is at least both: its
+    charging current is never below either path's, facts §2); the Shockley RA is near it.
     Stops after a Newton step (not a bisection) of at most 1e-8·RA: the error left after it is
     κ·step² with κ = RA·|t''(RA)|/(2·t'(RA)) (quadratic convergence), measured below 0.4 over
     RA 10 Ω–10 MΩ, RB/RA 1e-3–1e3, VCC 2–18 V, Vf up to 0.999·VCC/3, n 1–2 (step k+1 / step k²),
     so at most ~4e-17·RA, below the rounding of t_high itself; the step that would only confirm
     it (a fourth evaluation of t_high for most inputs) is not taken.
 
-    The two diode voltages (y = ln ω of :func:`log_wright_omega`) are carried from one Newton step to
-    the next and refined by Halley steps until the last step was at most 1e-5 (cubic convergence:
-    then within ~1e-16 of the root: Halley's error constant for h = y + e^y − z is at most 1/6), so after the
-    first step, where RA moves little, one or two suffice instead of the three to five of a cold
-    start. Each element's value therefore depends on nothing but its own inputs."""
+    The two diode voltages (y = ln ω of :func:`log_wright_omega`) are carried from one Newton
+    step to the next and refined by Halley steps until the last one was at most 1e-5: Halley's
+    error constant for h = y + e^y − z is at most 1/6, so y is then within ~2e-16 of the root.
+    After the first Newton step RA moves little, and one or two Halley steps suffice instead of
+    the three or four of a cold start. Each element's value depends on its own inputs only.
+    """
     with np.errstate(divide="ignore", invalid="ignore"):
         x = np.maximum(tg / (np.log((a0 - vf) / (a1 - vf)) * c), tg / (LN2 * c) - rb)
     x = np.where(np.isfinite(x) & (x > 0), x, tg / (LN2 * c))

@@ -90,7 +90,8 @@ def test_shockley_inverse_round_trip_to_float_precision_over_a_wide_range():
     ra = 10 ** rng.uniform(1, 7, m)
     rb = ra * 10 ** rng.uniform(-3, 3, m)
     vcc = rng.choice([2.0, 3.0, 4.5, 5.0, 9.0, 12.0, 15.0, 18.0], m)
-    vf = np.minimum(rng.choice([0.2, 0.32, 0.62, 0.65, 0.7], m), vcc / 3 * rng.choice([0.5, 0.9, 0.99, 0.999], m))
+    vf = np.minimum(rng.choice([0.2, 0.32, 0.62, 0.65, 0.7], m),
+                    vcc / 3 * rng.choice([0.5, 0.9, 0.99, 0.999], m))
     n = rng.choice([1.0, 1.05, 1.9, 2.0], m)
     c = 10 ** rng.uniform(-11, -4, m)
     th = T.diode_shockley_times(ra, rb, c, vcc, vf, n)[0]
