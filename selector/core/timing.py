@@ -251,7 +251,7 @@ def _diode_ra_piecewise(t_high, rb, c, vcc, vf, ra_on, ra_off) -> np.ndarray:
 
 # --------------------------------------------------------------------------- Shockley steering diode
 # The functions above hold the diode's drop constant (facts §2 [S8]); they stay as that closed
-# form and as the starting guess of the inverse below. The search, the tolerance spread and the
+# form (its two limiting regions start the inverse below). The search, the tolerance spread and the
 # yield use the Shockley diode: I_D = Is·(exp(V/(n·Vt)) − 1), Is from Vf at 1 mA and n
 # (``parts.DIODE_VF_DEFAULT``), in parallel with RB and in series with RA.
 
