@@ -171,6 +171,8 @@ def standard_ideal(t_high, t_low, c) -> tuple[np.ndarray, np.ndarray]:
 # --------------------------------------------------------------------------- diode-steered astable
 def _check_supply_and_drop(vcc, vf) -> tuple[np.ndarray, np.ndarray]:
     vcc, vf = _f(vcc), _f(vf)
+    if vcc.ndim == 0 and vf.ndim == 0 and float(vcc) > 0 and 0 <= float(vf) < float(vcc) / 3.0:
+        return vcc, vf   # the usual case, a supply and a drop: no array tests (the same checks)
     if np.any(~(vcc > 0)):
         bad = vcc[~(vcc > 0)] if vcc.ndim else vcc
         raise OutOfRange(f"VCC {float(np.ravel(bad)[0]):g} V is not a positive supply voltage")
@@ -289,7 +291,7 @@ def _diode_ra_piecewise(t_high, rb, c, vcc, vf, ra_on, ra_off) -> np.ndarray:
 
 # --------------------------------------------------------------------------- Shockley steering diode
 # The functions above hold the diode's drop constant (facts §2 [S8]); they stay as that closed
-# form and as the starting guess of the inverse below. The search, the tolerance spread and the
+# form (its two limiting regions start the inverse below). The search, the tolerance spread and the
 # yield use the Shockley diode: I_D = Is·(exp(V/(n·Vt)) − 1), Is from Vf at 1 mA and n
 # (``parts.DIODE_VF_DEFAULT``), in parallel with RB and in series with RA.
 
@@ -353,9 +355,9 @@ def log_wright_omega(z) -> np.ndarray:
     return y2.reshape(shape)
 
 
-def _halley_step(y, z, work=None):
+def _halley_step(y, z, work=None, tol=1e-15):
     """One Halley step of :func:`log_wright_omega`, IN PLACE on ``y``; returns where the step was
-    above 1e-15·max(1, |y|) (the same operations as y − h/(d1 − h·e/(2·d1)), h = y + e^y − z,
+    above ``tol``·max(1, |y|) (the same operations as y − h/(d1 − h·e/(2·d1)), h = y + e^y − z,
     d1 = 1 + e^y). ``work``: four float arrays and one bool array shaped like ``y``, reused
     step after step (fresh memory costs page faults), else made here."""
     if work is None:
@@ -374,72 +376,44 @@ def _halley_step(y, z, work=None):
     np.abs(h, out=h)
     np.abs(y, out=t)
     np.maximum(t, 1.0, out=t)
-    t *= 1e-15
+    t *= tol
     return np.greater(h, t, out=go)
 
 
-def _shockley_drop(a, ra, rb, isat, nvt) -> np.ndarray:
-    """Diode voltage when VCC − Vc = ``a`` across RA in series with (diode ∥ RB).
+def _shockley_drops(a0, a1, ra, rb, isat, nvt) -> tuple:
+    """Diode voltages V0, V1 when VCC − Vc = ``a0`` and ``a1`` across RA in series with (diode ∥ RB)
+    (same-shape arrays of at least one axis).
 
     (a − V)/RA = Is·(e^{V/nVt} − 1) + V/RB. With Rp = RA∥RB, B = Rp·(a/RA + Is)/nVt and
     K = Rp·Is/nVt this is u + K·e^u = B for u = V/nVt, so K·e^u = ω(B + ln K) and
-    u = ln ω(B + ln K) − ln K (closed form via the Wright omega function; derived)."""
-    rp = ra * rb / (ra + rb)
-    k = rp * isat / nvt
-    b = rp * (a / ra + isat) / nvt
-    lk = np.log(k)
-    return nvt * (log_wright_omega(b + lk) - lk)
-
-
-def _shockley_drops(a0, a1, ra, rb, isat, nvt) -> tuple:
-    """:func:`_shockley_drop` at ``a0`` and at ``a1`` (same-shape arrays of at least one axis),
-    the two Wright omega solves in one call as separate problems (stacked on a new leading axis;
-    each is solved exactly as alone, see :func:`log_wright_omega`)."""
-    rp = ra * rb / (ra + rb)
-    k = rp * isat / nvt
-    lk = np.log(k)
-    z = np.stack([rp * (a0 / ra + isat) / nvt + lk, rp * (a1 / ra + isat) / nvt + lk])
+    u = ln ω(B + ln K) − ln K (closed form via the Wright omega function; derived). The two Wright
+    omega solves run in one call as separate problems (stacked on a new leading axis; each is
+    solved exactly as alone, see :func:`log_wright_omega`), written into preallocated arrays
+    (a·b = b·a exactly in floating point, so the in-place order changes no bit)."""
+    rp = ra * rb
+    rp /= ra + rb
+    lk = rp * isat
+    lk /= nvt
+    np.log(lk, out=lk)
+    z = np.empty((2,) + rp.shape)
+    for zj, a in zip(z, (a0, a1)):       # rp·(a/RA + Is)/nVt + ln K
+        np.divide(a, ra, out=zj)
+        zj += isat
+        zj *= rp
+        zj /= nvt
+        zj += lk
     u = log_wright_omega(z)
-    return nvt * (u[0] - lk), nvt * (u[1] - lk)
+    v0, v1 = u[0], u[1]
+    v0 -= lk
+    v0 *= nvt
+    v1 -= lk
+    v1 *= nvt
+    return v0, v1
 
 
-def diode_shockley_high(ra, rb, c, vcc, vf, n) -> np.ndarray:
-    """t_high of the diode-steered astable with a Shockley steering diode (vectorised).
-
-    C·dVc/dt = I = (VCC − Vc − V)/RA, V the diode voltage (:func:`_shockley_drop`). Written in V
-    (a = VCC − Vc = RA·f(V) + V, f(V) = Is(e^{V/nVt} − 1) + V/RB the current, so dVc = −(RA·f'(V)
-    + 1)·dV), the charge from VCC/3 to 2VCC/3 takes exactly (derived)
-
-        t_high = C·[ RA·ln(I0/I1) + ∫_{V1}^{V0} dV / f(V) ]
-
-    with I0, V0 at Vc = VCC/3 and I1, V1 at Vc = 2VCC/3; the integral is smooth and short (V moves
-    by about n·Vt·ln(I0/I1)) and a fixed 12-point Gauss–Legendre rule evaluates it. The diode never
-    switches off abruptly here: when RB is small against RA its current fades smoothly into RB's
-    (the constant-drop model's piecewise case). dt_high/dRA = C·ln(I0/I1) > 0 (derived: the
-    endpoint terms cancel), so t_high is strictly increasing in RA. Vf = 0 is an ideal diode
-    (t_high = ln2·RA·C)."""
-    ra, rb, c, vcc, vf, n = np.broadcast_arrays(_f(ra), _f(rb), _f(c), _f(vcc), _f(vf), _f(n))
-    return _shockley_high_slope(ra, rb, c, vcc, vf, n)[0]
-
-
-def _shockley_high_slope(ra, rb, c, vcc, vf, n):
-    """(t_high, dt_high/dRA) of :func:`diode_shockley_high` for broadcast arrays."""
-    from selector.core.parts import THERMAL_V
-
-    ideal = ~(vf > 0)
-    vf_s = np.where(ideal, 0.65, vf)
-    nvt = n * THERMAL_V
-    isat = diode_saturation_current(vf_s, n)
-    if np.ndim(ra) == 0:
-        v0 = _shockley_drop(2.0 * vcc / 3.0, ra, rb, isat, nvt)
-        v1 = _shockley_drop(vcc / 3.0, ra, rb, isat, nvt)
-    else:
-        v0, v1 = _shockley_drops(2.0 * vcc / 3.0, vcc / 3.0, ra, rb, isat, nvt)
-    i0 = (2.0 * vcc / 3.0 - v0) / ra
-    i1 = (vcc / 3.0 - v1) / ra
-    log_ratio = np.log(i0 / i1)
-    half = 0.5 * (v0 - v1)
-    mid = 0.5 * (v0 + v1)
+def _charge_sum(half, mid, isat, nvt, rb) -> np.ndarray:
+    """Σ_j w_j / f(mid + half·x_j) over the 12 Gauss–Legendre nodes (x_j, w_j): the charge integral
+    of :func:`diode_shockley_high` divided by ``half`` (f the diode-plus-RB current)."""
     # the sum over the nodes is numpy's pairwise order for a trailing axis of 12 terms (8 paired,
     # then the last 4 in turn), so it is bit for bit np.sum(..., axis=-1) over the nodes. Large
     # inputs take the nodes one at a time, in place (each temporary the size of the input, not
@@ -481,12 +455,67 @@ def _shockley_high_slope(ra, rb, c, vcc, vf, n):
         total = ((qs[0] + qs[1]) + (qs[2] + qs[3])) + ((qs[4] + qs[5]) + (qs[6] + qs[7]))
         for j in range(8, _GL_X.size):
             total = total + qs[j]
-    integral = half * total
-    t = c * (ra * log_ratio + integral)
-    slope = c * log_ratio
-    t = np.where(ideal, LN2 * ra * c, t)
-    slope = np.where(ideal, LN2 * c, slope)
-    return t, slope
+    return total
+
+
+def diode_shockley_high(ra, rb, c, vcc, vf, n) -> np.ndarray:
+    """t_high of the diode-steered astable with a Shockley steering diode (vectorised).
+
+    C·dVc/dt = I = (VCC − Vc − V)/RA, V the diode voltage (:func:`_shockley_drops`). Written in V
+    (a = VCC − Vc = RA·f(V) + V, f(V) = Is(e^{V/nVt} − 1) + V/RB the current, so dVc = −(RA·f'(V)
+    + 1)·dV), the charge from VCC/3 to 2VCC/3 takes exactly (derived)
+
+        t_high = C·[ RA·ln(I0/I1) + ∫_{V1}^{V0} dV / f(V) ]
+
+    with I0, V0 at Vc = VCC/3 and I1, V1 at Vc = 2VCC/3; the integral is smooth and short (V moves
+    by about n·Vt·ln(I0/I1)) and a fixed 12-point Gauss–Legendre rule evaluates it. The diode never
+    switches off abruptly here: when RB is small against RA its current fades smoothly into RB's
+    (the constant-drop model's piecewise case). dt_high/dRA = C·ln(I0/I1) > 0 (derived: the
+    endpoint terms cancel), so t_high is strictly increasing in RA. Vf = 0 is an ideal diode
+    (t_high = ln2·RA·C)."""
+    ra, rb, c, vcc, vf, n = _f(ra), _f(rb), _f(c), _f(vcc), _f(vf), _f(n)
+    shape = np.broadcast_shapes(ra.shape, rb.shape, c.shape, vcc.shape, vf.shape, n.shape)
+    # every input at the full shape (the Wright omega rows follow it), except a 0-d supply or n:
+    # those enter only elementwise operations, where a scalar operand gives the same values as
+    # its broadcast copy, and the sample-sized arrays 2VCC/3, VCC/3 and n·Vt are not made
+    ra, rb, c, vf = (a if a.shape == shape else np.broadcast_to(a, shape) for a in (ra, rb, c, vf))
+    vcc, n = (a if a.shape == shape or a.ndim == 0 else np.broadcast_to(a, shape) for a in (vcc, n))
+    return _shockley_high(ra, rb, c, vcc, vf, n)
+
+
+def _shockley_high(ra, rb, c, vcc, vf, n) -> np.ndarray:
+    """t_high of :func:`diode_shockley_high` for broadcast arrays; dt_high/dRA = C·ln(I0/I1) (the
+    ``log_ratio`` here; :func:`_shockley_ra_newton` uses it). Temporaries are reused in place
+    (fewer allocations of sample-sized arrays); every value is the same operation on the same
+    operands as the formulas in the docstrings, so the bits do not depend on the layout."""
+    from selector.core.parts import THERMAL_V
+
+    if np.ndim(ra) == 0:   # one element: the same values as a 1-element array (rows solve alone)
+        return _shockley_high(*(np.reshape(a, 1) for a in (ra, rb, c, vcc, vf, n)))[0]
+    ideal = ~(vf > 0)
+    any_ideal = bool(ideal.any())
+    nvt = n * THERMAL_V
+    isat = diode_saturation_current(np.where(ideal, 0.65, vf) if any_ideal else vf, n)
+    a0 = 2.0 * vcc / 3.0
+    a1 = vcc / 3.0
+    v0, v1 = _shockley_drops(a0, a1, ra, rb, isat, nvt)
+    log_ratio = a0 - v0                 # ln(I0/I1), I0 = (a0 − V0)/RA, I1 = (a1 − V1)/RA
+    log_ratio /= ra
+    i1 = a1 - v1
+    i1 /= ra
+    log_ratio /= i1
+    np.log(log_ratio, out=log_ratio)
+    half = v0 - v1
+    half *= 0.5
+    mid = v0 + v1
+    mid *= 0.5
+    t = _charge_sum(half, mid, isat, nvt, rb)
+    t *= half                           # the integral
+    t += ra * log_ratio
+    t *= c
+    if any_ideal:
+        t = np.where(ideal, LN2 * ra * c, t)
+    return t
 
 
 def diode_shockley_times(ra, rb, c, vcc, vf, n, rd=0.0) -> tuple[np.ndarray, np.ndarray]:
@@ -503,43 +532,113 @@ def diode_shockley_times(ra, rb, c, vcc, vf, n, rd=0.0) -> tuple[np.ndarray, np.
 def diode_shockley_ideal_ra(t_high, rb, c, vcc, vf, n) -> np.ndarray:
     """RA with ``diode_shockley_times(ra, ...)[0] == t_high`` (vectorised, to float precision).
 
-    Safeguarded Newton on the strictly increasing t_high(RA) with its exact slope C·ln(I0/I1),
-    started at the constant-drop inverse (:func:`diode_ideal_ra`, Vf as given); a step that leaves
-    the bracket known so far is replaced by a geometric bisection. nan where t_high ≤ 0."""
+    Safeguarded Newton on the strictly increasing t_high(RA) with its exact slope C·ln(I0/I1)
+    (:func:`_shockley_ra_newton`); nan where t_high ≤ 0. Vf = 0 (an ideal diode): t_high/(ln2·C)."""
+    from selector.core.parts import THERMAL_V
+
     vcc, vf = _check_supply_and_drop(vcc, vf)
-    t_high, rb, c, vcc, vf, n = (np.array(a, dtype=float) for a in
-                                 np.broadcast_arrays(_f(t_high), _f(rb), _f(c), vcc, vf, _f(n)))
+    t_high, rb, c, vcc, vf, n = np.broadcast_arrays(_f(t_high), _f(rb), _f(c), vcc, vf, _f(n))
     out = np.full(t_high.shape, np.nan)
     ok = t_high > 0
-    if not np.any(ok):
+    if not ok.any():
         return out
-    tg, rbv, cv, vv, fv, nv = (a[ok] for a in (t_high, rb, c, vcc, vf, n))
-    x = diode_ideal_ra(tg, rbv, cv, vv, fv)
-    x = np.where(np.isfinite(x) & (x > 0), x, tg / (LN2 * cv))
-    lo = np.zeros_like(x)
-    hi = np.full_like(x, np.inf)
-    active = np.ones(x.shape, dtype=bool)
-    for _ in range(100):
-        i = np.flatnonzero(active)
-        if i.size == 0:
-            break
-        t, s = _shockley_high_slope(x[i], rbv[i], cv[i], vv[i], fv[i], nv[i])
-        g = t - tg[i]
-        lo[i] = np.where(g < 0, np.maximum(lo[i], x[i]), lo[i])
-        hi[i] = np.where(g > 0, np.minimum(hi[i], x[i]), hi[i])
-        new = x[i] - g / s
-        bad = ~((new > lo[i]) & (new < hi[i]))
-        fallback = np.where(np.isfinite(hi[i]), np.sqrt(np.maximum(lo[i], 1e-300) * hi[i]), 2.0 * x[i])
-        fallback = np.where(lo[i] > 0, fallback, np.where(np.isfinite(hi[i]), 0.5 * hi[i], fallback))
-        new = np.where(bad, fallback, new)
-        done = (np.abs(new - x[i]) <= 1e-14 * new) | (g == 0)
-        x[i] = np.where(g == 0, x[i], new)
-        active[i] = ~done
+    if not ok.all():
+        t_high, rb, c, vcc, vf, n = (a[ok] for a in (t_high, rb, c, vcc, vf, n))
+    x = t_high / (LN2 * c)             # the ideal diode's RA, and the root where Vf = 0
+    real = vf > 0
+    if real.any():
+        if not real.all():
+            t_high, rb, c, vcc, vf, n = (a[real] for a in (t_high, rb, c, vcc, vf, n))
+        nvt = n * THERMAL_V
+        x_real = _shockley_ra_newton(t_high, rb, c, 2.0 * vcc / 3.0, vcc / 3.0, vf,
+                                     diode_saturation_current(vf, n), nvt)
+        if real.all():
+            x = x_real
+        else:
+            x[real] = x_real
+    if ok.all():
+        return np.array(x, dtype=float).reshape(out.shape)
     out[ok] = x
     return out
 
 
-# --------------------------------------------------------------------------- output-fed astable
+def _shockley_ra_newton(tg, rb, c, a0, a1, vf, isat, nvt) -> np.ndarray:
+    """RA for t_high = ``tg`` (1-D arrays, Vf > 0; ``a0`` = 2VCC/3, ``a1`` = VCC/3 as in
+    :func:`_shockley_drops`).
+
+    Newton on the strictly increasing t_high(RA) (:func:`_shockley_high`'s formulas), each
+    step inside the bracket [lo, hi] known so far, else a geometric bisection of it. Started at
+    max(t/(k·C), t/(ln2·C) − RB), k = ln((2VCC/3 − Vf)/(VCC/3 − Vf)): the constant-drop RA where
+    its diode conducts throughout and where it never does (that model's RA is at least both: its
+    charging current is never below either path's, facts §2); the Shockley RA is near it.
+    Stops after a Newton step (not a bisection) of at most 1e-8·RA: the error left after it is
+    κ·step² with κ = RA·|t''(RA)|/(2·t'(RA)) (quadratic convergence), measured below 0.4 over
+    RA 10 Ω–10 MΩ, RB/RA 1e-3–1e3, VCC 2–18 V, Vf up to 0.999·VCC/3, n 1–2 (step k+1 / step k²),
+    so at most ~4e-17·RA, below the rounding of t_high itself; the step that would only confirm
+    it (a fourth evaluation of t_high for most inputs) is not taken.
+
+    The two diode voltages (y = ln ω of :func:`log_wright_omega`) are carried from one Newton
+    step to the next and refined by Halley steps until the last one was at most 1e-5: Halley's
+    error constant for h = y + e^y − z is at most 1/6, so y is then within ~2e-16 of the root.
+    After the first Newton step RA moves little, and one or two Halley steps suffice instead of
+    the three or four of a cold start. Each element's value depends on its own inputs only.
+    """
+    with np.errstate(divide="ignore", invalid="ignore"):
+        x = np.maximum(tg / (np.log((a0 - vf) / (a1 - vf)) * c), tg / (LN2 * c) - rb)
+    x = np.where(np.isfinite(x) & (x > 0), x, tg / (LN2 * c))
+    out = np.empty_like(x)
+    where = None                      # positions in ``out`` of the rows still iterating
+    lo = np.zeros_like(x)
+    hi = np.full_like(x, np.inf)
+    y = None
+    work = None
+    for _ in range(100):
+        rp = x * rb / (x + rb)
+        lk = np.log(rp * isat / nvt)
+        z = np.stack([rp * (a0 / x + isat) / nvt + lk, rp * (a1 / x + isat) / nvt + lk])
+        if y is None:
+            y = np.log(np.maximum(z - np.log(np.maximum(z, 1.0)), 1e-300))
+            np.copyto(y, z, where=~(z > 1.0))
+        if work is None or work[0].shape != y.shape:
+            work = [np.empty_like(y) for _ in range(4)] + [np.empty(y.shape, dtype=bool)]
+        for _ in range(50):
+            if not _halley_step(y, z, work, 1e-5).any():
+                break
+        v0 = nvt * (y[0] - lk)
+        v1 = nvt * (y[1] - lk)
+        log_ratio = np.log(((a0 - v0) / x) / ((a1 - v1) / x))
+        half = 0.5 * (v0 - v1)
+        total = _charge_sum(half, 0.5 * (v0 + v1), isat, nvt, rb)
+        g = c * (x * log_ratio + half * total) - tg
+        np.maximum(lo, x, out=lo, where=g < 0)
+        np.minimum(hi, x, out=hi, where=g > 0)
+        new = x - g / (c * log_ratio)
+        bad = ~((new > lo) & (new < hi))
+        step = np.abs(new - x)
+        if bad.any():
+            fallback = np.where(np.isfinite(hi), np.sqrt(np.maximum(lo, 1e-300) * hi), 2.0 * x)
+            fallback = np.where(lo > 0, fallback, np.where(np.isfinite(hi), 0.5 * hi, fallback))
+            new = np.where(bad, fallback, new)
+            step = np.where(bad, np.inf, step)
+        done = (step <= 1e-8 * new) | (g == 0)
+        x = np.where(g == 0, x, new)
+        if done.all():
+            break
+        if done.any():
+            if where is None:
+                where = np.arange(x.size)
+            out[where[done]] = x[done]
+            keep = ~done
+            where = where[keep]
+            x, lo, hi, tg, rb, c, a0, a1, vf, isat, nvt = (
+                a[keep] for a in (x, lo, hi, tg, rb, c, a0, a1, vf, isat, nvt))
+            y = y[:, keep]
+    if where is None:
+        return x
+    out[where] = x
+    return out
+
+
 def output_fed_factors(voh, vol, vcc) -> tuple[np.ndarray, np.ndarray]:
     """Factors k with t_high = k_high·R·C and t_low = k_low·R·C for the output-fed astable.
 

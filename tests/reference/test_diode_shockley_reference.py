@@ -61,6 +61,44 @@ def test_shockley_inverse_and_monotone_in_ra():
     assert np.all(up > th)
 
 
+
+# The inverse (the RA the search needs for a wanted t_high) at the corners of its input range: RB/RA
+# from 1e-3 to 1e3, VCC down to 2 V with Vf up to 0.99·VCC/3, n 1 and 2. The wanted time comes from
+# the scipy ODE (tests/reference_diode.py), so the RA found is checked against the circuit itself,
+# not against the code's own forward model; 1e-9 is the ODE's own accuracy with margin (measured
+# 4e-11 above).
+INVERSE_CORNERS = [  # (ra, rb, vcc, vf, n)
+    (1e4, 1e1, 9.0, 0.62, 1.9), (1e4, 1e7, 9.0, 0.62, 1.9), (50.0, 5e4, 5.0, 0.65, 2.0),
+    (2e6, 2e3, 15.0, 0.32, 1.05), (3e3, 3e3, 2.0, 0.66, 1.9), (3e4, 1e5, 3.0, 0.99, 1.0),
+    (1e5, 1e4, 4.5, 0.7, 2.0),
+]
+
+
+@pytest.mark.parametrize("ra, rb, vcc, vf, n", INVERSE_CORNERS)
+def test_shockley_inverse_recovers_ra_from_the_scipy_ode_time(ra, rb, vcc, vf, n):
+    want = ode_t_high(ra, rb, vcc, vf, n)
+    got = float(T.diode_shockley_ideal_ra(want, rb, C, vcc, vf, n))
+    assert abs(got / ra - 1) <= 1e-9
+
+
+def test_shockley_inverse_round_trip_to_float_precision_over_a_wide_range():
+    """The inverse against the forward model (itself checked against scipy and ngspice above) over
+    random inputs well beyond the search's: the inverse's stop rule (a Newton step of at most
+    1e-8·RA, then no confirming step) leaves RA within a few ulp of the root everywhere."""
+    rng = np.random.default_rng(11)
+    m = 20000
+    ra = 10 ** rng.uniform(1, 7, m)
+    rb = ra * 10 ** rng.uniform(-3, 3, m)
+    vcc = rng.choice([2.0, 3.0, 4.5, 5.0, 9.0, 12.0, 15.0, 18.0], m)
+    vf = np.minimum(rng.choice([0.2, 0.32, 0.62, 0.65, 0.7], m),
+                    vcc / 3 * rng.choice([0.5, 0.9, 0.99, 0.999], m))
+    n = rng.choice([1.0, 1.05, 1.9, 2.0], m)
+    c = 10 ** rng.uniform(-11, -4, m)
+    th = T.diode_shockley_times(ra, rb, c, vcc, vf, n)[0]
+    back = T.diode_shockley_ideal_ra(th, rb, c, vcc, vf, n)
+    assert np.max(np.abs(back / ra - 1)) <= 1e-13   # measured 2.2e-15
+    assert np.max(np.abs(T.diode_shockley_times(back, rb, c, vcc, vf, n)[0] / th - 1)) <= 1e-14
+
 def test_ideal_diode_limit_and_wright_omega():
     # Vf = 0: an ideal steering diode, t_high = ln2·RA·C (facts §2, derived)
     assert float(T.diode_shockley_times(10e3, 10e3, C, 9.0, 0.0, 1.9)[0]) == pytest.approx(
