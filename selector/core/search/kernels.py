@@ -125,6 +125,11 @@ def _both_ends(inverse, t1, t2, r1, r2, c):
     return out[:n], out[n:]
 
 
+WINDOW_CAP = 1_000_000
+"""At most this many (pair, RA) candidates a phase-2 window call materialises at once (8 MB
+per work array; ordinary searches stay far below it): see ``_Pass._window_groups``."""
+
+
 def _chunks(n: int, size: int):
     for s in range(0, n, size):
         yield slice(s, min(n, s + size))
@@ -297,28 +302,54 @@ class _Pass:
         rows_live = np.flatnonzero(live)
         if rows_live.size == 0:
             return best_id, best_err, th_out, tl_out
+        out = (best_id, best_err, th_out, tl_out)
+        for group in self._window_groups(rows_live, a, b):
+            self._best_in_windows(group, a, b, cv, rb, ok, out)
+        return out
+
+    def _window_groups(self, rows_live, a, b):
+        """``rows_live`` in consecutive groups whose RA windows hold at most ``WINDOW_CAP``
+        networks together (a row alone may hold more), so a loose bound (a target the stock can
+        barely reach) cannot ask for windows of 10^8 networks at once. Each row's best RA depends
+        on its own window only, so the groups give the same choices as one call. Counted exactly
+        on a 1-2 part index; a 3-part index enumerates its windows in target chunks already."""
+        v = self.r.sorted_values
+        if v is None:
+            return [rows_live]
+        count = (np.searchsorted(v, b[rows_live], side="right")
+                 - np.searchsorted(v, np.maximum(a[rows_live], 0.0), side="left"))
+        total = np.cumsum(np.maximum(count, 0))
+        if total[-1] <= WINDOW_CAP:
+            return [rows_live]
+        cuts = np.searchsorted(total, np.arange(WINDOW_CAP, total[-1], WINDOW_CAP), side="right")
+        return [g for g in np.split(rows_live, np.unique(cuts)) if g.size]
+
+    def _best_in_windows(self, rows_live, a, b, cv, rb, ok, out) -> None:
+        """Phase 2's best RA for the rows ``rows_live`` (windows [a, b]), written into ``out`` =
+        (best_id, best_err, th_out, tl_out)."""
+        p, tg = self.p, self.p.target
+        best_id, best_err, th_out, tl_out = out
         offsets, ids = self.r.between(np.maximum(a[rows_live], 0.0), b[rows_live])
         ids = np.asarray(ids, dtype=np.int64)
         if ids.size == 0:
-            return best_id, best_err, th_out, tl_out
+            return
         rows = np.repeat(rows_live, np.diff(offsets))
         good = ok(ids, rows)
         ids, rows = ids[good], rows[good]
         if ids.size == 0:
-            return best_id, best_err, th_out, tl_out
+            return
         th, tl = p.times2(self.r.values(ids), rb[rows], cv[rows])
         e = _signed_max(th / tg.t_high - 1, tl / tg.t_low - 1)
         fine = self._freq_ok(th, tl)
         if not fine.all():
             ids, rows, th, tl, e = ids[fine], rows[fine], th[fine], tl[fine], e[fine]
             if ids.size == 0:
-                return best_id, best_err, th_out, tl_out
+                return
         order = np.lexsort((np.abs(e), rows))
         ro = rows[order]
         first = order[np.concatenate([[True], ro[1:] != ro[:-1]])]
         r = rows[first]
         best_id[r], best_err[r], th_out[r], tl_out[r] = ids[first], e[first], th[first], tl[first]
-        return best_id, best_err, th_out, tl_out
 
     def _freq_ok(self, th, tl):
         """Candidates whose period keeps the frequency within the limit (1e-9 rounding slack)."""

@@ -435,6 +435,15 @@ def test_picked_provisional_bound_is_still_exact(case, connection):
     _check_forced("PHASE1_PICK", 1, case, connection, max_parts=2)
 
 
+@settings(**_SETTINGS)
+@given(cases("standard", max_parts_max=2), st.sampled_from(["standard", "diode"]))
+def test_windows_in_groups_are_still_exact(case, connection):
+    """Phase 2 materialises its RA windows in groups of at most WINDOW_CAP candidates (a loose
+    bound on a large stock once asked for 1.4e8 at once); force groups of a few candidates on
+    small stocks and compare with the exhaustive reference again."""
+    _check_forced("WINDOW_CAP", 3, case, connection, max_parts=2)
+
+
 @settings(max_examples=60, deadline=None, derandomize=True,
           suppress_health_check=[HealthCheck.too_slow, HealthCheck.data_too_large])
 @given(cases("standard", max_parts_max=2), st.integers(1, 3), st.sampled_from(["standard", "diode"]))
