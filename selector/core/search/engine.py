@@ -189,6 +189,7 @@ def search_timing(r_lines: Sequence, c_lines: Sequence, target: Target, connecti
     total_w = sum(weights.values()) * len(connections)
     done_w = 0.0
     counts = {}
+    hints: dict = {}   # connection -> the pool's worst |error| of the last budget (kernels.run2)
     for budget in range(1, max_parts + 1):
         r_index, c_index = _indexes(r_lines, c_lines, budget, boards, indexes, c_max_parts, ex, all_networks)
         counts[budget] = (r_index, c_index)
@@ -199,8 +200,11 @@ def search_timing(r_lines: Sequence, c_lines: Sequence, target: Target, connecti
                 if progress:
                     progress(min(1.0, (base + w * frac) / total_w))
 
-            for opt in _one_pass(circuits.get(conn), target, limits[conn], r_index, c_index, pool,
-                                 budget, pex, tick):
+            got = _one_pass(circuits.get(conn), target, limits[conn], r_index, c_index, pool,
+                            budget, pex, tick, hints.get(conn, math.inf))
+            # a full pool bounds the next budget's (1e-9: the same pair's error, another batch)
+            hints[conn] = max(abs(o.error) for o in got) * (1 + 1e-9) if len(got) >= pool else math.inf
+            for opt in got:
                 found.setdefault(opt.key(), opt)
             done_w += weights[budget]
     if progress:
@@ -242,8 +246,9 @@ def _indexes(r_lines, c_lines, budget: int, boards: int, indexes: Optional[dict]
 
 
 def _one_pass(kind, target: Target, lim: Limits, r_index, c_index, pool: int, budget: int,
-              ex: Exclusions, tick: Callable[[float], None]) -> list[FoundOption]:
-    """Run the kernel the circuit kind names over one pair of indexes; options in pass order."""
+              ex: Exclusions, tick: Callable[[float], None], bound_hint: float = math.inf) -> list[FoundOption]:
+    """Run the kernel the circuit kind names over one pair of indexes; options in pass order.
+    ``bound_hint``: the worst |error| of a smaller budget's full pool (two-resistor kernel)."""
     from selector.core.search.kernels import _Pass
     from selector.core.search.lookup import PowerCheck, capacitor_candidates
 
@@ -252,6 +257,7 @@ def _one_pass(kind, target: Target, lim: Limits, r_index, c_index, pool: int, bu
                                  (lambda c: charge_r(target, c, lim)) if charge_r is not None else None)
     power = PowerCheck(r_index, lim.r_power_volts, lim.r_power_derating)
     ps = _Pass(kind, target, r_index, c_index, c_ids, lim, power, ex)
+    ps.bound_hint = bound_hint
     two = kind.kernel == TWO_RESISTOR
     steps = max(1, -(-c_ids.size // ps.chunk)) * (2 if two else 1)
     state = {"n": 0}

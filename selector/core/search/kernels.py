@@ -155,6 +155,7 @@ class _Pass:
         self.chunk = chunk
         # When every line holds enough for two networks of the largest size on every board, RA
         # and RB can never overdraw a line together and the pairwise check can be skipped.
+        self.bound_hint = math.inf   # see run2
         qty = np.asarray(r_index.quantity, dtype=np.int64)
         self.no_conflict = bool(qty.size) and int((qty // r_index.boards).min()) >= 2 * r_index.max_parts
 
@@ -411,6 +412,11 @@ class _Pass:
                 found, bound, picked = [], MAX_ERROR, None
         if not found:
             found, bound, _enough = self._phase1(pool, progress)
+        # A smaller parts budget's pool (``bound_hint``, set by the engine) is ``pool`` distinct
+        # (C, RB) pairs this pass's indexes hold too (every smaller network is in them, under the
+        # same limits and stock), each at most at that error here: so its worst error bounds this
+        # pool's as well, and a target the stock can barely reach keeps the tighter of the two.
+        bound = min(bound, self.bound_hint)
         # Phase 2: every RB in the certified slice, each with its best RA.
         if self.r.max_parts >= 3 and self._phase2_ordered(found, bound, pool, progress):
             return self._collect(found, pool, two=True)
