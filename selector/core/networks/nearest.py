@@ -26,7 +26,7 @@ SWEEP_MAX_SHARE = 0.125
 """``values_within`` gives up (returns None) when the intervals mark more than this share of
 its value bins: most values would come back and the slice-by-slice search is cheaper.  Tests
 raise it to 1.0 to run the sweep on small stocks."""
-COARSE_BITS = 7
+COARSE_BITS = 4
 """``values_within`` first looks every value up in marks 2**COARSE_BITS times coarser (small
 enough to stay in cache), then only the values in a marked coarse bin in the full marks."""
 

@@ -41,9 +41,9 @@ a slightly wider RB slice costs less than more rounds of the diode's RA inverse 
 large benchmark stock)."""
 
 _WINDOW_TOL = 1e-3
-"""``_window1`` stops halving once its outer end is within this share of its log-distance from
-R* of the inner end: the window is then at most that much wider than the exact one (a superset
-either way), after about 10 halvings instead of 40."""
+"""``_window1`` stops once the outer end of each side is within this share of its log-distance
+from R* of the inner end: the window is then at most that much wider than the exact one (a
+superset either way)."""
 
 MAX_ERROR = 1.0
 """Options more than 100 % off target (a factor of two on a time) are never offered; exactness is
@@ -853,44 +853,67 @@ def _kth_distinct(found: list, pool: int, col: int, slack: bool = True) -> float
 
 def _window1(p, r_star: np.ndarray, c: np.ndarray, bound: float) -> tuple[np.ndarray, np.ndarray]:
     """A superset [wl, wh] of {R : |e(R, c)| <= bound} for one-resistor circuits (V-shaped around
-    R*): on each side, double the log-distance until the error exceeds the bound, then bisect,
-    keeping the outer end (an R whose error exceeds the bound), until the outer end is within
-    ``_WINDOW_TOL`` of the inner one relative to its log-distance from R* (or 40 halvings).
-    Empty (wl > wh) where even R* misses the bound."""
+    R*). On each side, in the log-distance x from R*, a bracket [x_in, x_out] is kept with x_in
+    inside (error within the bound) and x_out outside, and the window ends at x_out: first x_out
+    doubles until it is outside; then one step tries two points just either side of where the
+    straight line through the bracket's two errors meets the bound (the error is nearly linear
+    in x over such short distances, so this usually closes the bracket at once); then halving,
+    until x_out - x_in <= ``_WINDOW_TOL``·x_out (or 40 halvings). Every point tried moves the
+    end it is on the side of (the V shape: beyond an outside point all is outside), so the
+    window only ever holds the exact one. Empty (wl > wh) where even R* misses the bound."""
     e0 = np.abs(p.error1(r_star, c)[0])
-    inside = e0 <= bound
+    wl = np.full(np.shape(r_star), INF)
+    wh = np.zeros(np.shape(r_star))
+    idx = np.flatnonzero(e0 <= bound)
+    if idx.size == 0:
+        return wl, wh
+    rs, cc, ez = r_star[idx], c[idx], e0[idx]
     # first step: the room left, bound - e0 (the error grows about 1:1 with the log-distance
     # for these circuits, so the edge is near); any positive start keeps the search right
-    x0 = np.maximum(np.where(inside, bound - e0, bound), max(bound, 1e-12) * 1e-3)
-    ends = []
-    for sign in (-1.0, 1.0):
-        x_in = np.zeros(r_star.shape)
-        x_out = x0.copy()
-        grow = inside.copy()
+    x0 = np.maximum(bound - ez, max(bound, 1e-12) * 1e-3)
+    n = idx.size
+
+    def err(x, sign, sub):
+        return np.abs(p.error1(rs[sub] * np.exp(sign * x), cc[sub])[0])
+
+    def close(x_in, x_out, sub, x, e):
+        """Move the bracket ends of the entries ``sub`` to the points x (errors e) on their side."""
+        inside = e <= bound
+        x_in[sub] = np.where(inside, np.maximum(x_in[sub], x), x_in[sub])
+        x_out[sub] = np.where(inside, x_out[sub], np.minimum(x_out[sub], x))
+
+    for sign, out in ((-1.0, wl), (1.0, wh)):
+        x_in, e_in = np.zeros(n), ez.copy()
+        x_out, e_out = x0.copy(), np.full(n, np.nan)
+        grow = np.arange(n)
         for _ in range(80):
-            if not grow.any():
+            if grow.size == 0:
                 break
-            e = np.abs(p.error1(r_star[grow] * np.exp(sign * x_out[grow]), c[grow])[0])
+            e = err(x_out[grow], sign, grow)
             still = e <= bound
-            idx = np.flatnonzero(grow)
-            x_in[idx[still]] = x_out[idx[still]]
-            x_out[idx[still]] *= 2.0
-            grow[idx[~still]] = False
-            grow &= x_out < 700.0
-        todo = np.flatnonzero(inside & (x_out < 700.0))
+            g_in = grow[still]
+            x_in[g_in], e_in[g_in] = x_out[g_in], e[still]
+            e_out[grow[~still]] = e[~still]
+            x_out[g_in] *= 2.0
+            grow = g_in[x_out[g_in] < 700.0]
+        far = x_out >= 700.0  # within the bound all the way out: no end on this side
+        todo = np.flatnonzero(~far & (x_out - x_in > _WINDOW_TOL * x_out))
+        if todo.size:
+            with np.errstate(all="ignore"):
+                t = (bound - e_in[todo]) / (e_out[todo] - e_in[todo])
+            t = np.where(np.isfinite(t), np.clip(t, 0.0, 1.0), 0.5)
+            x_lin = x_in[todo] + t * (x_out[todo] - x_in[todo])
+            tries = np.concatenate([x_lin * (1 - 0.25 * _WINDOW_TOL), x_lin * (1 + 0.25 * _WINDOW_TOL)])
+            e = err(tries, sign, np.concatenate([todo, todo]))
+            close(x_in, x_out, todo, tries[:todo.size], e[:todo.size])
+            close(x_in, x_out, todo, tries[todo.size:], e[todo.size:])
         for _ in range(40):
             todo = todo[x_out[todo] - x_in[todo] > _WINDOW_TOL * x_out[todo]]
             if todo.size == 0:
                 break
             mid = 0.5 * (x_in[todo] + x_out[todo])
-            e = np.abs(p.error1(r_star[todo] * np.exp(sign * mid), c[todo])[0])
-            ok = e <= bound
-            x_in[todo] = np.where(ok, mid, x_in[todo])
-            x_out[todo] = np.where(ok, x_out[todo], mid)
-        end = r_star * np.exp(sign * x_out)
-        ends.append(np.where(x_out >= 700.0, 0.0 if sign < 0 else INF, end))
-    wl = np.where(inside, ends[0], INF)
-    wh = np.where(inside, ends[1], 0.0)
+            close(x_in, x_out, todo, mid, err(mid, sign, todo))
+        out[idx] = np.where(far, 0.0 if sign < 0 else INF, rs * np.exp(sign * x_out))
     return wl, wh
 
 
