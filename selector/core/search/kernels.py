@@ -42,8 +42,13 @@ large benchmark stock)."""
 
 _WINDOW_TOL = 1e-3
 """``_window1`` stops once the outer end of each side is within this share of its log-distance
-from R* of the inner end: the window is then at most that much wider than the exact one (a
-superset either way)."""
+from R* of the inner end, or within ``_WINDOW_ABS`` of it: the window is then at most that much
+wider than the exact one (a superset either way)."""
+
+_WINDOW_ABS = 1e-10
+"""Log-distance below which ``_window1`` does not narrow a window further: ``values_within``
+widens every interval by a relative 4e-9 anyway, and a window near the rounding of the error
+itself (an exact hit makes the bound ~1e-15) would otherwise take every halving."""
 
 MAX_ERROR = 1.0
 """Options more than 100 % off target (a factor of two on a time) are never offered; exactness is
@@ -858,9 +863,10 @@ def _window1(p, r_star: np.ndarray, c: np.ndarray, bound: float) -> tuple[np.nda
     doubles until it is outside; then one step tries two points just either side of where the
     straight line through the bracket's two errors meets the bound (the error is nearly linear
     in x over such short distances, so this usually closes the bracket at once); then halving,
-    until x_out - x_in <= ``_WINDOW_TOL``·x_out (or 40 halvings). Every point tried moves the
-    end it is on the side of (the V shape: beyond an outside point all is outside), so the
-    window only ever holds the exact one. Empty (wl > wh) where even R* misses the bound."""
+    until x_out - x_in <= max(``_WINDOW_TOL``·x_out, ``_WINDOW_ABS``) (or 40 halvings). Every
+    point tried moves the end it is on the side of (the V shape: beyond an outside point all is
+    outside), so the window only ever holds the exact one. Empty (wl > wh) where even R* misses
+    the bound."""
     e0 = np.abs(p.error1(r_star, c)[0])
     wl = np.full(np.shape(r_star), INF)
     wh = np.zeros(np.shape(r_star))
@@ -897,7 +903,7 @@ def _window1(p, r_star: np.ndarray, c: np.ndarray, bound: float) -> tuple[np.nda
             x_out[g_in] *= 2.0
             grow = g_in[x_out[g_in] < 700.0]
         far = x_out >= 700.0  # within the bound all the way out: no end on this side
-        todo = np.flatnonzero(~far & (x_out - x_in > _WINDOW_TOL * x_out))
+        todo = np.flatnonzero(~far & (x_out - x_in > np.maximum(_WINDOW_TOL * x_out, _WINDOW_ABS)))
         if todo.size:
             with np.errstate(all="ignore"):
                 t = (bound - e_in[todo]) / (e_out[todo] - e_in[todo])
@@ -908,7 +914,7 @@ def _window1(p, r_star: np.ndarray, c: np.ndarray, bound: float) -> tuple[np.nda
             close(x_in, x_out, todo, tries[:todo.size], e[:todo.size])
             close(x_in, x_out, todo, tries[todo.size:], e[todo.size:])
         for _ in range(40):
-            todo = todo[x_out[todo] - x_in[todo] > _WINDOW_TOL * x_out[todo]]
+            todo = todo[x_out[todo] - x_in[todo] > np.maximum(_WINDOW_TOL * x_out[todo], _WINDOW_ABS)]
             if todo.size == 0:
                 break
             mid = 0.5 * (x_in[todo] + x_out[todo])
