@@ -599,7 +599,7 @@ class NetworkIndex:
             if three is None:
                 return None
             parts.append(three)
-        return np.sort(np.concatenate(parts))
+        return np.sort(np.concatenate(parts), kind="stable")  # two sorted runs: one merge
 
     def between(self, lo, hi) -> tuple[np.ndarray, np.ndarray]:
         """Every network with lo[i] <= value <= hi[i], CSR style: (offsets (n+1,), ids), each

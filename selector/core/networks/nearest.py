@@ -26,6 +26,9 @@ SWEEP_MAX_SHARE = 0.125
 """``values_within`` gives up (returns None) when the intervals mark more than this share of
 its value bins: most values would come back and the slice-by-slice search is cheaper.  Tests
 raise it to 1.0 to run the sweep on small stocks."""
+COARSE_BITS = 4
+"""``values_within`` first looks every value up in marks 2**COARSE_BITS times coarser (small
+enough to stay in cache), then only the values in a marked coarse bin in the full marks."""
 
 
 def join(add: Union[bool, np.ndarray], x: np.ndarray, y: np.ndarray) -> np.ndarray:
@@ -398,9 +401,14 @@ class ThreePartSearch:
         pattern read as an integer is increasing in the value, so its top bits (``>> shift``)
         cut the value axis into bins of equal relative width (2**-b per octave, b = 52 - shift).
         The bins touched by any (slightly widened) interval are marked; then every row's values
-        (single joined to its whole pool) are binned and only those in marked bins are kept.  A
-        value inside an interval lies in a marked bin, so none is lost; extra values only make
-        the caller's later checks do a little more work."""
+        (single joined to its pool) are binned and only those in marked bins are kept.  A value
+        inside an interval lies in a marked bin, so none is lost; extra values only make the
+        caller's later checks do a little more work.
+
+        Each row sweeps only the part of its pool that can hold such a value (``_sweep_slices``:
+        every part it leaves out holds no network value inside [min lo, max hi], or no allowed
+        network, or only a copy of a symmetric network whose canonical copy is swept in another
+        row), one row at a time so the row's values and the bins it reads stay in cache."""
         if self.nrows == 0 or len(self.pool_pos) == 0 or len(lo) == 0:
             return np.zeros(0)
         lo = np.asarray(lo, dtype=float) * (1.0 - 4 * EPS)
@@ -427,28 +435,64 @@ class ThreePartSearch:
         if int(np.count_nonzero(marked)) > nb * SWEEP_MAX_SHARE:
             return None  # wide intervals: most values would come back, a sweep does not pay
         cap = self.ix.capacity()
+        li0 = self.ix.entry_lines[0]
+        base = np.int64((kmin - 1) << shift)  # bin k of a value: ((bits - base) >> shift), 0 = below all
+        # A coarse copy of the marks (a bin of it is marked when any of its fine bins is) is small
+        # enough to stay in cache: every value is looked up there first, and only the values in
+        # a marked coarse bin in the fine marks.
+        cs = COARSE_BITS if nb >> COARSE_BITS >= 1 << 12 else 0
+        coarse = np.zeros(((nb + 1) >> cs) + 2, dtype=bool)
+        coarse[np.flatnonzero(marked) >> cs] = True
         out = []
-        gmin, gmax = lo.min(), hi.max()
-        for s, pool_pos, pv, a_lines, _seg, r0, r1 in self.per_shape:
+        for s, pool_pos, pv, a_lines, start, stop in self._sweep_slices(float(lo.min()), float(hi.max())):
             add = bool(self.outer_add[s])
-            live = (self.row_vmax[r0:r1] >= gmin) & (self.row_vmin[r0:r1] <= gmax)
-            rows = np.flatnonzero(live)
-            n = len(pv)
-            step = max(1, _CELLS // max(n, 1))
-            for c0 in range(0, len(rows), step):
-                blk = rows[c0:c0 + step]
-                av = self.ix.line_values[a_lines[blk]][:, None]
-                vals = join(add, av, pv[None, :])
-                k = (vals.view(np.int64) >> shift) - (kmin - 1)
-                np.clip(k, 0, nb + 1, out=k)
-                hit = np.flatnonzero(marked[k])
+            sym = bool(self.symmetric[s])
+            av = self.ix.line_values[a_lines]
+            for r in np.flatnonzero(stop > start):
+                c0, c1 = int(start[r]), int(stop[r])
+                vals = join(add, av[r], pv[c0:c1])
+                k = vals.view(np.int64) - base
+                np.right_shift(k, shift + cs, out=k)
+                hit = np.flatnonzero(np.take(coarse, k, mode="clip"))  # clip: outside = unmarked ends
+                if hit.size and cs:
+                    kf = (vals[hit].view(np.int64) - base) >> shift
+                    hit = hit[np.take(marked, kf, mode="clip")]
                 if hit.size == 0:
                     continue
-                r, col = hit // n, hit % n
-                a = a_lines[blk][r]
-                good = self.ok(a, pool_pos[col], cap, s)
-                out.append(vals.ravel()[hit[good]])
+                pos = pool_pos[c0 + hit]
+                if sym:  # the canonical copy only (the others repeat its network)
+                    canon = a_lines[r] <= li0[pos]
+                    hit, pos = hit[canon], pos[canon]
+                good = self.ok(np.full(hit.size, a_lines[r]), pos, cap, s)
+                out.append(vals[hit[good]])
         return np.sort(np.concatenate(out)) if out else np.zeros(0)
+
+    def _sweep_slices(self, vlo: float, vhi: float):
+        """Per 3-part shape: (s, pool positions, pool values, single lines, start, stop), where
+        [start[r], stop[r]) is the part of the shape's pool row r (single a_lines[r]) sweeps for
+        values in [vlo, vhi].  It is the intersection of
+          - the row's own slice [row_lo, row_hi): outside it the token-part rule fails (a
+            necessary part of the rule, see __init__; ok() would reject every such network);
+          - the pairs p with join(a, p) in [vlo, vhi], widened by EPS: the value is increasing in
+            p (module docstring), so that is a slice, found by searchsorted on the preimages
+            (as ``zones`` does);
+          - for the symmetric shapes (series3, parallel3), the pairs p >= join(a, a)·(1 - EPS):
+            the canonical copy of a symmetric network has a = its lowest line, so both pair
+            lines are at or above a in value, and since rounding is monotone the pair value
+            join(b, c) >= join(a, a) (the pair array is built with the same ``join``).  Every
+            network whose canonical copy has single a is therefore swept in a's row."""
+        for s, pool_pos, pv, a_lines, seg, r0, r1 in self.per_shape:
+            if r0 == r1:
+                continue
+            add = bool(self.outer_add[s])
+            av = self.ix.line_values[a_lines]
+            start = self.row_lo[r0:r1] - seg
+            stop = self.row_hi[r0:r1] - seg
+            start = np.maximum(start, np.searchsorted(pv, preimage(add, av, vlo * (1.0 - EPS)), side="left"))
+            stop = np.minimum(stop, np.searchsorted(pv, preimage(add, av, vhi * (1.0 + EPS)), side="right"))
+            if self.symmetric[s]:
+                start = np.maximum(start, np.searchsorted(pv, join(add, av, av) * (1.0 - EPS), side="left"))
+            yield s, pool_pos, pv, a_lines, start, stop
 
     def count(self) -> int:
         """Exact number of distinct 3-part networks, counted without building them."""

@@ -18,6 +18,11 @@ PHASE1_SAMPLE = 400
 """Capacitor networks sampled for the provisional bound when 3-part resistor networks are searched
 (see ``_Pass.run2``); tests lower it to exercise that path on small stocks."""
 
+PAIRS_BOUND_C = 32768
+"""``_Pass._pairs_bound`` looks up at most this many capacitor networks (evenly spread): the
+bound it gives only has to be loose enough for the value sweep, and a few ten thousand pairs
+make it about as tight as all of them."""
+
 PHASE1_PICK = 128
 """With 1-2 part resistor networks, phase 1 of ``_Pass.run2`` first runs on this many capacitor
 networks, those whose nearest RB is closest to the ideal one (``_Pass._closest_low``); all of them
@@ -34,6 +39,16 @@ _BOX_ROUNDS_2 = 1
 """The same with 1-2 part resistor networks only, where no branch and bound reads the ranges: there
 a slightly wider RB slice costs less than more rounds of the diode's RA inverse (measured on the
 large benchmark stock)."""
+
+_WINDOW_TOL = 1e-3
+"""``_window1`` stops once the outer end of each side is within this share of its log-distance
+from R* of the inner end, or within ``_WINDOW_ABS`` of it: the window is then at most that much
+wider than the exact one (a superset either way)."""
+
+_WINDOW_ABS = 1e-10
+"""Log-distance below which ``_window1`` does not narrow a window further: ``values_within``
+widens every interval by a relative 4e-9 anyway, and a window near the rounding of the error
+itself (an exact hit makes the bound ~1e-15) would otherwise take every halving."""
 
 MAX_ERROR = 1.0
 """Options more than 100 % off target (a factor of two on a time) are never offered; exactness is
@@ -696,17 +711,24 @@ class _Pass:
         """The best feasible R on each side of R*(c) for every capacitor network c (see the
         engine's argument).  With 3-part resistor networks the capacitor networks are taken in
         order of a lower bound instead and the search stops once no later one can enter the
-        pool (``_run1_ordered``)."""
+        pool (``_run1_ordered``); its first bound comes from the 1-2 part resistor networks
+        (``_pairs_bound``), and only when the sweep gives up on it from a sample of exact
+        look-ups (tighter, costlier)."""
         p = self.p
         nc = self.c_ids.size
         if nc == 0 or not self._resistors_usable():
             return []
         sample = PHASE1_SAMPLE if sample is None else int(sample)
         if self.r.max_parts >= 3 and nc > 2 * sample:
-            subset = np.unique(np.linspace(0, nc - 1, sample).astype(np.int64))
-            found = self._one_chunk(subset, count=False)
-            bound = _kth_distinct(found, pool, 2)
-            if math.isfinite(bound) and self._run1_ordered(found, bound, pool, progress):
+            found = []
+            bound = self._pairs_bound(pool)
+            done = math.isfinite(bound) and self._run1_ordered(found, bound, pool, progress)
+            if not done:
+                subset = np.unique(np.linspace(0, nc - 1, sample).astype(np.int64))
+                found = self._one_chunk(subset, count=False)
+                bound = _kth_distinct(found, pool, 2)
+                done = math.isfinite(bound) and self._run1_ordered(found, bound, pool, progress)
+            if done:
                 lo, hi = p.r_bounds1(self.c_vals)
                 self.ex.add(_r_range_text(self.lim), (lo > hi * (1 + _SLACK)).sum())
                 return self._collect(found, pool, two=False)
@@ -717,14 +739,16 @@ class _Pass:
                 progress()
         return self._collect(found, pool, two=False)
 
-    def _one_chunk(self, ci, count: bool = True) -> list[tuple]:
-        """The nearest feasible R on each side of clamp(R*(c)) for the capacitor networks ``ci``."""
+    def _one_chunk(self, ci, count: bool = True, r=None) -> list[tuple]:
+        """The nearest feasible R on each side of clamp(R*(c)) for the capacitor networks ``ci``
+        (among the networks of ``r``, a view of the resistor index; all of them by default)."""
         p = self.p
+        r = self.r if r is None else r
         cv = self.c_vals[ci]
         r_star = p.r_ideal(cv)
         lo, hi = p.r_bounds1(cv)
         empty = lo > hi * (1 + _SLACK)
-        below, above = _nearest_feasible(self.r, r_star, lo, hi, lambda ids, rows: self.power.ok(ids))
+        below, above = _nearest_feasible(r, r_star, lo, hi, lambda ids, rows: self.power.ok(ids))
         if count:
             self.ex.add(_r_range_text(self.lim), empty.sum())
             none = (below < 0) & (above < 0) & ~empty
@@ -741,10 +765,40 @@ class _Pass:
             has = side >= 0
             if not has.any():
                 continue
-            e, th, tl, tt = p.error1(self.r.values(side[has]), cv[has])
+            e, th, tl, tt = p.error1(r.values(side[has]), cv[has])
             keep = np.abs(e) <= MAX_ERROR
             found.append((ci[has][keep], side[has][keep], e[keep], th[keep], tl[keep], tt[keep]))
         return found
+
+    def _pairs_bound(self, pool: int) -> float:
+        """A first bound for ``_run1_ordered`` from every capacitor network with its nearest
+        feasible 1-2 part resistor network on each side (plain searchsorted look-ups): the
+        pool-th smallest over the capacitor networks of each one's best |error| there, widened
+        against rounding; inf when fewer than pool of them have one.
+
+        Why it bounds the pool.  Let c have a feasible 1-2 part network with |error| E(c). The
+        plain pass (the engine's argument) pairs c with the nearest feasible network of ALL the
+        index on that side of q(c), which is at least as near, hence (V shape) has |error| <=
+        E(c). So pool distinct capacitor networks give pool distinct pairs of the plain pass
+        with |error| <= the bound, and the plain pass's pool-th error is <= the bound: its
+        whole pool lies within it, which is all ``_run1_ordered`` needs of its first bound.
+        These look-ups' own pairs are not kept as options (they need not be pairs of the plain
+        pass: a 3-part network may be nearer on the same side)."""
+        nc = self.c_ids.size
+        ci = np.arange(nc)
+        if nc > PAIRS_BOUND_C:  # an even spread of them: any subset gives a valid bound
+            ci = np.unique(np.linspace(0, nc - 1, PAIRS_BOUND_C).astype(np.int64))
+        found = self._one_chunk(ci, count=False, r=self.r.pairs_only())
+        if not found:
+            return INF
+        best = np.full(nc, INF)
+        for ci, _r, e, *_rest in found:
+            np.minimum.at(best, ci, np.abs(e))
+        best = best[np.isfinite(best)]
+        if best.size < pool:
+            return INF
+        kth = float(np.partition(best, pool - 1)[pool - 1])
+        return min(kth, MAX_ERROR) * (1 + _SLACK) + 1e-15
 
     def _run1_ordered(self, found: list, bound: float, pool: int, progress=None) -> bool:
         """Branch and bound over the capacitor networks; False when the sweep does not pay.
@@ -756,11 +810,13 @@ class _Pass:
         swept values nearest to q = clamp(R*, lo, hi) on each side: any network v in that window
         is swept, and the nearest swept value on v's side of q lies between v and q, on the same
         branch of the V, so LB(c) <= |e(v, c)|.  Hence c has no option within B when LB(c) > B.
-        The capacitor networks are processed in order of LB with the exact per-c look-up; B
-        becomes the pool-th smallest |error| of the distinct (c, R) found (never larger); the
-        loop stops at the first LB(c) >= B, and every later c has no option that can improve the
-        pool: the same pool errors as the plain pass (among options tied at exactly the pool-th
-        error, which ones are kept may differ)."""
+        B0 only has to hold the plain pass's whole pool (its pool-th error <= B0): the error of
+        an option found, or ``_pairs_bound``. The capacitor networks with LB(c) <= B0 are
+        processed in order of LB with the exact per-c look-up (``found``: pairs of the plain
+        pass only); B becomes the pool-th smallest |error| of the distinct (c, R) found (inf
+        while fewer); the loop stops at the first LB(c) >= B, and every later c has no option
+        that can improve the pool: the same pool errors as the plain pass (among options tied
+        at exactly the pool-th error, which ones are kept may differ)."""
         p = self.p
         cv = self.c_vals
         r_star = p.r_ideal(cv)
@@ -785,12 +841,13 @@ class _Pass:
         lb[odd] = 0.0  # no ideal R known: always searched
         live = np.flatnonzero(lb <= bound * (1 + 1e-9) + 1e-15)
         order = live[np.argsort(lb[live], kind="stable")]
-        # The pool is already full (the sample gave >= pool options), so an option whose |error|
-        # EQUALS the current pool-th best cannot change the pool's errors: the loop stops at
-        # LB >= B. No rounding slack is needed here: LB is the circuit's own error1 on the same
-        # value (same join of the same parts), so it equals that option's |error| bit for bit.
-        # (Many exact hits, e.g. an RC target of 0 error, would otherwise all be visited.)
-        b, start, size = _kth_distinct(found, pool, 2, slack=False), 0, 256
+        # Once the pool is full (B finite), an option whose |error| EQUALS the current pool-th
+        # best cannot change the pool's errors: the loop stops at LB >= B. No rounding slack is
+        # needed here: LB is the circuit's own error1 on the same value (same join of the same
+        # parts), so it equals that option's |error| bit for bit. (Many exact hits, e.g. an RC
+        # target of 0 error, would otherwise all be visited.) The first chunk is small: in LB
+        # order the first few capacitor networks usually fill the pool already.
+        b, start, size = _kth_distinct(found, pool, 2, slack=False), 0, max(32, 2 * pool)
         while start < order.size and lb[order[start]] < b:
             found.extend(self._one_chunk(order[start:start + size], count=False))
             b = min(b, _kth_distinct(found, pool, 2, slack=False))
@@ -868,35 +925,68 @@ def _kth_distinct(found: list, pool: int, col: int, slack: bool = True) -> float
 
 def _window1(p, r_star: np.ndarray, c: np.ndarray, bound: float) -> tuple[np.ndarray, np.ndarray]:
     """A superset [wl, wh] of {R : |e(R, c)| <= bound} for one-resistor circuits (V-shaped around
-    R*): on each side, double the log-distance until the error exceeds the bound, then bisect,
-    keeping the outer end. Empty (wl > wh) where even R* misses the bound."""
+    R*). On each side, in the log-distance x from R*, a bracket [x_in, x_out] is kept with x_in
+    inside (error within the bound) and x_out outside, and the window ends at x_out: first x_out
+    doubles until it is outside; then one step tries two points just either side of where the
+    straight line through the bracket's two errors meets the bound (the error is nearly linear
+    in x over such short distances, so this usually closes the bracket at once); then halving,
+    until x_out - x_in <= max(``_WINDOW_TOL``·x_out, ``_WINDOW_ABS``) (or 40 halvings). Every
+    point tried moves the end it is on the side of (the V shape: beyond an outside point all is
+    outside), so the window only ever holds the exact one. Empty (wl > wh) where even R* misses
+    the bound."""
     e0 = np.abs(p.error1(r_star, c)[0])
-    inside = e0 <= bound
-    ends = []
-    for sign in (-1.0, 1.0):
-        x_in = np.zeros(r_star.shape)
-        x_out = np.full(r_star.shape, max(bound, 1e-12))
-        grow = inside.copy()
+    wl = np.full(np.shape(r_star), INF)
+    wh = np.zeros(np.shape(r_star))
+    idx = np.flatnonzero(e0 <= bound)
+    if idx.size == 0:
+        return wl, wh
+    rs, cc, ez = r_star[idx], c[idx], e0[idx]
+    # first step: the room left, bound - e0 (the error grows about 1:1 with the log-distance
+    # for these circuits, so the edge is near); any positive start keeps the search right
+    x0 = np.maximum(bound - ez, max(bound, 1e-12) * 1e-3)
+    n = idx.size
+
+    def err(x, sign, sub):
+        return np.abs(p.error1(rs[sub] * np.exp(sign * x), cc[sub])[0])
+
+    def close(x_in, x_out, sub, x, e):
+        """Move the bracket ends of the entries ``sub`` to the points x (errors e) on their side."""
+        inside = e <= bound
+        x_in[sub] = np.where(inside, np.maximum(x_in[sub], x), x_in[sub])
+        x_out[sub] = np.where(inside, x_out[sub], np.minimum(x_out[sub], x))
+
+    for sign, out in ((-1.0, wl), (1.0, wh)):
+        x_in, e_in = np.zeros(n), ez.copy()
+        x_out, e_out = x0.copy(), np.full(n, np.nan)
+        grow = np.arange(n)
         for _ in range(80):
-            if not grow.any():
+            if grow.size == 0:
                 break
-            e = np.abs(p.error1(r_star[grow] * np.exp(sign * x_out[grow]), c[grow])[0])
+            e = err(x_out[grow], sign, grow)
             still = e <= bound
-            idx = np.flatnonzero(grow)
-            x_in[idx[still]] = x_out[idx[still]]
-            x_out[idx[still]] *= 2.0
-            grow[idx[~still]] = False
-            grow &= x_out < 700.0
+            g_in = grow[still]
+            x_in[g_in], e_in[g_in] = x_out[g_in], e[still]
+            e_out[grow[~still]] = e[~still]
+            x_out[g_in] *= 2.0
+            grow = g_in[x_out[g_in] < 700.0]
+        far = x_out >= 700.0  # within the bound all the way out: no end on this side
+        todo = np.flatnonzero(~far & (x_out - x_in > np.maximum(_WINDOW_TOL * x_out, _WINDOW_ABS)))
+        if todo.size:
+            with np.errstate(all="ignore"):
+                t = (bound - e_in[todo]) / (e_out[todo] - e_in[todo])
+            t = np.where(np.isfinite(t), np.clip(t, 0.0, 1.0), 0.5)
+            x_lin = x_in[todo] + t * (x_out[todo] - x_in[todo])
+            tries = np.concatenate([x_lin * (1 - 0.25 * _WINDOW_TOL), x_lin * (1 + 0.25 * _WINDOW_TOL)])
+            e = err(tries, sign, np.concatenate([todo, todo]))
+            close(x_in, x_out, todo, tries[:todo.size], e[:todo.size])
+            close(x_in, x_out, todo, tries[todo.size:], e[todo.size:])
         for _ in range(40):
-            mid = 0.5 * (x_in + x_out)
-            e = np.abs(p.error1(r_star * np.exp(sign * mid), c)[0])
-            ok = e <= bound
-            x_in = np.where(ok, mid, x_in)
-            x_out = np.where(ok, x_out, mid)
-        end = r_star * np.exp(sign * x_out)
-        ends.append(np.where(x_out >= 700.0, 0.0 if sign < 0 else INF, end))
-    wl = np.where(inside, ends[0], INF)
-    wh = np.where(inside, ends[1], 0.0)
+            todo = todo[x_out[todo] - x_in[todo] > np.maximum(_WINDOW_TOL * x_out[todo], _WINDOW_ABS)]
+            if todo.size == 0:
+                break
+            mid = 0.5 * (x_in[todo] + x_out[todo])
+            close(x_in, x_out, todo, mid, err(mid, sign, todo))
+        out[idx] = np.where(far, 0.0 if sign < 0 else INF, rs * np.exp(sign * x_out))
     return wl, wh
 
 

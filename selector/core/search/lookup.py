@@ -114,10 +114,11 @@ def capacitor_candidates(c_index, limits, ex, charge_r=None) -> np.ndarray:
                 by_name[d] = limits.cap_derating(d)
         derate = np.array([by_name[ln.dielectric or ""] for ln in c_index.lines])
         line_ok = ~(rating * derate < limits.cap_volts)  # nan (unknown) -> allowed
-        pos, _cnt = _part_positions(c_index, ids)
-        ok = np.all(np.where(pos >= 0, line_ok[np.maximum(pos, 0)], True), axis=1)
-        ex.add(f"C networks with a part rated below {limits.cap_volts:g} V after derating", (~ok).sum())
-        ids = ids[ok]
+        if not line_ok.all():  # (every line fine: every network is, no need to read their parts)
+            pos, _cnt = _part_positions(c_index, ids)
+            ok = np.all(np.where(pos >= 0, line_ok[np.maximum(pos, 0)], True), axis=1)
+            ex.add(f"C networks with a part rated below {limits.cap_volts:g} V after derating", (~ok).sum())
+            ids = ids[ok]
     if charge_r is not None and ids.size:
         ok = _leakage_ok(c_index, ids, limits, charge_r)
         ex.add(LEAKAGE_REASON, (~ok).sum())
@@ -262,6 +263,15 @@ class SortedView:
         if self._len is None:
             self._len = len(self._index)
         return self._len
+
+    def pairs_only(self) -> "SortedView":
+        """The same look-ups over the index's 1-2 part networks alone: its materialised array,
+        sorted by value with id = position (the same ids as in the index itself, so a network
+        found here is that network of the index)."""
+        view = SortedView.__new__(SortedView)
+        view._index, view._len = self._index, None
+        view.sorted_values = None if self._index.empty else self._index.entry_values
+        return view
 
     def values(self, ids):
         if self.sorted_values is None:
