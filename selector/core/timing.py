@@ -388,16 +388,17 @@ def _halley_step(y, z, work=None, tol=1e-15):
     return np.greater(h, t, out=go)
 
 
-def _shockley_drops(a0, a1, ra, rb, isat, nvt) -> tuple:
-    """Diode voltages V0, V1 when VCC − Vc = ``a0`` and ``a1`` across RA in series with (diode ∥ RB)
-    (same-shape arrays of at least one axis).
+def _drop_problem(ra, rb, a0, a1, isat, nvt) -> tuple:
+    """(ln K, z) for the diode voltages V0, V1 when VCC − Vc = ``a0`` and ``a1`` across RA in
+    series with (diode ∥ RB) (same-shape arrays of at least one axis): V_j = nVt·(ln ω(z[j]) − ln K).
 
     (a − V)/RA = Is·(e^{V/nVt} − 1) + V/RB. With Rp = RA∥RB, B = Rp·(a/RA + Is)/nVt and
     K = Rp·Is/nVt this is u + K·e^u = B for u = V/nVt, so K·e^u = ω(B + ln K) and
-    u = ln ω(B + ln K) − ln K (closed form via the Wright omega function; derived). The two Wright
-    omega solves run in one call as separate problems (stacked on a new leading axis; each is
-    solved exactly as alone, see :func:`log_wright_omega`), written into preallocated arrays
-    (a·b = b·a exactly in floating point, so the in-place order changes no bit)."""
+    u = ln ω(B + ln K) − ln K (closed form via the Wright omega function; derived). The two
+    problems are stacked on a new leading axis, so one :func:`log_wright_omega` call solves each
+    exactly as alone; written into preallocated arrays (a·b = b·a exactly in floating point, so
+    the in-place order changes no bit). :func:`_shockley_high` and :func:`_shockley_ra_newton`
+    both start here."""
     rp = ra * rb
     rp /= ra + rb
     lk = rp * isat
@@ -410,13 +411,28 @@ def _shockley_drops(a0, a1, ra, rb, isat, nvt) -> tuple:
         zj *= rp
         zj /= nvt
         zj += lk
-    u = log_wright_omega(z)
-    v0, v1 = u[0], u[1]
-    v0 -= lk
-    v0 *= nvt
-    v1 -= lk
-    v1 *= nvt
-    return v0, v1
+    return lk, z
+
+
+def _high_from_drops(v0, v1, ra, rb, c, a0, a1, isat, nvt) -> tuple:
+    """(t_high, ln(I0/I1)) of :func:`diode_shockley_high` from the diode voltages V0, V1 (not
+    changed); C·ln(I0/I1) is dt_high/dRA. Shared by the forward model and the RA inverse, so both
+    compute t_high with the same operations on the same operands."""
+    log_ratio = a0 - v0                 # ln(I0/I1), I0 = (a0 − V0)/RA, I1 = (a1 − V1)/RA
+    log_ratio /= ra
+    i1 = a1 - v1
+    i1 /= ra
+    log_ratio /= i1
+    np.log(log_ratio, out=log_ratio)
+    half = v0 - v1
+    half *= 0.5
+    mid = v0 + v1
+    mid *= 0.5
+    t = _charge_sum(half, mid, isat, nvt, rb)
+    t *= half                           # the integral
+    t += ra * log_ratio
+    t *= c
+    return t, log_ratio
 
 
 def _charge_sum(half, mid, isat, nvt, rb) -> np.ndarray:
@@ -469,7 +485,7 @@ def _charge_sum(half, mid, isat, nvt, rb) -> np.ndarray:
 def diode_shockley_high(ra, rb, c, vcc, vf, n) -> np.ndarray:
     """t_high of the diode-steered astable with a Shockley steering diode (vectorised).
 
-    C·dVc/dt = I = (VCC − Vc − V)/RA, V the diode voltage (:func:`_shockley_drops`). Written in V
+    C·dVc/dt = I = (VCC − Vc − V)/RA, V the diode voltage (:func:`_drop_problem`). Written in V
     (a = VCC − Vc = RA·f(V) + V, f(V) = Is(e^{V/nVt} − 1) + V/RB the current, so dVc = −(RA·f'(V)
     + 1)·dV), the charge from VCC/3 to 2VCC/3 takes exactly (derived)
 
@@ -492,8 +508,8 @@ def diode_shockley_high(ra, rb, c, vcc, vf, n) -> np.ndarray:
 
 
 def _shockley_high(ra, rb, c, vcc, vf, n) -> np.ndarray:
-    """t_high of :func:`diode_shockley_high` for broadcast arrays; dt_high/dRA = C·ln(I0/I1) (the
-    ``log_ratio`` here; :func:`_shockley_ra_newton` uses it). Temporaries are reused in place
+    """t_high of :func:`diode_shockley_high` for broadcast arrays (the Newton slope C·ln(I0/I1) of
+    :func:`_shockley_ra_newton` comes from the same :func:`_high_from_drops`). Temporaries are reused in place
     (fewer allocations of sample-sized arrays); every value is the same operation on the same
     operands as the formulas in the docstrings, so the bits do not depend on the layout."""
     from selector.core.parts import THERMAL_V
@@ -506,21 +522,14 @@ def _shockley_high(ra, rb, c, vcc, vf, n) -> np.ndarray:
     isat = diode_saturation_current(np.where(ideal, 0.65, vf) if any_ideal else vf, n)
     a0 = 2.0 * vcc / 3.0
     a1 = vcc / 3.0
-    v0, v1 = _shockley_drops(a0, a1, ra, rb, isat, nvt)
-    log_ratio = a0 - v0                 # ln(I0/I1), I0 = (a0 − V0)/RA, I1 = (a1 − V1)/RA
-    log_ratio /= ra
-    i1 = a1 - v1
-    i1 /= ra
-    log_ratio /= i1
-    np.log(log_ratio, out=log_ratio)
-    half = v0 - v1
-    half *= 0.5
-    mid = v0 + v1
-    mid *= 0.5
-    t = _charge_sum(half, mid, isat, nvt, rb)
-    t *= half                           # the integral
-    t += ra * log_ratio
-    t *= c
+    lk, z = _drop_problem(ra, rb, a0, a1, isat, nvt)
+    u = log_wright_omega(z)
+    v0, v1 = u[0], u[1]                 # in place: u is this call's own
+    v0 -= lk
+    v0 *= nvt
+    v1 -= lk
+    v1 *= nvt
+    t, _log_ratio = _high_from_drops(v0, v1, ra, rb, c, a0, a1, isat, nvt)
     if any_ideal:
         t = np.where(ideal, LN2 * ra * c, t)
     return t
@@ -572,7 +581,7 @@ def diode_shockley_ideal_ra(t_high, rb, c, vcc, vf, n) -> np.ndarray:
 
 def _shockley_ra_newton(tg, rb, c, a0, a1, vf, isat, nvt) -> np.ndarray:
     """RA for t_high = ``tg`` (1-D arrays, Vf > 0; ``a0`` = 2VCC/3, ``a1`` = VCC/3 as in
-    :func:`_shockley_drops`).
+    :func:`_drop_problem`).
 
     Newton on the strictly increasing t_high(RA) (:func:`_shockley_high`'s formulas), each
     step inside the bracket [lo, hi] known so far, else a geometric bisection of it. Started at
@@ -591,6 +600,7 @@ def _shockley_ra_newton(tg, rb, c, a0, a1, vf, isat, nvt) -> np.ndarray:
     After the first Newton step RA moves little, and one or two Halley steps suffice instead of
     the three or four of a cold start. Each element's value depends on its own inputs only.
     """
+    tg, rb, c, a0, a1, vf, isat, nvt = (np.atleast_1d(a) for a in (tg, rb, c, a0, a1, vf, isat, nvt))
     with np.errstate(divide="ignore", invalid="ignore"):
         x = np.maximum(tg / (np.log((a0 - vf) / (a1 - vf)) * c), tg / (LN2 * c) - rb)
     x = np.where(np.isfinite(x) & (x > 0), x, tg / (LN2 * c))
@@ -601,9 +611,7 @@ def _shockley_ra_newton(tg, rb, c, a0, a1, vf, isat, nvt) -> np.ndarray:
     y = None
     work = None
     for _ in range(100):
-        rp = x * rb / (x + rb)
-        lk = np.log(rp * isat / nvt)
-        z = np.stack([rp * (a0 / x + isat) / nvt + lk, rp * (a1 / x + isat) / nvt + lk])
+        lk, z = _drop_problem(x, rb, a0, a1, isat, nvt)
         if y is None:
             y = np.log(np.maximum(z - np.log(np.maximum(z, 1.0)), 1e-300))
             np.copyto(y, z, where=~(z > 1.0))
@@ -612,12 +620,10 @@ def _shockley_ra_newton(tg, rb, c, a0, a1, vf, isat, nvt) -> np.ndarray:
         for _ in range(50):
             if not _halley_step(y, z, work, 1e-5).any():
                 break
-        v0 = nvt * (y[0] - lk)
+        v0 = nvt * (y[0] - lk)          # not in place: y carries on to the next step
         v1 = nvt * (y[1] - lk)
-        log_ratio = np.log(((a0 - v0) / x) / ((a1 - v1) / x))
-        half = 0.5 * (v0 - v1)
-        total = _charge_sum(half, 0.5 * (v0 + v1), isat, nvt, rb)
-        g = c * (x * log_ratio + half * total) - tg
+        t, log_ratio = _high_from_drops(v0, v1, x, rb, c, a0, a1, isat, nvt)
+        g = t - tg
         np.maximum(lo, x, out=lo, where=g < 0)
         np.minimum(hi, x, out=hi, where=g > 0)
         new = x - g / (c * log_ratio)

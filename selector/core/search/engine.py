@@ -256,8 +256,7 @@ def _one_pass(kind, target: Target, lim: Limits, r_index, c_index, pool: int, bu
     c_ids = capacitor_candidates(c_index, lim, ex,
                                  (lambda c: charge_r(target, c, lim)) if charge_r is not None else None)
     power = PowerCheck(r_index, lim.r_power_volts, lim.r_power_derating)
-    ps = _Pass(kind, target, r_index, c_index, c_ids, lim, power, ex)
-    ps.bound_hint = bound_hint
+    ps = _Pass(kind, target, r_index, c_index, c_ids, lim, power, ex, bound_hint=bound_hint)
     two = kind.kernel == TWO_RESISTOR
     steps = max(1, -(-c_ids.size // ps.chunk)) * (2 if two else 1)
     state = {"n": 0}

@@ -154,7 +154,9 @@ class _Pass:
     """One search over one pair of indexes (one parts budget) for one connection."""
 
     def __init__(self, kind, target, r_index, c_index, c_ids, limits, power: PowerCheck,
-                 ex, chunk: int = 2048):
+                 ex, chunk: int = 2048, bound_hint: float = math.inf):
+        """``bound_hint``: the worst |error| of a smaller parts budget's full pool, which bounds
+        this pass's pool too (see ``run2``); inf when there is none."""
         self.p = _Bound(kind, target, limits)
         self.r = SortedView(r_index)
         self.c_ids = c_ids
@@ -170,7 +172,7 @@ class _Pass:
         self.chunk = chunk
         # When every line holds enough for two networks of the largest size on every board, RA
         # and RB can never overdraw a line together and the pairwise check can be skipped.
-        self.bound_hint = math.inf   # see run2
+        self.bound_hint = bound_hint   # see run2
         qty = np.asarray(r_index.quantity, dtype=np.int64)
         self.no_conflict = bool(qty.size) and int((qty // r_index.boards).min()) >= 2 * r_index.max_parts
 
